@@ -1,0 +1,6 @@
+//! Calibration-station side of semidrift: the full f64 semiconductor model,
+//! element models, calibration fits, table building, export and verification.
+#![forbid(unsafe_code)]
+
+pub mod cli;
+pub mod physics;
