@@ -1,7 +1,68 @@
-//! Command-line interface of `semidrift` (a thin layer over the library).
+//! Command-line interface of `semidrift`: a thin layer over the library.
+//!
+//! Each subcommand lives in its own file with a `clap::Args` struct and a
+//! `run(args, out)` function returning [`CliError`]; this file only dispatches.
+//! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
-/// Runs the command line with the process arguments and returns the exit code:
-/// 0 on success, 1 when a check fails, 2 on bad input or usage.
+mod error;
+
+pub use error::CliError;
+
+use clap::{Parser, Subcommand};
+use std::io::Write;
+
+/// Usual cautions, shown in `--help`.
+const CAUTIONS: &str = "\
+CAUTION: semidrift's output feeds measuring instruments. Where a reading protects people or \
+property (pressure vessels, battery-pack current sensing, medical devices, vehicles), treat it \
+as one input to a design qualified under the standards and local codes that apply, verified on \
+real parts, and approved by qualified engineers. Simulated demo data is not a measurement.";
+
+/// semidrift: temperature-drift compensation for semiconductor sense elements.
+#[derive(Debug, Parser)]
+#[command(name = "semidrift", version, about, after_help = CAUTIONS)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {}
+
+/// Runs the command line with the process arguments and returns the exit code.
 pub fn main() -> i32 {
-    0
+    let stdout = std::io::stdout();
+    let mut out = stdout.lock();
+    run_with_args(std::env::args_os(), &mut out)
+}
+
+/// Runs the command line with explicit arguments (the first is the program
+/// name) and writes normal output to `out`; errors go to stderr as one line.
+pub fn run_with_args<I, T>(args: I, out: &mut dyn Write) -> i32
+where
+    I: IntoIterator<Item = T>,
+    T: Into<std::ffi::OsString> + Clone,
+{
+    let cli = match Cli::try_parse_from(args) {
+        Ok(cli) => cli,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return code;
+        }
+    };
+    match dispatch(cli.command, out) {
+        Ok(()) => 0,
+        Err(e) => {
+            eprintln!("semidrift: error: {e}");
+            e.exit_code()
+        }
+    }
+}
+
+fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
+    let _ = out;
+    match command {}
 }
