@@ -1,0 +1,10 @@
+//! The calibration station chain: chamber data in, per-part fits, table
+//! images sized to an error budget, export, verification.
+//!
+//! Data flow: [`chamber`] rows --[`fit`]--> part files --> table image
+//! --[`export`]--> flash; every file goes through [`output::write_atomic`].
+
+pub mod chamber;
+pub mod export;
+pub mod fit;
+pub mod output;
