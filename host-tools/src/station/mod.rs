@@ -5,6 +5,12 @@
 //! --[`export`]--> flash; every file goes through [`output::write_atomic`].
 
 pub mod chamber;
+pub mod curves;
 pub mod export;
 pub mod fit;
 pub mod output;
+pub mod part_model;
+pub mod polynomial;
+pub mod scenario;
+pub mod simulate;
+pub mod truth;

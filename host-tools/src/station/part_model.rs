@@ -1,0 +1,212 @@
+//! The model of one fitted part: the full model's temperature shapes
+//! ([`ShapeCurves`]) scaled and bent by the part's own physical parameters.
+//!
+//! - temperature signal: `r_ref * exp(beta * L(T))`, L = ln rho(T)/rho(T_ref);
+//!   `beta` absorbs a TCR that is off by a few percent (another mobility
+//!   variant, ionization detail, packaging), so the thermometer stays right
+//!   between and beyond the chamber points;
+//! - offset: `offset_ref + mismatch * g(T)`, g the offset shape: the doping
+//!   sensitivity of rho for a bridge; for a Hall plate the plate resistance
+//!   ratio itself, `signal(T) / signal_ref - 1`, so the thermometer's fitted
+//!   TCR also shapes the offset (both are the same resistor);
+//! - sensitivity (output per stimulus unit):
+//!   `sens_ref * exp(S(T) + doping_shift * D(T)) * (1 + span_tc_per_k * (T - T_ref))`,
+//!   S the piezo-factor (bridge) or Hall-coefficient (plate) shape, D its
+//!   doping derivative (effective doping = nominal * exp(doping_shift)), and a
+//!   small linear residual term for packaging stress the physics leaves out.
+
+use super::curves::{OffsetShape, ShapeCurves};
+
+/// Names of the fitted parameters, in [`PartParams::to_vec`] order.
+pub const PARAM_NAMES: [&str; 7] = [
+    "signal_ref",
+    "signal_beta",
+    "offset_ref",
+    "mismatch",
+    "sens_ref",
+    "doping_shift",
+    "span_tc_per_k",
+];
+
+/// The per-part parameters of the physical model.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PartParams {
+    /// Temperature signal at the reference temperature (spec units).
+    pub signal_ref: f64,
+    /// Exponent on the full model's resistivity ratio (1 = model TCR).
+    pub signal_beta: f64,
+    /// Output offset at the reference temperature (output units).
+    pub offset_ref: f64,
+    /// Amplitude of the offset shape (output units).
+    pub mismatch: f64,
+    /// Sensitivity at the reference temperature (output units per stimulus unit).
+    pub sens_ref: f64,
+    /// ln(N_eff / N_nominal) as seen by the span shape.
+    pub doping_shift: f64,
+    /// Residual linear span drift in 1/K (packaging stress).
+    pub span_tc_per_k: f64,
+}
+
+impl PartParams {
+    /// The parameters as a vector in [`PARAM_NAMES`] order.
+    pub fn to_vec(&self) -> [f64; 7] {
+        [
+            self.signal_ref,
+            self.signal_beta,
+            self.offset_ref,
+            self.mismatch,
+            self.sens_ref,
+            self.doping_shift,
+            self.span_tc_per_k,
+        ]
+    }
+
+    /// Parameters from a vector in [`PARAM_NAMES`] order.
+    pub fn from_slice(v: &[f64; 7]) -> PartParams {
+        PartParams {
+            signal_ref: v[0],
+            signal_beta: v[1],
+            offset_ref: v[2],
+            mismatch: v[3],
+            sens_ref: v[4],
+            doping_shift: v[5],
+            span_tc_per_k: v[6],
+        }
+    }
+}
+
+/// A fitted part: parameters plus the element's shapes.
+#[derive(Debug, Clone, Copy)]
+pub struct PartModel<'a> {
+    /// Tabulated full-model shapes of the element.
+    pub curves: &'a ShapeCurves,
+    /// The part's parameters.
+    pub params: PartParams,
+}
+
+impl PartModel<'_> {
+    /// Temperature signal at `t_c`.
+    pub fn signal(&self, t_c: f64) -> f64 {
+        let c = self.curves;
+        self.params.signal_ref * (self.params.signal_beta * c.interp(&c.ln_rho_rel, t_c)).exp()
+    }
+
+    /// Offset (output at zero stimulus) at `t_c`.
+    pub fn offset(&self, t_c: f64) -> f64 {
+        let c = self.curves;
+        let g = match c.offset_kind {
+            OffsetShape::DopingSensitivity => c.interp(&c.offset_shape, t_c),
+            OffsetShape::Resistivity => self.signal(t_c) / self.params.signal_ref - 1.0,
+        };
+        self.params.offset_ref + self.params.mismatch * g
+    }
+
+    /// Sensitivity (output per stimulus unit) at `t_c`.
+    pub fn sensitivity(&self, t_c: f64) -> f64 {
+        let c = self.curves;
+        let p = &self.params;
+        let shape = c.interp(&c.ln_gain_rel, t_c) + p.doping_shift * c.interp(&c.ln_gain_dlnn, t_c);
+        p.sens_ref * shape.exp() * (1.0 + p.span_tc_per_k * (t_c - c.t_ref_c))
+    }
+
+    /// Raw output at `t_c` and `stimulus`.
+    pub fn output(&self, t_c: f64, stimulus: f64) -> f64 {
+        self.offset(t_c) + self.sensitivity(t_c) * stimulus
+    }
+
+    /// The stimulus that gives `output` at `t_c` (the compensation itself).
+    pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
+        (output - self.offset(t_c)) / self.sensitivity(t_c)
+    }
+
+    /// Temperature whose model signal equals `signal`: bisection on the
+    /// tabulated range, which the signal must cross monotonically; outside the
+    /// range the nearest end is returned (the firmware clamps the same way).
+    pub fn temperature(&self, signal: f64) -> f64 {
+        let c = self.curves;
+        let (mut lo, mut hi) = (c.t0_c, c.t_max_c());
+        let f = |t: f64| self.signal(t) - signal;
+        let (flo, fhi) = (f(lo), f(hi));
+        if flo.signum() == fhi.signum() {
+            return if flo.abs() < fhi.abs() { lo } else { hi };
+        }
+        // 60 halvings of a ~220 K bracket reach 2e-16 K: below f64 spacing.
+        for _ in 0..60 {
+            let mid = 0.5 * (lo + hi);
+            if f(mid).signum() == flo.signum() {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        0.5 * (lo + hi)
+    }
+
+    /// d(signal)/dT at `t_c`, per kelvin.
+    pub fn signal_slope(&self, t_c: f64) -> f64 {
+        let c = self.curves;
+        self.signal(t_c) * self.params.signal_beta * c.slope(&c.ln_rho_rel, t_c)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::curves::ShapePoint;
+    use super::*;
+
+    fn curves() -> ShapeCurves {
+        ShapeCurves::build(
+            -60.0,
+            160.0,
+            0.5,
+            25.0,
+            OffsetShape::DopingSensitivity,
+            |t_k, s: f64| {
+                Ok::<_, ()>(ShapePoint {
+                    ln_rho: -0.9 * s.ln()
+                        + 1.2 * (t_k / 300.0).ln()
+                        + 0.05 * s.ln() * (t_k / 300.0).ln(),
+                    ln_gain: -0.2 * s.ln() - 1.1 * (t_k / 300.0).ln(),
+                })
+            },
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn stimulus_inverts_output_and_temperature_inverts_signal() {
+        let c = curves();
+        let m = PartModel {
+            curves: &c,
+            params: PartParams {
+                signal_ref: 5000.0,
+                signal_beta: 1.03,
+                offset_ref: 1.5e-3,
+                mismatch: 2e-3,
+                sens_ref: 2e-3,
+                doping_shift: 0.1,
+                span_tc_per_k: 2e-5,
+            },
+        };
+        // (t_c, stimulus)
+        for (t_c, s) in [
+            (-40.0, 0.0),
+            (-20.0, 3.3),
+            (25.0, 10.0),
+            (85.0, 7.0),
+            (125.0, 1.0),
+        ] {
+            let out = m.output(t_c, s);
+            let back = m.stimulus(out, t_c);
+            // Exact algebraic inverse: only rounding (~1e-16 relative of out).
+            assert!((back - s).abs() < 1e-9, "t {t_c} s {s}: got {back}");
+            let t_back = m.temperature(m.signal(t_c));
+            // Bisection to f64 resolution; the signal is monotone here.
+            assert!((t_back - t_c).abs() < 1e-9, "t {t_c}: got {t_back}");
+        }
+        // At the reference temperature every shape is zero by construction.
+        assert!((m.offset(25.0) - 1.5e-3).abs() < 1e-15);
+        assert!((m.sensitivity(25.0) - 2e-3).abs() < 1e-15);
+        assert!((m.signal(25.0) - 5000.0).abs() < 1e-9);
+    }
+}

@@ -1,0 +1,216 @@
+//! What the station needs to know about an element and its lot: the nominal
+//! die, how the output scales with the stimulus, the ADCs, the process spread
+//! and the chamber plan. The two demo scenarios of DESIGN.md are built in.
+//!
+//! All numbers here are invented for the demo scenarios (simulated data,
+//! never a measurement); the physics they feed is the full model's.
+
+use crate::physics::{Dopant, Material, Sample, Species};
+
+/// The kind of sense element.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ElementKind {
+    /// Four-arm piezoresistive Wheatstone bridge, constant-voltage excitation;
+    /// output in mV, temperature signal = bridge resistance in ohm.
+    Bridge,
+    /// Current-biased Hall plate; output in mV, temperature signal = plate
+    /// input resistance in ohm.
+    HallPlate,
+}
+
+/// An analog-to-digital converter: bipolar input range, resolution and noise.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Adc {
+    /// Resolution in bits.
+    pub bits: u32,
+    /// Input range is +/- this value (in the quantity's units).
+    pub range: f64,
+    /// Input-referred rms noise (in the quantity's units).
+    pub noise_rms: f64,
+}
+
+impl Adc {
+    /// Size of one code.
+    pub fn lsb(&self) -> f64 {
+        2.0 * self.range / 2f64.powi(self.bits as i32)
+    }
+}
+
+/// One-sigma process spread of a lot (relative values are fractions).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Spread {
+    /// Part-to-part doping, relative.
+    pub doping_rel: f64,
+    /// Arm-to-arm doping mismatch inside one bridge, relative.
+    pub arm_doping_rel: f64,
+    /// Bridge: arm-to-arm geometric (resistance) mismatch, relative.
+    /// Hall plate: contact misalignment, offset as a fraction of the bias
+    /// current times the plate resistance.
+    pub arm_geometry_rel: f64,
+    /// Diaphragm or plate thickness, relative.
+    pub thickness_rel: f64,
+    /// Hall geometry factor, relative (unused for a bridge).
+    pub geometry_rel: f64,
+    /// Packaging-stress drift of the span, 1/K (one sigma of the linear term).
+    pub package_span_per_k: f64,
+    /// Packaging-stress drift of the offset, fraction of span per K.
+    pub package_offset_per_k: f64,
+    /// Amplitude of the small random smooth term per part, fraction of span.
+    pub smooth_rel: f64,
+    /// Chamber: rms difference between set point and die temperature, K.
+    pub chamber_k: f64,
+}
+
+/// An element and its lot, as the station sees them.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct Scenario {
+    /// Short name used in serial numbers and file names.
+    pub name: String,
+    /// Element kind.
+    pub kind: ElementKind,
+    /// Nominal die material and doping.
+    pub sample: Sample,
+    /// Reference temperature of the fitted model, C.
+    pub t_ref_c: f64,
+    /// Operating range (data sheet), C.
+    pub range_c: (f64, f64),
+    /// Chamber temperatures used for calibration, C.
+    pub cal_temps_c: Vec<f64>,
+    /// Held-out check temperatures, C (never used by the fit).
+    pub check_temps_c: Vec<f64>,
+    /// Stimuli applied at each chamber temperature (spec units).
+    pub stimuli: Vec<f64>,
+    /// Full-scale stimulus range (min, max); errors are in ppm of max - min.
+    pub stimulus_fs: (f64, f64),
+    /// Stimulus unit (`bar`, `A`).
+    pub stimulus_unit: String,
+    /// Bridge: excitation in V. Hall plate: bias current in mA.
+    pub excitation: f64,
+    /// Nominal element resistance at T_ref in ohm (bridge arm or plate).
+    pub resistance_ohm: f64,
+    /// Bridge: relative arm change at full-scale stimulus at T_ref.
+    /// Hall plate: Hall output at full-scale stimulus at T_ref in mV.
+    pub fs_effect: f64,
+    /// ADC of the element output (mV).
+    pub output_adc: Adc,
+    /// ADC of the temperature signal (ohm).
+    pub signal_adc: Adc,
+    /// Process spread.
+    pub spread: Spread,
+    /// Total error budget of the compensated part, ppm of span.
+    pub budget_ppm: f64,
+}
+
+impl Scenario {
+    /// Full-scale span width of the stimulus.
+    pub fn fs_width(&self) -> f64 {
+        self.stimulus_fs.1 - self.stimulus_fs.0
+    }
+
+    /// Well-level logger: 0-10 bar gauge die, p-type boron piezoresistors at
+    /// 2e18 cm^-3, 3.3 V constant-voltage excitation, 24-bit ADC, bridge
+    /// resistance as thermometer, -20..85 C, 0.05 % FS = 500 ppm budget.
+    pub fn well_logger() -> Scenario {
+        Scenario {
+            name: "well".into(),
+            kind: ElementKind::Bridge,
+            sample: Sample {
+                material: Material::Si,
+                donors: vec![],
+                acceptors: vec![Dopant {
+                    species: Species::B,
+                    density_cm3: 2e18,
+                }],
+            },
+            t_ref_c: 25.0,
+            range_c: (-20.0, 85.0),
+            cal_temps_c: vec![-20.0, 25.0, 85.0],
+            check_temps_c: vec![-40.0, -10.0, 0.0, 10.0, 40.0, 55.0, 70.0, 100.0, 125.0],
+            stimuli: vec![0.0, 5.0, 10.0],
+            stimulus_fs: (0.0, 10.0),
+            stimulus_unit: "bar".into(),
+            excitation: 3.3,
+            resistance_ohm: 5000.0,
+            // 1 % arm change at 10 bar: 33 mV full-scale output at 3.3 V.
+            fs_effect: 0.01,
+            // 24-bit delta-sigma behind a x32 PGA: +/-51.6 mV, 80 nV rms.
+            output_adc: Adc {
+                bits: 24,
+                range: 51.5625,
+                noise_rms: 8e-5,
+            },
+            // Ratiometric resistance measurement: 24 bits over 0..10 kohm
+            // (bipolar range of +/-10 kohm used from 0 up), 2 mohm rms.
+            signal_adc: Adc {
+                bits: 24,
+                range: 10_000.0,
+                noise_rms: 0.002,
+            },
+            spread: Spread {
+                doping_rel: 0.05,
+                arm_doping_rel: 0.005,
+                arm_geometry_rel: 0.001,
+                thickness_rel: 0.03,
+                geometry_rel: 0.0,
+                package_span_per_k: 2e-5,
+                package_offset_per_k: 2e-6,
+                smooth_rel: 2e-5,
+                chamber_k: 0.03,
+            },
+            budget_ppm: 500.0,
+        }
+    }
+
+    /// Battery-pack current sensor: n-type Si Hall plate, +/-200 A open loop,
+    /// 1 mA bias, 16-bit ADC, -40..125 C, 0.1 % = 1000 ppm budget.
+    pub fn battery_current() -> Scenario {
+        Scenario {
+            name: "battery".into(),
+            kind: ElementKind::HallPlate,
+            sample: Sample {
+                material: Material::Si,
+                donors: vec![Dopant {
+                    species: Species::P,
+                    density_cm3: 1e16,
+                }],
+                acceptors: vec![],
+            },
+            t_ref_c: 25.0,
+            range_c: (-40.0, 125.0),
+            cal_temps_c: vec![-40.0, 25.0, 125.0],
+            check_temps_c: vec![-30.0, -10.0, 0.0, 10.0, 40.0, 60.0, 85.0, 105.0, 115.0],
+            stimuli: vec![-200.0, 0.0, 200.0],
+            stimulus_fs: (-200.0, 200.0),
+            stimulus_unit: "A".into(),
+            excitation: 1.0,
+            resistance_ohm: 2500.0,
+            // 25 mV Hall output at +200 A at 25 C.
+            fs_effect: 25.0,
+            // 16-bit ADC over +/-60 mV: 1.8 uV LSB, 2 uV rms noise.
+            output_adc: Adc {
+                bits: 16,
+                range: 60.0,
+                noise_rms: 2e-3,
+            },
+            // 16-bit over +/-8 kohm: 0.24 ohm LSB, 0.1 ohm rms.
+            signal_adc: Adc {
+                bits: 16,
+                range: 8000.0,
+                noise_rms: 0.1,
+            },
+            spread: Spread {
+                doping_rel: 0.05,
+                arm_doping_rel: 0.0,
+                arm_geometry_rel: 2e-4,
+                thickness_rel: 0.03,
+                geometry_rel: 0.01,
+                package_span_per_k: 2e-5,
+                package_offset_per_k: 2e-6,
+                smooth_rel: 2e-5,
+                chamber_k: 0.03,
+            },
+            budget_ppm: 1000.0,
+        }
+    }
+}
