@@ -12,9 +12,9 @@ use crate::physics::{Dopant, Material, Sample, Species};
 #[serde(rename_all = "snake_case")]
 pub enum ElementKind {
     /// Four-arm piezoresistive Wheatstone bridge, constant-voltage excitation;
-    /// output in mV, temperature signal = bridge resistance in ohm.
+    /// output in V, temperature signal = bridge resistance in ohm.
     Bridge,
-    /// Current-biased Hall plate; output in mV, temperature signal = plate
+    /// Current-biased Hall plate; output in V, temperature signal = plate
     /// input resistance in ohm.
     HallPlate,
 }
@@ -85,14 +85,14 @@ pub struct Scenario {
     pub stimulus_fs: (f64, f64),
     /// Stimulus unit (`bar`, `A`).
     pub stimulus_unit: String,
-    /// Bridge: excitation in V. Hall plate: bias current in mA.
+    /// Bridge: excitation in V. Hall plate: bias current in A.
     pub excitation: f64,
     /// Nominal element resistance at T_ref in ohm (bridge arm or plate).
     pub resistance_ohm: f64,
     /// Bridge: relative arm change at full-scale stimulus at T_ref.
-    /// Hall plate: Hall output at full-scale stimulus at T_ref in mV.
+    /// Hall plate: Hall output at full-scale stimulus at T_ref in V.
     pub fs_effect: f64,
-    /// ADC of the element output (mV).
+    /// ADC of the element output (V).
     pub output_adc: Adc,
     /// ADC of the temperature signal (ohm).
     pub signal_adc: Adc,
@@ -137,8 +137,8 @@ impl Scenario {
             // 24-bit delta-sigma behind a x32 PGA: +/-51.6 mV, 80 nV rms.
             output_adc: Adc {
                 bits: 24,
-                range: 51.5625,
-                noise_rms: 8e-5,
+                range: 0.0515625,
+                noise_rms: 8e-8,
             },
             // Ratiometric resistance measurement: 24 bits over 0..10 kohm
             // (bipolar range of +/-10 kohm used from 0 up), 2 mohm rms.
@@ -183,15 +183,15 @@ impl Scenario {
             stimuli: vec![-200.0, 0.0, 200.0],
             stimulus_fs: (-200.0, 200.0),
             stimulus_unit: "A".into(),
-            excitation: 1.0,
+            excitation: 1e-3,
             resistance_ohm: 2500.0,
             // 25 mV Hall output at +200 A at 25 C.
-            fs_effect: 25.0,
+            fs_effect: 0.025,
             // 16-bit ADC over +/-60 mV: 1.8 uV LSB, 2 uV rms noise.
             output_adc: Adc {
                 bits: 16,
-                range: 60.0,
-                noise_rms: 2e-3,
+                range: 0.06,
+                noise_rms: 2e-6,
             },
             // 16-bit over +/-8 kohm: 0.24 ohm LSB, 0.1 ohm rms.
             signal_adc: Adc {

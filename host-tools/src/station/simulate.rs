@@ -93,7 +93,7 @@ pub fn measure(
                         serial: part.serial.clone(),
                         chamber_c: t_c,
                         stimulus,
-                        output: adc_read(&scenario.output_adc, r.output_mv, &mut rng),
+                        output: adc_read(&scenario.output_adc, r.output_v, &mut rng),
                         temp_signal: adc_read(&scenario.signal_adc, r.signal_ohm, &mut rng),
                         line: 0,
                     });

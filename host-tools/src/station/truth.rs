@@ -130,8 +130,8 @@ pub struct Truth<'a> {
 /// The truth's reading of one part at one temperature and stimulus.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct TruthReading {
-    /// Element output in mV (before the ADC).
-    pub output_mv: f64,
+    /// Element output in V (before the ADC).
+    pub output_v: f64,
     /// Temperature signal in ohm (before the ADC).
     pub signal_ohm: f64,
 }
@@ -200,10 +200,10 @@ impl<'a> Truth<'a> {
             .sum()
     }
 
-    /// Nominal full-scale output span in mV (for the fraction-of-span terms).
-    pub fn nominal_span_mv(&self) -> f64 {
+    /// Nominal full-scale output span in V (for the fraction-of-span terms).
+    pub fn nominal_span_v(&self) -> f64 {
         match self.scenario.kind {
-            ElementKind::Bridge => self.scenario.excitation * self.scenario.fs_effect * 1e3,
+            ElementKind::Bridge => self.scenario.excitation * self.scenario.fs_effect,
             ElementKind::HallPlate => {
                 let (lo, hi) = self.scenario.stimulus_fs;
                 self.scenario.fs_effect * (hi - lo) / hi.abs().max(lo.abs())
@@ -225,7 +225,7 @@ impl<'a> Truth<'a> {
         let s_max = sc.stimulus_fs.1.abs().max(sc.stimulus_fs.0.abs());
         let stim_rel = stimulus / s_max;
         let pkg_span = 1.0 + part.package_span[0] * dt + part.package_span[1] * dt * dt;
-        let extra_mv = self.nominal_span_mv()
+        let extra_v = self.nominal_span_v()
             * (part.package_offset[0] * dt
                 + part.package_offset[1] * dt * dt
                 + Self::smooth(part, t_c));
@@ -245,9 +245,9 @@ impl<'a> Truth<'a> {
                 }
                 let left = r[0] + r[1];
                 let right = r[2] + r[3];
-                let out = sc.excitation * 1e3 * (r[0] * r[2] - r[1] * r[3]) / (left * right);
+                let out = sc.excitation * (r[0] * r[2] - r[1] * r[3]) / (left * right);
                 Ok(TruthReading {
-                    output_mv: out + extra_mv,
+                    output_v: out + extra_v,
                     signal_ohm: left * right / (left + right),
                 })
             }
@@ -258,10 +258,10 @@ impl<'a> Truth<'a> {
                     / part.thickness_scale
                     * stim_rel
                     * pkg_span;
-                // Misalignment offset: bias (mA) times a fraction of R (ohm) = mV.
+                // Misalignment offset: bias (A) times a fraction of R (ohm).
                 let offset = part.arm_geometry[0] * sc.excitation * r_plate;
                 Ok(TruthReading {
-                    output_mv: hall + offset + extra_mv,
+                    output_v: hall + offset + extra_v,
                     signal_ohm: r_plate,
                 })
             }

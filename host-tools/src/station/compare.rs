@@ -1,0 +1,84 @@
+//! The comparison the README reports: physics calibration against the usual
+//! polynomial, on the same lot and the same calibration points, judged at
+//! held-out temperatures inside and outside the calibrated span.
+
+use super::apply::{ModelCompensation, PolyCompensation, apply_rows};
+use super::chamber::ChamberData;
+use super::curves::ShapeCurves;
+use super::part_file::PartFile;
+use super::part_model::PartModel;
+
+/// Worst-case errors of one method, ppm of span.
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
+pub struct Worst {
+    /// Worst |error| at held-out temperatures inside the calibrated span.
+    pub inside_ppm: f64,
+    /// Worst |error| at held-out temperatures outside it.
+    pub outside_ppm: f64,
+}
+
+/// The comparison over a lot.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Comparison {
+    /// Parts compared (those with a usable fit and polynomial).
+    pub parts: usize,
+    /// Parts skipped (fit not ok).
+    pub skipped: usize,
+    /// Calibrated span (coldest, hottest calibration temperature), C.
+    pub calibrated_c: (f64, f64),
+    /// Number of stored calibration coefficients per part: physics.
+    pub physics_coefficients: usize,
+    /// Number of stored calibration coefficients per part: polynomial.
+    pub polynomial_coefficients: usize,
+    /// Uncompensated (reference-temperature offset and gain only).
+    pub raw: Worst,
+    /// Physics calibration.
+    pub physics: Worst,
+    /// Usual polynomial.
+    pub polynomial: Worst,
+}
+
+/// Compares on held-out rows `check` for the fitted `parts`.
+pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) -> Comparison {
+    let groups = check.by_serial();
+    let mut out = Comparison {
+        parts: 0,
+        skipped: 0,
+        calibrated_c: (f64::INFINITY, f64::NEG_INFINITY),
+        physics_coefficients: 7,
+        polynomial_coefficients: 8,
+        raw: Worst::default(),
+        physics: Worst::default(),
+        polynomial: Worst::default(),
+    };
+    for part in parts {
+        let (Some(poly), Some(rows), true) = (part.polynomial, groups.get(part.serial.as_str()), part.is_ok())
+        else {
+            out.skipped += 1;
+            continue;
+        };
+        out.parts += 1;
+        let lo = part.points.iter().map(|p| p.chamber_c).fold(f64::INFINITY, f64::min);
+        let hi = part.points.iter().map(|p| p.chamber_c).fold(f64::NEG_INFINITY, f64::max);
+        out.calibrated_c = (out.calibrated_c.0.min(lo), out.calibrated_c.1.max(hi));
+        let model = ModelCompensation {
+            model: PartModel {
+                curves,
+                params: part.params,
+            },
+        };
+        let phys = apply_rows(part, curves, &model, rows);
+        let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
+        for (a, b) in phys.iter().zip(&pol) {
+            let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
+            let upd = |w: &mut Worst, e: f64| {
+                let slot = if inside { &mut w.inside_ppm } else { &mut w.outside_ppm };
+                *slot = slot.max(e.abs());
+            };
+            upd(&mut out.physics, a.error_ppm);
+            upd(&mut out.polynomial, b.error_ppm);
+            upd(&mut out.raw, a.raw_error_ppm);
+        }
+    }
+    out
+}

@@ -1,0 +1,157 @@
+//! The part file: everything the station learned about one part, written by
+//! `calibrate` and read by `table`, `verify`, `apply` and `plot`.
+//!
+//! JSON, fields in declaration order, floats in shortest round-trip form:
+//! the same fit gives the same bytes. Non-finite numbers (the covariance of an
+//! ill-conditioned fit) are written as `null`.
+
+use super::output::to_json_bytes;
+use super::part_model::PartParams;
+use super::polynomial::PolyCal;
+use super::scenario::Scenario;
+use std::path::Path;
+
+/// Format tag written into every part file.
+pub const PART_FORMAT: &str = "semidrift-part/1";
+
+/// One calibration point as the fit saw it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct FitPoint {
+    /// Chamber set point, C.
+    pub chamber_c: f64,
+    /// Applied stimulus.
+    pub stimulus: f64,
+    /// Raw output.
+    pub output: f64,
+    /// Raw temperature signal.
+    pub temp_signal: f64,
+    /// Temperature the fitted thermometer reads from `temp_signal`, C.
+    pub t_est_c: f64,
+    /// Thermometer residual (reading minus chamber), K.
+    pub thermometer_residual_k: f64,
+    /// Output residual (data minus fit), ppm of span.
+    pub residual_ppm: f64,
+}
+
+/// The outcome of one part's calibration.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PartFile {
+    /// Always [`PART_FORMAT`].
+    pub format: String,
+    /// Serial number.
+    pub serial: String,
+    /// `ok`, or why the fit must not be used (ill-conditioned, too few points).
+    pub status: String,
+    /// The element and lot description the part was fitted with.
+    pub scenario: Scenario,
+    /// Fitted parameters.
+    pub params: PartParams,
+    /// Parameter names in covariance order.
+    pub param_names: Vec<String>,
+    /// One-sigma standard errors.
+    pub std_errors: Vec<Option<f64>>,
+    /// Covariance matrix (thermometer and output blocks; the blocks are fitted
+    /// separately, so the cross terms are zero).
+    pub covariance: Vec<Vec<Option<f64>>>,
+    /// Largest condition number of the two fits' scaled Jacobians.
+    pub condition: f64,
+    /// Thermometer residual rms, K.
+    pub thermometer_rms_k: f64,
+    /// Largest thermometer residual, K.
+    pub thermometer_max_k: f64,
+    /// Temperature-signal noise referred to temperature at T_ref, K (one sigma).
+    pub signal_noise_k: f64,
+    /// Output residual rms, ppm of span.
+    pub fit_rms_ppm: f64,
+    /// Largest output residual, ppm of span.
+    pub fit_max_ppm: f64,
+    /// The points and their residuals.
+    pub points: Vec<FitPoint>,
+    /// The usual-practice polynomial through the same points (for comparison).
+    pub polynomial: Option<PolyCal>,
+}
+
+/// Why a part file could not be read.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum PartFileError {
+    /// The file could not be read.
+    #[error("{file}: cannot read: {message}")]
+    Io {
+        /// File name.
+        file: String,
+        /// Underlying error.
+        message: String,
+    },
+    /// The JSON is malformed or a field is missing or wrong.
+    #[error("{file}:{line}: field '{field}': {message}")]
+    Parse {
+        /// File name.
+        file: String,
+        /// Line of the error.
+        line: usize,
+        /// Field (JSON path as far as known).
+        field: String,
+        /// What is wrong.
+        message: String,
+    },
+}
+
+/// Converts a float to `Some` only when finite.
+pub fn finite(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+impl PartFile {
+    /// Whether the fit may be used for a table.
+    pub fn is_ok(&self) -> bool {
+        self.status == "ok"
+    }
+
+    /// The file's bytes.
+    pub fn to_bytes(&self) -> Vec<u8> {
+        to_json_bytes(self)
+    }
+
+    /// Reads a part file.
+    pub fn read(path: &Path) -> Result<PartFile, PartFileError> {
+        let file = path.display().to_string();
+        let text = std::fs::read_to_string(path).map_err(|e| PartFileError::Io {
+            file: file.clone(),
+            message: e.to_string(),
+        })?;
+        Self::parse(&file, &text)
+    }
+
+    /// Parses a part file's text; `file` names it in messages.
+    pub fn parse(file: &str, text: &str) -> Result<PartFile, PartFileError> {
+        let part: PartFile = serde_json::from_str(text).map_err(|e| {
+            let message = e.to_string();
+            // serde_json names missing/unknown fields in backticks.
+            let field = message
+                .split('`')
+                .nth(1)
+                .unwrap_or("-")
+                .to_string();
+            PartFileError::Parse {
+                file: file.to_string(),
+                line: e.line(),
+                field,
+                message,
+            }
+        })?;
+        if part.format != PART_FORMAT {
+            let line = text
+                .lines()
+                .position(|l| l.contains("\"format\""))
+                .map_or(1, |k| k + 1);
+            return Err(PartFileError::Parse {
+                file: file.to_string(),
+                line,
+                field: "format".into(),
+                message: format!("expected \"{PART_FORMAT}\", found \"{}\"", part.format),
+            });
+        }
+        Ok(part)
+    }
+}
