@@ -50,7 +50,10 @@ pub struct PolyCompensation(pub super::polynomial::PolyCal);
 
 impl Compensation for PolyCompensation {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
-        (self.0.stimulus(output, temp_signal), self.0.temperature(temp_signal))
+        (
+            self.0.stimulus(output, temp_signal),
+            self.0.temperature(temp_signal),
+        )
     }
 }
 

@@ -45,21 +45,32 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         parts: 0,
         skipped: 0,
         calibrated_c: (f64::INFINITY, f64::NEG_INFINITY),
-        physics_coefficients: 7,
+        physics_coefficients: 8,
         polynomial_coefficients: 8,
         raw: Worst::default(),
         physics: Worst::default(),
         polynomial: Worst::default(),
     };
     for part in parts {
-        let (Some(poly), Some(rows), true) = (part.polynomial, groups.get(part.serial.as_str()), part.is_ok())
-        else {
+        let (Some(poly), Some(rows), true) = (
+            part.polynomial,
+            groups.get(part.serial.as_str()),
+            part.is_ok(),
+        ) else {
             out.skipped += 1;
             continue;
         };
         out.parts += 1;
-        let lo = part.points.iter().map(|p| p.chamber_c).fold(f64::INFINITY, f64::min);
-        let hi = part.points.iter().map(|p| p.chamber_c).fold(f64::NEG_INFINITY, f64::max);
+        let lo = part
+            .points
+            .iter()
+            .map(|p| p.chamber_c)
+            .fold(f64::INFINITY, f64::min);
+        let hi = part
+            .points
+            .iter()
+            .map(|p| p.chamber_c)
+            .fold(f64::NEG_INFINITY, f64::max);
         out.calibrated_c = (out.calibrated_c.0.min(lo), out.calibrated_c.1.max(hi));
         let model = ModelCompensation {
             model: PartModel {
@@ -72,7 +83,11 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         for (a, b) in phys.iter().zip(&pol) {
             let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
             let upd = |w: &mut Worst, e: f64| {
-                let slot = if inside { &mut w.inside_ppm } else { &mut w.outside_ppm };
+                let slot = if inside {
+                    &mut w.inside_ppm
+                } else {
+                    &mut w.outside_ppm
+                };
                 *slot = slot.max(e.abs());
             };
             upd(&mut out.physics, a.error_ppm);

@@ -128,11 +128,7 @@ impl PartFile {
         let part: PartFile = serde_json::from_str(text).map_err(|e| {
             let message = e.to_string();
             // serde_json names missing/unknown fields in backticks.
-            let field = message
-                .split('`')
-                .nth(1)
-                .unwrap_or("-")
-                .to_string();
+            let field = message.split('`').nth(1).unwrap_or("-").to_string();
             PartFileError::Parse {
                 file: file.to_string(),
                 line: e.line(),

@@ -1,14 +1,18 @@
 //! The model of one fitted part: the full model's temperature shapes
 //! ([`ShapeCurves`]) scaled and bent by the part's own physical parameters.
 //!
-//! - temperature signal: `r_ref * exp(beta * L(T))`, L = ln rho(T)/rho(T_ref);
-//!   `beta` absorbs a TCR that is off by a few percent (another mobility
-//!   variant, ionization detail, packaging), so the thermometer stays right
-//!   between and beyond the chamber points;
+//! - temperature signal:
+//!   `signal_ref * exp(beta * L(T) + act_k * (1/T_ref - 1/T))`, L = ln
+//!   rho(T)/rho(T_ref) of the full model; `beta` absorbs a mobility
+//!   temperature law that is off by a few percent, the Arrhenius term `act_k`
+//!   (kelvin) an error in the ionized fraction (ionization energy, complete
+//!   versus incomplete ionization), so the thermometer stays right between and
+//!   beyond the chamber points;
 //! - offset: `offset_ref + mismatch * g(T)`, g the offset shape: the doping
 //!   sensitivity of rho for a bridge; for a Hall plate the plate resistance
 //!   ratio itself, `signal(T) / signal_ref - 1`, so the thermometer's fitted
-//!   TCR also shapes the offset (both are the same resistor);
+//!   TCR also shapes the offset (both are the same resistor); plus a linear
+//!   residual term for packaging stress;
 //! - sensitivity (output per stimulus unit):
 //!   `sens_ref * exp(S(T) + doping_shift * D(T)) * (1 + span_tc_per_k * (T - T_ref))`,
 //!   S the piezo-factor (bridge) or Hall-coefficient (plate) shape, D its
@@ -18,11 +22,13 @@
 use super::curves::{OffsetShape, ShapeCurves};
 
 /// Names of the fitted parameters, in [`PartParams::to_vec`] order.
-pub const PARAM_NAMES: [&str; 7] = [
+pub const PARAM_NAMES: [&str; 9] = [
     "signal_ref",
     "signal_beta",
+    "signal_act_k",
     "offset_ref",
     "mismatch",
+    "offset_tc_per_k",
     "sens_ref",
     "doping_shift",
     "span_tc_per_k",
@@ -35,10 +41,14 @@ pub struct PartParams {
     pub signal_ref: f64,
     /// Exponent on the full model's resistivity ratio (1 = model TCR).
     pub signal_beta: f64,
+    /// Arrhenius correction of the thermometer, K.
+    pub signal_act_k: f64,
     /// Output offset at the reference temperature (output units).
     pub offset_ref: f64,
     /// Amplitude of the offset shape (output units).
     pub mismatch: f64,
+    /// Residual linear offset drift (output units per K): packaging stress.
+    pub offset_tc_per_k: f64,
     /// Sensitivity at the reference temperature (output units per stimulus unit).
     pub sens_ref: f64,
     /// ln(N_eff / N_nominal) as seen by the span shape.
@@ -49,12 +59,14 @@ pub struct PartParams {
 
 impl PartParams {
     /// The parameters as a vector in [`PARAM_NAMES`] order.
-    pub fn to_vec(&self) -> [f64; 7] {
+    pub fn to_vec(&self) -> [f64; 9] {
         [
             self.signal_ref,
             self.signal_beta,
+            self.signal_act_k,
             self.offset_ref,
             self.mismatch,
+            self.offset_tc_per_k,
             self.sens_ref,
             self.doping_shift,
             self.span_tc_per_k,
@@ -62,15 +74,17 @@ impl PartParams {
     }
 
     /// Parameters from a vector in [`PARAM_NAMES`] order.
-    pub fn from_slice(v: &[f64; 7]) -> PartParams {
+    pub fn from_slice(v: &[f64; 9]) -> PartParams {
         PartParams {
             signal_ref: v[0],
             signal_beta: v[1],
-            offset_ref: v[2],
-            mismatch: v[3],
-            sens_ref: v[4],
-            doping_shift: v[5],
-            span_tc_per_k: v[6],
+            signal_act_k: v[2],
+            offset_ref: v[3],
+            mismatch: v[4],
+            offset_tc_per_k: v[5],
+            sens_ref: v[6],
+            doping_shift: v[7],
+            span_tc_per_k: v[8],
         }
     }
 }
@@ -88,7 +102,10 @@ impl PartModel<'_> {
     /// Temperature signal at `t_c`.
     pub fn signal(&self, t_c: f64) -> f64 {
         let c = self.curves;
-        self.params.signal_ref * (self.params.signal_beta * c.interp(&c.ln_rho_rel, t_c)).exp()
+        let p = &self.params;
+        let arrhenius = 1.0 / (c.t_ref_c + 273.15) - 1.0 / (t_c + 273.15);
+        p.signal_ref
+            * (p.signal_beta * c.interp(&c.ln_rho_rel, t_c) + p.signal_act_k * arrhenius).exp()
     }
 
     /// Offset (output at zero stimulus) at `t_c`.
@@ -98,7 +115,8 @@ impl PartModel<'_> {
             OffsetShape::DopingSensitivity => c.interp(&c.offset_shape, t_c),
             OffsetShape::Resistivity => self.signal(t_c) / self.params.signal_ref - 1.0,
         };
-        self.params.offset_ref + self.params.mismatch * g
+        let p = &self.params;
+        p.offset_ref + p.mismatch * g + p.offset_tc_per_k * (t_c - c.t_ref_c)
     }
 
     /// Sensitivity (output per stimulus unit) at `t_c`.
@@ -145,7 +163,10 @@ impl PartModel<'_> {
     /// d(signal)/dT at `t_c`, per kelvin.
     pub fn signal_slope(&self, t_c: f64) -> f64 {
         let c = self.curves;
-        self.signal(t_c) * self.params.signal_beta * c.slope(&c.ln_rho_rel, t_c)
+        let t_k = t_c + 273.15;
+        self.signal(t_c)
+            * (self.params.signal_beta * c.slope(&c.ln_rho_rel, t_c)
+                + self.params.signal_act_k / (t_k * t_k))
     }
 }
 
@@ -181,8 +202,10 @@ mod tests {
             params: PartParams {
                 signal_ref: 5000.0,
                 signal_beta: 1.03,
+                signal_act_k: 30.0,
                 offset_ref: 1.5e-3,
                 mismatch: 2e-3,
+                offset_tc_per_k: 1e-6,
                 sens_ref: 2e-3,
                 doping_shift: 0.1,
                 span_tc_per_k: 2e-5,

@@ -149,7 +149,7 @@ impl Scenario {
             },
             spread: Spread {
                 doping_rel: 0.05,
-                arm_doping_rel: 0.005,
+                arm_doping_rel: 0.002,
                 arm_geometry_rel: 0.001,
                 thickness_rel: 0.03,
                 geometry_rel: 0.0,

@@ -56,9 +56,9 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
         ),
     })?;
     toml::from_str::<Scenario>(&text).map_err(|e| {
-        let line = e
-            .span()
-            .map_or(1, |s| text[..s.start.min(text.len())].lines().count().max(1));
+        let line = e.span().map_or(1, |s| {
+            text[..s.start.min(text.len())].lines().count().max(1)
+        });
         let message = e.message().to_string();
         let field = message.split('`').nth(1).unwrap_or("-").to_string();
         SpecLoadError {
@@ -88,7 +88,8 @@ mod tests {
 
     #[test]
     fn bad_spec_names_line_and_field() {
-        let s = to_toml(&Scenario::well_logger()).replace("budget_ppm = 500.0", "budget_ppm = \"x\"");
+        let s =
+            to_toml(&Scenario::well_logger()).replace("budget_ppm = 500.0", "budget_ppm = \"x\"");
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("bad.toml");
         std::fs::write(&path, &s).unwrap();
