@@ -11,6 +11,9 @@
 //! | know whether a sample is trustworthy | [`Status`] beside every value |
 //! | write an image (host, tests) | [`ImageBuilder::encode`] into a `&mut [u8]` |
 //! | interpolate your own const tables | [`table`] (`Table1d`, `Table1dQ`, `Table2d`), [`interp`] kernels |
+//! | smooth the temperature signal | [`smoothing::MovingAverage`], [`smoothing::MovingAverageQ`] |
+//! | read a 24-bit front end over I2C | [`frontend::FrontEnd`] (`new`, `read`, `release`) |
+//! | estimate drift from physics on the MCU | [`model::Model`] |
 //!
 //! Nothing allocates, nothing panics (crate-wide clippy denies on
 //! `unwrap`, `expect`, `panic` and indexing; integer modules also deny
@@ -155,6 +158,7 @@
 
 pub mod compensator;
 pub mod crc;
+pub mod frontend;
 pub mod image;
 pub mod interp;
 #[cfg(any(feature = "libm", feature = "micromath"))]
