@@ -5,19 +5,25 @@
 //! --[`export`]--> flash; every file goes through [`output::write_atomic`].
 
 pub mod apply;
+pub mod bound;
+pub mod budget;
 pub mod calibrate;
 pub mod chamber;
+pub mod choose;
 pub mod compare;
 pub mod curves;
 pub mod export;
 pub mod fit;
+pub mod image_eval;
 pub mod lot;
 pub mod model_shapes;
 pub mod output;
 pub mod part_file;
 pub mod part_model;
+pub mod pipeline;
 pub mod polynomial;
 pub mod scenario;
 pub mod simulate;
 pub mod spec;
+pub mod table;
 pub mod truth;

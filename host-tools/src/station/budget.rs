@@ -1,0 +1,100 @@
+//! The error budget of a compensated part, term by term (DESIGN.md's
+//! vocabulary), all in ppm of full-scale span.
+
+use super::part_file::PartFile;
+use super::table::TableFrame;
+
+/// Coverage factor applied to the temperature-signal uncertainty: 3 sigma
+/// makes the term a near-worst case for Gaussian noise (common practice).
+pub const COVERAGE_K: f64 = 3.0;
+
+/// The terms that do not depend on the table.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct PartTerms {
+    /// Largest calibration fit residual at the chamber points.
+    pub fit_residual_ppm: f64,
+    /// Temperature-signal uncertainty (k = 3) times the worst drift slope.
+    pub temperature_ppm: f64,
+    /// The temperature uncertainty used, K (one sigma).
+    pub temperature_sigma_k: f64,
+    /// Worst drift slope of the uncompensated reading over the range, ppm/K.
+    pub drift_slope_ppm_per_k: f64,
+    /// Deviation of the runtime crate's closed-form model: 0, a table image
+    /// does not evaluate that model on the microcontroller.
+    pub runtime_model_ppm: f64,
+}
+
+/// Every term of a table image's budget.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct BudgetTerms {
+    /// Table interpolation.
+    pub interpolation_ppm: f64,
+    /// Number-format quantization.
+    pub quantization_ppm: f64,
+    /// Runtime-model deviation.
+    pub runtime_model_ppm: f64,
+    /// Calibration fit residual.
+    pub fit_residual_ppm: f64,
+    /// Temperature-signal uncertainty times drift slope.
+    pub temperature_ppm: f64,
+    /// Linear sum of the five terms (a conservative total).
+    pub total_ppm: f64,
+    /// The budget.
+    pub budget_ppm: f64,
+}
+
+impl PartTerms {
+    /// Computes the table-independent terms of a part over its range.
+    pub fn of(part: &PartFile, frame: &TableFrame<'_>) -> PartTerms {
+        let m = frame.model;
+        let fs = frame.fs_hi - frame.fs_lo;
+        let mut slope: f64 = 0.0;
+        let n = 400;
+        for k in 0..=n {
+            let t = frame.t_lo_c + (frame.t_hi_c - frame.t_lo_c) * k as f64 / n as f64;
+            let h = 0.01;
+            for s in [frame.fs_lo, frame.fs_hi] {
+                // Reading error per kelvin of temperature error at a fixed raw output.
+                let y = m.output(t, s);
+                let up = m.stimulus(y, t + h);
+                let down = m.stimulus(y, t - h);
+                slope = slope.max(((up - down) / (2.0 * h) / fs * 1e6).abs());
+            }
+        }
+        let sigma_k = part.thermometer_rms_k.hypot(part.signal_noise_k);
+        PartTerms {
+            fit_residual_ppm: part.fit_max_ppm,
+            temperature_ppm: COVERAGE_K * sigma_k * slope,
+            temperature_sigma_k: sigma_k,
+            drift_slope_ppm_per_k: slope,
+            runtime_model_ppm: 0.0,
+        }
+    }
+
+    /// What is left of `budget_ppm` for the table (interpolation + quantization).
+    pub fn table_allowance(&self, budget_ppm: f64) -> f64 {
+        budget_ppm - self.fit_residual_ppm - self.temperature_ppm - self.runtime_model_ppm
+    }
+
+    /// The full budget with the table's two terms.
+    pub fn with_table(
+        &self,
+        interpolation_ppm: f64,
+        quantization_ppm: f64,
+        budget_ppm: f64,
+    ) -> BudgetTerms {
+        BudgetTerms {
+            interpolation_ppm,
+            quantization_ppm,
+            runtime_model_ppm: self.runtime_model_ppm,
+            fit_residual_ppm: self.fit_residual_ppm,
+            temperature_ppm: self.temperature_ppm,
+            total_ppm: interpolation_ppm
+                + quantization_ppm
+                + self.runtime_model_ppm
+                + self.fit_residual_ppm
+                + self.temperature_ppm,
+            budget_ppm,
+        }
+    }
+}

@@ -1,0 +1,303 @@
+//! The station steps as library calls, shared by the CLI and the demo:
+//! table building to a budget and verification of an image against a part.
+
+use super::bound::interpolation_bound_ppm;
+use super::budget::{BudgetTerms, PartTerms};
+use super::choose::{Candidate, ChooseError, candidates, try_plan};
+use super::curves::ShapeCurves;
+use super::image_eval::{ErrorStats, EvalError, evaluate, linspace};
+use super::model_shapes::shapes_for;
+use super::part_file::PartFile;
+use super::part_model::PartModel;
+use super::table::{InterpKind, NumFormat, TableError, TableFrame, TablePlan};
+use compensate::TableView;
+use compensate::image::NumberFormat;
+use compensate::interp::Interpolation;
+
+/// Dense verification grid: temperatures x stimuli (20001 x 6 = 120006 points).
+pub const DENSE_TEMPS: usize = 20001;
+/// Stimuli of the dense verification grid.
+pub const DENSE_STIMULI: usize = 6;
+
+/// Why a step failed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum StepError {
+    /// The part's fit is not usable.
+    #[error("part {serial}: fit not usable ({status})")]
+    PartNotOk {
+        /// Serial.
+        serial: String,
+        /// Status text.
+        status: String,
+    },
+    /// The full model failed while tabulating the part's shapes.
+    #[error("full model: {0}")]
+    Model(String),
+    /// The budget leaves nothing for the table.
+    #[error(
+        "budget {budget_ppm} ppm is used up before the table: fit residual {fit_ppm:.1} ppm + temperature term {temperature_ppm:.1} ppm"
+    )]
+    BudgetExhausted {
+        /// Budget.
+        budget_ppm: f64,
+        /// Fit residual term.
+        fit_ppm: f64,
+        /// Temperature term.
+        temperature_ppm: f64,
+    },
+    /// Table building failed.
+    #[error(transparent)]
+    Table(#[from] TableError),
+    /// Choosing failed.
+    #[error(transparent)]
+    Choose(#[from] ChooseError),
+    /// Running the image failed.
+    #[error(transparent)]
+    Eval(#[from] EvalError),
+}
+
+/// The full model's shapes for a part's scenario.
+pub fn part_curves(part: &PartFile) -> Result<ShapeCurves, StepError> {
+    shapes_for(&part.scenario).map_err(|e| StepError::Model(e.to_string()))
+}
+
+/// The outcome of building a part's table.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct TableOutcome {
+    /// Serial.
+    pub serial: String,
+    /// Chosen plan.
+    pub plan: TablePlan,
+    /// Image size, bytes.
+    pub bytes: usize,
+    /// Every interpolation/format at its smallest size (least flash first).
+    pub candidates: Vec<Candidate>,
+    /// What the budget left for the table.
+    pub table_allowance_ppm: f64,
+    /// Budget terms.
+    pub terms: BudgetTerms,
+    /// Dense verification of the chosen image.
+    pub dense: ErrorStats,
+    /// Analytic interpolation bound of the chosen plan.
+    pub analytic_bound_ppm: f64,
+    /// The image.
+    #[serde(skip)]
+    pub image: Vec<u8>,
+}
+
+/// f32 rounding of the compensation arithmetic, ppm of span: a few
+/// operations at 2^-24 relative each on values up to the full-scale stimulus.
+fn f32_rounding_ppm(frame: &TableFrame<'_>) -> f64 {
+    let fs = frame.fs_hi - frame.fs_lo;
+    4.0 * 2f64.powi(-24) * frame.fs_lo.abs().max(frame.fs_hi.abs()) / fs * 1e6
+}
+
+/// Splits a plan's measured table error into interpolation and quantization:
+/// the f32 image of the same plan measures interpolation (plus f32 rounding);
+/// a Q image adds what the integer format costs beyond that.
+fn split_terms(
+    frame: &TableFrame<'_>,
+    plan: &TablePlan,
+    serial: &str,
+    unit: &str,
+    measured_ppm: f64,
+) -> Result<(f64, f64), StepError> {
+    match plan.format {
+        NumFormat::F32 => {
+            let q = f32_rounding_ppm(frame);
+            Ok(((measured_ppm - q).max(0.0), q))
+        }
+        NumFormat::Q => {
+            let f = TablePlan {
+                format: NumFormat::F32,
+                ..*plan
+            };
+            let grid = (
+                linspace(frame.t_lo_c, frame.t_hi_c, DENSE_TEMPS),
+                linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI),
+            );
+            let (_, stats) = try_plan(frame, &f, serial, unit, &grid)?;
+            Ok((
+                stats.max_error_ppm,
+                (measured_ppm - stats.max_error_ppm).max(0.0),
+            ))
+        }
+    }
+}
+
+/// Builds the least-flash table of a part meeting `budget_ppm` in total.
+pub fn build_table(
+    part: &PartFile,
+    curves: &ShapeCurves,
+    budget_ppm: f64,
+) -> Result<TableOutcome, StepError> {
+    if !part.is_ok() {
+        return Err(StepError::PartNotOk {
+            serial: part.serial.clone(),
+            status: part.status.clone(),
+        });
+    }
+    let model = PartModel {
+        curves,
+        params: part.params,
+    };
+    let frame = TableFrame::new(part, model)?;
+    let terms = PartTerms::of(part, &frame);
+    let allowance = terms.table_allowance(budget_ppm);
+    if allowance <= 0.0 {
+        return Err(StepError::BudgetExhausted {
+            budget_ppm,
+            fit_ppm: terms.fit_residual_ppm,
+            temperature_ppm: terms.temperature_ppm,
+        });
+    }
+    build_table_for_allowance(part, &frame, &terms, allowance, budget_ppm)
+}
+
+/// Builds the least-flash table whose own error stays within `allowance_ppm`.
+pub fn build_table_for_allowance(
+    part: &PartFile,
+    frame: &TableFrame<'_>,
+    terms: &PartTerms,
+    allowance_ppm: f64,
+    budget_ppm: f64,
+) -> Result<TableOutcome, StepError> {
+    let unit = part.scenario.stimulus_unit.as_str();
+    let serial = part.serial.as_str();
+    let list = candidates(frame, allowance_ppm, serial, unit)?;
+    let dense_grid = (
+        linspace(frame.t_lo_c, frame.t_hi_c, DENSE_TEMPS),
+        linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI),
+    );
+    // The dense grid may find a point a little worse than the search grid:
+    // grow the chosen plan by 10 % until the dense check passes too.
+    let mut plan = list[0].plan;
+    let (mut image, mut dense) = try_plan(frame, &plan, serial, unit, &dense_grid)?;
+    while dense.max_error_ppm > allowance_ppm && plan.n_t < super::choose::MAX_NODES {
+        plan.n_t += plan.n_t.div_ceil(10);
+        plan.n_sig += plan.n_sig.div_ceil(10);
+        (image, dense) = try_plan(frame, &plan, serial, unit, &dense_grid)?;
+    }
+    let (interp, quant) = split_terms(frame, &plan, serial, unit, dense.max_error_ppm)?;
+    Ok(TableOutcome {
+        serial: serial.to_string(),
+        plan,
+        bytes: image.len(),
+        candidates: list,
+        table_allowance_ppm: allowance_ppm,
+        terms: terms.with_table(interp, quant, budget_ppm),
+        dense,
+        analytic_bound_ppm: interpolation_bound_ppm(frame, &plan, terms.drift_slope_ppm_per_k),
+        image,
+    })
+}
+
+/// The verification report (`verify --json`).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct VerifyReport {
+    /// Serial of the part file.
+    pub serial: String,
+    /// Largest |table - model| on the dense grid, ppm of span.
+    pub max_error_ppm: f64,
+    /// RMS of the same, ppm of span.
+    pub rms_error_ppm: f64,
+    /// Temperature of the largest error, C.
+    pub worst_t_c: f64,
+    /// Stimulus of the largest error.
+    pub worst_stimulus: f64,
+    /// Grid points evaluated.
+    pub points: usize,
+    /// Total error budget, ppm of span.
+    pub budget_ppm: f64,
+    /// What the budget leaves for the table after the part's own terms.
+    pub table_allowance_ppm: f64,
+    /// Analytic interpolation bound of the image's plan.
+    pub analytic_bound_ppm: f64,
+    /// Budget terms (interpolation + quantization = the dense maximum).
+    pub terms: BudgetTerms,
+    /// The image's plan as read from its header.
+    pub plan: TablePlan,
+    /// Image size, bytes.
+    pub bytes: usize,
+    /// True when the dense maximum is within the table allowance (so the
+    /// total of all terms is within the budget).
+    pub pass: bool,
+}
+
+/// Reads an image's plan from its header.
+pub fn plan_of(view: &TableView<'_>) -> TablePlan {
+    let interpolation = match view.interpolation() {
+        Interpolation::MonotoneCubic => InterpKind::MonotoneCubic,
+        _ => InterpKind::Linear,
+    };
+    let (format, n_t, n_sig) = match view.format() {
+        NumberFormat::Q => {
+            let t = view.tables_q();
+            (
+                NumFormat::Q,
+                t.map_or(0, |t| t.temperature.len()),
+                t.and_then(|t| t.thermometer).map_or(0, |(a, _)| a.len()),
+            )
+        }
+        _ => {
+            let t = view.tables_f32();
+            (
+                NumFormat::F32,
+                t.map_or(0, |t| t.temperature.len),
+                t.and_then(|t| t.thermometer).map_or(0, |(a, _)| a.len),
+            )
+        }
+    };
+    TablePlan {
+        interpolation,
+        format,
+        n_t,
+        n_sig,
+    }
+}
+
+/// Verifies `image` against `part` on `n_temps` x `n_stimuli` points.
+pub fn verify(
+    image: &[u8],
+    part: &PartFile,
+    curves: &ShapeCurves,
+    budget_ppm: f64,
+    n_temps: usize,
+    n_stimuli: usize,
+) -> Result<VerifyReport, StepError> {
+    let view = TableView::parse(image).map_err(|e| StepError::Eval(EvalError::Image(e)))?;
+    let plan = plan_of(&view);
+    let model = PartModel {
+        curves,
+        params: part.params,
+    };
+    let frame = TableFrame::new(part, model)?;
+    let terms = PartTerms::of(part, &frame);
+    let temps = linspace(frame.t_lo_c, frame.t_hi_c, n_temps);
+    let stimuli = linspace(frame.fs_lo, frame.fs_hi, n_stimuli);
+    let dense = evaluate(image, &frame, &temps, &stimuli)?;
+    let allowance = terms.table_allowance(budget_ppm);
+    let (interp, quant) = match plan.format {
+        NumFormat::F32 => {
+            let q = f32_rounding_ppm(&frame);
+            ((dense.max_error_ppm - q).max(0.0), q)
+        }
+        NumFormat::Q => (dense.max_error_ppm, 0.0),
+    };
+    Ok(VerifyReport {
+        serial: part.serial.clone(),
+        max_error_ppm: dense.max_error_ppm,
+        rms_error_ppm: dense.rms_error_ppm,
+        worst_t_c: dense.worst_t_c,
+        worst_stimulus: dense.worst_stimulus,
+        points: dense.points,
+        budget_ppm,
+        table_allowance_ppm: allowance,
+        analytic_bound_ppm: interpolation_bound_ppm(&frame, &plan, terms.drift_slope_ppm_per_k),
+        terms: terms.with_table(interp, quant, budget_ppm),
+        plan,
+        bytes: image.len(),
+        pass: dense.max_error_ppm <= allowance,
+    })
+}

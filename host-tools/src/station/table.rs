@@ -1,0 +1,341 @@
+//! Building a part's table image (the runtime crate's SDRT layout) from its
+//! fitted model: thermometer map, offset and gain columns on uniform axes, in
+//! f32 or Q-format numbers.
+//!
+//! The firmware computes `value = (raw - offset(T)) * gain(T)` with
+//! `T = thermometer(signal)`; the columns hold the fitted model's offset in
+//! ADC codes and `lsb / sensitivity` in stimulus units per code.
+
+use super::part_file::PartFile;
+use super::part_model::PartModel;
+use compensate::ImageBuilder;
+use compensate::image::{AxisSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use compensate::interp::Interpolation;
+
+/// Number format of an image.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum NumFormat {
+    /// IEEE binary32 (FPU parts).
+    F32,
+    /// Q-format i32 (integer-only parts, bit-exact on the host).
+    Q,
+}
+
+/// Interpolation between nodes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum InterpKind {
+    /// Piecewise linear.
+    Linear,
+    /// Monotone cubic (Fritsch-Carlson).
+    MonotoneCubic,
+}
+
+impl InterpKind {
+    /// The runtime crate's code for it.
+    pub fn runtime(self) -> Interpolation {
+        match self {
+            InterpKind::Linear => Interpolation::Linear,
+            InterpKind::MonotoneCubic => Interpolation::MonotoneCubic,
+        }
+    }
+}
+
+/// The choices that decide a table's size and error.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+pub struct TablePlan {
+    /// Interpolation.
+    pub interpolation: InterpKind,
+    /// Number format.
+    pub format: NumFormat,
+    /// Temperature nodes of the offset and gain columns.
+    pub n_t: usize,
+    /// Signal nodes of the thermometer map.
+    pub n_sig: usize,
+}
+
+/// Why a table could not be built.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum TableError {
+    /// The fitted temperature signal is not strictly monotone over the range.
+    #[error(
+        "the fitted temperature signal is not monotone over {lo_c}..{hi_c} C: it cannot serve as a thermometer"
+    )]
+    NotMonotone {
+        /// Range start, C.
+        lo_c: f64,
+        /// Range end, C.
+        hi_c: f64,
+    },
+    /// The runtime crate's encoder refused the image.
+    #[error("image encoder: {0}")]
+    Encode(String),
+}
+
+/// Everything about a part's table that does not depend on the plan.
+#[derive(Debug, Clone, Copy)]
+pub struct TableFrame<'a> {
+    /// The fitted part model.
+    pub model: PartModel<'a>,
+    /// Temperature range covered, C.
+    pub t_lo_c: f64,
+    /// Temperature range covered, C.
+    pub t_hi_c: f64,
+    /// Signal at the range ends (ascending).
+    pub sig_lo: f64,
+    /// Signal at the range ends (ascending).
+    pub sig_hi: f64,
+    /// Output ADC code size (output units per code).
+    pub lsb: f64,
+    /// Output ADC resolution in bits.
+    pub bits: u32,
+    /// Stimulus full-scale range.
+    pub fs_lo: f64,
+    /// Stimulus full-scale range.
+    pub fs_hi: f64,
+}
+
+fn unit(name: &str) -> Unit {
+    match name {
+        "bar" => Unit::Bar,
+        "Pa" => Unit::Pascal,
+        "A" => Unit::Ampere,
+        "T" => Unit::Tesla,
+        "mT" => Unit::Millitesla,
+        "N" => Unit::Newton,
+        _ => Unit::None,
+    }
+}
+
+fn frac_bits_for(max_abs: f64, total_bits: i32) -> u8 {
+    // Largest n with max_abs * 2^n < 2^total_bits (headroom below i32::MAX).
+    let n = total_bits - max_abs.max(1e-30).log2().ceil() as i32;
+    n.clamp(0, 62) as u8
+}
+
+impl<'a> TableFrame<'a> {
+    /// The frame of a part over its data-sheet range.
+    pub fn new(part: &PartFile, model: PartModel<'a>) -> Result<TableFrame<'a>, TableError> {
+        let sc = &part.scenario;
+        let (t_lo_c, t_hi_c) = sc.range_c;
+        // Strict monotonicity on a 0.1 K grid (the runtime axis must increase).
+        let n = ((t_hi_c - t_lo_c) / 0.1).ceil() as usize;
+        let sig: Vec<f64> = (0..=n)
+            .map(|k| model.signal(t_lo_c + (t_hi_c - t_lo_c) * k as f64 / n as f64))
+            .collect();
+        let up = sig.windows(2).all(|w| w[1] > w[0]);
+        let down = sig.windows(2).all(|w| w[1] < w[0]);
+        if !(up || down) {
+            return Err(TableError::NotMonotone {
+                lo_c: t_lo_c,
+                hi_c: t_hi_c,
+            });
+        }
+        let (a, b) = (sig[0], sig[n]);
+        Ok(TableFrame {
+            model,
+            t_lo_c,
+            t_hi_c,
+            sig_lo: a.min(b),
+            sig_hi: a.max(b),
+            lsb: sc.output_adc.lsb(),
+            bits: sc.output_adc.bits,
+            fs_lo: sc.stimulus_fs.0,
+            fs_hi: sc.stimulus_fs.1,
+        })
+    }
+
+    /// Offset in ADC codes at `t_c`.
+    pub fn offset_codes(&self, t_c: f64) -> f64 {
+        self.model.offset(t_c) / self.lsb
+    }
+
+    /// Gain in stimulus units per code at `t_c`.
+    pub fn gain_per_code(&self, t_c: f64) -> f64 {
+        self.lsb / self.model.sensitivity(t_c)
+    }
+
+    /// Raw-code limits: rails at the ADC ends, calibrated range the codes of
+    /// the full-scale stimuli over the temperature range plus 1 % margin.
+    pub fn raw_limits(&self) -> RawLimits {
+        let half = 1i64 << (self.bits - 1);
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for k in 0..=200 {
+            let t = self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 200.0;
+            for s in [self.fs_lo, self.fs_hi] {
+                let c = self.model.output(t, s) / self.lsb;
+                lo = lo.min(c);
+                hi = hi.max(c);
+            }
+        }
+        let margin = 0.01 * (hi - lo);
+        let clamp = |x: f64| (x as i64).clamp(-half + 1, half - 2) as i32;
+        RawLimits {
+            rail_lo: (-half) as i32,
+            raw_lo: clamp((lo - margin).floor()),
+            raw_hi: clamp((hi + margin).ceil()).max(clamp((lo - margin).floor()) + 1),
+            rail_hi: (half - 1) as i32,
+        }
+    }
+
+    /// Q formats with headroom for every stored quantity of this part.
+    pub fn q_format(&self) -> QFormat {
+        let limits = self.raw_limits();
+        let max_t = self.t_lo_c.abs().max(self.t_hi_c.abs());
+        let max_sig = self.sig_hi.abs().max(self.sig_lo.abs()) * 1.5;
+        let max_out = self.fs_lo.abs().max(self.fs_hi.abs()) * 4.0;
+        let mut max_gain: f64 = 0.0;
+        for k in 0..=200 {
+            let t = self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 200.0;
+            max_gain = max_gain.max(self.gain_per_code(t).abs());
+        }
+        let rail = f64::from(limits.rail_hi.max(-limits.rail_lo));
+        // Shifted rail codes must fit i32 with one bit to spare for d.
+        let offset = frac_bits_for(rail, 29);
+        let output = frac_bits_for(max_out, 30);
+        let mut gain = frac_bits_for(max_gain, 30);
+        // offset + gain - output must lie in 0..=62.
+        gain = gain.clamp(output.saturating_sub(offset), 62 - offset);
+        QFormat {
+            temperature: frac_bits_for(max_t * 2.0, 30),
+            signal: frac_bits_for(max_sig, 30),
+            output,
+            offset,
+            gain,
+            quadratic: 0,
+        }
+    }
+
+    /// Builds the image of `plan` for `serial`.
+    pub fn build(
+        &self,
+        plan: &TablePlan,
+        serial: &str,
+        unit_name: &str,
+        fs: f64,
+    ) -> Result<Vec<u8>, TableError> {
+        let n_t = plan.n_t.max(2);
+        let n_sig = plan.n_sig.max(2);
+        let mut serial_bytes = [0u8; 16];
+        for (d, s) in serial_bytes.iter_mut().zip(serial.bytes()) {
+            *d = s;
+        }
+        let limits = self.raw_limits();
+        let sig_margin = 0.1 * (self.sig_hi - self.sig_lo);
+        match plan.format {
+            NumFormat::F32 => {
+                let t_step = (self.t_hi_c - self.t_lo_c) / (n_t - 1) as f64;
+                let s_step = (self.sig_hi - self.sig_lo) / (n_sig - 1) as f64;
+                let t_nodes = |k: usize| self.t_lo_c + t_step * k as f64;
+                let offset: Vec<f32> = (0..n_t)
+                    .map(|k| self.offset_codes(t_nodes(k)) as f32)
+                    .collect();
+                let gain: Vec<f32> = (0..n_t)
+                    .map(|k| self.gain_per_code(t_nodes(k)) as f32)
+                    .collect();
+                let therm: Vec<f32> = (0..n_sig)
+                    .map(|k| self.model.temperature(self.sig_lo + s_step * k as f64) as f32)
+                    .collect();
+                let builder = ImageBuilder::<f32> {
+                    interpolation: plan.interpolation.runtime(),
+                    q_format: QFormat::F32,
+                    signal_kind: SignalKind::Ohm,
+                    unit: unit(unit_name),
+                    ratiometric: false,
+                    full_scale: fs as f32,
+                    raw_limits: limits,
+                    signal_lo: (self.sig_lo - sig_margin) as f32,
+                    signal_hi: (self.sig_hi + sig_margin) as f32,
+                    serial: serial_bytes,
+                    thermometer: Some(MapSpec {
+                        axis: AxisSpec {
+                            start: self.sig_lo as f32,
+                            step: s_step as f32,
+                        },
+                        values: &therm,
+                    }),
+                    temperature_axis: AxisSpec {
+                        start: self.t_lo_c as f32,
+                        step: t_step as f32,
+                    },
+                    offset: &offset,
+                    gain: &gain,
+                    quadratic: None,
+                    grid: None,
+                };
+                encode(&builder)
+            }
+            NumFormat::Q => {
+                let q = self.q_format();
+                let tq = 2f64.powi(i32::from(q.temperature));
+                let sq = 2f64.powi(i32::from(q.signal));
+                // Integer axes: start rounded down, step rounded up so the
+                // last node reaches the range end.
+                let t_start = (self.t_lo_c * tq).floor() as i32;
+                let t_step = (((self.t_hi_c * tq) - f64::from(t_start)) / (n_t - 1) as f64)
+                    .ceil()
+                    .max(1.0) as i32;
+                let s_start = (self.sig_lo * sq).floor() as i32;
+                let s_step = (((self.sig_hi * sq) - f64::from(s_start)) / (n_sig - 1) as f64)
+                    .ceil()
+                    .max(1.0) as i32;
+                let t_node = |k: usize| (f64::from(t_start) + f64::from(t_step) * k as f64) / tq;
+                let s_node = |k: usize| (f64::from(s_start) + f64::from(s_step) * k as f64) / sq;
+                let scale = |x: f64, bits: u8| (x * 2f64.powi(i32::from(bits))).round() as i32;
+                let offset: Vec<i32> = (0..n_t)
+                    .map(|k| scale(self.offset_codes(t_node(k)), q.offset))
+                    .collect();
+                let gain: Vec<i32> = (0..n_t)
+                    .map(|k| scale(self.gain_per_code(t_node(k)), q.gain))
+                    .collect();
+                let therm: Vec<i32> = (0..n_sig)
+                    .map(|k| scale(self.model.temperature(s_node(k)), q.temperature))
+                    .collect();
+                let builder = ImageBuilder::<i32> {
+                    interpolation: plan.interpolation.runtime(),
+                    q_format: q,
+                    signal_kind: SignalKind::Ohm,
+                    unit: unit(unit_name),
+                    ratiometric: false,
+                    full_scale: fs as f32,
+                    raw_limits: limits,
+                    signal_lo: scale(self.sig_lo - sig_margin, q.signal),
+                    signal_hi: scale(self.sig_hi + sig_margin, q.signal),
+                    serial: serial_bytes,
+                    thermometer: Some(MapSpec {
+                        axis: AxisSpec {
+                            start: s_start,
+                            step: s_step,
+                        },
+                        values: &therm,
+                    }),
+                    temperature_axis: AxisSpec {
+                        start: t_start,
+                        step: t_step,
+                    },
+                    offset: &offset,
+                    gain: &gain,
+                    quadratic: None,
+                    grid: None,
+                };
+                encode(&builder)
+            }
+        }
+    }
+}
+
+fn encode<V: compensate::image::Number>(
+    builder: &ImageBuilder<'_, V>,
+) -> Result<Vec<u8>, TableError> {
+    let len = builder
+        .encoded_len()
+        .map_err(|e| TableError::Encode(e.to_string()))?;
+    let mut buf = vec![0u8; len];
+    let n = builder
+        .encode(&mut buf)
+        .map_err(|e| TableError::Encode(e.to_string()))?;
+    buf.truncate(n);
+    Ok(buf)
+}
