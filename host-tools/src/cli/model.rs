@@ -200,7 +200,7 @@ struct JsonDoc<'a> {
 /// A dopant in the JSON document.
 #[derive(serde::Serialize)]
 struct JsonDopant {
-    species: String,
+    species: &'static str,
     density_cm3: f64,
 }
 
