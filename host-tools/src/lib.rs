@@ -3,4 +3,5 @@
 #![forbid(unsafe_code)]
 
 pub mod cli;
+pub mod element;
 pub mod physics;

@@ -4,6 +4,7 @@
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
+pub mod element;
 mod error;
 
 pub use error::CliError;
@@ -29,7 +30,10 @@ pub struct Cli {
 
 /// The subcommands.
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Example element specs; drift of a sense element over temperature.
+    Element(element::ElementArgs),
+}
 
 /// Runs the command line with the process arguments and returns the exit code.
 pub fn main() -> i32 {
@@ -63,6 +67,7 @@ where
 }
 
 fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
-    let _ = out;
-    match command {}
+    match command {
+        Command::Element(args) => element::run(args, out),
+    }
 }
