@@ -2,6 +2,8 @@
 //! element models, calibration fits, table building, export and verification.
 #![forbid(unsafe_code)]
 
+pub mod arrhenius;
 pub mod cli;
 pub mod element;
 pub mod physics;
+pub mod plot;

@@ -4,8 +4,13 @@
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
+mod arrhenius;
 pub mod element;
 mod error;
+mod model;
+mod plot;
+pub mod range;
+pub mod sample_args;
 
 pub use error::CliError;
 
@@ -31,6 +36,13 @@ pub struct Cli {
 /// The subcommands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
+    /// Evaluate the full physics model of a doped sample over temperature.
+    Model(model::ModelArgs),
+    /// Draw plots as SVG files.
+    #[command(subcommand)]
+    Plot(plot::PlotCommand),
+    /// Fit an activation energy to conductivity or resistance versus temperature.
+    Arrhenius(arrhenius::ArrheniusArgs),
     /// Example element specs; drift of a sense element over temperature.
     Element(element::ElementArgs),
 }
@@ -68,6 +80,9 @@ where
 
 fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
     match command {
+        Command::Model(args) => model::run(args, out),
+        Command::Plot(args) => plot::run(args, out),
+        Command::Arrhenius(args) => arrhenius::run(args, out),
         Command::Element(args) => element::run(args, out),
     }
 }
