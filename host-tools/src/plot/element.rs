@@ -1,0 +1,145 @@
+//! The element drift plot: relative span, offset and input resistance over
+//! temperature, under constant-voltage and constant-current drive.
+
+use super::style::{
+    BLUE, CAPTION_PX, FONT_FAMILY, GREEN, LABEL_PX, PlotError, RED, TICK_PX, linear_range,
+    register_font,
+};
+use crate::element::{DriftCurve, ElementKind};
+use plotters::prelude::*;
+
+/// Width and height of the element plot in pixels.
+pub const SIZE_PX: (u32, u32) = (1000, 1100);
+
+/// A named curve: label, colour, (t_c, y) points.
+type Curve = (&'static str, RGBColor, Vec<(f64, f64)>);
+
+/// Draws the three-panel drift plot of `curve` (title names the part) and
+/// returns the SVG text.
+pub fn element_svg(curve: &DriftCurve, title: &str) -> Result<String, PlotError> {
+    if curve.rows.len() < 2 {
+        return Err(PlotError::NoData(
+            "the element plot needs at least two temperatures".into(),
+        ));
+    }
+    register_font()?;
+    let rows = &curve.rows;
+    let s = &curve.summary;
+    let t_range = linear_range(rows.iter().map(|r| r.t_c))?;
+    let series = |f: fn(&crate::element::DriftRow) -> f64| {
+        rows.iter().map(|r| (r.t_c, f(r))).collect::<Vec<_>>()
+    };
+    let what = match curve.kind {
+        ElementKind::Bridge => "bridge",
+        ElementKind::Hall => "Hall plate",
+    };
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
+        root.fill(&WHITE).map_err(PlotError::draw)?;
+        let root = root
+            .titled(&format!("{what}: {title}"), (FONT_FAMILY, CAPTION_PX))
+            .map_err(PlotError::draw)?;
+        let panels = root.split_evenly((3, 1));
+        let span = [
+            (
+                "constant voltage",
+                BLUE,
+                series(|r| 100.0 * (r.span_rel_cv - 1.0)),
+            ),
+            (
+                "constant current",
+                RED,
+                series(|r| 100.0 * (r.span_rel_cc - 1.0)),
+            ),
+        ];
+        panel(
+            &panels[0],
+            &format!(
+                "Span drift from {} C (TCS {:.0} ppm/K const. V, {:.0} ppm/K const. I)",
+                s.reference_c, s.tcs_cv_ppm_per_k, s.tcs_cc_ppm_per_k
+            ),
+            "span change (%)",
+            t_range.clone(),
+            &span,
+        )?;
+        let offset = [
+            ("constant voltage", BLUE, series(|r| r.offset_ppm_fs_cv)),
+            ("constant current", RED, series(|r| r.offset_ppm_fs_cc)),
+        ];
+        panel(
+            &panels[1],
+            &format!(
+                "Offset (TCO {:.1} ppm FS/K const. V, {:.1} ppm FS/K const. I)",
+                s.tco_cv_ppm_fs_per_k, s.tco_cc_ppm_fs_per_k
+            ),
+            "offset (ppm of span)",
+            t_range.clone(),
+            &offset,
+        )?;
+        let resistance = [(
+            "input resistance",
+            GREEN,
+            series(|r| 100.0 * (r.resistance_rel - 1.0)),
+        )];
+        panel(
+            &panels[2],
+            &format!(
+                "Input resistance (TCR {:.0} ppm/K, {:.1} ohm at {} C)",
+                s.tcr_ppm_per_k, s.resistance_ref_ohm, s.reference_c
+            ),
+            "resistance change (%)",
+            t_range,
+            &resistance,
+        )?;
+        root.present().map_err(PlotError::draw)?;
+    }
+    Ok(svg)
+}
+
+/// One panel: temperature in Celsius on x, linear y.
+fn panel(
+    area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+    caption: &str,
+    y_desc: &str,
+    t_range: std::ops::Range<f64>,
+    series: &[Curve],
+) -> Result<(), PlotError> {
+    let y_range = linear_range(series.iter().flat_map(|s| s.2.iter().map(|p| p.1)))?;
+    let mut chart = ChartBuilder::on(area)
+        .caption(caption, (FONT_FAMILY, LABEL_PX))
+        .margin(12)
+        .x_label_area_size(42)
+        .y_label_area_size(80)
+        .build_cartesian_2d(t_range, y_range)
+        .map_err(PlotError::draw)?;
+    chart
+        .configure_mesh()
+        .x_desc("T (C)")
+        .y_desc(y_desc)
+        .label_style((FONT_FAMILY, TICK_PX))
+        .axis_desc_style((FONT_FAMILY, LABEL_PX))
+        .draw()
+        .map_err(PlotError::draw)?;
+    for (name, color, points) in series {
+        let color = *color;
+        chart
+            .draw_series(LineSeries::new(
+                points.iter().copied().filter(|p| p.1.is_finite()),
+                color.stroke_width(2),
+            ))
+            .map_err(PlotError::draw)?
+            .label(*name)
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
+            });
+    }
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperRight)
+        .label_font((FONT_FAMILY, TICK_PX))
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .draw()
+        .map_err(PlotError::draw)
+}
