@@ -21,27 +21,46 @@
 //!
 //! # Pairing with incomplete ionization (read this before changing `N`)
 //! Masetti's and Arora's fits (and Thurber's resistivity data behind both)
-//! express mobility against the TOTAL chemical dopant density, assuming every
-//! dopant is ionized. The carrier model (Altermatt et al. 2006, J. Appl.
-//! Phys. 100, 113714/113715) ionizes dopants incompletely but, near and above
-//! the metal-insulator transition (1e18..1e19 cm^-3 in Si), puts almost all
-//! carriers in delocalised states. We therefore pair:
-//! - scattering centres `N = N_D,total + N_A,total` (as fitted), and
-//! - band carriers `n, p` from the carrier solver (which already holds the
-//!   missing, non-ionized fraction).
+//! express mobility against the TOTAL chemical dopant density and were
+//! derived as `mu = 1 / (q N rho_measured)`, i.e. assuming every dopant is
+//! ionized at room temperature. The carrier model (Altermatt et al. 2006,
+//! J. Appl. Phys. 100, 113714/113715) leaves a neutral fraction at 300 K that
+//! peaks near 1e18 cm^-3 (20..25 % in our solver for P and B). Using the
+//! published mobility with those carrier densities would count the missing
+//! carriers twice (once hidden in the fit, once in `n` or `p`): the
+//! resistivity comes out ~20 % high at 1e17..3e18 cm^-3 against ASTM F723.
 //!
-//! The non-ionized fraction thus enters the resistivity exactly once, through
-//! `n` or `p`; we do not scale the mobility by an ionized fraction as well.
-//! `tests/si_resistivity_astm_f723.rs` checks this pairing against ASTM F723.
+//! Our pairing:
+//! - scattering centres `N = N_D,total + N_A,total` (as fitted);
+//! - band carriers `n, p` from the carrier solver (neutral fraction included,
+//!   with its full temperature dependence);
+//! - Si drift mobility `mu = mu_Masetti/Arora(N, T) * N / N_ion,300K(N)`,
+//!   where `N_ion,300K(N)` is the ionized density our own carrier model
+//!   gives at 300 K for the data set behind each Masetti parameter set
+//!   (P-doped for electrons, B-doped for holes). This undoes the fit's
+//!   full-ionization convention, so `q n mu` reproduces Masetti's fit (and
+//!   hence Thurber's data) at 300 K, and the neutral fraction enters the
+//!   resistivity exactly once, through `n` or `p`, at every temperature.
+//!   [`fit_convention_factor`] tabulates the factor (log grid, 20 points per
+//!   decade, built once).
+//!
+//! No neutral-impurity scattering term is added. The Caughey-Thomas sets of
+//! the other materials are used as published (their shallow dopants are
+//! practically fully ionized at 300 K in the fitted ranges).
+//! `tests/si_resistivity_astm_f723.rs` checks the pairing against ASTM F723.
 //!
 //! # Lattice part
 //! [`Mobility`] also carries the lattice-limited mobility of each carrier so
 //! that [`super::transport`] can split the scattering into lattice and
 //! impurity parts (Matthiessen's rule) for the Hall scattering factor.
 
-use super::carriers::CarrierState;
+use std::sync::OnceLock;
+
+use super::carriers::{self, CarrierState};
 use super::constants::T_300_K;
+use super::dopant::{Dopant, Species};
 use super::material::Material;
+use super::model::Sample;
 
 /// Electron and hole drift mobilities in cm^2/(V s), with their lattice-limited parts.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -357,11 +376,99 @@ fn caughey_thomas_sets(
 /// Drift mobilities for the material at the solved state.
 ///
 /// Scattering centres are the total chemical dopant density
-/// `donors_total + acceptors_total`; see the module docs for why (pairing
-/// with incomplete ionization).
+/// `donors_total + acceptors_total`; for Si the published mobility is
+/// divided by the fit's ionized fraction at 300 K (module docs, pairing).
 pub fn drift_mobility(material: Material, state: &CarrierState) -> Mobility {
     let n_total_cm3 = state.donors_total_cm3 + state.acceptors_total_cm3;
-    mobility_for_density(material, n_total_cm3, state.t_k)
+    let mut m = mobility_for_density(material, n_total_cm3, state.t_k);
+    if material == Material::Si {
+        m.mu_n_cm2_vs = (m.mu_n_cm2_vs * fit_convention_factor(FitSet::Electrons, n_total_cm3))
+            .min(m.mu_n_lattice_cm2_vs);
+        m.mu_p_cm2_vs = (m.mu_p_cm2_vs * fit_convention_factor(FitSet::Holes, n_total_cm3))
+            .min(m.mu_p_lattice_cm2_vs);
+    }
+    m
+}
+
+/// The data set behind a Masetti parameter set.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FitSet {
+    /// Electron set, fitted on phosphorus-doped Si.
+    Electrons,
+    /// Hole set, fitted on boron-doped Si.
+    Holes,
+}
+
+/// Temperature of the Masetti/Thurber fits (room temperature, Masetti 1983).
+const FIT_T_K: f64 = 300.0;
+/// Table range of the fit-convention factor, log10 of cm^-3.
+const FIT_LOG_MIN: f64 = 10.0;
+/// Upper end of the table, log10 of cm^-3.
+const FIT_LOG_MAX: f64 = 21.0;
+/// Table points per decade.
+const FIT_PER_DECADE: f64 = 20.0;
+/// Number of table points.
+const FIT_POINTS: usize = 221;
+
+/// `N / N_ionized` at 300 K of a singly doped Si sample of total density
+/// `n_total_cm3` (P for electrons, B for holes), from our carrier model;
+/// 1 outside the table or where the solver refuses the input.
+pub fn fit_convention_factor(set: FitSet, n_total_cm3: f64) -> f64 {
+    static TABLES: OnceLock<[[f64; FIT_POINTS]; 2]> = OnceLock::new();
+    if n_total_cm3.is_nan() || n_total_cm3 <= 0.0 {
+        return 1.0;
+    }
+    let tables = TABLES.get_or_init(|| {
+        [
+            build_fit_table(FitSet::Electrons),
+            build_fit_table(FitSet::Holes),
+        ]
+    });
+    let table = match set {
+        FitSet::Electrons => &tables[0],
+        FitSet::Holes => &tables[1],
+    };
+    let x =
+        ((n_total_cm3.log10() - FIT_LOG_MIN) * FIT_PER_DECADE).clamp(0.0, (FIT_POINTS - 1) as f64);
+    let i = (x as usize).min(FIT_POINTS - 2);
+    let f = x - i as f64;
+    table[i] + f * (table[i + 1] - table[i])
+}
+
+fn build_fit_table(set: FitSet) -> [f64; FIT_POINTS] {
+    let mut table = [1.0; FIT_POINTS];
+    for (k, slot) in table.iter_mut().enumerate() {
+        let n = 10f64.powf(FIT_LOG_MIN + k as f64 / FIT_PER_DECADE);
+        let (species, donors) = match set {
+            FitSet::Electrons => (Species::P, true),
+            FitSet::Holes => (Species::B, false),
+        };
+        let dopant = vec![Dopant {
+            species,
+            density_cm3: n,
+        }];
+        let sample = if donors {
+            Sample {
+                material: Material::Si,
+                donors: dopant,
+                acceptors: vec![],
+            }
+        } else {
+            Sample {
+                material: Material::Si,
+                donors: vec![],
+                acceptors: dopant,
+            }
+        };
+        if let Ok(state) = carriers::solve(&sample, FIT_T_K) {
+            let ionized = state.donors_ionized_cm3 + state.acceptors_ionized_cm3;
+            if ionized > 0.0 {
+                *slot = n / ionized;
+            }
+        }
+    }
+    debug_assert!((FIT_LOG_MAX - FIT_LOG_MIN) * FIT_PER_DECADE + 1.0 == FIT_POINTS as f64);
+    table
 }
 
 #[cfg(test)]

@@ -49,7 +49,7 @@
 use std::sync::OnceLock;
 
 use super::carriers::CarrierState;
-use super::constants::{K_B_EV_PER_K, Q_C};
+use super::constants::Q_C;
 use super::material::Material;
 use super::mobility::Mobility;
 
@@ -231,10 +231,9 @@ pub fn hall_scattering_factor(mu_cm2_vs: f64, mu_lattice_cm2_vs: f64, eta: f64) 
 /// Reduced Fermi level of a carrier, `(E_F - E_c)/kT` for electrons and
 /// `(E_v - E_F)/kT` for holes, from the solved state.
 pub fn reduced_fermi_level(state: &CarrierState, carrier: Carrier) -> f64 {
-    let kt = K_B_EV_PER_K * state.t_k;
     match carrier {
-        Carrier::Electron => (state.fermi_from_ev_ev - state.eg_ev) / kt,
-        Carrier::Hole => -state.fermi_from_ev_ev / kt,
+        Carrier::Electron => state.eta_n,
+        Carrier::Hole => state.eta_p,
     }
 }
 
