@@ -148,6 +148,12 @@ pub fn sweep(
         .collect()
 }
 
+/// A column's value with negative zero folded into zero, so that a quantity
+/// that is exactly 0 never prints as `-0`.
+fn value(column: &Column, point: &ModelPoint) -> Option<f64> {
+    (column.value)(point).map(|v| v + 0.0)
+}
+
 /// Celsius from kelvin, rounded like the requested temperatures.
 fn t_c(t_k: f64) -> f64 {
     ((t_k - ZERO_CELSIUS_K) * 1e9).round() / 1e9
@@ -161,7 +167,7 @@ impl serde::Serialize for JsonRow<'_> {
         let mut map = s.serialize_map(Some(COLUMNS.len()))?;
         for c in COLUMNS {
             // Non-finite values have no JSON number; they print as null.
-            map.serialize_entry(c.name, &(c.value)(self.0).filter(|v| v.is_finite()))?;
+            map.serialize_entry(c.name, &value(c, self.0).filter(|v| v.is_finite()))?;
         }
         map.end()
     }
@@ -215,7 +221,7 @@ pub fn csv(rows: &[ModelPoint]) -> String {
     for row in rows {
         let cells: Vec<String> = COLUMNS
             .iter()
-            .map(|c| match (c.value)(row) {
+            .map(|c| match value(c, row) {
                 None => String::new(),
                 Some(v) if c.name.starts_with("t_") => format!("{v}"),
                 Some(v) => format!("{v:.9e}"),
@@ -248,7 +254,7 @@ pub fn table(sample: &Sample, rows: &[ModelPoint]) -> String {
         .map(|r| {
             shown
                 .iter()
-                .map(|c| match ((c.value)(r), c.shape) {
+                .map(|c| match (value(c, r), c.shape) {
                     (None, _) => "-".to_string(),
                     (Some(v), Shape::Fixed(d)) => format!("{v:.d$}"),
                     (Some(v), Shape::Sci(d)) => format!("{v:.d$e}"),
