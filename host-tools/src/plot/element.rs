@@ -143,3 +143,83 @@ fn panel(
         .draw()
         .map_err(PlotError::draw)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::element::{DriftRow, DriftSummary, ExcitationMode};
+
+    /// A hand-made drift row (no physics): span falls 0.2 %/K under constant
+    /// voltage, resistance rises 0.1 %/K.
+    fn row(t_c: f64) -> DriftRow {
+        let dt = t_c - 25.0;
+        DriftRow {
+            t_c,
+            t_k: t_c + 273.15,
+            span_v: 0.09 * (1.0 - 2e-3 * dt),
+            span_rel: 1.0 - 2e-3 * dt,
+            offset_v: 1e-4,
+            offset_ppm_fs: 1000.0 + 2.0 * dt,
+            resistance_ohm: 4000.0 * (1.0 + 1e-3 * dt),
+            resistance_rel: 1.0 + 1e-3 * dt,
+            excitation_v: 3.3,
+            excitation_a: 3.3 / 4000.0,
+            span_rel_cv: 1.0 - 2e-3 * dt,
+            span_rel_cc: (1.0 - 2e-3 * dt) * (1.0 + 1e-3 * dt),
+            offset_ppm_fs_cv: 1000.0 + 2.0 * dt,
+            offset_ppm_fs_cc: (1000.0 + 2.0 * dt) * (1.0 + 1e-3 * dt),
+            piezo_factor: Some(1.0),
+            hall_coefficient_cm3_c: None,
+            hall_mobility_cm2_vs: None,
+        }
+    }
+
+    fn curve(temps: &[f64]) -> DriftCurve {
+        DriftCurve {
+            kind: ElementKind::Bridge,
+            rows: temps.iter().map(|&t| row(t)).collect(),
+            summary: DriftSummary {
+                reference_c: 25.0,
+                excitation_mode: ExcitationMode::Voltage,
+                span_ref_v: 0.09,
+                resistance_ref_ohm: 4000.0,
+                tcs_ppm_per_k: -2000.0,
+                tco_ppm_fs_per_k: 2.0,
+                tcr_ppm_per_k: 1000.0,
+                tcs_cv_ppm_per_k: -2000.0,
+                tcs_cc_ppm_per_k: -1000.0,
+                tco_cv_ppm_fs_per_k: 2.0,
+                tco_cc_ppm_fs_per_k: 3.0,
+                adc_lsb_ppm_fs: 0.1,
+            },
+        }
+    }
+
+    #[test]
+    fn svg_is_complete_and_repeatable() {
+        let c = curve(&[-20.0, 0.0, 25.0, 50.0, 85.0]);
+        let a = element_svg(&c, "test part");
+        let b = element_svg(&c, "test part");
+        assert!(a.is_ok(), "{:?}", a.as_ref().err());
+        assert_eq!(
+            a.as_ref().ok(),
+            b.as_ref().ok(),
+            "same input must give the same SVG"
+        );
+        let svg = a.unwrap_or_default();
+        assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+        for text in [
+            "bridge: test part",
+            "Span drift",
+            "constant voltage",
+            "constant current",
+            "TCR 1000 ppm/K",
+        ] {
+            assert!(svg.contains(text), "SVG lacks {text:?}");
+        }
+        assert!(
+            element_svg(&curve(&[25.0]), "one").is_err(),
+            "one row cannot make a plot"
+        );
+    }
+}
