@@ -17,11 +17,59 @@ type Curve = (&'static str, RGBColor, Vec<(f64, f64)>);
 /// Draws the three-panel drift plot of `curve` (title names the part) and
 /// returns the SVG text.
 pub fn element_svg(curve: &DriftCurve, title: &str) -> Result<String, PlotError> {
+    check_rows(curve)?;
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
+        draw(&root, curve, title)?;
+        root.present().map_err(PlotError::draw)?;
+    }
+    Ok(svg)
+}
+
+/// Draws the drift plot as a PNG file, written atomically (temporary file in
+/// the same directory, then renamed).
+pub fn write_element_png(
+    path: &std::path::Path,
+    curve: &DriftCurve,
+    title: &str,
+) -> Result<(), PlotError> {
+    check_rows(curve)?;
+    let write_err = |source| PlotError::Write {
+        path: path.display().to_string(),
+        source,
+    };
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => std::path::Path::new("."),
+    };
+    let tmp = tempfile::Builder::new()
+        .suffix(".png")
+        .tempfile_in(dir)
+        .map_err(write_err)?;
+    {
+        let root = BitMapBackend::new(tmp.path(), SIZE_PX).into_drawing_area();
+        draw(&root, curve, title)?;
+        root.present().map_err(PlotError::draw)?;
+    }
+    super::style::persist(tmp, path)
+}
+
+fn check_rows(curve: &DriftCurve) -> Result<(), PlotError> {
     if curve.rows.len() < 2 {
         return Err(PlotError::NoData(
             "the element plot needs at least two temperatures".into(),
         ));
     }
+    Ok(())
+}
+
+/// Draws the three panels on any backend.
+fn draw<DB: DrawingBackend>(
+    root: &DrawingArea<DB, plotters::coord::Shift>,
+    curve: &DriftCurve,
+    title: &str,
+) -> Result<(), PlotError> {
     register_font()?;
     let rows = &curve.rows;
     let s = &curve.summary;
@@ -33,73 +81,67 @@ pub fn element_svg(curve: &DriftCurve, title: &str) -> Result<String, PlotError>
         ElementKind::Bridge => "bridge",
         ElementKind::Hall => "Hall plate",
     };
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        root.fill(&WHITE).map_err(PlotError::draw)?;
-        let root = root
-            .titled(&format!("{what}: {title}"), (FONT_FAMILY, CAPTION_PX))
-            .map_err(PlotError::draw)?;
-        let panels = root.split_evenly((3, 1));
-        let span = [
-            (
-                "constant voltage",
-                BLUE,
-                series(|r| 100.0 * (r.span_rel_cv - 1.0)),
-            ),
-            (
-                "constant current",
-                RED,
-                series(|r| 100.0 * (r.span_rel_cc - 1.0)),
-            ),
-        ];
-        panel(
-            &panels[0],
-            &format!(
-                "Span drift from {} C (TCS {:.0} ppm/K const. V, {:.0} ppm/K const. I)",
-                s.reference_c, s.tcs_cv_ppm_per_k, s.tcs_cc_ppm_per_k
-            ),
-            "span change (%)",
-            t_range.clone(),
-            &span,
-        )?;
-        let offset = [
-            ("constant voltage", BLUE, series(|r| r.offset_ppm_fs_cv)),
-            ("constant current", RED, series(|r| r.offset_ppm_fs_cc)),
-        ];
-        panel(
-            &panels[1],
-            &format!(
-                "Offset (TCO {:.1} ppm FS/K const. V, {:.1} ppm FS/K const. I)",
-                s.tco_cv_ppm_fs_per_k, s.tco_cc_ppm_fs_per_k
-            ),
-            "offset (ppm of span)",
-            t_range.clone(),
-            &offset,
-        )?;
-        let resistance = [(
-            "input resistance",
-            GREEN,
-            series(|r| 100.0 * (r.resistance_rel - 1.0)),
-        )];
-        panel(
-            &panels[2],
-            &format!(
-                "Input resistance (TCR {:.0} ppm/K, {:.1} ohm at {} C)",
-                s.tcr_ppm_per_k, s.resistance_ref_ohm, s.reference_c
-            ),
-            "resistance change (%)",
-            t_range,
-            &resistance,
-        )?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    Ok(svg)
+    root.fill(&WHITE).map_err(PlotError::draw)?;
+    let root = root
+        .titled(&format!("{what}: {title}"), (FONT_FAMILY, CAPTION_PX))
+        .map_err(PlotError::draw)?;
+    let panels = root.split_evenly((3, 1));
+    let span = [
+        (
+            "constant voltage",
+            BLUE,
+            series(|r| 100.0 * (r.span_rel_cv - 1.0)),
+        ),
+        (
+            "constant current",
+            RED,
+            series(|r| 100.0 * (r.span_rel_cc - 1.0)),
+        ),
+    ];
+    panel(
+        &panels[0],
+        &format!(
+            "Span drift from {} C (TCS {:.0} ppm/K const. V, {:.0} ppm/K const. I)",
+            s.reference_c, s.tcs_cv_ppm_per_k, s.tcs_cc_ppm_per_k
+        ),
+        "span change (%)",
+        t_range.clone(),
+        &span,
+    )?;
+    let offset = [
+        ("constant voltage", BLUE, series(|r| r.offset_ppm_fs_cv)),
+        ("constant current", RED, series(|r| r.offset_ppm_fs_cc)),
+    ];
+    panel(
+        &panels[1],
+        &format!(
+            "Offset (TCO {:.1} ppm FS/K const. V, {:.1} ppm FS/K const. I)",
+            s.tco_cv_ppm_fs_per_k, s.tco_cc_ppm_fs_per_k
+        ),
+        "offset (ppm of span)",
+        t_range.clone(),
+        &offset,
+    )?;
+    let resistance = [(
+        "input resistance",
+        GREEN,
+        series(|r| 100.0 * (r.resistance_rel - 1.0)),
+    )];
+    panel(
+        &panels[2],
+        &format!(
+            "Input resistance (TCR {:.0} ppm/K, {:.1} ohm at {} C)",
+            s.tcr_ppm_per_k, s.resistance_ref_ohm, s.reference_c
+        ),
+        "resistance change (%)",
+        t_range,
+        &resistance,
+    )
 }
 
 /// One panel: temperature in Celsius on x, linear y.
-fn panel(
-    area: &DrawingArea<SVGBackend<'_>, plotters::coord::Shift>,
+fn panel<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
     caption: &str,
     y_desc: &str,
     t_range: std::ops::Range<f64>,

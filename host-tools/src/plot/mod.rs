@@ -10,6 +10,6 @@ pub mod element;
 pub mod model;
 pub mod style;
 
-pub use element::element_svg;
+pub use element::{element_svg, write_element_png};
 pub use model::{Regime, classify_regime, model_rgb, model_svg, write_model_png};
 pub use style::{PlotError, write_atomically};

@@ -1,8 +1,8 @@
-//! `semidrift plot element`: the drift plot of a sense element as an SVG file.
+//! `semidrift plot element`: the drift plot of a sense element as an SVG (or PNG) file.
 
 use crate::cli::CliError;
 use crate::cli::element::{curve_for, load_spec, temps_for};
-use crate::plot::{element_svg, write_atomically};
+use crate::plot::{element_svg, write_atomically, write_element_png};
 use clap::Args;
 use std::io::Write;
 use std::path::PathBuf;
@@ -16,7 +16,7 @@ pub struct PlotElementArgs {
     /// [default: the spec's range in 5 C steps].
     #[arg(long, value_name = "START:STOP:STEP", allow_hyphen_values = true)]
     pub celsius: Option<String>,
-    /// SVG file to write (replaced atomically).
+    /// File to write, SVG (or PNG when the name ends in `.png`); replaced atomically.
     #[arg(long, value_name = "FILE.svg")]
     pub out: PathBuf,
 }
@@ -34,10 +34,18 @@ pub fn run(args: PlotElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
     }
     let curve = curve_for(&args.spec, &spec, &temps)?;
     let shown = args.out.display().to_string();
-    let svg = element_svg(&curve, spec.common().name)
-        .map_err(|e| CliError::option("--out", &shown, e))?;
-    write_atomically(&args.out, svg.as_bytes())
-        .map_err(|e| CliError::option("--out", &shown, e))?;
+    let out_err = |e| CliError::option("--out", &shown, e);
+    let title = spec.common().name;
+    if args
+        .out
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("png"))
+    {
+        write_element_png(&args.out, &curve, title).map_err(out_err)?;
+    } else {
+        let svg = element_svg(&curve, title).map_err(out_err)?;
+        write_atomically(&args.out, svg.as_bytes()).map_err(out_err)?;
+    }
     writeln!(out, "wrote {shown} ({} temperatures)", curve.rows.len())?;
     Ok(())
 }
