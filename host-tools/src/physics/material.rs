@@ -321,8 +321,13 @@ impl Material {
     /// assert!((ni / 9.65e9 - 1.0).abs() < 0.01);
     /// ```
     pub fn ni_cm3(self, t_k: f64) -> f64 {
+        self.ln_ni(t_k).exp()
+    }
+
+    /// Natural logarithm of [`Material::ni_cm3`] (finite where n_i itself underflows, e.g. 4H-SiC below ~60 K).
+    pub fn ln_ni(self, t_k: f64) -> f64 {
         let (nc, nv) = self.nc_nv_cm3(t_k);
-        (nc * nv).sqrt() * (-self.eg_ev(t_k) / (2.0 * K_B_EV_PER_K * t_k)).exp()
+        0.5 * (nc.ln() + nv.ln()) - self.eg_ev(t_k) / (2.0 * K_B_EV_PER_K * t_k)
     }
 
     /// Static relative permittivity (common-practice handbook values).
