@@ -173,6 +173,12 @@ struct Level {
     z0: f64,
 }
 
+#[cfg(test)]
+thread_local! {
+    /// Number of neutrality evaluations (test instrumentation).
+    static EVALS: std::cell::Cell<u32> = const { std::cell::Cell::new(0) };
+}
+
 /// At most one level per species.
 const MAX_LEVELS: usize = 13;
 
@@ -260,6 +266,8 @@ impl Problem {
     /// (ln Q+, ln Q-, h, dh/du) at reduced Fermi level u.
     #[inline]
     fn eval(&self, u: f64) -> (f64, f64, f64, f64) {
+        #[cfg(test)]
+        EVALS.with(|c| c.set(c.get() + 1));
         let mut pos = LogSum::EMPTY;
         let mut neg = LogSum::EMPTY;
         let (lf_p, s_p) = ln_f_half_and_slope(-u);
@@ -414,14 +422,39 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
         }
     }
 
-    // Start from complete ionization with Boltzmann bands (common practice
-    // first estimate), clamped into the bracket.
+    // First estimate with Boltzmann bands: the single-level freeze-out
+    // solution for the densest majority species, n (n + N_A) = k (N_D - N_A - n)
+    // with k = (Nc/g) exp(-E_dop/kT), scaled by the complete-ionization
+    // solution n_ci/net so it also covers the intrinsic regime (common
+    // practice; Blakemore 1962 ch. 3). Clamped into the bracket.
     let ni2 = (2.0 * ln_ni).exp();
+    let guess = |net: f64, minority_tot: f64, levels: &[Level], ln_k_of: &dyn Fn(f64) -> f64| {
+        let n_ci = 0.5 * net + (0.25 * net * net + ni2).sqrt();
+        let densest = levels.iter().fold(None::<&Level>, |best, lv| match best {
+            Some(b) if b.w >= lv.w => Some(b),
+            _ => Some(lv),
+        });
+        let n_fo = match densest {
+            Some(lv) => {
+                let k = ln_k_of(lv.z0).min(700.0).exp();
+                let bq = k + minority_tot;
+                2.0 * k * net / (bq + (bq * bq + 4.0 * k * net).sqrt())
+            }
+            None => net,
+        };
+        n_fo * n_ci / net
+    };
     let mut u = if net > 0.0 {
-        let n0 = 0.5 * net + (0.25 * net * net + ni2).sqrt();
+        // Donor: ln k = ln Nc - E_dop/kT - ln g_D = ln Nc - Eg/kT + z0.
+        let n0 = guess(net, na_tot, &p.donors[..p.n_donors], &|z0| {
+            ln_nc - eg_red + z0
+        });
         eg_red + inv_f_half_ln(n0.ln() - ln_nc)
     } else if net < 0.0 {
-        let p0 = -0.5 * net + (0.25 * net * net + ni2).sqrt();
+        // Acceptor: z0 = E_dop/kT + ln g_A, so ln k = ln Nv - z0.
+        let p0 = guess(-net, nd_tot, &p.acceptors[..p.n_acceptors], &|z0| {
+            ln_nv - z0
+        });
         -inv_f_half_ln(p0.ln() - ln_nv)
     } else {
         u_i
@@ -718,5 +751,45 @@ mod tests {
         assert!(st.neutrality_residual <= RESIDUAL_BOUND);
         assert!(rel(st.donors_ionized_cm3, 1e15) < 1e-12);
         assert!(rel(st.acceptors_ionized_cm3, 1e15) < 1e-12);
+    }
+}
+
+#[cfg(test)]
+mod eval_count {
+    use super::*;
+    use crate::physics::dopant::{Dopant, Species};
+
+    /// Average number of neutrality evaluations per solve over a sweep: the
+    /// cost model of the solver (each evaluation is ~20 transcendental calls).
+    #[test]
+    fn evaluations_per_solve() {
+        let s = Sample {
+            material: Material::Si,
+            donors: vec![
+                Dopant {
+                    species: Species::P,
+                    density_cm3: 2e15,
+                },
+                Dopant {
+                    species: Species::As,
+                    density_cm3: 5e14,
+                },
+            ],
+            acceptors: vec![Dopant {
+                species: Species::B,
+                density_cm3: 3e14,
+            }],
+        };
+        EVALS.with(|c| c.set(0));
+        let mut worst = 0;
+        for t in 20..=1000 {
+            let before = EVALS.with(|c| c.get());
+            solve(&s, t as f64).unwrap();
+            let n = EVALS.with(|c| c.get()) - before;
+            worst = worst.max(n);
+        }
+        let avg = EVALS.with(|c| c.get()) as f64 / 981.0;
+        eprintln!("evals per solve: avg {avg:.2} worst {worst}");
+        assert!(avg < 12.0 && worst <= 30, "avg {avg} worst {worst}");
     }
 }
