@@ -208,6 +208,12 @@ impl DopantLevel {
         1.0 / (1.0 + (n_cm3 / self.n_b_cm3).powf(self.d))
     }
 
+    /// Fraction 1 - b(N) of dopant states merged into the band (always ionized), computed without cancellation.
+    pub fn delocalized_fraction(&self, n_cm3: f64) -> f64 {
+        let x = (n_cm3 / self.n_b_cm3).powf(self.d);
+        x / (1.0 + x)
+    }
+
     /// Ground-state degeneracy factor.
     pub fn degeneracy(&self) -> f64 {
         self.kind.degeneracy()
