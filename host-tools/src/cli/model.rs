@@ -115,6 +115,21 @@ const COLUMNS: &[Column] = &[
         shape: Shape::Fixed(4),
         value: |p| Some(p.fermi_from_ev_ev),
     },
+    Column {
+        name: "hall_factor_n",
+        shape: Shape::Fixed(4),
+        value: |p| Some(p.hall_factor_n),
+    },
+    Column {
+        name: "hall_factor_p",
+        shape: Shape::Fixed(4),
+        value: |p| Some(p.hall_factor_p),
+    },
+    Column {
+        name: "hall_mobility_cm2_vs",
+        shape: Shape::Fixed(1),
+        value: |p| Some(p.hall_mobility_cm2_vs),
+    },
 ];
 
 /// Runs `semidrift model`.
@@ -185,7 +200,7 @@ struct JsonDoc<'a> {
 /// A dopant in the JSON document.
 #[derive(serde::Serialize)]
 struct JsonDopant {
-    species: String,
+    species: &'static str,
     density_cm3: f64,
 }
 
@@ -315,9 +330,9 @@ mod tests {
             rho_ohm_cm: 4.62,
             hall_coefficient_cm3_c: -7.3e3,
             piezo_factor: piezo,
-            hall_factor_n: 1.0,
-            hall_factor_p: 1.0,
-            hall_mobility_cm2_vs: 0.0,
+            hall_factor_n: 1.1,
+            hall_factor_p: 0.9,
+            hall_mobility_cm2_vs: 1500.0,
         }
     }
 

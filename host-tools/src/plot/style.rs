@@ -97,6 +97,11 @@ pub fn log_range(
     if hi_decade <= lo_decade {
         hi_decade = lo_decade + 1.0;
     }
+    if hi_decade - lo_decade <= 2.0 && hi > lo {
+        // Within two decades whole-decade limits leave one or two tick
+        // labels; a 10 % margin lets plotters label values in between.
+        return Ok(lo / 1.1..hi * 1.1);
+    }
     Ok(10f64.powf(lo_decade)..10f64.powf(hi_decade))
 }
 
@@ -182,6 +187,7 @@ mod tests {
         let cases: &[(&[f64], f64, f64)] = &[
             (&[3e14, 2e17], 1e14, 1e18),
             (&[1e15], 1e15, 1e16),
+            (&[2.2e-2, 9.9e-2], 2e-2, 0.1089),
             (&[0.0, -1.0, f64::NAN, 5.0], 1.0, 10.0),
             (&[1e-37, 1e15], 1e-6, 1e15),
         ];
