@@ -4,6 +4,7 @@
 
 pub mod arrhenius;
 pub mod cli;
+pub mod element;
 pub mod physics;
 pub mod plot;
 pub mod station;
