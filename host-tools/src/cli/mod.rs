@@ -4,7 +4,12 @@
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
+mod arrhenius;
 mod error;
+mod model;
+mod plot;
+pub mod range;
+pub mod sample_args;
 
 pub use error::CliError;
 
@@ -29,7 +34,15 @@ pub struct Cli {
 
 /// The subcommands.
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Evaluate the full physics model of a doped sample over temperature.
+    Model(model::ModelArgs),
+    /// Draw plots as SVG files.
+    #[command(subcommand)]
+    Plot(plot::PlotCommand),
+    /// Fit an activation energy to conductivity or resistance versus temperature.
+    Arrhenius(arrhenius::ArrheniusArgs),
+}
 
 /// Runs the command line with the process arguments and returns the exit code.
 pub fn main() -> i32 {
@@ -63,6 +76,9 @@ where
 }
 
 fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
-    let _ = out;
-    match command {}
+    match command {
+        Command::Model(args) => model::run(args, out),
+        Command::Plot(args) => plot::run(args, out),
+        Command::Arrhenius(args) => arrhenius::run(args, out),
+    }
 }
