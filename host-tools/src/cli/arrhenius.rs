@@ -48,10 +48,10 @@ pub struct ArrheniusArgs {
     #[arg(long, value_name = "NAME")]
     pub column: Option<String>,
     /// Lowest temperature of the fit window in kelvin (inclusive).
-    #[arg(long, value_name = "K")]
+    #[arg(long, value_name = "K", allow_hyphen_values = true)]
     pub from_k: Option<f64>,
     /// Highest temperature of the fit window in kelvin (inclusive).
-    #[arg(long, value_name = "K")]
+    #[arg(long, value_name = "K", allow_hyphen_values = true)]
     pub to_k: Option<f64>,
     /// Fix the prefactor's temperature power m instead of fitting it, e.g. 1.5
     /// for N_c,v alone; intrinsic conductivity: 1.5 minus the lattice-mobility

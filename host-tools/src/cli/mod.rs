@@ -60,10 +60,17 @@ where
 {
     let cli = match Cli::try_parse_from(args) {
         Ok(cli) => cli,
-        Err(e) => {
-            let code = if e.use_stderr() { 2 } else { 0 };
+        Err(e) if !e.use_stderr() => {
+            // --help and --version.
             let _ = e.print();
-            return code;
+            return 0;
+        }
+        Err(e) => {
+            eprintln!(
+                "semidrift: {} (see --help)",
+                one_line(&e.render().to_string())
+            );
+            return 2;
         }
     };
     match dispatch(cli.command, out) {
@@ -81,4 +88,15 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Plot(args) => plot::run(args, out),
         Command::Arrhenius(args) => arrhenius::run(args, out),
     }
+}
+
+/// clap's usage error as one line: its first paragraph, whitespace collapsed
+/// (the contract asks for one-line errors; the usage text is in `--help`).
+fn one_line(rendered: &str) -> String {
+    rendered
+        .lines()
+        .take_while(|l| !l.trim().is_empty())
+        .map(str::trim)
+        .collect::<Vec<_>>()
+        .join(" ")
 }

@@ -115,6 +115,21 @@ const COLUMNS: &[Column] = &[
         shape: Shape::Fixed(4),
         value: |p| Some(p.fermi_from_ev_ev),
     },
+    Column {
+        name: "hall_factor_n",
+        shape: Shape::Fixed(4),
+        value: |p| Some(p.hall_factor_n),
+    },
+    Column {
+        name: "hall_factor_p",
+        shape: Shape::Fixed(4),
+        value: |p| Some(p.hall_factor_p),
+    },
+    Column {
+        name: "hall_mobility_cm2_vs",
+        shape: Shape::Fixed(1),
+        value: |p| Some(p.hall_mobility_cm2_vs),
+    },
 ];
 
 /// Runs `semidrift model`.
@@ -148,6 +163,12 @@ pub fn sweep(
         .collect()
 }
 
+/// A column's value with negative zero folded into zero, so that a quantity
+/// that is exactly 0 never prints as `-0`.
+fn value(column: &Column, point: &ModelPoint) -> Option<f64> {
+    (column.value)(point).map(|v| v + 0.0)
+}
+
 /// Celsius from kelvin, rounded like the requested temperatures.
 fn t_c(t_k: f64) -> f64 {
     ((t_k - ZERO_CELSIUS_K) * 1e9).round() / 1e9
@@ -161,7 +182,7 @@ impl serde::Serialize for JsonRow<'_> {
         let mut map = s.serialize_map(Some(COLUMNS.len()))?;
         for c in COLUMNS {
             // Non-finite values have no JSON number; they print as null.
-            map.serialize_entry(c.name, &(c.value)(self.0).filter(|v| v.is_finite()))?;
+            map.serialize_entry(c.name, &value(c, self.0).filter(|v| v.is_finite()))?;
         }
         map.end()
     }
@@ -179,7 +200,7 @@ struct JsonDoc<'a> {
 /// A dopant in the JSON document.
 #[derive(serde::Serialize)]
 struct JsonDopant {
-    species: String,
+    species: &'static str,
     density_cm3: f64,
 }
 
@@ -215,7 +236,7 @@ pub fn csv(rows: &[ModelPoint]) -> String {
     for row in rows {
         let cells: Vec<String> = COLUMNS
             .iter()
-            .map(|c| match (c.value)(row) {
+            .map(|c| match value(c, row) {
                 None => String::new(),
                 Some(v) if c.name.starts_with("t_") => format!("{v}"),
                 Some(v) => format!("{v:.9e}"),
@@ -248,7 +269,7 @@ pub fn table(sample: &Sample, rows: &[ModelPoint]) -> String {
         .map(|r| {
             shown
                 .iter()
-                .map(|c| match ((c.value)(r), c.shape) {
+                .map(|c| match (value(c, r), c.shape) {
                     (None, _) => "-".to_string(),
                     (Some(v), Shape::Fixed(d)) => format!("{v:.d$}"),
                     (Some(v), Shape::Sci(d)) => format!("{v:.d$e}"),
@@ -309,9 +330,9 @@ mod tests {
             rho_ohm_cm: 4.62,
             hall_coefficient_cm3_c: -7.3e3,
             piezo_factor: piezo,
-            hall_factor_n: 1.18,
-            hall_factor_p: 0.75,
-            hall_mobility_cm2_vs: -1593.0,
+            hall_factor_n: 1.1,
+            hall_factor_p: 0.9,
+            hall_mobility_cm2_vs: 1500.0,
         }
     }
 

@@ -82,18 +82,14 @@ impl SampleArgs {
 }
 
 /// The chemical symbol of a species (`P`, `As`, ...), as on the command line.
-pub fn species_symbol(species: Species) -> String {
-    // The enum's serde names are the symbols; going through serde keeps this
-    // in step with any species the physics module adds.
-    match serde_json::to_value(species) {
-        Ok(serde_json::Value::String(s)) => s,
-        _ => format!("{species:?}"),
-    }
+pub fn species_symbol(species: Species) -> &'static str {
+    species.symbol()
 }
 
-/// Parses a case-sensitive chemical symbol into a species.
+/// Parses a chemical symbol, case-sensitively as in chemistry (`As`, not
+/// `AS`: on the command line a wrong case is more likely a typo than intent).
 pub fn parse_species(symbol: &str) -> Option<Species> {
-    serde_json::from_value(serde_json::Value::String(symbol.to_string())).ok()
+    Species::ALL.into_iter().find(|s| s.symbol() == symbol)
 }
 
 /// Parses `SPECIES=DENSITY_CM3`; the density must be a finite number > 0.

@@ -9,5 +9,5 @@
 pub mod model;
 pub mod style;
 
-pub use model::{Regime, classify_regime, model_svg};
+pub use model::{Regime, classify_regime, model_rgb, model_svg, write_model_png};
 pub use style::{PlotError, write_atomically};

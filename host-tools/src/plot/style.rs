@@ -72,8 +72,12 @@ pub fn register_font() -> Result<(), PlotError> {
 }
 
 /// A logarithmic axis range covering every finite positive value, widened
-/// to whole decades so tick labels stay readable.
-pub fn log_range(values: impl IntoIterator<Item = f64>) -> Result<std::ops::Range<f64>, PlotError> {
+/// to whole decades so tick labels stay readable, and spanning at most
+/// `max_decades` below the largest value (smaller values fall off the axis).
+pub fn log_range(
+    values: impl IntoIterator<Item = f64>,
+    max_decades: f64,
+) -> Result<std::ops::Range<f64>, PlotError> {
     let (lo, hi) = values
         .into_iter()
         .filter(|v| v.is_finite() && *v > 0.0)
@@ -85,8 +89,11 @@ pub fn log_range(values: impl IntoIterator<Item = f64>) -> Result<std::ops::Rang
             "no finite positive value for a logarithmic axis".into(),
         ));
     }
-    let lo_decade = lo.log10().floor();
     let mut hi_decade = hi.log10().ceil();
+    let lo_decade = lo
+        .log10()
+        .floor()
+        .max(hi_decade - max_decades.max(1.0).round());
     if hi_decade <= lo_decade {
         hi_decade = lo_decade + 1.0;
     }
@@ -112,9 +119,23 @@ pub fn linear_range(
     Ok(lo - margin..hi + margin)
 }
 
-/// Tick label of a logarithmic axis: `1e15` style, shortest exact form.
+/// Tick label of a logarithmic axis: `1e15` at powers of ten, else `3.0e15`.
 pub fn log_label(v: &f64) -> String {
-    format!("{v:e}")
+    let decade = v.log10();
+    if (decade - decade.round()).abs() < 1e-6 {
+        format!("1e{}", decade.round())
+    } else {
+        format!("{v:.1e}")
+    }
+}
+
+/// Tick label of a linear axis: no decimals for whole numbers, else one.
+pub fn tick_label(v: &f64) -> String {
+    if (v - v.round()).abs() < 1e-9 {
+        format!("{v:.0}")
+    } else {
+        format!("{v:.1}")
+    }
 }
 
 /// Writes `contents` to `path` via a temporary file in the same directory and
@@ -130,6 +151,22 @@ pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
     };
     let mut tmp = tempfile::NamedTempFile::new_in(dir).map_err(write_err)?;
     std::io::Write::write_all(&mut tmp, contents).map_err(write_err)?;
+    persist(tmp, path)
+}
+
+/// Gives a finished temporary file ordinary permissions (tempfile creates it
+/// owner-only) and renames it to `path`.
+pub fn persist(tmp: tempfile::NamedTempFile, path: &Path) -> Result<(), PlotError> {
+    let write_err = |source| PlotError::Write {
+        path: path.display().to_string(),
+        source,
+    };
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o644))
+            .map_err(write_err)?;
+    }
     tmp.persist(path).map_err(|e| write_err(e.error))?;
     Ok(())
 }
@@ -146,18 +183,34 @@ mod tests {
             (&[3e14, 2e17], 1e14, 1e18),
             (&[1e15], 1e15, 1e16),
             (&[0.0, -1.0, f64::NAN, 5.0], 1.0, 10.0),
+            (&[1e-37, 1e15], 1e-6, 1e15),
         ];
         for (values, lo, hi) in cases {
-            let r = log_range(values.iter().copied()).unwrap();
+            let r = log_range(values.iter().copied(), 21.0).unwrap();
             assert!(
                 ((r.start - lo) / lo).abs() < 1e-12 && ((r.end - hi) / hi).abs() < 1e-12,
                 "values {values:?}: got {r:?}, expected {lo}..{hi}"
             );
         }
         assert!(
-            log_range([0.0, -3.0]).is_err(),
+            log_range([0.0, -3.0], 21.0).is_err(),
             "no positive value must fail"
         );
+    }
+
+    #[test]
+    fn tick_labels_are_short() {
+        for (v, expected) in [
+            (1e15, "1e15"),
+            (1e-3, "1e-3"),
+            (3e15, "3.0e15"),
+            (9999999987.0, "1e10"),
+        ] {
+            assert_eq!(log_label(&v), expected, "log label of {v:e}");
+        }
+        for (v, expected) in [(100.0, "100"), (2.5, "2.5"), (-40.0, "-40")] {
+            assert_eq!(tick_label(&v), expected, "tick label of {v}");
+        }
     }
 
     #[test]

@@ -4,7 +4,7 @@ use crate::cli::CliError;
 use crate::cli::model::sweep;
 use crate::cli::range::TemperatureArgs;
 use crate::cli::sample_args::SampleArgs;
-use crate::plot::{model_svg, write_atomically};
+use crate::plot::{model_svg, write_atomically, write_model_png};
 use clap::Args;
 use std::io::Write;
 use std::path::PathBuf;
@@ -18,7 +18,7 @@ pub struct PlotModelArgs {
     /// Temperature sweep in kelvin, `START:STOP:STEP` (inclusive).
     #[arg(long, value_name = "START:STOP:STEP", default_value = "20:1000:5")]
     pub kelvin: String,
-    /// SVG file to write (replaced atomically).
+    /// File to write, SVG (or PNG when the name ends in `.png`); replaced atomically.
     #[arg(long, value_name = "FILE.svg")]
     pub out: PathBuf,
 }
@@ -39,10 +39,17 @@ pub fn run(args: PlotModelArgs, out: &mut dyn Write) -> Result<(), CliError> {
         ));
     }
     let rows = sweep(&args.sample, &sample, &temperature, &temperatures_k)?;
-    let svg = model_svg(&sample, &rows)
-        .map_err(|e| CliError::option("--out", &args.out.display().to_string(), e))?;
-    write_atomically(&args.out, svg.as_bytes())
-        .map_err(|e| CliError::option("--out", &args.out.display().to_string(), e))?;
+    let out_err = |e| CliError::option("--out", &args.out.display().to_string(), e);
+    let png = args
+        .out
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("png"));
+    if png {
+        write_model_png(&args.out, &sample, &rows).map_err(out_err)?;
+    } else {
+        let svg = model_svg(&sample, &rows).map_err(out_err)?;
+        write_atomically(&args.out, svg.as_bytes()).map_err(out_err)?;
+    }
     writeln!(
         out,
         "wrote {} ({} temperatures)",
