@@ -4,13 +4,19 @@
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
+mod apply;
 mod arrhenius;
+mod calibrate;
+mod demo;
 pub mod element;
 mod error;
 mod model;
 mod plot;
 pub mod range;
 pub mod sample_args;
+mod simulate;
+mod table;
+mod verify;
 
 pub use error::CliError;
 
@@ -45,6 +51,18 @@ pub enum Command {
     Arrhenius(arrhenius::ArrheniusArgs),
     /// Example element specs; drift of a sense element over temperature.
     Element(element::ElementArgs),
+    /// Simulate a lot of parts in a chamber and write the chamber CSV.
+    Simulate(simulate::SimulateArgs),
+    /// Fit every part of a chamber CSV and write one part file per serial.
+    Calibrate(calibrate::CalibrateArgs),
+    /// Build a part's table image within an error budget and export it.
+    Table(table::TableArgs),
+    /// Check a table image against its part on a dense grid.
+    Verify(verify::VerifyArgs),
+    /// Compensate recorded rows with a part file or table image.
+    Apply(apply::ApplyArgs),
+    /// Run the whole station chain on both demo scenarios.
+    Demo(demo::DemoArgs),
 }
 
 /// Runs the command line with the process arguments and returns the exit code.
@@ -91,6 +109,12 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Plot(args) => plot::run(args, out),
         Command::Arrhenius(args) => arrhenius::run(args, out),
         Command::Element(args) => element::run(args, out),
+        Command::Simulate(args) => simulate::run(args, out),
+        Command::Calibrate(args) => calibrate::run(args, out),
+        Command::Table(args) => table::run(args, out),
+        Command::Verify(args) => verify::run(args, out),
+        Command::Apply(args) => apply::run(args, out),
+        Command::Demo(args) => demo::run(args, out),
     }
 }
 

@@ -86,3 +86,49 @@ pub fn apply_rows(
         })
         .collect()
 }
+
+/// A table image run by the runtime crate (f32 or Q, as the image says).
+pub struct ImageCompensation<'a> {
+    view: compensate::TableView<'a>,
+    /// Output ADC code size: raw outputs are divided by it to get codes.
+    lsb: f64,
+}
+
+impl<'a> ImageCompensation<'a> {
+    /// Parses `image`; `lsb` converts the CSV's output to ADC codes.
+    pub fn new(image: &'a [u8], lsb: f64) -> Result<Self, compensate::ImageError> {
+        Ok(ImageCompensation {
+            view: compensate::TableView::parse(image)?,
+            lsb,
+        })
+    }
+}
+
+impl Compensation for ImageCompensation<'_> {
+    fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
+        let raw = (output / self.lsb).round();
+        match self.view.format() {
+            compensate::image::NumberFormat::Q => {
+                let Ok(mut c) = compensate::FixedCompensator::new(&self.view) else {
+                    return (f64::NAN, f64::NAN);
+                };
+                let q = self.view.q_format();
+                let sq = 2f64.powi(i32::from(q.signal));
+                c.update_temperature((temp_signal * sq).round() as i32);
+                let v = c.compensate_sample(raw as i32).value;
+                (
+                    f64::from(v) * 2f64.powi(-i32::from(q.output)),
+                    f64::from(c.temperature_q()) * 2f64.powi(-i32::from(q.temperature)),
+                )
+            }
+            _ => {
+                let Ok(mut c) = compensate::Compensator::new(&self.view) else {
+                    return (f64::NAN, f64::NAN);
+                };
+                c.update_temperature(temp_signal as f32);
+                let v = c.compensate_sample(raw as f32).value;
+                (f64::from(v), f64::from(c.temperature_c()))
+            }
+        }
+    }
+}

@@ -12,6 +12,7 @@ pub mod chamber;
 pub mod choose;
 pub mod compare;
 pub mod curves;
+pub mod demo;
 pub mod export;
 pub mod fit;
 pub mod image_eval;

@@ -1,7 +1,13 @@
 //! Resolving the SPEC argument of the station commands to a [`Scenario`]:
-//! a built-in demo scenario name or a scenario TOML file.
+//! a built-in demo scenario name, a station scenario TOML file, or an
+//! element spec TOML (`semidrift element --example bridge|hall`), whose die,
+//! doping, range, stimulus and ADC resolution replace those of the built-in
+//! scenario of the same kind (lot spread, chamber plan and the simulated
+//! truth's extra effects stay the built-in ones).
 
 use super::scenario::Scenario;
+use crate::element::{ElementSpec, parse_spec};
+use crate::physics::{Dopant, Sample};
 use std::path::Path;
 
 /// Names of the built-in scenarios.
@@ -55,6 +61,17 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
             BUILT_IN.join(", ")
         ),
     })?;
+    // Element specs have a [stimulus] table; station scenarios do not.
+    if text.lines().any(|l| l.trim() == "[stimulus]") {
+        return parse_spec(&text)
+            .map(|spec| from_element(&spec))
+            .map_err(|e| SpecLoadError {
+                file: arg.into(),
+                line: e.line,
+                field: e.field.clone(),
+                message: e.message.clone(),
+            });
+    }
     toml::from_str::<Scenario>(&text).map_err(|e| {
         let line = e.span().map_or(1, |s| {
             text[..s.start.min(text.len())].lines().count().max(1)
@@ -68,6 +85,71 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
             message,
         }
     })
+}
+
+/// A scenario from an element spec (see the module docs for what is kept).
+pub fn from_element(spec: &ElementSpec) -> Scenario {
+    match spec {
+        ElementSpec::Bridge(b) => {
+            let mut sc = Scenario::well_logger();
+            let n = b.arm.len().max(1) as f64;
+            let density = b.arm.iter().map(|a| a.density_cm3).sum::<f64>() / n;
+            let dopant = b
+                .arm
+                .first()
+                .map_or(crate::physics::Species::B, |a| a.dopant);
+            sc.sample = Sample {
+                material: b.die.material,
+                donors: vec![],
+                acceptors: vec![Dopant {
+                    species: dopant,
+                    density_cm3: density,
+                }],
+            };
+            if matches!(
+                dopant,
+                crate::physics::Species::P
+                    | crate::physics::Species::As
+                    | crate::physics::Species::Sb
+            ) {
+                std::mem::swap(&mut sc.sample.donors, &mut sc.sample.acceptors);
+            }
+            sc.range_c = (b.temperature.min_c, b.temperature.max_c);
+            sc.t_ref_c = b.temperature.reference_c;
+            sc.stimulus_unit = b.stimulus.unit.clone();
+            sc.stimulus_fs = (0.0, b.stimulus.full_scale);
+            sc.stimuli = vec![0.0, 0.5 * b.stimulus.full_scale, b.stimulus.full_scale];
+            sc.output_adc.bits = b.adc.bits;
+            sc.output_adc.range = 0.5 * b.adc.input_span_v;
+            if let Some(v) = b.excitation.voltage_v {
+                sc.excitation = v;
+            }
+            sc
+        }
+        ElementSpec::Hall(h) => {
+            let mut sc = Scenario::battery_current();
+            sc.sample = Sample {
+                material: h.plate.material,
+                donors: vec![Dopant {
+                    species: h.plate.dopant,
+                    density_cm3: h.plate.density_cm3,
+                }],
+                acceptors: vec![],
+            };
+            sc.range_c = (h.temperature.min_c, h.temperature.max_c);
+            sc.t_ref_c = h.temperature.reference_c;
+            sc.stimulus_unit = h.stimulus.unit.clone();
+            let fs = h.stimulus.full_scale;
+            sc.stimulus_fs = (-fs, fs);
+            sc.stimuli = vec![-fs, 0.0, fs];
+            sc.output_adc.bits = h.adc.bits;
+            sc.output_adc.range = 0.5 * h.adc.input_span_v;
+            if let Some(i) = h.excitation.current_a {
+                sc.excitation = i;
+            }
+            sc
+        }
+    }
 }
 
 #[cfg(test)]

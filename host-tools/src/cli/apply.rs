@@ -1,0 +1,131 @@
+//! `semidrift apply PART_OR_IMAGE CSV`: compensates recorded raw rows as the
+//! firmware would and reports each row's error against its stimulus.
+
+use super::CliError;
+use super::table::read_part;
+use crate::station::apply::{
+    AppliedRow, Compensation, ImageCompensation, ModelCompensation, apply_rows,
+};
+use crate::station::part_model::PartModel;
+use crate::station::{chamber, output, pipeline};
+use std::io::Write;
+use std::path::PathBuf;
+
+/// Arguments of `semidrift apply`.
+#[derive(Debug, clap::Args)]
+pub struct ApplyArgs {
+    /// A part file (f64 model) or a table image (runtime crate's arithmetic).
+    pub part_or_image: PathBuf,
+    /// Chamber CSV with the rows to compensate.
+    pub csv: PathBuf,
+    /// The part file, when the first argument is an image (ADC scale and span).
+    #[arg(long)]
+    pub against: Option<PathBuf>,
+    /// JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// The `--json` report.
+#[derive(Debug, serde::Serialize)]
+struct ApplyReport<'a> {
+    method: &'a str,
+    max_abs_error_ppm: f64,
+    rows: Vec<AppliedRow>,
+}
+
+/// Runs `semidrift apply`.
+pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
+    let first = std::fs::read(&args.part_or_image).map_err(|e| {
+        CliError::Input(format!(
+            "{}: cannot read: {e}",
+            args.part_or_image.display()
+        ))
+    })?;
+    let is_image = first.starts_with(b"SDRT");
+    let part_path = if is_image {
+        args.against.clone().ok_or_else(|| {
+            CliError::option(
+                "--against",
+                "",
+                "an image needs the part file it was built from",
+            )
+        })?
+    } else {
+        args.part_or_image.clone()
+    };
+    let part = read_part(&part_path)?;
+    let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
+    let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
+    for e in &data.errors {
+        eprintln!("semidrift: error: {e}");
+    }
+    let rows: Vec<&chamber::ChamberRow> = data
+        .rows
+        .iter()
+        .filter(|r| r.serial == part.serial)
+        .collect();
+    if rows.is_empty() {
+        return Err(CliError::at(
+            &args.csv.display().to_string(),
+            1,
+            "serial",
+            format!("no rows for part {}", part.serial),
+        ));
+    }
+    let model_comp;
+    let image_comp;
+    let method: &dyn Compensation = if is_image {
+        image_comp = ImageCompensation::new(&first, part.scenario.output_adc.lsb())
+            .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
+        &image_comp
+    } else {
+        model_comp = ModelCompensation {
+            model: PartModel {
+                curves: &curves,
+                params: part.params,
+            },
+        };
+        &model_comp
+    };
+    let applied = apply_rows(&part, &curves, method, &rows);
+    let max = applied.iter().fold(0.0f64, |m, r| m.max(r.error_ppm.abs()));
+    if args.json {
+        let report = ApplyReport {
+            method: if is_image { "image" } else { "model" },
+            max_abs_error_ppm: max,
+            rows: applied,
+        };
+        out.write_all(&output::to_json_bytes(&report))?;
+    } else {
+        writeln!(
+            out,
+            "serial        chamber_c  stimulus  t_est_c  compensated  error_ppm  raw_error_ppm"
+        )?;
+        for r in &applied {
+            writeln!(
+                out,
+                "{:<12}  {:>9.2}  {:>8.3}  {:>7.3}  {:>11.5}  {:>9.1}  {:>13.1}",
+                r.serial,
+                r.chamber_c,
+                r.stimulus,
+                r.t_est_c,
+                r.compensated,
+                r.error_ppm,
+                r.raw_error_ppm
+            )?;
+        }
+        writeln!(
+            out,
+            "worst |error| {max:.1} ppm of span over {} rows",
+            applied.len()
+        )?;
+    }
+    if let Some(e) = data.errors.first() {
+        return Err(CliError::Input(format!(
+            "{} bad row(s) skipped, first: {e}",
+            data.errors.len()
+        )));
+    }
+    Ok(())
+}

@@ -1,0 +1,83 @@
+//! `semidrift calibrate SPEC CSV`: fits every part in a chamber CSV and
+//! writes one part file per serial.
+
+use super::CliError;
+use crate::station::{chamber, lot, model_shapes, output, spec};
+use std::io::Write;
+use std::path::PathBuf;
+
+/// Arguments of `semidrift calibrate`.
+#[derive(Debug, clap::Args)]
+pub struct CalibrateArgs {
+    /// Scenario: `well-logger`, `battery-current`, a scenario TOML or an element spec TOML.
+    pub spec: String,
+    /// Chamber CSV (`serial, chamber_c, stimulus, output, temp_signal`).
+    pub csv: PathBuf,
+    /// Directory for the part files (`SERIAL.part.json`).
+    #[arg(long, default_value = "parts")]
+    pub out_dir: PathBuf,
+    /// No progress bar.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// Runs `semidrift calibrate`. Exit 2 if rows were bad (the good parts are
+/// still written), 1 if a fit was ill-conditioned or had too few points.
+pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
+    let scenario = spec::load(&args.spec).map_err(|e| CliError::Input(e.to_string()))?;
+    let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
+    for e in &data.errors {
+        eprintln!("semidrift: error: {e}");
+    }
+    let curves = model_shapes::shapes_for(&scenario)
+        .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
+    let parts = lot::calibrate_lot(&scenario, &curves, &data, args.quiet);
+    let mut bad = Vec::new();
+    for p in &parts {
+        let path = args.out_dir.join(format!("{}.part.json", p.serial));
+        output::write_atomic(&path, &p.to_bytes()).map_err(|e| CliError::Input(e.to_string()))?;
+        if !p.is_ok() {
+            bad.push(format!("{}: {}", p.serial, p.status));
+        }
+    }
+    writeln!(
+        out,
+        "serial        status  thermo_rms_K  fit_rms_ppm  fit_max_ppm  condition"
+    )?;
+    for p in &parts {
+        writeln!(
+            out,
+            "{:<12}  {:<6}  {:>12.4}  {:>11.2}  {:>11.2}  {:>9.3e}",
+            p.serial,
+            if p.is_ok() { "ok" } else { "FAIL" },
+            p.thermometer_rms_k,
+            p.fit_rms_ppm,
+            p.fit_max_ppm,
+            p.condition
+        )?;
+    }
+    writeln!(
+        out,
+        "{} part files -> {}",
+        parts.len(),
+        args.out_dir.display()
+    )?;
+    if let Some(e) = data.errors.first() {
+        return Err(CliError::Input(format!(
+            "{} bad row(s) skipped, first: {e}",
+            data.errors.len()
+        )));
+    }
+    if !bad.is_empty() {
+        for b in &bad {
+            eprintln!("semidrift: fit rejected: {b}");
+        }
+        return Err(CliError::CheckFailed(format!(
+            "{} of {} parts not calibrated: {}",
+            bad.len(),
+            parts.len(),
+            bad[0]
+        )));
+    }
+    Ok(())
+}

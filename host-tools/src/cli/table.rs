@@ -1,0 +1,142 @@
+//! `semidrift table PART --budget PPM`: the least-flash table image meeting
+//! the budget, its budget terms, and the export for flashing.
+
+use super::CliError;
+use crate::station::export::{ExportFormat, export};
+use crate::station::part_file::PartFile;
+use crate::station::{output, pipeline};
+use std::io::Write;
+use std::path::PathBuf;
+
+/// Arguments of `semidrift table`.
+#[derive(Debug, clap::Args)]
+pub struct TableArgs {
+    /// Part file written by `calibrate`.
+    pub part: PathBuf,
+    /// Total error budget in ppm of span (default: the scenario's).
+    #[arg(long)]
+    pub budget: Option<f64>,
+    /// Export format.
+    #[arg(long, value_enum, default_value_t = ExportFormat::Bin)]
+    pub format: ExportFormat,
+    /// Flash address of the image (Intel HEX), e.g. 0x0800F000.
+    #[arg(long, default_value = "0x08000000", value_parser = parse_address)]
+    pub address: u32,
+    /// Symbol name in Rust/C exports.
+    #[arg(long, default_value = "drift_table")]
+    pub name: String,
+    /// Output file (default: the part file's name with the format's extension).
+    #[arg(long, short)]
+    pub out: Option<PathBuf>,
+    /// Print the outcome as JSON instead of text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Parses a decimal or 0x-prefixed hexadecimal address.
+pub fn parse_address(s: &str) -> Result<u32, String> {
+    let r = match s.strip_prefix("0x").or_else(|| s.strip_prefix("0X")) {
+        Some(h) => u32::from_str_radix(h, 16),
+        None => s.parse(),
+    };
+    r.map_err(|e| format!("'{s}' is not a 32-bit address: {e}"))
+}
+
+/// Reads a part file, mapping errors to exit code 2.
+pub fn read_part(path: &std::path::Path) -> Result<PartFile, CliError> {
+    PartFile::read(path).map_err(|e| CliError::Input(e.to_string()))
+}
+
+/// Runs `semidrift table`.
+pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
+    let part = read_part(&args.part)?;
+    let budget = args.budget.unwrap_or(part.scenario.budget_ppm);
+    if budget.is_nan() || budget <= 0.0 {
+        return Err(CliError::option(
+            "--budget",
+            &budget.to_string(),
+            "must be a positive number of ppm",
+        ));
+    }
+    let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
+    let outcome = pipeline::build_table(&part, &curves, budget).map_err(|e| match e {
+        pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
+            CliError::CheckFailed(format!("{}: {e}", args.part.display()))
+        }
+        other => CliError::Input(format!("{}: {other}", args.part.display())),
+    })?;
+    let bytes = export(&outcome.image, args.format, &args.name, args.address)
+        .map_err(|e| CliError::option("--name/--address", &args.name, e))?;
+    let path = args.out.clone().unwrap_or_else(|| {
+        args.part
+            .with_extension("")
+            .with_extension(args.format.extension())
+    });
+    output::write_atomic(&path, &bytes).map_err(|e| CliError::Input(e.to_string()))?;
+    if args.json {
+        out.write_all(&output::to_json_bytes(&outcome))?;
+        return Ok(());
+    }
+    let t = &outcome.terms;
+    let p = &outcome.plan;
+    writeln!(
+        out,
+        "part {}: {:?} {:?}, {} temperature nodes, {} thermometer nodes, {} bytes -> {}",
+        outcome.serial,
+        p.interpolation,
+        p.format,
+        p.n_t,
+        p.n_sig,
+        outcome.bytes,
+        path.display()
+    )?;
+    writeln!(out, "error budget (ppm of span):")?;
+    writeln!(
+        out,
+        "  interpolation                      {:>10.2}",
+        t.interpolation_ppm
+    )?;
+    writeln!(
+        out,
+        "  number-format quantization         {:>10.2}",
+        t.quantization_ppm
+    )?;
+    writeln!(
+        out,
+        "  runtime-model deviation            {:>10.2}",
+        t.runtime_model_ppm
+    )?;
+    writeln!(
+        out,
+        "  calibration fit residual           {:>10.2}",
+        t.fit_residual_ppm
+    )?;
+    writeln!(
+        out,
+        "  temperature signal x drift slope   {:>10.2}",
+        t.temperature_ppm
+    )?;
+    writeln!(
+        out,
+        "  total                              {:>10.2}  (budget {})",
+        t.total_ppm, t.budget_ppm
+    )?;
+    writeln!(
+        out,
+        "dense check: max {:.2} ppm, rms {:.2} ppm at {:.2} C over {} points; analytic interpolation bound {:.2} ppm",
+        outcome.dense.max_error_ppm,
+        outcome.dense.rms_error_ppm,
+        outcome.dense.worst_t_c,
+        outcome.dense.points,
+        outcome.analytic_bound_ppm
+    )?;
+    writeln!(out, "candidates (least flash first):")?;
+    for c in &outcome.candidates {
+        writeln!(
+            out,
+            "  {:?} {:?} n_t={} n_sig={}: {} bytes, {:.2} ppm",
+            c.plan.interpolation, c.plan.format, c.plan.n_t, c.plan.n_sig, c.bytes, c.max_error_ppm
+        )?;
+    }
+    Ok(())
+}

@@ -1,0 +1,76 @@
+//! `semidrift verify IMAGE --against PART`: the image run by the runtime
+//! crate's own code on a dense grid against the fitted part's full model.
+
+use super::CliError;
+use super::table::read_part;
+use crate::station::{output, pipeline};
+use std::io::Write;
+use std::path::PathBuf;
+
+/// Arguments of `semidrift verify`.
+#[derive(Debug, clap::Args)]
+pub struct VerifyArgs {
+    /// Table image (`.bin`).
+    pub image: PathBuf,
+    /// Part file the image was built from.
+    #[arg(long)]
+    pub against: PathBuf,
+    /// Total budget in ppm of span (default: the scenario's).
+    #[arg(long)]
+    pub budget: Option<f64>,
+    /// Temperatures of the dense grid.
+    #[arg(long, default_value_t = pipeline::DENSE_TEMPS)]
+    pub temps: usize,
+    /// Stimuli of the dense grid.
+    #[arg(long, default_value_t = pipeline::DENSE_STIMULI)]
+    pub stimuli: usize,
+    /// JSON report on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Runs `semidrift verify`; exit 1 when over budget.
+pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
+    let part = read_part(&args.against)?;
+    let image = std::fs::read(&args.image)
+        .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", args.image.display())))?;
+    let budget = args.budget.unwrap_or(part.scenario.budget_ppm);
+    if args.temps < 2 || args.stimuli < 2 {
+        return Err(CliError::option(
+            "--temps/--stimuli",
+            &format!("{}/{}", args.temps, args.stimuli),
+            "need at least 2 each",
+        ));
+    }
+    let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
+    let report = pipeline::verify(&image, &part, &curves, budget, args.temps, args.stimuli)
+        .map_err(|e| CliError::Input(format!("{}: {e}", args.image.display())))?;
+    if args.json {
+        out.write_all(&output::to_json_bytes(&report))?;
+    } else {
+        writeln!(
+            out,
+            "{}: max {:.3} ppm, rms {:.3} ppm, worst at {:.3} C / {} over {} points; analytic bound {:.3} ppm; allowance {:.3} of budget {} ppm: {}",
+            part.serial,
+            report.max_error_ppm,
+            report.rms_error_ppm,
+            report.worst_t_c,
+            report.worst_stimulus,
+            report.points,
+            report.analytic_bound_ppm,
+            report.table_allowance_ppm,
+            report.budget_ppm,
+            if report.pass { "PASS" } else { "FAIL" }
+        )?;
+    }
+    if report.pass {
+        Ok(())
+    } else {
+        Err(CliError::CheckFailed(format!(
+            "{}: table error {:.3} ppm exceeds the allowance {:.3} ppm",
+            args.image.display(),
+            report.max_error_ppm,
+            report.table_allowance_ppm
+        )))
+    }
+}

@@ -1,0 +1,250 @@
+//! The README's main command: the whole station chain for both demo
+//! scenarios, everything written under one folder, byte-identical from run to
+//! run (fixed seeds, sorted outputs, no timestamps, deterministic reductions).
+
+use super::apply::{ImageCompensation, apply_rows};
+use super::chamber::{self, ChamberData};
+use super::compare::{Comparison, compare};
+use super::export::{ExportFormat, export};
+use super::lot::{calibrate_lot, progress};
+use super::model_shapes::shapes_for;
+use super::output::{OutputError, to_json_bytes, write_atomic};
+use super::part_file::PartFile;
+use super::pipeline::{self, DENSE_STIMULI, DENSE_TEMPS};
+use super::scenario::Scenario;
+use super::simulate::{Plan, draw_parts, measure};
+use super::spec::to_toml;
+use rayon::prelude::*;
+use std::path::Path;
+
+/// Seed of the demo lots.
+pub const DEMO_SEED: u64 = 2026;
+/// Flash address of the exported Intel HEX example.
+pub const DEMO_ADDRESS: u32 = 0x0800_F000;
+
+/// Why the demo stopped.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum DemoError {
+    /// Writing a file failed.
+    #[error(transparent)]
+    Output(#[from] OutputError),
+    /// A chain step failed.
+    #[error("{scenario}: {message}")]
+    Step {
+        /// Scenario name.
+        scenario: String,
+        /// What failed.
+        message: String,
+    },
+}
+
+/// What one scenario's run gave.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct ScenarioSummary {
+    /// Scenario name.
+    pub scenario: String,
+    /// Parts simulated.
+    pub parts: usize,
+    /// Parts whose fit was accepted.
+    pub calibrated: usize,
+    /// Calibration temperatures, C.
+    pub cal_temps_c: Vec<f64>,
+    /// Physics vs polynomial at held-out temperatures (f64 models).
+    pub comparison: Comparison,
+    /// Worst error of the flashed images at held-out temperatures inside the
+    /// operating range (the station's final check), ppm of span.
+    pub image_check_max_ppm: f64,
+    /// Smallest, largest table image, bytes.
+    pub table_bytes: (usize, usize),
+    /// Budget, ppm of span.
+    pub budget_ppm: f64,
+    /// Parts whose image passed verification.
+    pub verified_pass: usize,
+    /// Largest dense-grid table error over the lot, ppm of span.
+    pub verify_max_ppm: f64,
+}
+
+/// A part's image and its verification report.
+type BuiltTable = (String, Vec<u8>, pipeline::VerifyReport);
+
+fn step<T, E: std::fmt::Display>(scenario: &Scenario, r: Result<T, E>) -> Result<T, DemoError> {
+    r.map_err(|e| DemoError::Step {
+        scenario: scenario.name.clone(),
+        message: e.to_string(),
+    })
+}
+
+/// Runs one scenario into `dir`.
+pub fn run_scenario(
+    scenario: &Scenario,
+    parts_n: usize,
+    dir: &Path,
+    quiet: bool,
+) -> Result<ScenarioSummary, DemoError> {
+    write_atomic(&dir.join("scenario.toml"), to_toml(scenario).as_bytes())?;
+    let parts = draw_parts(scenario, parts_n, DEMO_SEED);
+    let cal_plan = Plan {
+        temps_c: scenario.cal_temps_c.clone(),
+        stimuli: scenario.stimuli.clone(),
+    };
+    let mut check_temps = scenario.check_temps_c.clone();
+    check_temps.sort_by(f64::total_cmp);
+    let check_plan = Plan {
+        temps_c: check_temps,
+        stimuli: scenario.stimuli.clone(),
+    };
+    let cal_rows = step(scenario, measure(scenario, &parts, &cal_plan, DEMO_SEED))?;
+    let check_rows = step(scenario, measure(scenario, &parts, &check_plan, DEMO_SEED))?;
+    write_atomic(
+        &dir.join("chamber-calibration.csv"),
+        &chamber::to_csv_bytes(&cal_rows),
+    )?;
+    write_atomic(
+        &dir.join("chamber-check.csv"),
+        &chamber::to_csv_bytes(&check_rows),
+    )?;
+    let cal = ChamberData {
+        rows: cal_rows,
+        errors: vec![],
+    };
+    let check = ChamberData {
+        rows: check_rows,
+        errors: vec![],
+    };
+
+    let curves = step(scenario, shapes_for(scenario))?;
+    let fitted: Vec<PartFile> = calibrate_lot(scenario, &curves, &cal, quiet);
+    for p in &fitted {
+        write_atomic(
+            &dir.join("parts").join(format!("{}.part.json", p.serial)),
+            &p.to_bytes(),
+        )?;
+    }
+    let comparison = compare(&fitted, &curves, &check);
+    write_atomic(&dir.join("comparison.json"), &to_json_bytes(&comparison))?;
+
+    let ok: Vec<&PartFile> = fitted.iter().filter(|p| p.is_ok()).collect();
+    let bar = progress(ok.len(), quiet, "tables");
+    let tables: Vec<Result<BuiltTable, String>> = ok
+        .par_iter()
+        .map(|p| {
+            let r = pipeline::build_table(p, &curves, scenario.budget_ppm)
+                .and_then(|o| {
+                    let v = pipeline::verify(
+                        &o.image,
+                        p,
+                        &curves,
+                        scenario.budget_ppm,
+                        DENSE_TEMPS,
+                        DENSE_STIMULI,
+                    )?;
+                    Ok((p.serial.clone(), o.image, v))
+                })
+                .map_err(|e| format!("{}: {e}", p.serial));
+            bar.inc(1);
+            r
+        })
+        .collect();
+    bar.finish_and_clear();
+    let mut bytes = (usize::MAX, 0usize);
+    let mut verified_pass = 0;
+    let mut verify_max: f64 = 0.0;
+    let mut image_check_max: f64 = 0.0;
+    let groups = check.by_serial();
+    let (lo, hi) = scenario.range_c;
+    for (k, t) in tables.iter().enumerate() {
+        let (serial, image, report) = match t {
+            Ok(x) => x,
+            Err(e) => {
+                write_atomic(
+                    &dir.join("tables")
+                        .join(format!("{}.error.txt", ok[k].serial)),
+                    format!("{e}\n").as_bytes(),
+                )?;
+                continue;
+            }
+        };
+        write_atomic(&dir.join("tables").join(format!("{serial}.bin")), image)?;
+        write_atomic(
+            &dir.join("verify").join(format!("{serial}.json")),
+            &to_json_bytes(report),
+        )?;
+        bytes = (bytes.0.min(image.len()), bytes.1.max(image.len()));
+        verified_pass += usize::from(report.pass);
+        verify_max = verify_max.max(report.max_error_ppm);
+        if k == 0 {
+            // One part exported in every flashing format, as a station would.
+            for f in [ExportFormat::Rust, ExportFormat::C, ExportFormat::Hex] {
+                let data = step(scenario, export(image, f, "drift_table", DEMO_ADDRESS))?;
+                write_atomic(
+                    &dir.join("tables")
+                        .join(format!("{serial}.{}", f.extension())),
+                    &data,
+                )?;
+            }
+        }
+        let part = ok[k];
+        if let Some(rows) = groups.get(part.serial.as_str()) {
+            let inside: Vec<&chamber::ChamberRow> = rows
+                .iter()
+                .copied()
+                .filter(|r| r.chamber_c >= lo && r.chamber_c <= hi)
+                .collect();
+            let comp = step(
+                scenario,
+                ImageCompensation::new(image, scenario.output_adc.lsb()),
+            )?;
+            for r in apply_rows(part, &curves, &comp, &inside) {
+                image_check_max = image_check_max.max(r.error_ppm.abs());
+            }
+        }
+    }
+    let summary = ScenarioSummary {
+        scenario: scenario.name.clone(),
+        parts: parts.len(),
+        calibrated: ok.len(),
+        cal_temps_c: scenario.cal_temps_c.clone(),
+        comparison,
+        image_check_max_ppm: image_check_max,
+        table_bytes: if bytes.0 == usize::MAX { (0, 0) } else { bytes },
+        budget_ppm: scenario.budget_ppm,
+        verified_pass,
+        verify_max_ppm: verify_max,
+    };
+    write_atomic(&dir.join("summary.json"), &to_json_bytes(&summary))?;
+    Ok(summary)
+}
+
+/// Formats the printed summary of the demo.
+pub fn summary_text(summaries: &[ScenarioSummary]) -> String {
+    let mut s = String::new();
+    for m in summaries {
+        let c = &m.comparison;
+        s.push_str(&format!(
+            "{}: {} parts, {} calibrated at {:?} C\n",
+            m.scenario, m.parts, m.calibrated, m.cal_temps_c
+        ));
+        s.push_str(&format!(
+            "  raw drift (ref-temperature offset and gain only): {:.0} ppm of span inside, {:.0} outside the calibrated span\n",
+            c.raw.inside_ppm, c.raw.outside_ppm
+        ));
+        s.push_str(&format!(
+            "  held-out worst case, physics ({} coefficients): {:.0} ppm inside, {:.0} ppm outside\n",
+            c.physics_coefficients, c.physics.inside_ppm, c.physics.outside_ppm
+        ));
+        s.push_str(&format!(
+            "  held-out worst case, polynomial ({} coefficients): {:.0} ppm inside, {:.0} ppm outside\n",
+            c.polynomial_coefficients, c.polynomial.inside_ppm, c.polynomial.outside_ppm
+        ));
+        s.push_str(&format!(
+            "  flashed images at held-out temperatures in range: worst {:.0} ppm (budget {} ppm)\n",
+            m.image_check_max_ppm, m.budget_ppm
+        ));
+        s.push_str(&format!(
+            "  tables {}..{} bytes; verification {}/{} pass, worst table error {:.1} ppm\n",
+            m.table_bytes.0, m.table_bytes.1, m.verified_pass, m.calibrated, m.verify_max_ppm
+        ));
+    }
+    s
+}

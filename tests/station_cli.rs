@@ -1,0 +1,285 @@
+//! The station chain through the real binary: simulate -> calibrate -> table
+//! (every export format) -> verify -> apply, on a small lot; byte-identical
+//! reruns; bad input named by file, line and field; exit codes 0/1/2.
+
+mod common;
+
+use common::{run_in, stderr, stdout};
+use std::path::Path;
+
+fn ok_in(dir: &Path, args: &[&str]) -> String {
+    let o = run_in(dir, args);
+    assert!(
+        o.status.success(),
+        "semidrift {args:?}: exit {:?}: {}",
+        o.status.code(),
+        stderr(&o)
+    );
+    stdout(&o)
+}
+
+/// Runs the chain for 3 well-logger parts in `dir`; returns the first serial.
+fn chain(dir: &Path) -> String {
+    ok_in(
+        dir,
+        &[
+            "simulate",
+            "well-logger",
+            "--parts",
+            "3",
+            "--seed",
+            "9",
+            "--out",
+            "cal.csv",
+            "--write-spec",
+            "well.toml",
+        ],
+    );
+    ok_in(
+        dir,
+        &[
+            "simulate",
+            "well.toml",
+            "--parts",
+            "3",
+            "--seed",
+            "9",
+            "--check",
+            "--out",
+            "check.csv",
+        ],
+    );
+    ok_in(
+        dir,
+        &[
+            "calibrate",
+            "well.toml",
+            "cal.csv",
+            "--out-dir",
+            "parts",
+            "--quiet",
+        ],
+    );
+    let serial = "WELL-0001".to_string();
+    let part = format!("parts/{serial}.part.json");
+    ok_in(dir, &["table", &part, "--out", "t.bin"]);
+    for (fmt, file) in [("rust", "t.rs"), ("c", "t.h"), ("hex", "t.hex")] {
+        ok_in(
+            dir,
+            &[
+                "table",
+                &part,
+                "--format",
+                fmt,
+                "--address",
+                "0x0800F000",
+                "--out",
+                file,
+            ],
+        );
+    }
+    serial
+}
+
+#[test]
+fn chain_runs_and_is_byte_identical() {
+    let a = tempfile::tempdir().unwrap();
+    let b = tempfile::tempdir().unwrap();
+    let serial = chain(a.path());
+    chain(b.path());
+    for f in [
+        "cal.csv",
+        "check.csv",
+        "well.toml",
+        "t.bin",
+        "t.rs",
+        "t.h",
+        "t.hex",
+        &format!("parts/{serial}.part.json"),
+    ] {
+        let x = std::fs::read(a.path().join(f)).unwrap();
+        let y = std::fs::read(b.path().join(f)).unwrap();
+        assert!(x == y, "{f} differs between two identical runs");
+    }
+    let dir = a.path();
+    let part = format!("parts/{serial}.part.json");
+    // Exports carry the same bytes as the image.
+    let image = std::fs::read(dir.join("t.bin")).unwrap();
+    let hex = std::fs::read_to_string(dir.join("t.hex")).unwrap();
+    assert!(
+        hex.starts_with(":020000040800"),
+        "extended linear address 0x0800 first: {hex}"
+    );
+    let rs = std::fs::read_to_string(dir.join("t.rs")).unwrap();
+    assert!(rs.contains(&format!("pub static DRIFT_TABLE: [u8; {}]", image.len())));
+    // verify --json: the contract fields, pass, >= 1e5 points.
+    let json = ok_in(dir, &["verify", "t.bin", "--against", &part, "--json"]);
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    for field in [
+        "max_error_ppm",
+        "rms_error_ppm",
+        "worst_t_c",
+        "points",
+        "budget_ppm",
+        "pass",
+        "analytic_bound_ppm",
+    ] {
+        assert!(v.get(field).is_some(), "verify JSON lacks {field}: {json}");
+    }
+    assert!(v["points"].as_u64().unwrap() >= 100_000);
+    assert_eq!(v["pass"], true);
+    // The table's own error must lie within the analytic bound (the bound is
+    // an upper bound of the interpolation error; quantization of a Q image is
+    // below 1 ppm on these parts, see `table` output).
+    let max = v["max_error_ppm"].as_f64().unwrap();
+    let bound = v["analytic_bound_ppm"].as_f64().unwrap();
+    assert!(
+        max <= bound + 1.0,
+        "dense max {max} exceeds analytic bound {bound}"
+    );
+    // apply with the part (f64 model) and with the image (runtime crate):
+    // held-out rows inside -20..85 C stay within the 500 ppm budget; the lot
+    // and seed are fixed, so this is a regression check of the whole chain.
+    for args in [
+        vec!["apply", &part, "check.csv", "--json"],
+        vec!["apply", "t.bin", "check.csv", "--against", &part, "--json"],
+    ] {
+        let out = ok_in(dir, &args);
+        let r: serde_json::Value = serde_json::from_str(&out).unwrap();
+        let rows = r["rows"].as_array().unwrap();
+        assert!(!rows.is_empty());
+        for row in rows {
+            let t = row["chamber_c"].as_f64().unwrap();
+            if (-20.0..=85.0).contains(&t) {
+                let e = row["error_ppm"].as_f64().unwrap();
+                assert!(e.abs() <= 500.0, "{args:?}: {row}");
+            }
+        }
+    }
+}
+
+#[test]
+fn verify_over_budget_exits_1() {
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    // A budget below the fit residual leaves no allowance: check failed.
+    let o = run_in(
+        d.path(),
+        &[
+            "verify",
+            "t.bin",
+            "--against",
+            &part,
+            "--budget",
+            "1",
+            "--json",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["pass"], false);
+}
+
+#[test]
+fn bad_rows_are_named_and_other_parts_still_calibrate() {
+    let d = tempfile::tempdir().unwrap();
+    let dir = d.path();
+    ok_in(
+        dir,
+        &[
+            "simulate",
+            "battery-current",
+            "--parts",
+            "2",
+            "--out",
+            "lot.csv",
+        ],
+    );
+    let text = std::fs::read_to_string(dir.join("lot.csv")).unwrap();
+    // Corrupt the output of the first row of the second part (line 11).
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    let mut f: Vec<String> = lines[10].split(',').map(str::to_string).collect();
+    f[3] = "12abc".into();
+    lines[10] = f.join(",");
+    std::fs::write(dir.join("bad.csv"), lines.join("\n") + "\n").unwrap();
+    let o = run_in(
+        dir,
+        &[
+            "calibrate",
+            "battery-current",
+            "bad.csv",
+            "--out-dir",
+            "parts",
+            "--quiet",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("bad.csv:11: field 'output'"),
+        "{}",
+        stderr(&o)
+    );
+    // Both parts still got a part file (the second from its 8 good rows).
+    for s in ["BATTERY-0001", "BATTERY-0002"] {
+        assert!(
+            dir.join(format!("parts/{s}.part.json")).is_file(),
+            "{s} missing"
+        );
+    }
+}
+
+#[test]
+fn two_temperatures_are_reported_not_accepted() {
+    let d = tempfile::tempdir().unwrap();
+    let dir = d.path();
+    ok_in(
+        dir,
+        &[
+            "simulate",
+            "well-logger",
+            "--parts",
+            "1",
+            "--temps",
+            "-20,85",
+            "--out",
+            "two.csv",
+        ],
+    );
+    let o = run_in(
+        dir,
+        &[
+            "calibrate",
+            "well-logger",
+            "two.csv",
+            "--out-dir",
+            "p",
+            "--quiet",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let part = std::fs::read_to_string(dir.join("p/WELL-0001.part.json")).unwrap();
+    assert!(!part.contains("\"status\": \"ok\""), "{part}");
+    // table refuses the rejected part with a named reason.
+    let o = run_in(dir, &["table", "p/WELL-0001.part.json"]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("fit not usable"), "{}", stderr(&o));
+}
+
+#[test]
+fn bad_spec_and_part_files_name_the_place() {
+    let d = tempfile::tempdir().unwrap();
+    let dir = d.path();
+    std::fs::write(
+        dir.join("p.json"),
+        "{\n  \"format\": \"semidrift-part/1\"\n}\n",
+    )
+    .unwrap();
+    let o = run_in(dir, &["table", "p.json"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("p.json:"), "{}", stderr(&o));
+    let o = run_in(dir, &["simulate", "no-such.toml", "--out", "x.csv"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("no-such.toml:1:"), "{}", stderr(&o));
+    assert!(!dir.join("x.csv").exists(), "nothing written on failure");
+}
