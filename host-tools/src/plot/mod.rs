@@ -8,6 +8,7 @@
 
 pub mod element;
 pub mod model;
+pub mod station;
 pub mod style;
 
 pub use element::{element_svg, write_element_png};

@@ -36,6 +36,9 @@ pub struct Comparison {
     pub physics: Worst,
     /// Usual polynomial.
     pub polynomial: Worst,
+    /// Per held-out temperature (ascending): worst |error| of raw, physics
+    /// and polynomial over the lot, ppm of span.
+    pub by_temperature: Vec<[f64; 4]>,
 }
 
 /// Compares on held-out rows `check` for the fitted `parts`.
@@ -50,7 +53,9 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         raw: Worst::default(),
         physics: Worst::default(),
         polynomial: Worst::default(),
+        by_temperature: Vec::new(),
     };
+    let mut by_t: std::collections::BTreeMap<u64, [f64; 4]> = std::collections::BTreeMap::new();
     for part in parts {
         let (Some(poly), Some(rows), true) = (
             part.polynomial,
@@ -93,7 +98,14 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
             upd(&mut out.physics, a.error_ppm);
             upd(&mut out.polynomial, b.error_ppm);
             upd(&mut out.raw, a.raw_error_ppm);
+            // Key by the ordered bits of the temperature (ascending for finite values).
+            let key = (a.chamber_c + 1000.0).to_bits();
+            let e = by_t.entry(key).or_insert([a.chamber_c, 0.0, 0.0, 0.0]);
+            e[1] = e[1].max(a.raw_error_ppm.abs());
+            e[2] = e[2].max(a.error_ppm.abs());
+            e[3] = e[3].max(b.error_ppm.abs());
         }
     }
+    out.by_temperature = by_t.into_values().collect();
     out
 }

@@ -155,3 +155,16 @@ pub fn evaluate(
         points: acc.n,
     })
 }
+
+/// Largest |error| at each temperature of `temps` over `stimuli` (for plots).
+pub fn per_temperature(
+    image: &[u8],
+    frame: &TableFrame<'_>,
+    temps: &[f64],
+    stimuli: &[f64],
+) -> Result<Vec<(f64, f64)>, EvalError> {
+    temps
+        .iter()
+        .map(|&t| evaluate(image, frame, &[t], stimuli).map(|s| (t, s.max_error_ppm)))
+        .collect()
+}
