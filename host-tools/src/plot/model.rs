@@ -419,9 +419,9 @@ mod tests {
             rho_ohm_cm: 1.0 / (1.602e-19 * n_cm3 * 1400.0),
             hall_coefficient_cm3_c: -1.0 / (1.602e-19 * n_cm3),
             piezo_factor: Some(1.0),
-            hall_factor_n: 1.1,
-            hall_factor_p: 0.9,
-            hall_mobility_cm2_vs: 1500.0,
+            hall_factor_n: 1.18,
+            hall_factor_p: 0.75,
+            hall_mobility_cm2_vs: -1593.0,
         }
     }
 
