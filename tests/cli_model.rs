@@ -264,4 +264,15 @@ fn plot_writes_a_repeatable_svg_with_the_regimes() {
     );
     assert_eq!(bad.status.code(), Some(2));
     assert!(!dir.path().join("x.svg").exists());
+    bad_input(
+        &[
+            "plot",
+            "model",
+            "--material",
+            "si",
+            "--out",
+            "no/such/dir/m.svg",
+        ],
+        &["--out 'no/such/dir/m.svg'", "cannot write"],
+    );
 }

@@ -89,10 +89,7 @@ pub fn write_model_png(
     rows: &[ModelPoint],
 ) -> Result<(), PlotError> {
     check_rows(rows)?;
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
+    let write_err = |source| PlotError::write(path, source);
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => std::path::Path::new("."),
