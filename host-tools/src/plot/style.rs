@@ -49,6 +49,15 @@ pub enum PlotError {
 }
 
 impl PlotError {
+    /// A write error on `path`, keeping only the kind of the I/O error: the
+    /// temporary file's random name must not reach the (deterministic) message.
+    pub fn write(path: &Path, source: std::io::Error) -> PlotError {
+        PlotError::Write {
+            path: path.display().to_string(),
+            source: std::io::Error::from(source.kind()),
+        }
+    }
+
     /// Wraps any plotters error.
     pub fn draw(e: impl std::fmt::Display) -> PlotError {
         PlotError::Draw(e.to_string())
@@ -97,6 +106,11 @@ pub fn log_range(
     if hi_decade <= lo_decade {
         hi_decade = lo_decade + 1.0;
     }
+    if hi_decade - lo_decade <= 2.0 && hi > lo {
+        // Within two decades whole-decade limits leave one or two tick
+        // labels; a 10 % margin lets plotters label values in between.
+        return Ok(lo / 1.1..hi * 1.1);
+    }
     Ok(10f64.powf(lo_decade)..10f64.powf(hi_decade))
 }
 
@@ -141,10 +155,7 @@ pub fn tick_label(v: &f64) -> String {
 /// Writes `contents` to `path` via a temporary file in the same directory and
 /// a rename, so a failed run never leaves a half-written file behind.
 pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
+    let write_err = |source| PlotError::write(path, source);
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
@@ -157,10 +168,7 @@ pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
 /// Gives a finished temporary file ordinary permissions (tempfile creates it
 /// owner-only) and renames it to `path`.
 pub fn persist(tmp: tempfile::NamedTempFile, path: &Path) -> Result<(), PlotError> {
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
+    let write_err = |source| PlotError::write(path, source);
     #[cfg(unix)]
     {
         use std::os::unix::fs::PermissionsExt;
@@ -182,6 +190,7 @@ mod tests {
         let cases: &[(&[f64], f64, f64)] = &[
             (&[3e14, 2e17], 1e14, 1e18),
             (&[1e15], 1e15, 1e16),
+            (&[2.2e-2, 9.9e-2], 2e-2, 0.1089),
             (&[0.0, -1.0, f64::NAN, 5.0], 1.0, 10.0),
             (&[1e-37, 1e15], 1e-6, 1e15),
         ];

@@ -4,10 +4,14 @@ use crate::cli::CliError;
 use crate::cli::model::sweep;
 use crate::cli::range::TemperatureArgs;
 use crate::cli::sample_args::SampleArgs;
+use crate::physics::carriers;
 use crate::plot::{model_svg, write_atomically, write_model_png};
 use clap::Args;
 use std::io::Write;
 use std::path::PathBuf;
+
+/// Step of the default sweep in kelvin: smooth curves, ~200 points.
+const DEFAULT_STEP_K: f64 = 5.0;
 
 /// Options of `semidrift plot model`.
 #[derive(Debug, Args)]
@@ -15,9 +19,10 @@ pub struct PlotModelArgs {
     /// The sample.
     #[command(flatten)]
     pub sample: SampleArgs,
-    /// Temperature sweep in kelvin, `START:STOP:STEP` (inclusive).
-    #[arg(long, value_name = "START:STOP:STEP", default_value = "20:1000:5")]
-    pub kelvin: String,
+    /// Temperature sweep in kelvin, `START:STOP:STEP` (inclusive); default: the
+    /// material's whole model range in 5 K steps (20:1000:5 for Si).
+    #[arg(long, value_name = "START:STOP:STEP")]
+    pub kelvin: Option<String>,
     /// File to write, SVG (or PNG when the name ends in `.png`); replaced atomically.
     #[arg(long, value_name = "FILE.svg")]
     pub out: PathBuf,
@@ -26,15 +31,19 @@ pub struct PlotModelArgs {
 /// Runs `semidrift plot model`.
 pub fn run(args: PlotModelArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let sample = args.sample.to_sample()?;
+    let kelvin = args.kelvin.clone().unwrap_or_else(|| {
+        let max_k = carriers::t_max_k(sample.material);
+        format!("{}:{max_k}:{DEFAULT_STEP_K}", carriers::T_MIN_K)
+    });
     let temperature = TemperatureArgs {
-        kelvin: Some(args.kelvin.clone()),
+        kelvin: Some(kelvin.clone()),
         celsius: None,
     };
     let temperatures_k = temperature.temperatures_k()?;
     if temperatures_k.len() < 2 {
         return Err(CliError::option(
             "--kelvin",
-            &args.kelvin,
+            &kelvin,
             "a plot needs at least two temperatures",
         ));
     }
