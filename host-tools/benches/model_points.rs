@@ -13,7 +13,9 @@
 use std::hint::black_box;
 
 use criterion::measurement::{Measurement, ValueFormatter};
-use criterion::{Criterion, Throughput, criterion_group, criterion_main};
+use criterion::{
+    BenchmarkGroup, Criterion, SamplingMode, Throughput, criterion_group, criterion_main,
+};
 use host_tools::physics::model::evaluate_state;
 use host_tools::physics::{Dopant, Material, Sample, Species, evaluate, solve};
 
@@ -67,7 +69,7 @@ fn piezoresistor_si() -> Sample {
 fn bench_sweeps<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {
     let temps = sweep_k();
     let mut group = c.benchmark_group(format!("evaluate_sweep_20_1000k{suffix}"));
-    group.throughput(Throughput::Elements(temps.len() as u64));
+    configure(&mut group, suffix, temps.len());
     for (name, sample) in [
         ("si_3species_n", three_species_si()),
         ("si_3species_p_2e18", piezoresistor_si()),
@@ -93,7 +95,7 @@ fn bench_sweeps<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {
 fn bench_transport_only<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {
     let temps = sweep_k();
     let mut group = c.benchmark_group(format!("transport_only_20_1000k{suffix}"));
-    group.throughput(Throughput::Elements(temps.len() as u64));
+    configure(&mut group, suffix, temps.len());
     for (name, sample) in [
         ("si_3species_n", three_species_si()),
         ("si_3species_p_2e18", piezoresistor_si()),
@@ -114,6 +116,19 @@ fn bench_transport_only<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {
         });
     }
     group.finish();
+}
+
+/// Throughput in points; for the CPU-time groups flat sampling with few, long
+/// samples: the kernel updates a running thread's schedstat time only at
+/// scheduler ticks and switches (1..4 ms apart), so each sample must last
+/// far longer than that (here ~0.5 s: < 2 % quantization per sample).
+fn configure<M: Measurement>(group: &mut BenchmarkGroup<'_, M>, suffix: &str, points: usize) {
+    group.throughput(Throughput::Elements(points as u64));
+    if suffix == "_cpu" {
+        group.sampling_mode(SamplingMode::Flat);
+        group.sample_size(20);
+        group.measurement_time(std::time::Duration::from_secs(10));
+    }
 }
 
 /// CPU time consumed by the calling thread, in nanoseconds.

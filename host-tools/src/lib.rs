@@ -4,5 +4,6 @@
 
 pub mod arrhenius;
 pub mod cli;
+pub mod element;
 pub mod physics;
 pub mod plot;

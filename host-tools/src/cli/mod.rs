@@ -5,6 +5,7 @@
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
 mod arrhenius;
+pub mod element;
 mod error;
 mod model;
 mod plot;
@@ -42,6 +43,8 @@ pub enum Command {
     Plot(plot::PlotCommand),
     /// Fit an activation energy to conductivity or resistance versus temperature.
     Arrhenius(arrhenius::ArrheniusArgs),
+    /// Example element specs; drift of a sense element over temperature.
+    Element(element::ElementArgs),
 }
 
 /// Runs the command line with the process arguments and returns the exit code.
@@ -87,6 +90,7 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Model(args) => model::run(args, out),
         Command::Plot(args) => plot::run(args, out),
         Command::Arrhenius(args) => arrhenius::run(args, out),
+        Command::Element(args) => element::run(args, out),
     }
 }
 

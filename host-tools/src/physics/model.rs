@@ -186,4 +186,58 @@ mod tests {
             assert!((1.1..1.5).contains(&peak), "{set:?} at 1e18: {peak}");
         }
     }
+
+    /// Every material evaluates for an n-type sample at 300 K: R_H < 0 with
+    /// |R_H| q n = r_n (one-carrier limit; minority holes shift R_H by about
+    /// 2 p mu_p / (n mu_n), largest for Ge with n_i ~ 2e13 cm^-3: p/n ~ 4e-6,
+    /// so < 1e-5; tolerance 1e-4. The narrow-gap InSb and InAs, n_i ~ 2e16
+    /// and ~1e15 cm^-3, are two-carrier at 300 K and skipped for that part),
+    /// Hall factors within the model's bounds r_A * [1.0, 1.94], and the
+    /// piezo factor only for Si.
+    #[test]
+    fn every_material_evaluates_n_type() {
+        let cases = [
+            (Material::Si, Species::P),
+            (Material::Ge, Species::As),
+            (Material::GaAs, Species::Si),
+            (Material::InSb, Species::Te),
+            (Material::InAs, Species::Te),
+            (Material::Sic4H, Species::N),
+        ];
+        for (material, species) in cases {
+            let sample = Sample {
+                material,
+                donors: vec![Dopant {
+                    species,
+                    density_cm3: 1e16,
+                }],
+                acceptors: vec![],
+            };
+            let point = evaluate(&sample, 300.0).unwrap_or_else(|e| panic!("{material}: {e}"));
+            assert!(
+                point.rho_ohm_cm > 0.0 && point.hall_coefficient_cm3_c < 0.0,
+                "{material}: {point:?}"
+            );
+            assert_eq!(
+                point.piezo_factor.is_some(),
+                material == Material::Si,
+                "{material}"
+            );
+            let r_a = crate::physics::transport::anisotropy_factor(
+                material,
+                crate::physics::transport::Carrier::Electron,
+            );
+            let r = point.hall_factor_n / r_a;
+            assert!((1.0..1.94).contains(&r), "{material}: r_S {r}");
+            if !matches!(material, Material::InSb | Material::InAs) {
+                let one_carrier = -point.hall_factor_n / (Q_C * point.n_cm3);
+                let rel = point.hall_coefficient_cm3_c / one_carrier - 1.0;
+                assert!(
+                    rel.abs() < 1e-4,
+                    "{material}: R_H {} vs {one_carrier}",
+                    point.hall_coefficient_cm3_c
+                );
+            }
+        }
+    }
 }

@@ -6,8 +6,10 @@
 //! shares (font, palette, sizes, log-axis ranges, atomic file writes); each
 //! other file draws one kind of plot.
 
+pub mod element;
 pub mod model;
 pub mod style;
 
+pub use element::{element_svg, write_element_png};
 pub use model::{Regime, classify_regime, model_rgb, model_svg, write_model_png};
 pub use style::{PlotError, write_atomically};

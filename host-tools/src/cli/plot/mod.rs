@@ -1,5 +1,6 @@
 //! `semidrift plot KIND ...`: one file per kind of plot; this file dispatches.
 
+mod element;
 mod model;
 
 use super::CliError;
@@ -11,11 +12,14 @@ use std::io::Write;
 pub enum PlotCommand {
     /// Carriers, mobilities, resistivity and an Arrhenius view of a sample versus temperature.
     Model(model::PlotModelArgs),
+    /// Relative span, offset and resistance drift of a sense element, both drives.
+    Element(element::PlotElementArgs),
 }
 
 /// Runs `semidrift plot ...`.
 pub fn run(command: PlotCommand, out: &mut dyn Write) -> Result<(), CliError> {
     match command {
         PlotCommand::Model(args) => model::run(args, out),
+        PlotCommand::Element(args) => element::run(args, out),
     }
 }
