@@ -168,6 +168,7 @@ pub mod model;
 pub mod smoothing;
 mod status;
 pub mod table;
+mod widemul;
 
 pub use compensator::{Compensator, CompensatorError, FixedCompensator, Reading, ReadingQ};
 pub use image::{ImageBuilder, ImageError, TableView};

@@ -9,6 +9,7 @@ use crate::image::{ColumnQ, NumberFormat, TableView, TablesQ};
 use crate::interp::{
     AxisQ, Interpolation, Nodes, PositionQ, bilinear_q, cubic_monotone_q, linear_q,
 };
+use crate::widemul::mul_wide;
 
 /// One compensated sample in Q(`output`) engineering units.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -58,49 +59,6 @@ fn interp<N: Nodes<Value = i32>>(method: Interpolation, nodes: &N, p: PositionQ)
         Interpolation::MonotoneCubic => cubic_monotone_q(nodes, p),
         _ => linear_q(nodes, p),
     }
-}
-
-/// Exact signed 32x32 -> 64-bit product.
-///
-/// Targets with a widening multiply (ARMv7-M SMULL, RV32IM MULH, x86) use
-/// it; ARMv6-M has only a 32-bit MULS, and the generic 64x64 library call
-/// (`__aeabi_lmul`) costs far more than four 16x16 partial products, so it
-/// gets [`mul_wide_soft`]. Both are exact, hence bit-identical.
-#[inline]
-fn mul_wide(a: i32, b: i32) -> i64 {
-    #[cfg(all(target_arch = "arm", not(target_feature = "v7")))]
-    {
-        mul_wide_soft(a, b)
-    }
-    #[cfg(not(all(target_arch = "arm", not(target_feature = "v7"))))]
-    {
-        // |a * b| <= 2^62: no overflow.
-        i64::from(a).wrapping_mul(i64::from(b))
-    }
-}
-
-/// Signed 32x32 -> 64-bit product from four 16x16 -> 32-bit products.
-///
-/// Split `a = ah 2^16 + al` with `al` unsigned (0..2^16) and `ah = a >> 16`
-/// signed, the same for `b`; then
-/// `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`, where `al bl` fits in
-/// u32, `ah bl` and `al bh` in i32 (|.| < 2^31) and `ah bh` in i32.
-#[inline]
-#[cfg_attr(
-    not(all(target_arch = "arm", not(target_feature = "v7"))),
-    allow(dead_code)
-)]
-fn mul_wide_soft(a: i32, b: i32) -> i64 {
-    let (al, ah) = ((a & 0xFFFF) as u32, a >> 16);
-    let (bl, bh) = ((b & 0xFFFF) as u32, b >> 16);
-    // Bounds as stated above; wrapping ops cannot wrap here.
-    let lo = u64::from(al.wrapping_mul(bl)) as i64;
-    let m1 = i64::from(ah.wrapping_mul(bl as i32));
-    let m2 = i64::from((al as i32).wrapping_mul(bh));
-    let hi = i64::from(ah.wrapping_mul(bh));
-    (hi << 32)
-        .wrapping_add(m1.wrapping_add(m2) << 16)
-        .wrapping_add(lo)
 }
 
 /// `p >> s` (arithmetic, `s` in 0..=63) if the result fits in i32.
@@ -382,6 +340,7 @@ mod tests {
 
     #[test]
     fn soft_multiply_is_exact() {
+        use crate::widemul::mul_wide_soft;
         let edge = [
             0,
             1,
