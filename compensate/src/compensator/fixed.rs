@@ -53,13 +53,22 @@ pub struct FixedCompensator<'a> {
     tables: Option<TablesQ<'a>>,
 }
 
-/// Interpolates with the image's method.
-#[inline]
+/// Interpolates with the image's method: the linear kernel inline, the
+/// cubic one out of line, so the common linear update stays short (four or
+/// more interpolations per temperature update).
+#[inline(always)]
 fn interp<N: Nodes<Value = i32>>(method: Interpolation, nodes: &N, p: PositionQ) -> i32 {
-    match method {
-        Interpolation::MonotoneCubic => cubic_monotone_q(nodes, p),
-        _ => linear_q(nodes, p),
+    if method == Interpolation::Linear {
+        linear_q(nodes, p)
+    } else {
+        interp_cubic(nodes, p)
     }
+}
+
+/// The monotone cubic kernel, kept out of line.
+#[inline(never)]
+fn interp_cubic<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
+    cubic_monotone_q(nodes, p)
 }
 
 /// `p >> s` (arithmetic, `s` in 0..=63) if the result fits in i32.

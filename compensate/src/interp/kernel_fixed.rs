@@ -32,11 +32,10 @@ fn saturate(v: i64) -> i32 {
 /// position error of [`PositionQ::frac_q16`] times the node difference.
 #[inline]
 pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
-    let v0 = nodes.node(p.index);
     if p.frac_q16 == 0 {
-        return v0;
+        return nodes.node(p.index);
     }
-    let v1 = nodes.node(p.index.wrapping_add(1));
+    let (v0, v1) = nodes.pair(p.index);
     // |v1 - v0| < 2^32, so the scaled step fits and v0 + step lies between
     // v0 and v1 (rounding cannot pass v1 because frac < 2^16).
     let d = i64::from(v1).wrapping_sub(i64::from(v0));
