@@ -83,7 +83,7 @@
 //! | 20 | 2 | u16 | `n_raw`: raw-axis nodes of the 2-D correction (0 = none, else >= 2) |
 //! | 22 | 1 | u8 | `n_ch`: correction channels, 2 (offset, gain) or 3 (+ quadratic) |
 //! | 23 | 1 | u8 | unit: 0 none, 1 Pa, 2 bar, 3 T, 4 mT, 5 A, 6 N |
-//! | 24 | 6 | u8 x 6 | fractional bits of temperature, signal, output, offset, gain, quadratic (all 0 for f32) |
+//! | 24 | 6 | u8 x 6 | fractional bits of temperature, signal, output, offset (each 0..=30), gain, quadratic (each 0..=62); all 0 for f32 (see [`image::QFormat`]) |
 //! | 30 | 2 | u16 | reserved, 0 |
 //! | 32 | 4 | f32 | full scale in the unit (always f32) |
 //! | 36 | 4 | i32 | lower rail code (raw <= rail: sensor fault) |
