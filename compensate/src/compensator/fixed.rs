@@ -296,6 +296,41 @@ impl<'a> FixedCompensator<'a> {
         self.compensate_general(raw)
     }
 
+    /// Compensates a raw code taken at an excitation that differs from the
+    /// calibration excitation by `excitation_ratio_q16` (measured / nominal
+    /// in Q16.16): the code is first scaled by `2^16 / ratio`, rounded to
+    /// nearest (ties away from zero), which undoes the proportional
+    /// dependence of a bridge or Hall output on excitation.
+    ///
+    /// A zero ratio (no excitation: open supply) gives value 0 with
+    /// [`Status::SENSOR_FAULT`]. Costs one 64-by-32-bit division.
+    #[inline]
+    pub fn compensate_ratiometric(&self, raw: i32, excitation_ratio_q16: u32) -> ReadingQ {
+        if excitation_ratio_q16 == 0 {
+            return ReadingQ {
+                value: 0,
+                status: self.temp_status | Status::SENSOR_FAULT,
+            };
+        }
+        let ratio = i64::from(excitation_ratio_q16);
+        // |raw << 16| < 2^47 and ratio < 2^32: no overflow; the division
+        // by a non-zero divisor cannot fail.
+        let num = i64::from(raw).wrapping_shl(16);
+        let half = ratio.wrapping_div(2);
+        let adj = if num >= 0 {
+            num.wrapping_add(half)
+        } else {
+            num.wrapping_sub(half)
+        };
+        let scaled = adj.checked_div(ratio).unwrap_or(0);
+        let (raw_scaled, sat) = saturate(scaled);
+        let mut r = self.compensate_sample(raw_scaled);
+        if sat {
+            r.status |= Status::SATURATED;
+        }
+        r
+    }
+
     /// Every case of [`Self::compensate_sample`]: statuses, saturation,
     /// quadratic term, 2-D correction.
     #[inline(never)]
