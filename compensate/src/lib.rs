@@ -1,5 +1,168 @@
 //! Temperature-drift compensation for semiconductor sense elements, in fixed
 //! memory and bounded time, for microcontrollers with and without an FPU.
+//!
+//! # API in brief
+//!
+//! | you want to | use |
+//! |---|---|
+//! | check and open a table image from flash | [`TableView::parse`] `(&[u8]) -> Result<TableView, ImageError>` |
+//! | compensate with an FPU (f32 image) | [`Compensator::new`], [`Compensator::update_temperature`], [`Compensator::compensate_sample`] |
+//! | compensate without an FPU (Q image, bit-exact on host) | [`FixedCompensator`] (same three calls, i32 in and out) |
+//! | know whether a sample is trustworthy | [`Status`] beside every value |
+//! | write an image (host, tests) | [`ImageBuilder::encode`] into a `&mut [u8]` |
+//! | interpolate your own const tables | [`table`] (`Table1d`, `Table1dQ`, `Table2d`), [`interp`] kernels |
+//!
+//! Nothing allocates, nothing panics (crate-wide clippy denies on
+//! `unwrap`, `expect`, `panic` and indexing; integer modules also deny
+//! unchecked arithmetic), every loop is bounded by a table size.
+//!
+//! # Example
+//!
+//! Build an image with the encoder, parse it, and compensate a sample:
+//!
+//! ```
+//! use compensate::image::{AxisSpec, QFormat, RawLimits, SignalKind, Unit};
+//! use compensate::interp::Interpolation;
+//! use compensate::{Compensator, ImageBuilder, Status, TableView};
+//!
+//! // Offset (codes) and gain (bar per code) at -20, 20, 60 C.
+//! let offset = [40.0f32, 10.0, -15.0];
+//! let gain = [1.0e-4f32, 1.1e-4, 1.2e-4];
+//! let builder = ImageBuilder {
+//!     interpolation: Interpolation::Linear,
+//!     q_format: QFormat::F32,
+//!     signal_kind: SignalKind::Celsius,
+//!     unit: Unit::Bar,
+//!     ratiometric: false,
+//!     full_scale: 10.0,
+//!     raw_limits: RawLimits { rail_lo: -32768, raw_lo: -30000, raw_hi: 30000, rail_hi: 32767 },
+//!     signal_lo: -60.0,
+//!     signal_hi: 150.0,
+//!     serial: *b"demo-part-000001",
+//!     thermometer: None,
+//!     temperature_axis: AxisSpec { start: -20.0, step: 40.0 },
+//!     offset: &offset,
+//!     gain: &gain,
+//!     quadratic: None,
+//!     grid: None,
+//! };
+//! let mut buf = [0u8; 256];
+//! let len = builder.encode(&mut buf)?;
+//!
+//! let view = TableView::parse(&buf[..len])?;
+//! let mut comp = Compensator::new(&view)?;
+//! assert_eq!(comp.update_temperature(40.0), Status::OK);
+//! let r = comp.compensate_sample(20_000.0);
+//! // At 40 C: offset -2.5 codes, gain 1.15e-4 bar/code.
+//! assert!((r.value - (20_000.0 + 2.5) * 1.15e-4).abs() < 1e-5);
+//! assert!(r.status.is_ok());
+//! # Ok::<(), Box<dyn core::error::Error>>(())
+//! ```
+//!
+//! # Table image layout (version 1)
+//!
+//! All multi-byte fields are little-endian. "num" is an f32 (IEEE 754
+//! binary32) in an f32 image, or an i32 in Q format in a Q image, with the
+//! fractional bits of its quantity (header bytes 24..30).
+//!
+//! | offset | size | type | field |
+//! |---:|---:|---|---|
+//! | 0 | 4 | bytes | magic `b"SDRT"` |
+//! | 4 | 2 | u16 | layout version, 1 |
+//! | 6 | 2 | u16 | header length, 80 |
+//! | 8 | 4 | u32 | total image length in bytes, including the CRC |
+//! | 12 | 1 | u8 | number format: 0 f32, 1 Q-format i32 |
+//! | 13 | 1 | u8 | interpolation: 0 linear, 1 monotone cubic |
+//! | 14 | 1 | u8 | temperature signal: 0 degrees C, 1 ohm, 2 ADC code |
+//! | 15 | 1 | u8 | flags: bit 0 ratiometric; other bits 0 |
+//! | 16 | 2 | u16 | `n_t`: temperature nodes (>= 2) |
+//! | 18 | 2 | u16 | `n_sig`: thermometer nodes (0 = none, else >= 2; required unless signal is degrees C) |
+//! | 20 | 2 | u16 | `n_raw`: raw-axis nodes of the 2-D correction (0 = none, else >= 2) |
+//! | 22 | 1 | u8 | `n_ch`: correction channels, 2 (offset, gain) or 3 (+ quadratic) |
+//! | 23 | 1 | u8 | unit: 0 none, 1 Pa, 2 bar, 3 T, 4 mT, 5 A, 6 N |
+//! | 24 | 6 | u8 x 6 | fractional bits of temperature, signal, output, offset, gain, quadratic (all 0 for f32) |
+//! | 30 | 2 | u16 | reserved, 0 |
+//! | 32 | 4 | f32 | full scale in the unit (always f32) |
+//! | 36 | 4 | i32 | lower rail code (raw <= rail: sensor fault) |
+//! | 40 | 4 | i32 | upper rail code (raw >= rail: sensor fault) |
+//! | 44 | 4 | i32 | lowest calibrated raw code |
+//! | 48 | 4 | i32 | highest calibrated raw code |
+//! | 52 | 4 | num | lowest plausible temperature signal |
+//! | 56 | 4 | num | highest plausible temperature signal |
+//! | 60 | 16 | bytes | serial number / metadata, opaque |
+//! | 76 | 4 | u32 | reserved, 0 |
+//! | 80 | 8 + 4 `n_sig` | num | thermometer (if `n_sig > 0`): signal axis start, step; `n_sig` temperatures |
+//! | ... | 8 + 4 `n_ch n_t` | num | channels: temperature axis start, step; offset column, gain column\[, quadratic column\] (each `n_t` values) |
+//! | ... | 8 + 4 `n_raw n_t` | num | 2-D correction (if `n_raw > 0`): raw axis start, step (integer codes in Q images); `n_t` rows of `n_raw` values in output units |
+//! | end - 4 | 4 | u32 | CRC-32 (IEEE 802.3) of every preceding byte |
+//!
+//! The measurand is `d (gain + quadratic d) + grid(T, raw)` with
+//! `d = raw - offset`, all at the current temperature `T`. In a Q image the
+//! output is an i32 with the `output` fractional bits. Every axis is uniform
+//! and strictly increasing; every f32 number is finite; reserved bytes are
+//! zero. The parser rejects anything else with its own [`ImageError`].
+//!
+//! # Error budget terms
+//!
+//! The budget of a compensated part (stated in ppm of full-scale span) adds
+//! five terms; the host tools report each separately.
+//!
+//! ## Table interpolation
+//! Between nodes the table replaces the calibrated curve by a line or a
+//! monotone cubic; for a curve with second derivative `f''` the linear
+//! error is at most `h^2 |f''| / 8` for node spacing `h` (common practice,
+//! the standard bound of linear interpolation). The host sizes `n_t` so
+//! this term fits the budget.
+//!
+//! ## Number-format quantization
+//! Q images round every stored number to its LSB and the integer path rounds
+//! products; [`interp::PositionQ::frac_q16`] is within 1 LSB of 2^-16 of the
+//! node spacing. The bound for a given [`image::QFormat`] is derived in the
+//! `fixed_point_agrees_with_f32_within_quantization_bound` test; f32 images
+//! add only f32 rounding (about 6e-8 relative per operation).
+//!
+//! ## Runtime-model deviation
+//! The `model` module's closed forms (Boltzmann statistics, one effective
+//! dopant level, Caughey-Thomas mobility) deviate from the host's full f64
+//! model; each function documents its bound and domain as a named constant.
+//! Only firmware that evaluates the model at runtime pays this term; table
+//! images do not.
+//!
+//! ## Calibration fit residual
+//! The residual of the station's fit at the chamber points, carried into
+//! the image unchanged; the station reports it.
+//!
+//! ## Temperature-signal error times drift slope
+//! A temperature error `dT` moves offset and gain along their drift curves:
+//! the output error is about `dT * (d offset/dT * gain + d gain/dT * d)`.
+//! Smoothing the temperature signal ([`smoothing`]) reduces noise but adds
+//! lag during temperature ramps.
+//!
+//! # Cargo features
+//! - `libm` (default): accurate f32 math backend for `model`.
+//! - `micromath`: fast approximations; used only when `libm` is off.
+//!   With both on, libm wins; with neither, `model` is not compiled.
+//! - `defmt`: `defmt::Format` on public types.
 #![cfg_attr(not(test), no_std)]
 #![forbid(unsafe_code)]
 #![deny(missing_docs)]
+#![deny(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing
+)]
+
+pub mod compensator;
+pub mod crc;
+pub mod image;
+pub mod interp;
+#[cfg(any(feature = "libm", feature = "micromath"))]
+pub mod math;
+pub mod smoothing;
+mod status;
+pub mod table;
+
+pub use compensator::{Compensator, CompensatorError, FixedCompensator, Reading, ReadingQ};
+pub use image::{ImageBuilder, ImageError, TableView};
+pub use status::Status;

@@ -1,0 +1,223 @@
+//! The f32 compensator, for parts with an FPU (Cortex-M4F and up).
+
+use super::CompensatorError;
+use crate::Status;
+use crate::image::{ColumnF32, NumberFormat, TableView, TablesF32};
+use crate::interp::{Axis, Interpolation, Nodes, Position, bilinear, cubic_monotone, linear};
+
+/// One compensated sample in engineering units.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Reading {
+    /// Measurand in the image's unit (0 when the input was NaN or the table
+    /// is invalid).
+    pub value: f32,
+    /// Conditions of this sample, including those of the last temperature
+    /// update.
+    pub status: Status,
+}
+
+/// f32 compensator running on a parsed f32 [`TableView`].
+///
+/// Call [`Compensator::update_temperature`] whenever a new temperature
+/// signal arrives (it caches offset, gain and the 2-D row position), and
+/// [`Compensator::compensate_sample`] for every raw sample.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Compensator<'a> {
+    tables: Option<TablesF32<'a>>,
+    interpolation: Interpolation,
+    grid: Option<(Axis, ColumnF32<'a>)>,
+    rail_lo: f32,
+    rail_hi: f32,
+    raw_lo: f32,
+    raw_hi: f32,
+    temperature_c: f32,
+    offset: f32,
+    gain: f32,
+    quadratic: f32,
+    row: Position,
+    temp_status: Status,
+}
+
+/// Interpolates with the image's method.
+#[inline]
+fn interp<N: Nodes<Value = f32>>(method: Interpolation, nodes: &N, p: Position) -> f32 {
+    match method {
+        Interpolation::MonotoneCubic => cubic_monotone(nodes, p),
+        _ => linear(nodes, p),
+    }
+}
+
+impl<'a> Compensator<'a> {
+    /// A compensator without a table: every sample reads 0 with
+    /// [`Status::TABLE_INVALID`]. Use it when an image fails to parse so the
+    /// firmware keeps running and reports the fault.
+    #[must_use]
+    pub const fn unconfigured() -> Self {
+        Self {
+            tables: None,
+            interpolation: Interpolation::Linear,
+            grid: None,
+            rail_lo: f32::NEG_INFINITY,
+            rail_hi: f32::INFINITY,
+            raw_lo: f32::NEG_INFINITY,
+            raw_hi: f32::INFINITY,
+            temperature_c: 0.0,
+            offset: 0.0,
+            gain: 0.0,
+            quadratic: 0.0,
+            row: Position {
+                index: 0,
+                frac: 0.0,
+                clamped: false,
+            },
+            temp_status: Status::TABLE_INVALID,
+        }
+    }
+
+    /// A compensator on an f32 image. Until the first
+    /// [`Self::update_temperature`] the coefficients are those of the first
+    /// temperature node and samples carry [`Status::NO_TEMPERATURE`].
+    ///
+    /// # Errors
+    /// [`CompensatorError::WrongFormat`] for a Q-format image.
+    pub fn new(view: &TableView<'a>) -> Result<Self, CompensatorError> {
+        let tables = view.tables_f32().ok_or(CompensatorError::WrongFormat {
+            expected: NumberFormat::F32,
+            found: view.format(),
+        })?;
+        let l = view.raw_limits();
+        let mut c = Self {
+            tables: Some(tables),
+            interpolation: view.interpolation(),
+            grid: tables.grid,
+            rail_lo: l.rail_lo as f32,
+            rail_hi: l.rail_hi as f32,
+            raw_lo: l.raw_lo as f32,
+            raw_hi: l.raw_hi as f32,
+            ..Self::unconfigured()
+        };
+        c.set_temperature_c(tables, tables.temperature.start);
+        c.temp_status = Status::NO_TEMPERATURE;
+        Ok(c)
+    }
+
+    /// Caches the coefficients at `t_c` degrees Celsius; returns whether
+    /// `t_c` was clamped to the table axis.
+    #[inline]
+    fn set_temperature_c(&mut self, tables: TablesF32<'a>, t_c: f32) -> Status {
+        let p = tables.temperature.locate(t_c);
+        self.temperature_c = t_c;
+        self.row = p;
+        self.offset = interp(self.interpolation, &tables.offset, p);
+        self.gain = interp(self.interpolation, &tables.gain, p);
+        self.quadratic = match tables.quadratic {
+            Some(q) => interp(self.interpolation, &q, p),
+            None => 0.0,
+        };
+        if p.clamped {
+            Status::TEMPERATURE_CLAMPED
+        } else {
+            Status::OK
+        }
+    }
+
+    /// Takes a new temperature signal (degrees Celsius, or the thermometer
+    /// quantity the image maps to temperature) and caches the coefficients.
+    ///
+    /// A NaN or infinite signal keeps the previous coefficients and flags
+    /// every following sample with [`Status::NAN_INPUT`] until a valid update.
+    /// A signal outside the image's plausible range flags
+    /// [`Status::SENSOR_FAULT`] (and is clamped).
+    #[inline]
+    pub fn update_temperature(&mut self, signal: f32) -> Status {
+        let Some(tables) = self.tables else {
+            return Status::TABLE_INVALID;
+        };
+        if !signal.is_finite() {
+            self.temp_status = Status::NAN_INPUT;
+            return self.temp_status;
+        }
+        let mut status = Status::OK;
+        if signal < tables.signal_lo || signal > tables.signal_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        let t_c = match tables.thermometer {
+            Some((axis, values)) => {
+                let p = axis.locate(signal);
+                if p.clamped {
+                    status |= Status::TEMPERATURE_CLAMPED;
+                }
+                interp(self.interpolation, &values, p)
+            }
+            None => signal,
+        };
+        status |= self.set_temperature_c(tables, t_c);
+        self.temp_status = status;
+        status
+    }
+
+    /// Temperature of the cached coefficients, degrees Celsius (after the
+    /// thermometer map, before clamping to the table axis).
+    #[must_use]
+    pub const fn temperature_c(&self) -> f32 {
+        self.temperature_c
+    }
+
+    /// Cached `(offset, gain, quadratic)` at the current temperature.
+    #[must_use]
+    pub const fn coefficients(&self) -> (f32, f32, f32) {
+        (self.offset, self.gain, self.quadratic)
+    }
+
+    /// Compensates one raw sample (ADC codes, or any value on the same scale
+    /// as the image's offset channel).
+    ///
+    /// Value: `d (gain + quadratic d)` with `d = raw - offset`, plus the 2-D
+    /// correction if the image has one. Codes at or beyond a rail give
+    /// [`Status::SENSOR_FAULT`]; outside the calibrated range,
+    /// [`Status::INPUT_OUT_OF_RANGE`] (the value is extrapolated).
+    #[inline]
+    pub fn compensate_sample(&self, raw: f32) -> Reading {
+        let mut status = self.temp_status;
+        if !(raw > self.rail_lo && raw < self.rail_hi) {
+            if !raw.is_finite() {
+                return Reading {
+                    value: 0.0,
+                    status: status | Status::NAN_INPUT,
+                };
+            }
+            status |= Status::SENSOR_FAULT;
+        } else if raw < self.raw_lo || raw > self.raw_hi {
+            status |= Status::INPUT_OUT_OF_RANGE;
+        }
+        let d = raw - self.offset;
+        let mut value = d * (self.gain + self.quadratic * d);
+        if let Some((axis, values)) = &self.grid {
+            let c = axis.locate(raw);
+            if c.clamped {
+                status |= Status::INPUT_OUT_OF_RANGE;
+            }
+            value += bilinear(values, axis.len, self.row, c);
+        }
+        Reading { value, status }
+    }
+
+    /// Compensates a raw sample taken at an excitation that differs from the
+    /// calibration excitation by `excitation_ratio` (measured / nominal):
+    /// the raw value is divided by the ratio first, which undoes the
+    /// proportional dependence of a bridge or Hall output on excitation.
+    ///
+    /// A ratio that is not positive and finite gives value 0 with
+    /// [`Status::NAN_INPUT`].
+    #[inline]
+    pub fn compensate_ratiometric(&self, raw: f32, excitation_ratio: f32) -> Reading {
+        if !(excitation_ratio > 0.0 && excitation_ratio.is_finite()) {
+            return Reading {
+                value: 0.0,
+                status: self.temp_status | Status::NAN_INPUT,
+            };
+        }
+        self.compensate_sample(raw / excitation_ratio)
+    }
+}

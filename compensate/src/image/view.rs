@@ -1,0 +1,605 @@
+//! Zero-copy, validated view of a table image: [`TableView::parse`].
+
+use super::bytes::{f32_at, i32_at, u8_at, u16_at, u32_at, word};
+use super::column::{ColumnF32, ColumnQ};
+use super::error::{ImageError, Section};
+use super::layout::{
+    self, AXIS_LEN, CRC_LEN, FLAG_RATIOMETRIC, HEADER_LEN, MAGIC, MAX_COEFF_FRAC_BITS,
+    MAX_FRAC_BITS, MAX_SHIFT, NumberFormat, QFormat, RawLimits, SERIAL_LEN, SignalKind, Unit,
+    VERSION, WORD, off,
+};
+use crate::crc::crc32;
+use crate::interp::{Axis, AxisQ, Interpolation};
+
+/// A validated table image borrowed from flash or RAM.
+///
+/// Only [`TableView::parse`] creates one, and it checks everything first:
+/// a `TableView` is never partly trusted.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TableView<'a> {
+    bytes: &'a [u8],
+    format: NumberFormat,
+    interpolation: Interpolation,
+    signal_kind: SignalKind,
+    unit: Unit,
+    ratiometric: bool,
+    q: QFormat,
+    full_scale: f32,
+    limits: RawLimits,
+    n_t: usize,
+    n_ch: usize,
+    n_sig: usize,
+    n_raw: usize,
+}
+
+/// Section geometry: byte offsets of each section's axis.
+struct Offsets {
+    therm: usize,
+    chan: usize,
+    grid: usize,
+}
+
+impl Offsets {
+    fn new(n_t: usize, n_ch: usize, n_sig: usize) -> Self {
+        // Only called once `layout::image_len` succeeded for these counts,
+        // so none of the sums below can overflow.
+        let therm = HEADER_LEN;
+        let chan = if n_sig == 0 {
+            therm
+        } else {
+            therm
+                .saturating_add(AXIS_LEN)
+                .saturating_add(n_sig.saturating_mul(WORD))
+        };
+        let grid = chan
+            .saturating_add(AXIS_LEN)
+            .saturating_add(n_ch.saturating_mul(n_t).saturating_mul(WORD));
+        Self { therm, chan, grid }
+    }
+}
+
+/// The f32 tables of a validated f32 image.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TablesF32<'a> {
+    /// Temperature axis of the channels, degrees Celsius.
+    pub temperature: Axis,
+    /// Offset channel, raw codes.
+    pub offset: ColumnF32<'a>,
+    /// Gain channel, output units per raw code.
+    pub gain: ColumnF32<'a>,
+    /// Optional quadratic channel, gain units per raw code.
+    pub quadratic: Option<ColumnF32<'a>>,
+    /// Optional map from temperature signal (axis) to degrees Celsius.
+    pub thermometer: Option<(Axis, ColumnF32<'a>)>,
+    /// Optional 2-D correction: raw axis and row-major values (one row of
+    /// `raw.len` values per temperature node), output units.
+    pub grid: Option<(Axis, ColumnF32<'a>)>,
+    /// Lowest plausible temperature signal.
+    pub signal_lo: f32,
+    /// Highest plausible temperature signal.
+    pub signal_hi: f32,
+}
+
+/// The Q-format tables of a validated Q image.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TablesQ<'a> {
+    /// Temperature axis, Q(`temperature`) degrees Celsius.
+    pub temperature: AxisQ,
+    /// Offset channel, Q(`offset`) raw codes.
+    pub offset: ColumnQ<'a>,
+    /// Gain channel, Q(`gain`) output units per raw code.
+    pub gain: ColumnQ<'a>,
+    /// Optional quadratic channel, Q(`quadratic`).
+    pub quadratic: Option<ColumnQ<'a>>,
+    /// Optional map from Q(`signal`) temperature signal to Q(`temperature`).
+    pub thermometer: Option<(AxisQ, ColumnQ<'a>)>,
+    /// Optional 2-D correction: raw axis (integer codes) and row-major
+    /// Q(`output`) values.
+    pub grid: Option<(AxisQ, ColumnQ<'a>)>,
+    /// Lowest plausible temperature signal, Q(`signal`).
+    pub signal_lo: i32,
+    /// Highest plausible temperature signal, Q(`signal`).
+    pub signal_hi: i32,
+    /// Fractional bits of every quantity.
+    pub q: QFormat,
+}
+
+impl<'a> TableView<'a> {
+    /// Length an image declares in its header, to cut it out of a larger
+    /// flash region before [`TableView::parse`]. Checks magic and version.
+    ///
+    /// # Errors
+    /// [`ImageError::Truncated`], [`ImageError::BadMagic`],
+    /// [`ImageError::UnsupportedVersion`].
+    pub fn declared_len(bytes: &[u8]) -> Result<usize, ImageError> {
+        if bytes.len() < HEADER_LEN {
+            return Err(ImageError::Truncated {
+                needed: HEADER_LEN,
+                got: bytes.len(),
+            });
+        }
+        if word(bytes, off::MAGIC) != MAGIC {
+            return Err(ImageError::BadMagic);
+        }
+        let version = u16_at(bytes, off::VERSION);
+        if version != VERSION {
+            return Err(ImageError::UnsupportedVersion(version));
+        }
+        Ok(u32_at(bytes, off::TOTAL_LEN) as usize)
+    }
+
+    /// Validates `bytes` as a complete table image and returns a view of it.
+    ///
+    /// Checks, in order: length, magic, version, header length, declared
+    /// length, CRC-32, codes and reserved fields, counts, fractional bits,
+    /// section lengths, limits, axes, finiteness of every number.
+    ///
+    /// # Errors
+    /// One [`ImageError`] variant per kind of defect; never panics.
+    pub fn parse(bytes: &'a [u8]) -> Result<Self, ImageError> {
+        let total = Self::declared_len(bytes)?;
+        let header_len = u16_at(bytes, off::HEADER_LEN);
+        if usize::from(header_len) != HEADER_LEN {
+            return Err(ImageError::BadHeaderLength(header_len));
+        }
+        if bytes.len() < total {
+            return Err(ImageError::Truncated {
+                needed: total,
+                got: bytes.len(),
+            });
+        }
+        if bytes.len() > total {
+            return Err(ImageError::TrailingBytes {
+                declared: total,
+                got: bytes.len(),
+            });
+        }
+        let min_len = HEADER_LEN + AXIS_LEN + CRC_LEN;
+        if total < min_len {
+            return Err(ImageError::LengthMismatch {
+                declared: total,
+                expected: min_len,
+            });
+        }
+        let body_len = total - CRC_LEN;
+        let stored = u32_at(bytes, body_len);
+        let computed = crc32(bytes.get(..body_len).unwrap_or(&[]));
+        if stored != computed {
+            return Err(ImageError::CrcMismatch { stored, computed });
+        }
+
+        let format_code = u8_at(bytes, off::FORMAT);
+        let format =
+            NumberFormat::from_code(format_code).ok_or(ImageError::UnknownFormat(format_code))?;
+        let interp_code = u8_at(bytes, off::INTERP);
+        let interpolation = Interpolation::from_code(interp_code)
+            .ok_or(ImageError::UnknownInterpolation(interp_code))?;
+        let kind_code = u8_at(bytes, off::SIGNAL_KIND);
+        let signal_kind =
+            SignalKind::from_code(kind_code).ok_or(ImageError::UnknownSignalKind(kind_code))?;
+        let unit_code = u8_at(bytes, off::UNIT);
+        let unit = Unit::from_code(unit_code).ok_or(ImageError::UnknownUnit(unit_code))?;
+        let flags = u8_at(bytes, off::FLAGS);
+        if flags & !FLAG_RATIOMETRIC != 0 {
+            return Err(ImageError::ReservedNotZero { offset: off::FLAGS });
+        }
+        if u16_at(bytes, off::RESERVED_A) != 0 {
+            return Err(ImageError::ReservedNotZero {
+                offset: off::RESERVED_A,
+            });
+        }
+        if u32_at(bytes, off::RESERVED_B) != 0 {
+            return Err(ImageError::ReservedNotZero {
+                offset: off::RESERVED_B,
+            });
+        }
+
+        let n_t = usize::from(u16_at(bytes, off::N_T));
+        let n_sig = usize::from(u16_at(bytes, off::N_SIG));
+        let n_raw = usize::from(u16_at(bytes, off::N_RAW));
+        let n_ch = usize::from(u8_at(bytes, off::N_CH));
+        if n_t < 2 {
+            return Err(ImageError::BadCount {
+                field: "n_t",
+                value: n_t,
+            });
+        }
+        if n_sig == 1 || (n_sig == 0 && signal_kind != SignalKind::Celsius) {
+            return Err(ImageError::BadCount {
+                field: "n_sig",
+                value: n_sig,
+            });
+        }
+        if n_raw == 1 {
+            return Err(ImageError::BadCount {
+                field: "n_raw",
+                value: n_raw,
+            });
+        }
+        if !(2..=3).contains(&n_ch) {
+            return Err(ImageError::BadCount {
+                field: "n_ch",
+                value: n_ch,
+            });
+        }
+        let expected = layout::image_len(n_t, n_ch, n_sig, n_raw).unwrap_or(0);
+        if expected != total {
+            return Err(ImageError::LengthMismatch {
+                declared: total,
+                expected,
+            });
+        }
+
+        let mut frac = [0u8; 6];
+        for (i, f) in frac.iter_mut().enumerate() {
+            *f = u8_at(bytes, off::FRAC + i);
+        }
+        let q = QFormat::from_bytes(frac);
+        let limits = RawLimits {
+            rail_lo: i32_at(bytes, off::RAIL_LO),
+            raw_lo: i32_at(bytes, off::RAW_LO),
+            raw_hi: i32_at(bytes, off::RAW_HI),
+            rail_hi: i32_at(bytes, off::RAIL_HI),
+        };
+        check_frac(format, q, n_ch, limits)?;
+
+        let full_scale = f32_at(bytes, off::FULL_SCALE);
+        if !(full_scale.is_finite() && full_scale > 0.0) {
+            return Err(ImageError::BadLimits {
+                field: "full_scale",
+            });
+        }
+        if !(limits.rail_lo < limits.raw_lo
+            && limits.raw_lo < limits.raw_hi
+            && limits.raw_hi < limits.rail_hi)
+        {
+            return Err(ImageError::BadLimits { field: "raw" });
+        }
+        let sig_ok = match format {
+            NumberFormat::F32 => {
+                let (lo, hi) = (f32_at(bytes, off::SIG_LO), f32_at(bytes, off::SIG_HI));
+                lo.is_finite() && hi.is_finite() && lo < hi
+            }
+            NumberFormat::Q => i32_at(bytes, off::SIG_LO) < i32_at(bytes, off::SIG_HI),
+        };
+        if !sig_ok {
+            return Err(ImageError::BadLimits { field: "signal" });
+        }
+
+        let view = Self {
+            bytes,
+            format,
+            interpolation,
+            signal_kind,
+            unit,
+            ratiometric: flags & FLAG_RATIOMETRIC != 0,
+            q,
+            full_scale,
+            limits,
+            n_t,
+            n_ch,
+            n_sig,
+            n_raw,
+        };
+        view.check_sections()?;
+        Ok(view)
+    }
+
+    /// Axes strictly increasing and every number finite.
+    fn check_sections(&self) -> Result<(), ImageError> {
+        let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
+        let mut sections: [(Section, usize, usize, usize); 3] = [
+            (Section::Thermometer, o.therm, self.n_sig, self.n_sig),
+            (
+                Section::Channels,
+                o.chan,
+                self.n_t,
+                self.n_t.saturating_mul(self.n_ch),
+            ),
+            (
+                Section::Grid,
+                o.grid,
+                self.n_raw,
+                self.n_raw.saturating_mul(self.n_t),
+            ),
+        ];
+        // A Q grid's raw axis is in integer codes; every other Q axis uses
+        // the fractional bits of its own quantity, which do not matter for
+        // monotonicity.
+        for (section, at, nodes, values) in &mut sections {
+            if *nodes == 0 {
+                continue;
+            }
+            let ok = match self.format {
+                NumberFormat::F32 => f32_axis_ok(
+                    f32_at(self.bytes, *at),
+                    f32_at(self.bytes, *at + WORD),
+                    *nodes,
+                ),
+                NumberFormat::Q => AxisQ::new(
+                    i32_at(self.bytes, *at),
+                    i32_at(self.bytes, *at + WORD),
+                    *nodes,
+                )
+                .is_some(),
+            };
+            if !ok {
+                return Err(ImageError::BadAxis { section: *section });
+            }
+            if self.format == NumberFormat::F32 {
+                let data = *at + AXIS_LEN;
+                for index in 0..*values {
+                    if !f32_at(self.bytes, data.saturating_add(index.saturating_mul(WORD)))
+                        .is_finite()
+                    {
+                        return Err(ImageError::NonFinite {
+                            section: *section,
+                            index,
+                        });
+                    }
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Number format of the stored numbers.
+    #[must_use]
+    pub const fn format(&self) -> NumberFormat {
+        self.format
+    }
+
+    /// Interpolation method between nodes.
+    #[must_use]
+    pub const fn interpolation(&self) -> Interpolation {
+        self.interpolation
+    }
+
+    /// What the temperature signal is.
+    #[must_use]
+    pub const fn signal_kind(&self) -> SignalKind {
+        self.signal_kind
+    }
+
+    /// Unit of the compensated measurand.
+    #[must_use]
+    pub const fn unit(&self) -> Unit {
+        self.unit
+    }
+
+    /// `true` when the raw signal is ratiometric to the excitation.
+    #[must_use]
+    pub const fn ratiometric(&self) -> bool {
+        self.ratiometric
+    }
+
+    /// Fractional bits of each quantity (all zero for f32 images).
+    #[must_use]
+    pub const fn q_format(&self) -> QFormat {
+        self.q
+    }
+
+    /// Full scale of the measurand, in [`Self::unit`].
+    #[must_use]
+    pub const fn full_scale(&self) -> f32 {
+        self.full_scale
+    }
+
+    /// Raw-input limits (rails and calibrated range), in ADC codes.
+    #[must_use]
+    pub const fn raw_limits(&self) -> RawLimits {
+        self.limits
+    }
+
+    /// Temperature nodes per channel.
+    #[must_use]
+    pub const fn temperature_nodes(&self) -> usize {
+        self.n_t
+    }
+
+    /// Correction channels (2: offset and gain; 3: plus quadratic).
+    #[must_use]
+    pub const fn channel_count(&self) -> usize {
+        self.n_ch
+    }
+
+    /// Nodes of the thermometer section, 0 if absent.
+    #[must_use]
+    pub const fn thermometer_nodes(&self) -> usize {
+        self.n_sig
+    }
+
+    /// Raw-axis nodes of the 2-D correction, 0 if absent.
+    #[must_use]
+    pub const fn grid_raw_nodes(&self) -> usize {
+        self.n_raw
+    }
+
+    /// The opaque serial / metadata field.
+    #[must_use]
+    pub fn serial(&self) -> [u8; SERIAL_LEN] {
+        let mut s = [0u8; SERIAL_LEN];
+        if let Some(src) = self.bytes.get(off::SERIAL..off::SERIAL + SERIAL_LEN) {
+            s.copy_from_slice(src);
+        }
+        s
+    }
+
+    /// The CRC-32 stored at the end of the image.
+    #[must_use]
+    pub fn crc(&self) -> u32 {
+        u32_at(self.bytes, self.bytes.len().saturating_sub(CRC_LEN))
+    }
+
+    /// The whole image.
+    #[must_use]
+    pub const fn as_bytes(&self) -> &'a [u8] {
+        self.bytes
+    }
+
+    /// Words `start..start + count` of the image as a byte slice.
+    fn words(&self, start: usize, count: usize) -> &'a [u8] {
+        let end = start.saturating_add(count.saturating_mul(WORD));
+        self.bytes.get(start..end).unwrap_or(&[])
+    }
+
+    /// The tables of an f32 image; `None` for a Q image.
+    #[must_use]
+    pub fn tables_f32(&self) -> Option<TablesF32<'a>> {
+        if self.format != NumberFormat::F32 {
+            return None;
+        }
+        let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
+        let axis = |at: usize, len: usize| Axis {
+            start: f32_at(self.bytes, at),
+            step: f32_at(self.bytes, at + WORD),
+            len,
+        };
+        let chan = |c: usize| {
+            ColumnF32::new(self.words(o.chan + AXIS_LEN + c * self.n_t * WORD, self.n_t))
+        };
+        Some(TablesF32 {
+            temperature: axis(o.chan, self.n_t),
+            offset: chan(0),
+            gain: chan(1),
+            quadratic: (self.n_ch > 2).then(|| chan(2)),
+            thermometer: (self.n_sig > 0).then(|| {
+                (
+                    axis(o.therm, self.n_sig),
+                    ColumnF32::new(self.words(o.therm + AXIS_LEN, self.n_sig)),
+                )
+            }),
+            grid: (self.n_raw > 0).then(|| {
+                (
+                    axis(o.grid, self.n_raw),
+                    ColumnF32::new(self.words(o.grid + AXIS_LEN, self.n_raw * self.n_t)),
+                )
+            }),
+            signal_lo: f32_at(self.bytes, off::SIG_LO),
+            signal_hi: f32_at(self.bytes, off::SIG_HI),
+        })
+    }
+
+    /// The tables of a Q image; `None` for an f32 image.
+    #[must_use]
+    pub fn tables_q(&self) -> Option<TablesQ<'a>> {
+        if self.format != NumberFormat::Q {
+            return None;
+        }
+        let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
+        let axis = |at: usize, len: usize| {
+            AxisQ::new(i32_at(self.bytes, at), i32_at(self.bytes, at + WORD), len)
+        };
+        let chan =
+            |c: usize| ColumnQ::new(self.words(o.chan + AXIS_LEN + c * self.n_t * WORD, self.n_t));
+        let thermometer = if self.n_sig > 0 {
+            Some((
+                axis(o.therm, self.n_sig)?,
+                ColumnQ::new(self.words(o.therm + AXIS_LEN, self.n_sig)),
+            ))
+        } else {
+            None
+        };
+        let grid = if self.n_raw > 0 {
+            Some((
+                axis(o.grid, self.n_raw)?,
+                ColumnQ::new(self.words(o.grid + AXIS_LEN, self.n_raw * self.n_t)),
+            ))
+        } else {
+            None
+        };
+        Some(TablesQ {
+            temperature: axis(o.chan, self.n_t)?,
+            offset: chan(0),
+            gain: chan(1),
+            quadratic: (self.n_ch > 2).then(|| chan(2)),
+            thermometer,
+            grid,
+            signal_lo: i32_at(self.bytes, off::SIG_LO),
+            signal_hi: i32_at(self.bytes, off::SIG_HI),
+            q: self.q,
+        })
+    }
+}
+
+/// Uniform f32 axis with finite, strictly increasing nodes.
+fn f32_axis_ok(start: f32, step: f32, len: usize) -> bool {
+    if !(start.is_finite() && step.is_finite() && step > 0.0) {
+        return false;
+    }
+    let mut prev = start;
+    for k in 1..len {
+        let x = start + step * k as f32;
+        if !(x.is_finite() && x > prev) {
+            return false;
+        }
+        prev = x;
+    }
+    true
+}
+
+/// Fractional bits fit the format and keep the integer path overflow-free.
+fn check_frac(
+    format: NumberFormat,
+    q: QFormat,
+    n_ch: usize,
+    limits: RawLimits,
+) -> Result<(), ImageError> {
+    // Quantities that scale i32 inputs or outputs get at most 30 bits; the
+    // gain and quadratic coefficients are tiny numbers (units per code) and
+    // may use up to 62, limited below by the shifts they imply.
+    let named = [
+        ("temperature", q.temperature, MAX_FRAC_BITS),
+        ("signal", q.signal, MAX_FRAC_BITS),
+        ("output", q.output, MAX_FRAC_BITS),
+        ("offset", q.offset, MAX_FRAC_BITS),
+        ("gain", q.gain, MAX_COEFF_FRAC_BITS),
+        ("quadratic", q.quadratic, MAX_COEFF_FRAC_BITS),
+    ];
+    for (field, value, max) in named {
+        let bad = match format {
+            NumberFormat::F32 => value != 0,
+            NumberFormat::Q => value > max,
+        };
+        if bad {
+            return Err(ImageError::BadFracBits { field, value });
+        }
+    }
+    if format == NumberFormat::F32 {
+        return Ok(());
+    }
+    // (raw << offset - offset) * gain >> shift lands in Q(output): the
+    // shift offset + gain - output must not be negative.
+    if q.offset + q.gain < q.output || q.offset + q.gain - q.output > MAX_SHIFT {
+        return Err(ImageError::BadFracBits {
+            field: "output",
+            value: q.output,
+        });
+    }
+    // quadratic * d is Q(quadratic + offset), shifted down to Q(gain).
+    if n_ch > 2 && (q.quadratic + q.offset < q.gain || q.quadratic + q.offset - q.gain > MAX_SHIFT)
+    {
+        return Err(ImageError::BadFracBits {
+            field: "quadratic",
+            value: q.quadratic,
+        });
+    }
+    if n_ch == 2 && q.quadratic != 0 {
+        return Err(ImageError::BadFracBits {
+            field: "quadratic",
+            value: q.quadratic,
+        });
+    }
+    // Raw codes up to the rails, shifted to Q(offset), must fit in i32.
+    let shift = u32::from(q.offset);
+    let lo = i64::from(limits.rail_lo) << shift;
+    let hi = i64::from(limits.rail_hi) << shift;
+    if lo < i64::from(i32::MIN) || hi > i64::from(i32::MAX) {
+        return Err(ImageError::BadFracBits {
+            field: "offset",
+            value: q.offset,
+        });
+    }
+    Ok(())
+}

@@ -1,0 +1,279 @@
+//! Uniform axes: where a point falls between nodes, with clamping.
+
+/// A uniform f32 axis: nodes at `start + k * step`, `k = 0..len`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Axis {
+    /// First node abscissa.
+    pub start: f32,
+    /// Node spacing, `> 0`.
+    pub step: f32,
+    /// Number of nodes, `>= 2` for interpolation.
+    pub len: usize,
+}
+
+/// Where a point lies on an f32 axis.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Position {
+    /// Left node; `frac == 0` means exactly on this node.
+    pub index: usize,
+    /// Fraction of the way to node `index + 1`, in `[0, 1)`.
+    pub frac: f32,
+    /// The point was outside the axis and was clamped to its nearest end.
+    pub clamped: bool,
+}
+
+impl Axis {
+    /// Abscissa of the last node.
+    #[inline]
+    #[must_use]
+    pub fn end(&self) -> f32 {
+        self.start + self.step * self.len.saturating_sub(1) as f32
+    }
+
+    /// Locates `x` on the axis, clamping outside it; NaN maps to node 0 with
+    /// `clamped` set.
+    ///
+    /// A node is hit exactly (`frac == 0`) whenever `x - start` and the
+    /// quotient by `step` are exact in f32, e.g. on any grid of dyadic
+    /// rationals (integers, halves, quarters...).
+    #[inline]
+    #[must_use]
+    // `!(pos > 0.0)` is deliberate: it is true for NaN as well.
+    #[allow(clippy::neg_cmp_op_on_partial_ord)]
+    pub fn locate(&self, x: f32) -> Position {
+        let last = self.len.saturating_sub(1);
+        let pos = (x - self.start) / self.step;
+        // `!(pos > 0)` also catches NaN.
+        if !(pos > 0.0) {
+            return Position {
+                index: 0,
+                frac: 0.0,
+                clamped: pos != 0.0,
+            };
+        }
+        let last_f = last as f32;
+        if pos >= last_f {
+            return Position {
+                index: last,
+                frac: 0.0,
+                clamped: pos > last_f,
+            };
+        }
+        // 0 < pos < last, so the truncating cast is a floor and in range;
+        // `pos - index` is exact (Sterbenz for pos >= 1, trivially below).
+        let index = pos as usize;
+        Position {
+            index,
+            frac: pos - index as f32,
+            clamped: false,
+        }
+    }
+}
+
+/// A uniform Q-format axis: nodes at `start + k * step` (i32, any fixed
+/// binary point shared with the input), `k = 0..len`.
+///
+/// Construct with [`AxisQ::new`], which precomputes the reciprocal of the
+/// step so that locating a point costs one 32-bit division and one
+/// 32x32->64 multiplication.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct AxisQ {
+    start: i32,
+    step: u32,
+    len: usize,
+    /// `ceil(2^48 / step)`.
+    inv_step: u64,
+}
+
+/// Where a point lies on a Q-format axis.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PositionQ {
+    /// Left node; `frac_q16 == 0` means exactly on this node.
+    pub index: usize,
+    /// Fraction of the way to node `index + 1`, in Q0.16 (`0..65536`),
+    /// within 1 LSB of the exact fraction (exact when that is a whole LSB).
+    pub frac_q16: u32,
+    /// The point was outside the axis and was clamped to its nearest end.
+    pub clamped: bool,
+}
+
+impl AxisQ {
+    /// A Q axis; `None` when `step <= 0`, `len < 2`, or the last node
+    /// `start + (len - 1) * step` does not fit in i32.
+    #[must_use]
+    pub const fn new(start: i32, step: i32, len: usize) -> Option<Self> {
+        if step <= 0 || len < 2 || len > u16::MAX as usize {
+            return None;
+        }
+        // (len - 1) * step < 2^16 * 2^31 fits in i64.
+        let end = start as i64 + (len as i64 - 1) * step as i64;
+        if end > i32::MAX as i64 {
+            return None;
+        }
+        let step = step as u32;
+        Some(Self {
+            start,
+            step,
+            len,
+            inv_step: (1u64 << 48).div_ceil(step as u64),
+        })
+    }
+
+    /// First node abscissa.
+    #[must_use]
+    pub const fn start(&self) -> i32 {
+        self.start
+    }
+
+    /// Node spacing.
+    #[must_use]
+    pub const fn step(&self) -> i32 {
+        // Constructed from a positive i32.
+        self.step as i32
+    }
+
+    /// Number of nodes.
+    #[must_use]
+    pub const fn len(&self) -> usize {
+        self.len
+    }
+
+    /// Always `false`: a Q axis has at least two nodes.
+    #[must_use]
+    pub const fn is_empty(&self) -> bool {
+        false
+    }
+
+    /// Locates `x` on the axis, clamping outside it. Nodes are hit exactly.
+    #[inline]
+    #[must_use]
+    pub fn locate(&self, x: i32) -> PositionQ {
+        // Integer arithmetic here is bounded by construction (see `new`);
+        // wrapping operations state that no overflow is possible.
+        let last = self.len.wrapping_sub(1);
+        let u = i64::from(x).wrapping_sub(i64::from(self.start));
+        if u <= 0 {
+            return PositionQ {
+                index: 0,
+                frac_q16: 0,
+                clamped: u < 0,
+            };
+        }
+        let span = (last as i64).wrapping_mul(i64::from(self.step));
+        if u >= span {
+            return PositionQ {
+                index: last,
+                frac_q16: 0,
+                clamped: u > span,
+            };
+        }
+        // 0 < u < span <= u32::MAX (the end fits in i32).
+        let u = u as u32;
+        let index = u.checked_div(self.step).unwrap_or(0);
+        let rem = u.wrapping_sub(index.wrapping_mul(self.step));
+        // rem < step, so rem * ceil(2^48/step) < 2^48 + 2^31 (no overflow)
+        // and the shifted result is at most 2^16, clamped to 2^16 - 1. The
+        // rounded-up reciprocal overshoots by rem / 2^32 < 0.5 LSB, the final
+        // shift truncates by < 1 LSB: |frac - exact| < 1 LSB, and fractions
+        // that are whole LSBs (any dyadic step) come out exact.
+        let frac_q16 = ((u64::from(rem).wrapping_mul(self.inv_step) >> 32) as u32).min(0xFFFF);
+        PositionQ {
+            index: index as usize,
+            frac_q16,
+            clamped: false,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn f32_locate_table() {
+        let axis = Axis {
+            start: -40.0,
+            step: 5.0,
+            len: 34,
+        };
+        // (x, index, frac, clamped)
+        let cases = [
+            (-40.0, 0, 0.0, false),
+            (-50.0, 0, 0.0, true),
+            (-37.5, 0, 0.5, false),
+            (25.0, 13, 0.0, false),
+            (125.0, 33, 0.0, false),
+            (126.0, 33, 0.0, true),
+            (f32::NAN, 0, 0.0, true),
+            (f32::INFINITY, 33, 0.0, true),
+        ];
+        for (x, index, frac, clamped) in cases {
+            let got = axis.locate(x);
+            let want = Position {
+                index,
+                frac,
+                clamped,
+            };
+            assert_eq!(got, want, "locate({x}): got {got:?}, expected {want:?}");
+        }
+    }
+
+    #[test]
+    fn q_locate_table() {
+        // Q16.16 degrees: -40 C start, 5 C step.
+        let one = 1 << 16;
+        let axis = AxisQ::new(-40 * one, 5 * one, 34).unwrap();
+        let cases = [
+            (-40 * one, 0, 0, false),
+            (-41 * one, 0, 0, true),
+            (-40 * one + 5 * one / 2, 0, 32768, false),
+            (25 * one, 13, 0, false),
+            (125 * one, 33, 0, false),
+            (i32::MAX, 33, 0, true),
+            (i32::MIN, 0, 0, true),
+        ];
+        for (x, index, frac_q16, clamped) in cases {
+            let got = axis.locate(x);
+            let want = PositionQ {
+                index,
+                frac_q16,
+                clamped,
+            };
+            assert_eq!(got, want, "locate({x}): got {got:?}, expected {want:?}");
+        }
+    }
+
+    #[test]
+    fn q_axis_rejects_bad_geometry() {
+        assert!(AxisQ::new(0, 0, 4).is_none());
+        assert!(AxisQ::new(0, -1, 4).is_none());
+        assert!(AxisQ::new(0, 1, 1).is_none());
+        assert!(AxisQ::new(i32::MAX - 2, 1, 4).is_none());
+        assert!(AxisQ::new(i32::MAX - 3, 1, 4).is_some());
+    }
+
+    #[test]
+    fn q_fraction_error_within_documented_bound() {
+        // Awkward steps (primes, one above 2^16 and one near 2^31/8) to
+        // exercise the truncated reciprocal; bound from `PositionQ::frac_q16`.
+        for step in [7919i32, 327_673, 268_435_399] {
+            let axis = AxisQ::new(-1000, step, 8).unwrap();
+            for k in 0..20_000i64 {
+                let u = (k * i64::from(step) * 7 / 20_000) as i32;
+                let p = axis.locate(-1000 + u);
+                let exact = f64::from(u % step) / f64::from(step) * 65536.0;
+                let err = exact - f64::from(p.frac_q16);
+                assert!(
+                    err.abs() < 1.0,
+                    "step={step} u={u}: got {} exact {exact}",
+                    p.frac_q16
+                );
+                assert_eq!(p.index, (u / step) as usize, "step={step} u={u}");
+            }
+        }
+    }
+}

@@ -1,0 +1,198 @@
+//! Q-format integer interpolation kernels: linear, monotone cubic Hermite,
+//! bilinear. Pure integer arithmetic, bit-exact on every target.
+//!
+//! Values are i32 in any Q format; the position fraction is Q0.16. Results
+//! are rounded half up and saturate at the i32 range.
+#![deny(clippy::arithmetic_side_effects)]
+
+use super::{Nodes, PositionQ};
+
+/// `(a * frac_q16) >> 16` rounded half up, `a` within +-2^47.
+#[inline]
+fn scale_q16(a: i64, frac_q16: u32) -> i64 {
+    // |a| < 2^47 and frac < 2^16 keep the product and the rounding offset
+    // below 2^63.
+    a.wrapping_mul(i64::from(frac_q16)).wrapping_add(1 << 15) >> 16
+}
+
+/// i64 to i32 with saturation.
+#[inline]
+fn saturate(v: i64) -> i32 {
+    v.clamp(i64::from(i32::MIN), i64::from(i32::MAX)) as i32
+}
+
+/// Linear interpolation at `p`; exact at nodes, within the two neighbouring
+/// node values, error against the exact line at most 0.5 LSB plus the
+/// position error of [`PositionQ::frac_q16`] times the node difference.
+#[inline]
+pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
+    let v0 = nodes.node(p.index);
+    if p.frac_q16 == 0 {
+        return v0;
+    }
+    let v1 = nodes.node(p.index.wrapping_add(1));
+    // |v1 - v0| < 2^32, so the scaled step fits and v0 + step lies between
+    // v0 and v1 (rounding cannot pass v1 because frac < 2^16).
+    let d = i64::from(v1).wrapping_sub(i64::from(v0));
+    saturate(i64::from(v0).wrapping_add(scale_q16(d, p.frac_q16)))
+}
+
+/// Fritsch–Carlson tangent at node `k` in LSB per node step (see the f32
+/// kernel for the method and sources).
+#[inline]
+fn tangent_q<N: Nodes<Value = i32>>(nodes: &N, k: usize) -> i64 {
+    let last = nodes.len().saturating_sub(1);
+    let at = |i: usize| i64::from(nodes.node(i));
+    if k == 0 {
+        return at(1).wrapping_sub(at(0));
+    }
+    if k >= last {
+        return at(last).wrapping_sub(at(last.saturating_sub(1)));
+    }
+    let a = at(k).wrapping_sub(at(k.wrapping_sub(1)));
+    let b = at(k.wrapping_add(1)).wrapping_sub(at(k));
+    if a == 0 || b == 0 || (a < 0) != (b < 0) {
+        return 0;
+    }
+    // 2 a b / (a + b) = 2 a * (b / (a + b)); b/(a+b) in [0, 1] as Q0.16
+    // (|b| < 2^32, so b << 16 < 2^48), then |2 a r| < 2^33 * 2^16.
+    let r = (b << 16).checked_div(a.wrapping_add(b)).unwrap_or(0);
+    a.wrapping_mul(2).wrapping_mul(r) >> 16
+}
+
+/// Monotone piecewise-cubic Hermite interpolation at `p` in Q arithmetic;
+/// exact at nodes. Tangents and the cubic are evaluated in i64 with Q0.16
+/// weights, so the result stays within a few LSB of the f32 kernel applied
+/// to the same data (see the tests).
+#[inline]
+pub fn cubic_monotone_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
+    let v0 = nodes.node(p.index);
+    if p.frac_q16 == 0 {
+        return v0;
+    }
+    let k1 = p.index.wrapping_add(1);
+    let v1 = nodes.node(k1);
+    let m0 = tangent_q(nodes, p.index);
+    let m1 = tangent_q(nodes, k1);
+    let d = i64::from(v1).wrapping_sub(i64::from(v0));
+    // |d|, |m| < 2^33, so |c2|, |c3| < 2^36: every Horner product below
+    // stays under 2^36 * 2^16 (times small constants), far from 2^63.
+    let c2 = d
+        .wrapping_mul(3)
+        .wrapping_sub(m0.wrapping_mul(2))
+        .wrapping_sub(m1);
+    let c3 = m0.wrapping_add(m1).wrapping_sub(d.wrapping_mul(2));
+    let t = p.frac_q16;
+    let mut acc = scale_q16(c3, t).wrapping_add(c2);
+    acc = scale_q16(acc, t).wrapping_add(m0);
+    acc = scale_q16(acc, t);
+    saturate(i64::from(v0).wrapping_add(acc))
+}
+
+/// Bilinear interpolation on a row-major Q grid (`cols` nodes per row) at
+/// row position `r` and column position `c`; exact at grid nodes.
+#[inline]
+pub fn bilinear_q<N: Nodes<Value = i32>>(
+    nodes: &N,
+    cols: usize,
+    r: PositionQ,
+    c: PositionQ,
+) -> i32 {
+    let base = r.index.wrapping_mul(cols).wrapping_add(c.index);
+    let at = |i: usize| {
+        let v0 = nodes.node(i);
+        if c.frac_q16 == 0 {
+            return i64::from(v0);
+        }
+        let d = i64::from(nodes.node(i.wrapping_add(1))).wrapping_sub(i64::from(v0));
+        i64::from(v0).wrapping_add(scale_q16(d, c.frac_q16))
+    };
+    let w0 = at(base);
+    if r.frac_q16 == 0 {
+        return saturate(w0);
+    }
+    let w1 = at(base.wrapping_add(cols));
+    saturate(w0.wrapping_add(scale_q16(w1.wrapping_sub(w0), r.frac_q16)))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::{Axis, AxisQ, cubic_monotone, linear};
+    use super::*;
+
+    #[test]
+    fn linear_q_table() {
+        let v = [0i32, 1000, 3000, i32::MAX, i32::MIN];
+        let axis = AxisQ::new(0, 1 << 16, 5).unwrap();
+        // (x in Q16.16, expected)
+        let cases = [
+            (0, 0),
+            (1 << 15, 500),
+            (1 << 16, 1000),
+            (3 << 15, 2000),
+            (3 << 16, i32::MAX),
+            // halfway between MAX and MIN: -0.5 rounds half up to 0
+            (7 << 15, 0),
+            (4 << 16, i32::MIN),
+            (i32::MAX, i32::MIN),
+        ];
+        for (x, want) in cases {
+            let got = linear_q(&v, axis.locate(x));
+            assert_eq!(got, want, "linear_q({x}) = {got}, expected {want}");
+        }
+    }
+
+    #[test]
+    fn cubic_q_tracks_f32_kernel() {
+        let vf = [0.0f32, 100.0, 1500.0, 1600.0, 9000.0, 9000.0, -30000.0];
+        let vq = vf.map(|v| v as i32);
+        let axis = Axis {
+            start: 0.0,
+            step: 1.0,
+            len: 7,
+        };
+        let axis_q = AxisQ::new(0, 1 << 16, 7).unwrap();
+        for i in 0..=(6 << 8) {
+            let xq = i << 8;
+            let got = cubic_monotone_q(&vq, axis_q.locate(xq));
+            let want = cubic_monotone(&vf, axis.locate(xq as f32 / 65536.0));
+            // Tolerance: 3 roundings of 0.5 LSB in the Horner chain, one in
+            // each tangent ratio (relative 2^-16 of |m| <= 2 * 39000,
+            // ~1.2 LSB each), plus f32 rounding of values up to 3e4
+            // (2 ulp = 0.004): 4 LSB covers the sum.
+            assert!(
+                (f64::from(got) - f64::from(want)).abs() <= 4.0,
+                "x={xq}: q {got} f32 {want}"
+            );
+            let lin = linear_q(&vq, axis_q.locate(xq));
+            let lin_f = linear(&vf, axis.locate(xq as f32 / 65536.0));
+            // One rounding (0.5 LSB) plus f32 rounding of values < 4e4.
+            assert!(
+                (f64::from(lin) - f64::from(lin_f)).abs() <= 0.51,
+                "x={xq}: q {lin} f32 {lin_f}"
+            );
+        }
+    }
+
+    #[test]
+    fn bilinear_q_exact_on_plane() {
+        // f(r, c) = 1000 r + 10 c on a 3 x 4 grid of Q16.16 axes.
+        let g: [i32; 12] = core::array::from_fn(|i| 1000 * (i / 4) as i32 + 10 * (i % 4) as i32);
+        let ra = AxisQ::new(0, 1 << 16, 3).unwrap();
+        let ca = AxisQ::new(0, 1 << 16, 4).unwrap();
+        for (r, c) in [
+            (0, 0),
+            (2 << 16, 3 << 16),
+            (1 << 15, 3 << 15),
+            (1 << 14, 5 << 14),
+        ] {
+            let got = bilinear_q(&g, 4, ra.locate(r), ca.locate(c));
+            let want = (1000.0 * f64::from(r) + 10.0 * f64::from(c)) / 65536.0;
+            // Two roundings of 0.5 LSB.
+            assert!(
+                (f64::from(got) - want).abs() <= 1.0,
+                "({r},{c}): got {got}, expected {want}"
+            );
+        }
+    }
+}
