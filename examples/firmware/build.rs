@@ -15,6 +15,11 @@ fn main() {
              or thumbv6m-none-eabi (QEMU microbit), not for `{target}`"
         );
     };
+    // `fpu`: the target has a single-precision FPU, so the f32 path runs.
+    println!("cargo::rustc-check-cfg=cfg(fpu)");
+    if target == "thumbv7em-none-eabihf" {
+        println!("cargo::rustc-cfg=fpu");
+    }
     let out = PathBuf::from(env::var_os("OUT_DIR").expect("cargo sets OUT_DIR"));
     fs::copy(map, out.join("memory.x")).expect("copy the memory map to OUT_DIR");
     println!("cargo:rustc-link-search={}", out.display());

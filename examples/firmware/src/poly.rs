@@ -19,8 +19,11 @@
 /// `X - 1`) and a thermometer polynomial of `M` coefficients.
 #[derive(Clone, Debug)]
 pub struct PolyF32<const M: usize, const X: usize, const K: usize> {
-    /// Thermometer: `T = sum_j therm[j] s^j`, `s` the temperature signal.
+    /// Thermometer: `T = sum_j therm[j] s^j`, `s` the temperature signal
+    /// minus `therm_centre`.
     pub therm: [f32; M],
+    /// Signal value the thermometer polynomial is centred on.
+    pub therm_centre: f32,
     /// `coeffs[i][j]`: coefficient of `x^i T^j`.
     pub coeffs: [[f32; K]; X],
     /// `p_i(T)` at the last temperature update.
@@ -47,7 +50,7 @@ impl<const M: usize, const X: usize, const K: usize> PolyF32<M, X, K> {
     /// Evaluates the thermometer and every `p_i(T)` and caches them.
     #[inline(always)]
     pub fn update_temperature(&mut self, signal: f32) -> f32 {
-        let t = horner_f32(&self.therm, signal);
+        let t = horner_f32(&self.therm, signal - self.therm_centre);
         for (p, c) in self.cached.iter_mut().zip(self.coeffs.iter()) {
             *p = horner_f32(c, t);
         }
@@ -68,8 +71,11 @@ impl<const M: usize, const X: usize, const K: usize> PolyF32<M, X, K> {
 /// polynomial); the result saturates to i32.
 #[derive(Clone, Debug)]
 pub struct PolyQ<const M: usize, const X: usize, const K: usize> {
-    /// Thermometer coefficients; the result is T in Q16.16 degrees Celsius.
+    /// Thermometer coefficients in `signal - therm_centre`; the result is T
+    /// in Q16.16 degrees Celsius.
     pub therm: [i32; M],
+    /// Signal value the thermometer polynomial is centred on.
+    pub therm_centre: i32,
     /// Fraction bits of the temperature signal as the thermometer's variable.
     pub therm_shift: u32,
     /// `coeffs[i][j]`: coefficient of `x^i T^j`, T in Q16.16.
@@ -106,7 +112,11 @@ impl<const M: usize, const X: usize, const K: usize> PolyQ<M, X, K> {
     /// returns T in Q16.16 degrees Celsius.
     #[inline(always)]
     pub fn update_temperature(&mut self, signal: i32) -> i32 {
-        let t_q16 = horner_q(&self.therm, signal, self.therm_shift);
+        let t_q16 = horner_q(
+            &self.therm,
+            signal.wrapping_sub(self.therm_centre),
+            self.therm_shift,
+        );
         for (p, c) in self.cached.iter_mut().zip(self.coeffs.iter()) {
             *p = horner_q(c, t_q16, 16);
         }
@@ -117,5 +127,51 @@ impl<const M: usize, const X: usize, const K: usize> PolyQ<M, X, K> {
     #[inline(always)]
     pub fn sample(&self, x: i32) -> i32 {
         horner_q(&self.cached, x, self.x_shift)
+    }
+}
+
+/// The benchmark's f32 baseline: quadratic thermometer, output cubic in
+/// temperature for each power of the raw code up to 2 (15 coefficients).
+pub type PolyF32Bench = PolyF32<3, 3, 4>;
+
+/// The benchmark's integer baseline, same shape as [`PolyF32Bench`].
+pub type PolyQBench = PolyQ<3, 3, 4>;
+
+/// Centre of the temperature-signal codes of the demo part (2^22): the
+/// thermometer polynomial is evaluated in `code - SIGNAL_CENTRE`, as a
+/// well-conditioned fit would be.
+pub const SIGNAL_CENTRE: i32 = 4_194_304;
+
+/// Baseline coefficients with the magnitudes a fit to the demo part gives
+/// (offset about -1.3e4 Pa, 0.25 Pa/code, a 0.08 % FS bow). Horner in f32
+/// has no data-dependent branch, so the values do not change the count.
+pub fn demo_f32() -> PolyF32Bench {
+    PolyF32 {
+        therm: [25.0, 7.45e-4, -5.6e-12],
+        therm_centre: SIGNAL_CENTRE as f32,
+        coeffs: [
+            [-1.29e4, 34.0, -0.15, 2.0e-4],
+            [0.25, 5.3e-4, 1.1e-6, -2.0e-9],
+            [5.0e-11, -1.0e-13, 4.0e-16, 0.0],
+        ],
+        cached: [0.0; 3],
+    }
+}
+
+/// The integer form of [`demo_f32`]: T in Q16 C, output in Q8 Pa, raw
+/// codes with a 20-bit shift. The i32 clamps in Horner's rule are the only
+/// data-dependent branches and these inputs never reach them.
+pub fn demo_q() -> PolyQBench {
+    PolyQ {
+        therm: [1_638_400, 3_200_000, -2_400],
+        therm_centre: SIGNAL_CENTRE,
+        therm_shift: 16,
+        coeffs: [
+            [-3_300_000, 9_000, -40, 1],
+            [67_108_864, -140_000, 300, -1],
+            [14_000, -20, 1, 0],
+        ],
+        x_shift: 20,
+        cached: [0; 3],
     }
 }
