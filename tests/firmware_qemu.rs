@@ -101,12 +101,16 @@ fn build_lock() -> std::sync::MutexGuard<'static, Vec<String>> {
         .unwrap_or_else(|e| e.into_inner())
 }
 
-/// Builds every firmware binary for `target` in release (once per test
-/// process) and returns the folder holding the ELF files.
+/// Both firmware targets.
+const TARGETS: [&str; 2] = ["thumbv7em-none-eabihf", "thumbv6m-none-eabi"];
+
+/// Builds every firmware binary for both targets in release, in one cargo
+/// invocation so the two targets compile in parallel (once per test
+/// process), and returns the folder holding the ELF files of `target`.
 fn build_firmware(target: &str) -> PathBuf {
     let mut built = build_lock();
     let dir = firmware_dir().join("target").join(target).join("release");
-    if built.iter().any(|t| t == target) {
+    if !built.is_empty() {
         return dir;
     }
     let installed = run_checked(
@@ -115,25 +119,24 @@ fn build_firmware(target: &str) -> PathBuf {
             .current_dir(firmware_dir()),
         "rustup target list --installed",
     );
-    assert!(
-        String::from_utf8_lossy(&installed.stdout)
-            .lines()
-            .any(|l| l.trim() == target),
-        "Rust target {target} is not installed for the pinned toolchain: run scripts/install-prereqs.sh \
-         (or `rustup target add {target}`)"
-    );
+    let installed = String::from_utf8_lossy(&installed.stdout);
+    for t in TARGETS {
+        assert!(
+            installed.lines().any(|l| l.trim() == t),
+            "Rust target {t} is not installed for the pinned toolchain: run scripts/install-prereqs.sh \
+             (or `rustup target add {t}`)"
+        );
+    }
+    let mut cmd = inner_cargo();
+    cmd.args(["build", "--release", "--locked", "--bins"]);
+    for t in TARGETS {
+        cmd.args(["--target", t]);
+    }
     run_checked(
-        inner_cargo().args([
-            "build",
-            "--release",
-            "--locked",
-            "--bins",
-            "--target",
-            target,
-        ]),
-        &format!("cargo build --release --bins --target {target} in examples/firmware"),
+        &mut cmd,
+        "cargo build --release --bins (both targets) in examples/firmware",
     );
-    built.push(target.to_string());
+    built.extend(TARGETS.iter().map(|t| t.to_string()));
     dir
 }
 
@@ -339,7 +342,7 @@ fn cortex_m0_firmware_matches_host_bit_for_bit() {
 /// symbol), so the proof is shown to be able to fail.
 #[test]
 fn compensation_path_links_without_any_panic() {
-    for target in ["thumbv7em-none-eabihf", "thumbv6m-none-eabi"] {
+    for target in TARGETS {
         let dir = build_firmware(target);
         let (success, stdout, stderr) = run_qemu(target, &dir.join("nopanic"));
         assert!(
@@ -377,7 +380,7 @@ fn compensation_path_links_without_any_panic() {
 #[test]
 fn firmware_links_no_allocator() {
     require_tool("arm-none-eabi-nm", "--version");
-    for target in ["thumbv7em-none-eabihf", "thumbv6m-none-eabi"] {
+    for target in TARGETS {
         let dir = build_firmware(target);
         for bin in ["main", "bench", "nopanic", "flashuse"] {
             let out = run_checked(
