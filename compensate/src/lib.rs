@@ -122,7 +122,7 @@
 //! add only f32 rounding (about 6e-8 relative per operation).
 //!
 //! ## Runtime-model deviation
-//! The `model` module's closed forms (Boltzmann statistics, one effective
+//! The [`model`] module's closed forms (Boltzmann statistics, one effective
 //! dopant level, Caughey-Thomas mobility) deviate from the host's full f64
 //! model; each function documents its bound and domain as a named constant.
 //! Only firmware that evaluates the model at runtime pays this term; table
@@ -139,9 +139,9 @@
 //! lag during temperature ramps.
 //!
 //! # Cargo features
-//! - `libm` (default): accurate f32 math backend for `model`.
+//! - `libm` (default): accurate f32 math backend for [`model`].
 //! - `micromath`: fast approximations; used only when `libm` is off.
-//!   With both on, libm wins; with neither, `model` is not compiled.
+//!   With both on, libm wins; with neither, [`model`] is not compiled.
 //! - `defmt`: `defmt::Format` on public types.
 #![cfg_attr(not(test), no_std)]
 #![forbid(unsafe_code)]
@@ -159,6 +159,8 @@ pub mod image;
 pub mod interp;
 #[cfg(any(feature = "libm", feature = "micromath"))]
 pub mod math;
+#[cfg(any(feature = "libm", feature = "micromath"))]
+pub mod model;
 pub mod smoothing;
 mod status;
 pub mod table;

@@ -13,97 +13,160 @@
 //! - neither: this module and `crate::model` are not compiled; tables,
 //!   images and compensators need no transcendental function.
 
-/// Name of the selected backend, for reports and benchmarks.
-#[cfg(feature = "libm")]
-pub const BACKEND: &str = "libm";
-/// Name of the selected backend, for reports and benchmarks.
-#[cfg(all(feature = "micromath", not(feature = "libm")))]
-pub const BACKEND: &str = "micromath";
+/// An f32 math backend: the four functions the runtime model needs.
+pub trait Backend {
+    /// Backend name for reports.
+    const NAME: &'static str;
+    /// Relative error bound over the model's domain (see [`BACKEND_REL_ERROR`]).
+    const REL_ERROR: f32;
+    /// `e^x`.
+    fn exp(x: f32) -> f32;
+    /// Natural logarithm.
+    fn ln(x: f32) -> f32;
+    /// `x^y` for `x > 0`.
+    fn powf(x: f32, y: f32) -> f32;
+    /// Square root.
+    fn sqrt(x: f32) -> f32;
+}
 
-/// Relative error bound of [`exp`], [`ln`], [`powf`] and [`sqrt`] of the
-/// selected backend over the arguments the runtime model uses.
-///
-/// libm's f32 functions are correctly rounded or within 1 ulp (libm
-/// `expf.rs`, `logf.rs`, `powf.rs` headers); 2 ulp is stated to leave margin
-/// for double rounding of composed calls. micromath documents no bound; the
-/// value here is measured by this module's tests over the model's domain
-/// (exp arguments -60..0, ln/powf over 1e-3..1e3).
+/// The libm backend: correctly rounded or within 1 ulp (libm `expf.rs`,
+/// `logf.rs`, `powf.rs` headers); 2.5e-7 leaves margin for double rounding.
 #[cfg(feature = "libm")]
-pub const BACKEND_REL_ERROR: f32 = 2.5e-7;
-/// Relative error bound of [`exp`], [`ln`], [`powf`] and [`sqrt`] of the
-/// selected backend over the arguments the runtime model uses.
-///
-/// micromath documents no bound; this value is the worst relative error of
-/// its exp measured by `print_worst_errors` over -60..0 (2.39e-3), rounded
-/// up. ln and sqrt are refined here (Newton / Heron steps) to this level.
-#[cfg(all(feature = "micromath", not(feature = "libm")))]
-pub const BACKEND_REL_ERROR: f32 = 2.5e-3;
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Libm;
 
-/// `e^x`: relative error at most [`BACKEND_REL_ERROR`] for `x` in -60..=0.
-#[inline]
-pub fn exp(x: f32) -> f32 {
-    #[cfg(feature = "libm")]
-    {
+#[cfg(feature = "libm")]
+impl Backend for Libm {
+    const NAME: &'static str = "libm";
+    const REL_ERROR: f32 = 2.5e-7;
+    #[inline]
+    fn exp(x: f32) -> f32 {
         libm::expf(x)
     }
-    #[cfg(all(feature = "micromath", not(feature = "libm")))]
-    {
-        micromath::F32(x).exp().0
-    }
-}
-
-/// Natural logarithm: error at most [`BACKEND_REL_ERROR`] times
-/// `max(|ln x|, 1)` for `x` in 1e-3..=1e3.
-#[inline]
-pub fn ln(x: f32) -> f32 {
-    #[cfg(feature = "libm")]
-    {
+    #[inline]
+    fn ln(x: f32) -> f32 {
         libm::logf(x)
     }
-    #[cfg(all(feature = "micromath", not(feature = "libm")))]
-    {
-        // micromath's ln alone is off by up to 0.12 (measured by
-        // `print_worst_errors`); two Newton steps on exp(y) = x (quadratic
-        // convergence: 0.12 -> 7e-3 -> 3e-5) leave the error of
-        // micromath's exp.
-        let mut y = micromath::F32(x).ln().0;
-        y = y + x * exp(-y) - 1.0;
-        y + x * exp(-y) - 1.0
-    }
-}
-
-/// `x^y` for `x > 0`: relative error at most [`BACKEND_REL_ERROR`] times
-/// `(1 + 2 |y|)` for `x` in 1e-3..=1e3 and `|y ln x| <= 60`.
-#[inline]
-pub fn powf(x: f32, y: f32) -> f32 {
-    #[cfg(feature = "libm")]
-    {
+    #[inline]
+    fn powf(x: f32, y: f32) -> f32 {
         libm::powf(x, y)
     }
-    #[cfg(all(feature = "micromath", not(feature = "libm")))]
-    {
-        // micromath's powf is off by up to 16 % here; exp(y ln x) with the
-        // refined ln inherits the exp error plus |y| times the ln error.
-        exp(y * ln(x))
+    #[inline]
+    fn sqrt(x: f32) -> f32 {
+        libm::sqrtf(x)
     }
 }
 
-/// Square root: relative error at most [`BACKEND_REL_ERROR`] for `x` in
-/// 1e-3..=1e3.
-#[inline]
-pub fn sqrt(x: f32) -> f32 {
-    #[cfg(feature = "libm")]
-    {
-        libm::sqrtf(x)
+/// The micromath backend, with refinement steps where its raw
+/// approximations are too coarse for the model.
+///
+/// micromath documents no bound; `REL_ERROR` is the worst relative error of
+/// its exp measured by `print_worst_errors` over -60..0 (2.39e-3), rounded
+/// up. Its ln (raw error up to 0.12) gets two Newton steps on exp(y) = x,
+/// its sqrt (raw error 6.1 %) two Heron steps, and powf is exp(y ln x)
+/// (raw powf error up to 16 % here).
+#[cfg(feature = "micromath")]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Micromath;
+
+// micromath's kernels do integer arithmetic on the float bits; some of it
+// overflows (a panic in debug builds, e.g. `inv` inside `ln` for x <= 0 or
+// NaN), so every special input is answered here before it reaches them.
+#[cfg(feature = "micromath")]
+impl Backend for Micromath {
+    const NAME: &'static str = "micromath";
+    const REL_ERROR: f32 = 2.5e-3;
+    #[inline]
+    fn exp(x: f32) -> f32 {
+        if x.is_nan() {
+            return f32::NAN;
+        }
+        // Outside these limits f32 exp is 0 or infinite anyway.
+        if x < -104.0 {
+            return 0.0;
+        }
+        if x > 89.0 {
+            return f32::INFINITY;
+        }
+        micromath::F32(x).exp().0
     }
-    #[cfg(all(feature = "micromath", not(feature = "libm")))]
-    {
-        // micromath's estimate is within 6.1 % (measured); two Heron steps
-        // square the relative error twice: 6e-2 -> 2e-3 -> 2e-6.
+    #[inline]
+    fn ln(x: f32) -> f32 {
+        if x.is_nan() || x < 0.0 {
+            return f32::NAN;
+        }
+        if x == 0.0 {
+            return f32::NEG_INFINITY;
+        }
+        if x == f32::INFINITY {
+            return f32::INFINITY;
+        }
+        // Quadratic convergence: 0.12 -> 7e-3 -> 3e-5, then exp's error.
+        let mut y = micromath::F32(x).ln().0;
+        y = y + x * Self::exp(-y) - 1.0;
+        y + x * Self::exp(-y) - 1.0
+    }
+    #[inline]
+    fn powf(x: f32, y: f32) -> f32 {
+        Self::exp(y * Self::ln(x))
+    }
+    #[inline]
+    fn sqrt(x: f32) -> f32 {
+        if x.is_nan() || x < 0.0 {
+            return f32::NAN;
+        }
+        if x == 0.0 || x == f32::INFINITY {
+            return x;
+        }
+        // Two Heron steps: 6e-2 -> 2e-3 -> 2e-6.
         let mut r = micromath::F32(x).sqrt().0;
         r = 0.5 * (r + x / r);
         0.5 * (r + x / r)
     }
+}
+
+/// The backend selected by cargo features (libm when enabled).
+#[cfg(feature = "libm")]
+pub type Selected = Libm;
+/// The backend selected by cargo features (libm when enabled).
+#[cfg(all(feature = "micromath", not(feature = "libm")))]
+pub type Selected = Micromath;
+
+/// Name of the selected backend, for reports and benchmarks.
+pub const BACKEND: &str = Selected::NAME;
+
+/// Relative error bound of [`exp`], [`ln`], [`powf`] and [`sqrt`] of the
+/// selected backend over the arguments the runtime model uses: exp over
+/// -60..=0; ln (absolute error over `max(|ln x|, 1)`), sqrt over
+/// 1e-3..=1e3; powf within `(1 + 2|y|)` times this bound.
+pub const BACKEND_REL_ERROR: f32 = Selected::REL_ERROR;
+
+/// `e^x` with the selected backend: relative error at most
+/// [`BACKEND_REL_ERROR`] for `x` in -60..=0.
+#[inline]
+pub fn exp(x: f32) -> f32 {
+    Selected::exp(x)
+}
+
+/// Natural logarithm with the selected backend: error at most
+/// [`BACKEND_REL_ERROR`] times `max(|ln x|, 1)` for `x` in 1e-3..=1e3.
+#[inline]
+pub fn ln(x: f32) -> f32 {
+    Selected::ln(x)
+}
+
+/// `x^y` for `x > 0` with the selected backend: relative error at most
+/// [`BACKEND_REL_ERROR`] times `(1 + 2 |y|)` for `x` in 1e-3..=1e3.
+#[inline]
+pub fn powf(x: f32, y: f32) -> f32 {
+    Selected::powf(x, y)
+}
+
+/// Square root with the selected backend: relative error at most
+/// [`BACKEND_REL_ERROR`] for `x` in 1e-3..=1e3.
+#[inline]
+pub fn sqrt(x: f32) -> f32 {
+    Selected::sqrt(x)
 }
 
 #[cfg(test)]
@@ -137,6 +200,29 @@ mod tests {
             w[2],
             w[3]
         );
+    }
+
+    #[test]
+    fn special_inputs_never_panic() {
+        // (input, expected class) for each function; checked for the
+        // selected backend (run the suite once per feature set).
+        for x in [
+            f32::NAN,
+            -1.0,
+            0.0,
+            -0.0,
+            f32::INFINITY,
+            f32::NEG_INFINITY,
+            f32::MAX,
+            f32::MIN_POSITIVE,
+        ] {
+            let _ = (exp(x), ln(x), sqrt(x), powf(x, 1.5), powf(2.0, x));
+        }
+        assert!(ln(-1.0).is_nan() && sqrt(-1.0).is_nan() && exp(f32::NAN).is_nan());
+        assert_eq!(ln(0.0), f32::NEG_INFINITY);
+        assert_eq!(exp(-200.0), 0.0);
+        assert_eq!(exp(200.0), f32::INFINITY);
+        assert_eq!(sqrt(0.0), 0.0);
     }
 
     #[test]
