@@ -2,9 +2,9 @@
 # Runs the firmware benchmark on both targets, twice each, and fails unless
 # the two runs print identical figures; adds the flash and static RAM the
 # compensation code costs (size of `flashuse` minus `flashref`, sections
-# from arm-none-eabi-size -A) and the runtime model with the micromath
-# backend (a second build of the M4F benchmark). Prints every figure as
-# `metric <name> <value> <unit> target=<triple>`.
+# from arm-none-eabi-size -A), the same for the polynomial baseline and,
+# on the Cortex-M4F, for the runtime model with each math backend. Prints
+# every figure as `metric <name> <value> <unit> target=<triple>`.
 #
 # Usage: examples/firmware/bench.sh   (needs qemu-system-arm and
 # binutils-arm-none-eabi: scripts/install-prereqs.sh installs them)
@@ -30,10 +30,10 @@ sections() {
 }
 
 # Runs the benchmark twice with the given cargo arguments; fails on any
-# difference, otherwise prints the lines (optionally filtered).
+# difference, otherwise prints the metric lines.
 twice() {
-    local name=$1 filter=$2
-    shift 2
+    local name=$1
+    shift
     for run in 1 2; do
         cargo run --quiet --release --locked --bin bench "$@" >"$out/$name.$run"
     done
@@ -42,7 +42,7 @@ twice() {
         diff "$out/$name.1" "$out/$name.2" >&2 || true
         exit 1
     fi
-    grep -E "$filter" "$out/$name.1"
+    grep '^metric ' "$out/$name.1"
     echo "# $name: two runs printed identical figures" >&2
 }
 
@@ -50,7 +50,7 @@ flash="vector_table text rodata data"
 flash=".${flash// / .}"
 for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
     cargo build --quiet --release --locked --bins --target "$target"
-    twice "$target" '^metric ' --target "$target"
+    twice "$target" --target "$target"
     elf=target/$target/release
     use_flash=$(sections "$elf/flashuse" "$flash")
     ref_flash=$(sections "$elf/flashref" "$flash")
@@ -62,7 +62,10 @@ for target in thumbv7em-none-eabihf thumbv6m-none-eabi; do
     echo "metric ram_static_bytes $((use_ram - ref_ram)) bytes target=$target"
     echo "metric poly_flash_bytes $((poly_flash - ref_flash)) bytes target=$target"
     echo "metric poly_ram_static_bytes $((poly_ram - ref_ram)) bytes target=$target"
+    if [ "$target" = thumbv7em-none-eabihf ]; then
+        for backend in libm micromath; do
+            model_flash=$(sections "$elf/flashmodel_$backend" "$flash")
+            echo "metric flash_model_${backend}_bytes $((model_flash - ref_flash)) bytes target=$target"
+        done
+    fi
 done
-
-twice micromath '^metric runtime_model_micromath' \
-    --target thumbv7em-none-eabihf --no-default-features --features micromath

@@ -11,9 +11,12 @@ use cortex_m::peripheral::{SYST, syst::SystClkSource};
 /// SysTick's counter is 24 bits wide.
 const MASK_24: u32 = 0x00FF_FFFF;
 
-/// Iterations of the two-instruction calibration loop: 2e7 instructions,
-/// far below one 24-bit wrap at either clock ratio (6.7e8 and 1.0e9).
+/// Extra iterations of the two-instruction calibration loop: 2e7
+/// instructions, far below one 24-bit wrap at either clock ratio (6.7e8 and
+/// 1.0e9), so the +-1 tick quantization is below 4e-6 relative.
 const CALIBRATION_ITERATIONS: u32 = 10_000_000;
+/// Iterations of the shorter calibration loop.
+const CALIBRATION_BASE_ITERATIONS: u32 = 1_000_000;
 
 /// A free-running SysTick together with its calibration.
 pub struct Counter {
@@ -38,14 +41,17 @@ impl Counter {
             calibration_insn: 1,
             calibration_ticks: 1,
         };
+        // Two loops differing by CALIBRATION_ITERATIONS passes of `subs; bne`:
+        // the call, return and SysTick reads around each loop cancel in the
+        // difference, leaving exactly 2 x CALIBRATION_ITERATIONS instructions.
         let start = counter.now();
-        busy_loop(CALIBRATION_ITERATIONS);
-        let ticks = counter.ticks_since(start);
-        // The loop is `subs; bne` per iteration; the `bl`, `bx lr` and the
-        // SysTick read around it add a handful of instructions, which is a
-        // relative error below 1e-6.
+        busy_loop(CALIBRATION_BASE_ITERATIONS);
+        let short = counter.ticks_since(start);
+        let start = counter.now();
+        busy_loop(CALIBRATION_BASE_ITERATIONS + CALIBRATION_ITERATIONS);
+        let long = counter.ticks_since(start);
         counter.calibration_insn = 2 * u64::from(CALIBRATION_ITERATIONS);
-        counter.calibration_ticks = u64::from(ticks.max(1));
+        counter.calibration_ticks = u64::from(long.saturating_sub(short).max(1));
         counter
     }
 

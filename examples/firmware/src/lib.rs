@@ -1,5 +1,5 @@
 //! Shared pieces of the semidrift firmware binaries (`main`, `bench`,
-//! `nopanic`, `flashref`, `flashuse`): semihosting exit and fault handlers,
+//! `nopanic` and the flash probes): semihosting exit and fault handlers,
 //! the SysTick instruction counter, stack painting, the recorded sample
 //! stream and the polynomial baseline the benchmark compares against.
 //!
@@ -8,6 +8,7 @@
 
 pub mod count;
 pub mod poly;
+pub mod probe;
 pub mod rt;
 pub mod stack;
 pub mod stream;

@@ -34,10 +34,17 @@ static STREAM: &str = include_str!("../../data/well_level_stream.csv");
 /// samples are faults, which a benchmark of normal operation leaves out).
 const INPUTS: usize = 116;
 
-/// Calls per timed loop: cost x calls stays far below one SysTick wrap
-/// (6.7e8 instructions on mps2-an386, 1.0e9 on microbit) for every function
-/// here (at most a few thousand instructions per call on the M0).
-const CALLS: u32 = 11_600;
+/// Calls per timed loop of the table and polynomial functions (1000 passes
+/// over the stream): a SysTick reading is exact to +-1 tick, so a figure is
+/// exact to +-2 ticks / CALLS = 0.001 instruction; cost x calls stays below
+/// 1.2e8 instructions, far below one SysTick wrap (6.7e8 instructions on
+/// mps2-an386, 1.0e9 on microbit).
+const CALLS: u32 = 116_000;
+
+/// Calls per timed loop of the runtime model (up to about 9000 instructions
+/// per call): 100 passes over the inputs keep cost x calls near 1e8.
+#[cfg(fpu)]
+const MODEL_CALLS: u32 = 11_600;
 
 #[cfg(fpu)]
 const TARGET: &str = "thumbv7em-none-eabihf";
@@ -64,14 +71,15 @@ fn metric(name: &str, value: usize, unit: &str) {
 /// Instructions per call of `f` beyond `empty`, in hundredths.
 fn net_insn<S, A: Copy, R>(
     counter: &Counter,
+    calls: u32,
     state: &mut S,
     inputs: &[A],
     f: fn(&mut S, A) -> R,
     empty: fn(&mut S, A) -> R,
 ) -> u64 {
-    let work = time_calls(counter, CALLS, state, inputs, f);
-    let base = time_calls(counter, CALLS, state, inputs, empty);
-    counter.centi_insn_per_call(u64::from(work.saturating_sub(base)), u64::from(CALLS))
+    let work = time_calls(counter, calls, state, inputs, f);
+    let base = time_calls(counter, calls, state, inputs, empty);
+    counter.centi_insn_per_call(u64::from(work.saturating_sub(base)), u64::from(calls))
 }
 
 // ---- the integer path (both targets) --------------------------------------
@@ -152,6 +160,51 @@ mod fpu {
 
     pub use semidrift_firmware::poly::{PolyF32Bench as PolyBench, demo_f32 as poly};
 
+    /// Runtime-model parameters of the demo scenarios: the well-level
+    /// logger's p-type piezoresistor (boron 2e18 cm^-3) and the current
+    /// sensor's n-type Hall plate (phosphorus 5e15 cm^-3, invented).
+    #[cfg(any(feature = "libm", feature = "micromath"))]
+    pub mod model {
+        use compensate::math::Backend;
+        use compensate::model::{Model, ModelParams};
+
+        /// Reference temperature of the ratios, 25 C.
+        const T_REF_K: f32 = 298.15;
+
+        pub fn bridge<B: Backend>() -> Model<B> {
+            Model::with_backend(ModelParams::silicon(0.0, 2e18))
+        }
+
+        pub fn hall<B: Backend>() -> Model<B> {
+            Model::with_backend(ModelParams::silicon(5e15, 0.0))
+        }
+
+        /// One evaluation of the model at one temperature: band gap,
+        /// densities of states, intrinsic density, neutrality, both
+        /// mobilities, conductivity.
+        #[inline(never)]
+        pub fn conductivity<B: Backend>(m: &mut Model<B>, t_k: f32) -> f32 {
+            m.conductivity_s_cm(t_k)
+        }
+
+        /// Current-bias Hall sensitivity ratio (two evaluations, T and T_ref).
+        #[inline(never)]
+        pub fn hall_ratio<B: Backend>(m: &mut Model<B>, t_k: f32) -> f32 {
+            m.hall_current_bias_ratio(t_k, T_REF_K)
+        }
+
+        /// Piezoresistance-factor ratio.
+        #[inline(never)]
+        pub fn piezo_ratio<B: Backend>(m: &mut Model<B>, t_k: f32) -> f32 {
+            m.piezo_factor_ratio(t_k, T_REF_K)
+        }
+
+        #[inline(never)]
+        pub fn empty<B: Backend>(_m: &mut Model<B>, t_k: f32) -> f32 {
+            t_k
+        }
+    }
+
     #[inline(never)]
     pub fn poly_temp_update(p: &mut PolyBench, signal: f32) -> f32 {
         p.update_temperature(signal)
@@ -171,6 +224,69 @@ mod fpu {
     pub fn poly_sample_empty(_p: &mut PolyBench, raw: f32) -> f32 {
         raw
     }
+}
+
+/// Runtime-model figures with backend `B`, named after the backend.
+#[cfg(all(fpu, any(feature = "libm", feature = "micromath")))]
+fn model_figures<B: compensate::math::Backend>(counter: &Counter, t_k: &[f32]) {
+    use fpu::model;
+    let mut bridge = model::bridge::<B>();
+    let mut hall = model::hall::<B>();
+    let t = net_insn(
+        counter,
+        MODEL_CALLS,
+        &mut bridge,
+        t_k,
+        model::conductivity,
+        model::empty,
+    );
+    hprintln!(
+        "metric runtime_model_{}_insn {}.{:02} insn target={}",
+        B::NAME,
+        t / 100,
+        t % 100,
+        TARGET
+    );
+    let t = net_insn(
+        counter,
+        MODEL_CALLS,
+        &mut hall,
+        t_k,
+        model::hall_ratio,
+        model::empty,
+    );
+    hprintln!(
+        "metric runtime_model_hall_ratio_{}_insn {}.{:02} insn target={}",
+        B::NAME,
+        t / 100,
+        t % 100,
+        TARGET
+    );
+    let t = net_insn(
+        counter,
+        MODEL_CALLS,
+        &mut bridge,
+        t_k,
+        model::piezo_ratio,
+        model::empty,
+    );
+    hprintln!(
+        "metric runtime_model_piezo_ratio_{}_insn {}.{:02} insn target={}",
+        B::NAME,
+        t / 100,
+        t % 100,
+        TARGET
+    );
+    let first = t_k.first().copied().unwrap_or(298.15);
+    let stack = measure_call_bytes(&mut bridge, first, model::conductivity)
+        .max(measure_call_bytes(&mut hall, first, model::hall_ratio))
+        .max(measure_call_bytes(&mut bridge, first, model::piezo_ratio));
+    hprintln!(
+        "metric stack_model_{}_bytes {} bytes target={}",
+        B::NAME,
+        stack,
+        TARGET
+    );
 }
 
 /// Parses the recorded stream into the input arrays.
@@ -262,16 +378,25 @@ fn main() -> ! {
 
         let t = net_insn(
             &counter,
+            CALLS,
             &mut float,
             &temp_f,
             fpu::temp_update,
             fpu::temp_update_empty,
         );
         metric_centi("temp_update_insn", t, "insn");
-        let t = net_insn(&counter, &mut float, &raw_f, fpu::sample, fpu::sample_empty);
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut float,
+            &raw_f,
+            fpu::sample,
+            fpu::sample_empty,
+        );
         metric_centi("sample_insn", t, "insn");
         let t = net_insn(
             &counter,
+            CALLS,
             &mut poly,
             &temp_f,
             fpu::poly_temp_update,
@@ -280,6 +405,7 @@ fn main() -> ! {
         metric_centi("poly_temp_update_insn", t, "insn");
         let t = net_insn(
             &counter,
+            CALLS,
             &mut poly,
             &raw_f,
             fpu::poly_sample,
@@ -298,20 +424,37 @@ fn main() -> ! {
             core::mem::size_of::<compensate::Compensator<'static>>(),
             "bytes",
         );
+
+        // The runtime model over the stream's temperature range, -20..85 C.
+        let t_k: [f32; INPUTS] =
+            core::array::from_fn(|k| 253.15 + 105.0 * k as f32 / (INPUTS - 1) as f32);
+        #[cfg(feature = "libm")]
+        model_figures::<compensate::math::Libm>(&counter, &t_k);
+        #[cfg(feature = "micromath")]
+        model_figures::<compensate::math::Micromath>(&counter, &t_k);
     }
 
     let t = net_insn(
         &counter,
+        CALLS,
         &mut fixed,
         &temp_q,
         q_temp_update,
         q_temp_update_empty,
     );
     metric_centi(q_names[0], t, "insn");
-    let t = net_insn(&counter, &mut fixed, &raw_q, q_sample, q_sample_empty);
+    let t = net_insn(
+        &counter,
+        CALLS,
+        &mut fixed,
+        &raw_q,
+        q_sample,
+        q_sample_empty,
+    );
     metric_centi(q_names[1], t, "insn");
     let t = net_insn(
         &counter,
+        CALLS,
         &mut poly_q,
         &temp_q,
         poly_q_temp_update,
@@ -320,6 +463,7 @@ fn main() -> ! {
     metric_centi(q_names[2], t, "insn");
     let t = net_insn(
         &counter,
+        CALLS,
         &mut poly_q,
         &raw_q,
         poly_q_sample,

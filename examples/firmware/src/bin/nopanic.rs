@@ -4,7 +4,8 @@
 //! the handler (and the reference to the symbol) survives only if some panic
 //! remains reachable from this program after optimisation, so the link fails
 //! exactly when the compensation path (image parsing, both compensators'
-//! temperature updates and samples) still contains a panic. Every input goes
+//! temperature updates and samples, and on the FPU target every function of
+//! the runtime model with both math backends) still contains a panic. Every input goes
 //! through `black_box`, so nothing is proven merely by constant folding the
 //! embedded image. Nothing is printed: formatting code could bring panics
 //! of its own. The program exits 0 when the image parsed and 1 otherwise.
@@ -49,6 +50,12 @@ fn main() -> ! {
         black_box((status, reading));
     }
 
+    // The runtime model with each math backend.
+    #[cfg(all(fpu, feature = "libm"))]
+    model_path::<compensate::math::Libm>();
+    #[cfg(all(fpu, feature = "micromath"))]
+    model_path::<compensate::math::Micromath>();
+
     // The self-test of this proof: with the feature on, an index the
     // optimiser cannot bound must make the link fail.
     #[cfg(feature = "nopanic-selftest")]
@@ -62,6 +69,28 @@ fn main() -> ! {
     } else {
         rt::exit_failure()
     }
+}
+
+/// Every public function of the runtime model on inputs the optimiser
+/// cannot see.
+#[cfg(all(fpu, any(feature = "libm", feature = "micromath")))]
+fn model_path<B: compensate::math::Backend>() {
+    use compensate::model::{Model, ModelParams};
+    let m: Model<B> = Model::with_backend(black_box(ModelParams::silicon(0.0, 2e18)));
+    let t_k = black_box(330.0f32);
+    let t_ref_k = black_box(298.15f32);
+    black_box(m.band_gap_ev(t_k));
+    black_box(m.effective_dos_cm3(t_k));
+    black_box(m.intrinsic_density_cm3(t_k));
+    black_box(m.carriers(t_k));
+    black_box(m.electron_mobility_cm2_vs(black_box(1e16), t_k));
+    black_box(m.mobilities_cm2_vs(t_k));
+    black_box(m.conductivity_s_cm(t_k));
+    black_box(m.conductivity_ratio(t_k, t_ref_k));
+    black_box(m.hall_coefficient_cm3_c(t_k));
+    black_box(m.hall_current_bias_ratio(t_k, t_ref_k));
+    black_box(m.hall_voltage_bias_ratio(t_k, t_ref_k));
+    black_box(m.piezo_factor_ratio(t_k, t_ref_k));
 }
 
 #[panic_handler]
