@@ -28,7 +28,7 @@ const T_NODES: usize = 16;
 /// Thermometer nodes, evenly spaced in temperature-signal code.
 const SIG_NODES: usize = 16;
 /// Full scale: 10 bar gauge, in pascal.
-const FULL_SCALE_PA: f64 = 1.0e6;
+pub const FULL_SCALE_PA: f64 = 1.0e6;
 /// Reference temperature of the drift coefficients.
 const T_REF_C: f64 = 25.0;
 /// Recorded samples in the stream.
@@ -39,6 +39,12 @@ pub const STREAM_LEN: usize = 120;
 /// of 0.05 % FS), offset in Q6 codes (raw << 6 stays below 2^30), gain in
 /// Q30 Pa/code (0.25 Pa/code gives about 28 significant bits) and the
 /// quadratic channel at the largest fraction the format allows.
+///
+/// Known limitation of layout version 1: the quadratic channel of this part
+/// is about 5e-11 Pa/code^2, which needs about 45 fraction bits; at the
+/// format's maximum of 30 it rounds to zero, so the integer path leaves the
+/// bow (and the bow's share of the gain) uncorrected, about 0.3 % FS at full
+/// scale. The f32 image is unaffected.
 pub const Q_FORMAT: QFormat = QFormat {
     temperature: 16,
     signal: 0,
@@ -248,9 +254,24 @@ pub fn build() -> FirmwareData {
     }
 }
 
-/// The recorded stream: a chamber-style temperature ramp from -20 C to
-/// 85 C and back while the pressure cycles over the range, with a few codes
-/// of deterministic ADC noise, then four fault samples (open bridge at the
+/// Pressure in pascal and temperature in degrees Celsius of recorded sample
+/// `i` of the temperature ramp (`i < STREAM_LEN - 4`): a chamber-style ramp
+/// from -20 C to 85 C and back while the pressure cycles over the range.
+pub fn ramp_truth(i: usize) -> (f64, f64) {
+    let ramp = STREAM_LEN - 4;
+    let phase = i as f64 / (ramp - 1) as f64;
+    // Triangle: up for the first half, down for the second.
+    let tri = 1.0 - (2.0 * phase - 1.0).abs();
+    let t_c = T_START_C + (85.0 - T_START_C) * tri;
+    let x = 0.5 - 0.45 * (i as f64 * 0.37).cos();
+    (x * FULL_SCALE_PA, t_c)
+}
+
+/// Largest ADC noise added to a recorded code, in codes.
+pub const NOISE_CODES: f64 = 3.5;
+
+/// The recorded stream: the ramp of [`ramp_truth`] with a few codes of
+/// deterministic ADC noise, then four fault samples (open bridge at the
 /// upper rail, thermometer signal beyond its plausible range, a code above
 /// the calibrated range, a code below it).
 fn stream() -> String {
@@ -264,16 +285,11 @@ fn stream() -> String {
     let mut state: u32 = 20_251_201;
     let mut noise = || {
         state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
-        f64::from(state >> 29) - 3.5
+        f64::from(state >> 29) - NOISE_CODES
     };
-    let ramp = STREAM_LEN - 4;
-    for i in 0..ramp {
-        let phase = i as f64 / (ramp - 1) as f64;
-        // Triangle: up for the first half, down for the second.
-        let tri = 1.0 - (2.0 * phase - 1.0).abs();
-        let t_c = T_START_C + (85.0 - T_START_C) * tri;
-        let x = 0.5 - 0.45 * (i as f64 * 0.37).cos();
-        let raw = (part::raw_code(x, t_c) + noise()).round() as i32;
+    for i in 0..STREAM_LEN - 4 {
+        let (p_pa, t_c) = ramp_truth(i);
+        let raw = (part::raw_code(p_pa / FULL_SCALE_PA, t_c) + noise()).round() as i32;
         let temp = (part::temp_code(t_c) + noise()).round() as i32;
         out.push_str(&format!("{raw},{temp}\n"));
     }
