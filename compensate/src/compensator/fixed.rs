@@ -9,6 +9,7 @@ use crate::image::{ColumnQ, NumberFormat, TableView, TablesQ};
 use crate::interp::{
     AxisQ, Interpolation, Nodes, PositionQ, bilinear_q, cubic_monotone_q, linear_q,
 };
+use crate::widemul::mul_wide;
 
 /// One compensated sample in Q(`output`) engineering units.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -23,29 +24,32 @@ pub struct ReadingQ {
 }
 
 /// Integer compensator running on a parsed Q-format [`TableView`].
+// `repr(C)` with the per-sample fields first: ARMv6-M loads reach only 124
+// bytes past a base register, so the hot path's fields must come early.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[repr(C)]
 pub struct FixedCompensator<'a> {
-    tables: Option<TablesQ<'a>>,
-    interpolation: Interpolation,
-    grid: Option<(AxisQ, ColumnQ<'a>)>,
-    rail_lo: i32,
-    rail_hi: i32,
     raw_lo: i32,
     raw_hi: i32,
+    offset: i32,
+    gain: i32,
+    quadratic: i32,
     /// Fractional bits of the offset channel: raw codes are shifted by this.
     offset_shift: u32,
     /// `offset + gain - output` fractional bits, at most 62.
     out_shift: u32,
     /// Half an LSB of the output before the shift (round half up).
     out_round: i64,
+    temp_status: Status,
+    grid: Option<(AxisQ, ColumnQ<'a>)>,
+    rail_lo: i32,
+    rail_hi: i32,
     /// `quadratic + offset - gain` fractional bits.
     quad_shift: u32,
     temperature_q: i32,
-    offset: i32,
-    gain: i32,
-    quadratic: i32,
     row: PositionQ,
-    temp_status: Status,
+    interpolation: Interpolation,
+    tables: Option<TablesQ<'a>>,
 }
 
 /// Interpolates with the image's method.
@@ -55,6 +59,43 @@ fn interp<N: Nodes<Value = i32>>(method: Interpolation, nodes: &N, p: PositionQ)
         Interpolation::MonotoneCubic => cubic_monotone_q(nodes, p),
         _ => linear_q(nodes, p),
     }
+}
+
+/// `p >> s` (arithmetic, `s` in 0..=63) if the result fits in i32.
+#[inline]
+fn shr_to_i32(p: i64, s: u32) -> Option<i32> {
+    #[cfg(all(target_arch = "arm", not(target_feature = "v7")))]
+    {
+        shr_to_i32_soft(p, s)
+    }
+    #[cfg(not(all(target_arch = "arm", not(target_feature = "v7"))))]
+    {
+        i32::try_from(p.wrapping_shr(s)).ok()
+    }
+}
+
+/// [`shr_to_i32`] in 32-bit operations, for ARMv6-M where a variable i64
+/// shift is a library call.
+#[inline]
+#[cfg_attr(
+    not(all(target_arch = "arm", not(target_feature = "v7"))),
+    allow(dead_code)
+)]
+fn shr_to_i32_soft(p: i64, s: u32) -> Option<i32> {
+    let hi = (p >> 32) as i32;
+    let lo = p as u32;
+    let s = s & 63;
+    if s >= 32 {
+        // The result is hi >> (s - 32) sign-extended: always fits.
+        return Some(hi.wrapping_shr(s.wrapping_sub(32)));
+    }
+    if s == 0 {
+        let fits = hi == (lo as i32) >> 31;
+        return fits.then_some(lo as i32);
+    }
+    let res_lo = (lo >> s) | ((hi as u32).wrapping_shl(32u32.wrapping_sub(s)));
+    let res_hi = hi >> s;
+    (res_hi == (res_lo as i32) >> 31).then_some(res_lo as i32)
 }
 
 /// i64 to i32 with saturation; the flag says whether it saturated.
@@ -201,6 +242,17 @@ impl<'a> FixedCompensator<'a> {
         (self.offset, self.gain, self.quadratic)
     }
 
+    /// Status of a raw code outside the calibrated range.
+    #[cold]
+    #[inline(never)]
+    fn classify_raw(&self, raw: i32) -> Status {
+        let mut status = self.temp_status | Status::INPUT_OUT_OF_RANGE;
+        if raw <= self.rail_lo || raw >= self.rail_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        status
+    }
+
     /// Compensates one raw sample in integer ADC codes.
     ///
     /// `d = (raw << offset_bits) - offset` (saturated to i32), then
@@ -208,14 +260,41 @@ impl<'a> FixedCompensator<'a> {
     /// `g = gain + (quadratic * d >> (quadratic + offset - gain))`, plus the
     /// 2-D correction if present. Every product is i32 x i32 into i64, so
     /// nothing overflows; saturation at the i32 range is flagged.
+    ///
+    /// The common case (input in the calibrated range, no quadratic term,
+    /// no 2-D correction, no saturation) takes a short path: one 32x32->64
+    /// multiply, a rounding add and a shift. Both paths give identical
+    /// results (tested).
     #[inline]
     pub fn compensate_sample(&self, raw: i32) -> ReadingQ {
-        let mut status = self.temp_status;
-        if raw <= self.rail_lo || raw >= self.rail_hi {
-            status |= Status::SENSOR_FAULT;
-        } else if raw < self.raw_lo || raw > self.raw_hi {
-            status |= Status::INPUT_OUT_OF_RANGE;
+        if raw >= self.raw_lo && raw <= self.raw_hi && self.quadratic == 0 && self.grid.is_none() {
+            // The parser checked that rail codes shifted by the offset's
+            // fractional bits fit in i32, and the calibrated range lies
+            // inside the rails: the shift cannot overflow.
+            let shifted = raw.wrapping_shl(self.offset_shift);
+            if let Some(d) = shifted.checked_sub(self.offset) {
+                // |d * gain| <= 2^62, out_round <= 2^61: no overflow.
+                let p = mul_wide(d, self.gain).wrapping_add(self.out_round);
+                if let Some(value) = shr_to_i32(p, self.out_shift) {
+                    return ReadingQ {
+                        value,
+                        status: self.temp_status,
+                    };
+                }
+            }
         }
+        self.compensate_general(raw)
+    }
+
+    /// Every case of [`Self::compensate_sample`]: statuses, saturation,
+    /// quadratic term, 2-D correction.
+    #[inline(never)]
+    fn compensate_general(&self, raw: i32) -> ReadingQ {
+        let mut status = if raw >= self.raw_lo && raw <= self.raw_hi {
+            self.temp_status
+        } else {
+            self.classify_raw(raw)
+        };
         // |raw << 30| < 2^61 and |offset| < 2^31: no i64 overflow.
         let d = i64::from(raw)
             .wrapping_shl(self.offset_shift)
@@ -226,14 +305,11 @@ impl<'a> FixedCompensator<'a> {
         if self.quadratic != 0 {
             // i32 x i32 < 2^62; arithmetic shift rounds toward -inf, which
             // the host model reproduces exactly.
-            let q = i64::from(self.quadratic)
-                .wrapping_mul(i64::from(d))
-                .wrapping_shr(self.quad_shift);
+            let q = mul_wide(self.quadratic, d).wrapping_shr(self.quad_shift);
             (g, sat_g) = saturate(i64::from(g).wrapping_add(q));
         }
         // |d * g| <= 2^62 and out_round <= 2^61: the sum stays below 2^63.
-        let y = i64::from(d)
-            .wrapping_mul(i64::from(g))
+        let y = mul_wide(d, g)
             .wrapping_add(self.out_round)
             .wrapping_shr(self.out_shift);
         let y = match &self.grid {
@@ -253,5 +329,125 @@ impl<'a> FixedCompensator<'a> {
             status |= Status::SATURATED;
         }
         ReadingQ { value, status }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::ImageBuilder;
+    use crate::image::{AxisSpec, QFormat, RawLimits, SignalKind, Unit};
+
+    #[test]
+    fn soft_multiply_is_exact() {
+        use crate::widemul::mul_wide_soft;
+        let edge = [
+            0,
+            1,
+            -1,
+            2,
+            0xFFFF,
+            0x1_0000,
+            -0x1_0000,
+            12345,
+            -987_654_321,
+            i32::MAX,
+            i32::MIN,
+            i32::MIN + 1,
+        ];
+        let mut x: u32 = 0x1234_5678;
+        let mut vals: std::vec::Vec<i32> = edge.to_vec();
+        for _ in 0..2000 {
+            // xorshift32: deterministic spread over the whole range.
+            x ^= x << 13;
+            x ^= x >> 17;
+            x ^= x << 5;
+            vals.push(x as i32);
+        }
+        for &a in &vals {
+            for &b in edge.iter().chain(vals.iter().take(64)) {
+                let want = i64::from(a) * i64::from(b);
+                assert_eq!(mul_wide_soft(a, b), want, "{a} * {b}");
+            }
+        }
+    }
+
+    #[test]
+    fn soft_shift_matches_native() {
+        let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
+        for i in 0..20_000u32 {
+            // xorshift64, plus values near the i32 boundaries.
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            let p = match i % 4 {
+                0 => x as i64,
+                1 => (x as i64) >> 20,
+                2 => i64::from(i32::MAX) << (i % 31),
+                _ => i64::from(i32::MIN) << (i % 31),
+            };
+            let s = i % 64;
+            let want = i32::try_from(p >> s).ok();
+            assert_eq!(shr_to_i32_soft(p, s), want, "{p} >> {s}");
+        }
+    }
+
+    #[test]
+    fn fast_and_general_paths_agree() {
+        let offset = [100 << 8, -50 << 8];
+        let gain = [3 << 20, 5 << 20];
+        let b = ImageBuilder::<i32> {
+            interpolation: crate::interp::Interpolation::Linear,
+            q_format: QFormat {
+                temperature: 16,
+                signal: 16,
+                output: 12,
+                offset: 8,
+                gain: 20,
+                quadratic: 0,
+            },
+            signal_kind: SignalKind::Celsius,
+            unit: Unit::None,
+            ratiometric: false,
+            full_scale: 1.0,
+            raw_limits: RawLimits {
+                rail_lo: -8_388_608,
+                raw_lo: -8_000_000,
+                raw_hi: 8_000_000,
+                rail_hi: 8_388_607,
+            },
+            signal_lo: -60 << 16,
+            signal_hi: 200 << 16,
+            serial: [0; 16],
+            thermometer: None,
+            temperature_axis: AxisSpec {
+                start: 0,
+                step: 100 << 16,
+            },
+            offset: &offset,
+            gain: &gain,
+            quadratic: None,
+            grid: None,
+        };
+        let mut buf = [0u8; 256];
+        let n = b.encode(&mut buf).unwrap();
+        let view = TableView::parse(&buf[..n]).unwrap();
+        let mut c = FixedCompensator::new(&view).unwrap();
+        c.update_temperature(37 << 16);
+        let mut x: u32 = 99;
+        for i in 0..5000 {
+            x ^= x << 13;
+            x ^= x >> 17;
+            x ^= x << 5;
+            // Mostly in range, some beyond, a few at the extremes.
+            let raw = match i % 50 {
+                0 => i32::MIN,
+                1 => i32::MAX,
+                _ => (x as i32) >> 8,
+            };
+            let fast = c.compensate_sample(raw);
+            let general = c.compensate_general(raw);
+            assert_eq!(fast, general, "raw {raw}");
+        }
     }
 }

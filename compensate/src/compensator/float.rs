@@ -177,20 +177,40 @@ impl<'a> Compensator<'a> {
     /// correction if the image has one. Codes at or beyond a rail give
     /// [`Status::SENSOR_FAULT`]; outside the calibrated range,
     /// [`Status::INPUT_OUT_OF_RANGE`] (the value is extrapolated).
+    ///
+    /// The common case (input in the calibrated range, no 2-D correction)
+    /// is a short path with no stack frame: two compares and three
+    /// multiply-adds; everything else goes to an out-of-line function.
     #[inline]
     pub fn compensate_sample(&self, raw: f32) -> Reading {
-        let mut status = self.temp_status;
-        if !(raw > self.rail_lo && raw < self.rail_hi) {
-            if !raw.is_finite() {
-                return Reading {
-                    value: 0.0,
-                    status: status | Status::NAN_INPUT,
-                };
-            }
-            status |= Status::SENSOR_FAULT;
-        } else if raw < self.raw_lo || raw > self.raw_hi {
-            status |= Status::INPUT_OUT_OF_RANGE;
+        // False for NaN, so NaN takes the general path.
+        if raw >= self.raw_lo && raw <= self.raw_hi && self.grid.is_none() {
+            let d = raw - self.offset;
+            return Reading {
+                value: d * (self.gain + self.quadratic * d),
+                status: self.temp_status,
+            };
         }
+        self.compensate_general(raw)
+    }
+
+    /// Every case of [`Self::compensate_sample`]: statuses, NaN, 2-D
+    /// correction.
+    #[inline(never)]
+    fn compensate_general(&self, raw: f32) -> Reading {
+        let mut status = if raw >= self.raw_lo && raw <= self.raw_hi {
+            self.temp_status
+        } else {
+            match self.classify_raw(raw) {
+                Some(s) => s,
+                None => {
+                    return Reading {
+                        value: 0.0,
+                        status: self.temp_status | Status::NAN_INPUT,
+                    };
+                }
+            }
+        };
         let d = raw - self.offset;
         let mut value = d * (self.gain + self.quadratic * d);
         if let Some((axis, values)) = &self.grid {
@@ -201,6 +221,20 @@ impl<'a> Compensator<'a> {
             value += bilinear(values, axis.len, self.row, c);
         }
         Reading { value, status }
+    }
+
+    /// Status of a raw value outside the calibrated range; `None` for NaN
+    /// or infinity.
+    #[cold]
+    fn classify_raw(&self, raw: f32) -> Option<Status> {
+        if !raw.is_finite() {
+            return None;
+        }
+        let mut status = self.temp_status | Status::INPUT_OUT_OF_RANGE;
+        if raw <= self.rail_lo || raw >= self.rail_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        Some(status)
     }
 
     /// Compensates a raw sample taken at an excitation that differs from the

@@ -1,5 +1,7 @@
 //! Uniform axes: where a point falls between nodes, with clamping.
 
+use crate::widemul::mul_wide_u;
+
 /// A uniform f32 axis: nodes at `start + k * step`, `k = 0..len`.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -84,6 +86,8 @@ pub struct AxisQ {
     start: i32,
     step: u32,
     len: usize,
+    /// `(len - 1) * step`, below 2^32 because the last node fits in i32.
+    span: u32,
     /// `ceil(2^48 / step)`.
     inv_step: u64,
 }
@@ -114,11 +118,13 @@ impl AxisQ {
         if end > i32::MAX as i64 {
             return None;
         }
+        let span = (end - start as i64) as u32;
         let step = step as u32;
         Some(Self {
             start,
             step,
             len,
+            span,
             inv_step: (1u64 << 48).div_ceil(step as u64),
         })
     }
@@ -163,7 +169,7 @@ impl AxisQ {
                 clamped: u < 0,
             };
         }
-        let span = (last as i64).wrapping_mul(i64::from(self.step));
+        let span = i64::from(self.span);
         if u >= span {
             return PositionQ {
                 index: last,
@@ -180,7 +186,14 @@ impl AxisQ {
         // rounded-up reciprocal overshoots by rem / 2^32 < 0.5 LSB, the final
         // shift truncates by < 1 LSB: |frac - exact| < 1 LSB, and fractions
         // that are whole LSBs (any dyadic step) come out exact.
-        let frac_q16 = ((u64::from(rem).wrapping_mul(self.inv_step) >> 32) as u32).min(0xFFFF);
+        // rem * inv >> 32 = rem * inv_hi + (rem * inv_lo >> 32) exactly,
+        // with inv_hi = inv >> 32 <= 2^16 / step (0 for steps above 2^16),
+        // so rem * inv_hi < 2^16 and the sum stays far below 2^32; only one
+        // 32x32 -> 64 product is needed (cheap on ARMv6-M).
+        let inv_hi = (self.inv_step >> 32) as u32;
+        let inv_lo = self.inv_step as u32;
+        let high = (mul_wide_u(rem, inv_lo) >> 32) as u32;
+        let frac_q16 = rem.wrapping_mul(inv_hi).wrapping_add(high).min(0xFFFF);
         PositionQ {
             index: index as usize,
             frac_q16,

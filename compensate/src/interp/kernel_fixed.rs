@@ -6,13 +6,19 @@
 #![deny(clippy::arithmetic_side_effects)]
 
 use super::{Nodes, PositionQ};
+use crate::widemul::mul_wide;
 
 /// `(a * frac_q16) >> 16` rounded half up, `a` within +-2^47.
 #[inline]
 fn scale_q16(a: i64, frac_q16: u32) -> i64 {
     // |a| < 2^47 and frac < 2^16 keep the product and the rounding offset
-    // below 2^63.
-    a.wrapping_mul(i64::from(frac_q16)).wrapping_add(1 << 15) >> 16
+    // below 2^63. Node differences usually fit in i32: then the cheap
+    // widening multiply suffices (same exact product).
+    let p = match i32::try_from(a) {
+        Ok(a32) => mul_wide(a32, frac_q16 as i32),
+        Err(_) => a.wrapping_mul(i64::from(frac_q16)),
+    };
+    p.wrapping_add(1 << 15) >> 16
 }
 
 /// i64 to i32 with saturation.
