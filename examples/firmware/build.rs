@@ -20,6 +20,11 @@ fn main() {
     if target == "thumbv7em-none-eabihf" {
         println!("cargo::rustc-cfg=fpu");
     }
+    // `armv6m`: no 32x32->64 multiply instruction (see poly::mul_wide).
+    println!("cargo::rustc-check-cfg=cfg(armv6m)");
+    if target.starts_with("thumbv6m") {
+        println!("cargo::rustc-cfg=armv6m");
+    }
     let out = PathBuf::from(env::var_os("OUT_DIR").expect("cargo sets OUT_DIR"));
     fs::copy(map, out.join("memory.x")).expect("copy the memory map to OUT_DIR");
     println!("cargo:rustc-link-search={}", out.display());
