@@ -118,11 +118,21 @@
 //! this term fits the budget.
 //!
 //! ## Number-format quantization
-//! Q images round every stored number to its LSB and the integer path rounds
-//! products; [`interp::PositionQ::frac_q16`] is within 1 LSB of 2^-16 of the
-//! node spacing. The bound for a given [`image::QFormat`] is derived in the
-//! `fixed_point_agrees_with_f32_within_quantization_bound` test; f32 images
-//! add only f32 rounding (about 6e-8 relative per operation).
+//! In a Q image with `fo`, `fg`, `fy` fractional bits for offset, gain and
+//! output, and `|d| <= D` codes, `|gain| <= G`, each term below is an
+//! upper bound in output units:
+//! - stored offset (rounded to `2^-fo` codes, then interpolated with one
+//!   more 0.5 LSB rounding): `G 2^-fo`;
+//! - stored and interpolated gain: `D 2^-fg`;
+//! - interpolation position (within 1 LSB of `2^-16` of a node step, see
+//!   [`interp::PositionQ::frac_q16`]): `(G |Δoffset| + D |Δgain|) 2^-16`
+//!   with `Δ` the largest change between neighbouring nodes;
+//! - output rounding: `2^-(fy+1)`, plus `2^-fy` for a 2-D correction.
+//!
+//! Dividing by the full scale gives ppm. The test
+//! `fixed_point_agrees_with_f32_within_quantization_bound` works this sum
+//! out for its example format and checks it against the f32 path. f32
+//! images add only f32 rounding (about 6e-8 relative per operation).
 //!
 //! ## Runtime-model deviation
 //! The [`model`] module's closed forms (Boltzmann statistics, one effective

@@ -27,6 +27,7 @@ pub struct ReadingQ {
 // `repr(C)` with the per-sample fields first: ARMv6-M loads reach only 124
 // bytes past a base register, so the hot path's fields must come early.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[repr(C)]
 pub struct FixedCompensator<'a> {
     raw_lo: i32,

@@ -23,6 +23,7 @@ pub struct Reading {
 /// signal arrives (it caches offset, gain and the 2-D row position), and
 /// [`Compensator::compensate_sample`] for every raw sample.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Compensator<'a> {
     tables: Option<TablesF32<'a>>,
     interpolation: Interpolation,

@@ -5,12 +5,14 @@ use crate::interp::Nodes;
 
 /// A column of f32 values borrowed from an image (little-endian words).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ColumnF32<'a> {
     bytes: &'a [u8],
 }
 
 /// A column of Q-format i32 values borrowed from an image.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ColumnQ<'a> {
     bytes: &'a [u8],
 }

@@ -61,6 +61,7 @@ impl Offsets {
 
 /// The f32 tables of a validated f32 image.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct TablesF32<'a> {
     /// Temperature axis of the channels, degrees Celsius.
     pub temperature: Axis,
@@ -83,6 +84,7 @@ pub struct TablesF32<'a> {
 
 /// The Q-format tables of a validated Q image.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct TablesQ<'a> {
     /// Temperature axis, Q(`temperature`) degrees Celsius.
     pub temperature: AxisQ,
