@@ -2,5 +2,7 @@
 //! element models, calibration fits, table building, export and verification.
 #![forbid(unsafe_code)]
 
+pub mod arrhenius;
 pub mod cli;
 pub mod physics;
+pub mod plot;

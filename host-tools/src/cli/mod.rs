@@ -4,7 +4,12 @@
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
 
+mod arrhenius;
 mod error;
+mod model;
+mod plot;
+pub mod range;
+pub mod sample_args;
 
 pub use error::CliError;
 
@@ -29,7 +34,15 @@ pub struct Cli {
 
 /// The subcommands.
 #[derive(Debug, Subcommand)]
-pub enum Command {}
+pub enum Command {
+    /// Evaluate the full physics model of a doped sample over temperature.
+    Model(model::ModelArgs),
+    /// Draw plots as SVG files.
+    #[command(subcommand)]
+    Plot(plot::PlotCommand),
+    /// Fit an activation energy to conductivity or resistance versus temperature.
+    Arrhenius(arrhenius::ArrheniusArgs),
+}
 
 /// Runs the command line with the process arguments and returns the exit code.
 pub fn main() -> i32 {
@@ -47,10 +60,17 @@ where
 {
     let cli = match Cli::try_parse_from(args) {
         Ok(cli) => cli,
-        Err(e) => {
-            let code = if e.use_stderr() { 2 } else { 0 };
+        Err(e) if !e.use_stderr() => {
+            // --help and --version.
             let _ = e.print();
-            return code;
+            return 0;
+        }
+        Err(e) => {
+            eprintln!(
+                "semidrift: {} (see --help)",
+                one_line(&e.render().to_string())
+            );
+            return 2;
         }
     };
     match dispatch(cli.command, out) {
@@ -63,6 +83,20 @@ where
 }
 
 fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
-    let _ = out;
-    match command {}
+    match command {
+        Command::Model(args) => model::run(args, out),
+        Command::Plot(args) => plot::run(args, out),
+        Command::Arrhenius(args) => arrhenius::run(args, out),
+    }
+}
+
+/// clap's usage error as one line: its first paragraph, whitespace collapsed
+/// (the contract asks for one-line errors; the usage text is in `--help`).
+fn one_line(rendered: &str) -> String {
+    rendered
+        .lines()
+        .take_while(|l| !l.trim().is_empty())
+        .map(str::trim)
+        .collect::<Vec<_>>()
+        .join(" ")
 }

@@ -42,14 +42,23 @@
 //!
 //! # Pairing with mobility (read before combining with a mobility model)
 //! Masetti, Arora and Klaassen mobility fits are parametrised by the *total*
-//! chemical dopant density; they already contain, implicitly, whatever
-//! ionization the fitted samples had at 300 K. Pass them `donors_total_cm3 +
-//! acceptors_total_cm3` (or the species totals), not the ionized densities,
-//! and do not apply an extra neutral-impurity term for the neutral fraction
-//! reported here: the missing carriers are already in `n`/`p`, so dividing
-//! again would double count. The incomplete ionization this module reports
-//! is physical below ~1e18 cm^-3 and near 100 K; with the localised fraction
-//! b(N), ionization is near-complete again at 1e19 and above.
+//! chemical dopant density and were derived as `mu = 1/(q N rho)`, i.e.
+//! assuming complete ionization at 300 K. This module reports a neutral
+//! fraction at 300 K (up to ~22 % for Si:P and ~27 % for Si:B near 2e18
+//! cm^-3), so combining the published mobility with our `n`, `p` would count
+//! the missing carriers twice. Rules for any consumer:
+//! - scattering centres are `donors_total_cm3 + acceptors_total_cm3`, never
+//!   the ionized densities;
+//! - undo the fit's full-ionization convention once, at the fit temperature
+//!   (the mobility module multiplies by `N / N_ion,300K(N)` computed from
+//!   this model), so the neutral fraction enters the resistivity only
+//!   through `n`/`p`;
+//! - add no neutral-impurity scattering term for the neutral fraction.
+//!
+//! Near the metal-insulator transition (1e18-1e19 cm^-3) the localised
+//! fraction b(N) drops and ionization is near-complete again (> 98 % at
+//! 1e20), as Altermatt's measurements require; a model without b(N) would
+//! freeze out most carriers there and must not be paired with these fits.
 
 use super::material::Material;
 
@@ -206,6 +215,12 @@ impl DopantLevel {
     /// Fraction b(N) of dopant states that are localised and can bind a carrier.
     pub fn localized_fraction(&self, n_cm3: f64) -> f64 {
         1.0 / (1.0 + (n_cm3 / self.n_b_cm3).powf(self.d))
+    }
+
+    /// Fraction 1 - b(N) of dopant states merged into the band (always ionized), computed without cancellation.
+    pub fn delocalized_fraction(&self, n_cm3: f64) -> f64 {
+        let x = (n_cm3 / self.n_b_cm3).powf(self.d);
+        x / (1.0 + x)
     }
 
     /// Ground-state degeneracy factor.

@@ -11,9 +11,10 @@
 //!   At 300 K this is exactly Masetti's model; the temperature exponents are
 //!   Arora's, who fitted 200..500 K. Outside that span the formula is an
 //!   extrapolation (documented, not hidden).
-//!   Electrons use Masetti's phosphorus set (the ASTM F723 reference donor; As
-//!   and Sb differ by < 3 % below 1e19 cm^-3 in Masetti's Table I), holes the
-//!   boron set.
+//!   Electrons use Masetti's phosphorus set for every donor (P is the ASTM
+//!   F723 reference donor; Masetti's arsenic set, [`SI_ELECTRONS_AS`], differs
+//!   from it by < 3 % up to 1e18 cm^-3 and by ~6 % at 1e19 cm^-3), holes the
+//!   boron set for every acceptor.
 //! - **Ge, GaAs, InSb, InAs, 4H-SiC**: the Caughey-Thomas form
 //!   `mu = mu_min + (mu_max(T) - mu_min) / (1 + (N / N_ref(T))^alpha)` with
 //!   `mu_max(T) = mu_max (300/T)^theta1` and `N_ref(T) = N_ref (T/300)^theta2`,
@@ -506,7 +507,8 @@ mod tests {
     /// Masetti 1983 eq. 1 with the Table I parameters, evaluated in a separate
     /// calculation (Python, double precision) and rounded to 0.01 cm^2/Vs;
     /// at 300 K the implementation must reproduce them to that rounding
-    /// (relative 2e-5 at the smallest value, 49.86).
+    /// (half a unit of 0.01 is 1e-4 relative at the smallest value, 49.86;
+    /// 2e-4 leaves a factor 2 for the rounding of the reference).
     #[test]
     fn si_masetti_table_at_300k() {
         let table = [

@@ -157,6 +157,10 @@ struct MaxwellRule {
     u3: [f64; PANELS * NODES],
     u4: [f64; PANELS * NODES],
     w: [f64; PANELS * NODES],
+    /// `2 u^4 du` without the occupancy factor (for Fermi-Dirac weights).
+    base: [f64; PANELS * NODES],
+    /// `e^{u^2}`, so a Fermi-Dirac weight costs one exp per call, not per node.
+    exp_u2: [f64; PANELS * NODES],
     norm: f64,
 }
 
@@ -168,6 +172,8 @@ fn maxwell_rule() -> &'static MaxwellRule {
             u3: [0.0; PANELS * NODES],
             u4: [0.0; PANELS * NODES],
             w: [0.0; PANELS * NODES],
+            base: [0.0; PANELS * NODES],
+            exp_u2: [0.0; PANELS * NODES],
             norm: 0.0,
         };
         for panel in 0..PANELS {
@@ -177,7 +183,9 @@ fn maxwell_rule() -> &'static MaxwellRule {
                 let u2 = u * u;
                 rule.u3[i] = u2 * u;
                 rule.u4[i] = u2 * u2;
-                rule.w[i] = 2.0 * u2 * u2 * (-u2).exp() * weights[k] * h;
+                rule.base[i] = 2.0 * u2 * u2 * weights[k] * h;
+                rule.exp_u2[i] = u2.exp();
+                rule.w[i] = rule.base[i] / rule.exp_u2[i];
                 rule.norm += rule.w[i];
             }
         }
@@ -206,8 +214,22 @@ pub fn hall_scattering_factor(mu_cm2_vs: f64, mu_lattice_cm2_vs: f64, eta: f64) 
             k2 += wt * t;
         }
         k0 = rule.norm;
+    } else if eta <= 0.0 {
+        // Fermi-Dirac weight x^(3/2) (-df/dx) = x^(3/2) f (1 - f), x = u^2,
+        // on the Maxwellian nodes (the tail beyond u = 7 is still < 1e-13).
+        let rule = maxwell_rule();
+        let shift = (-eta).exp();
+        for i in 0..PANELS * NODES {
+            let e = rule.exp_u2[i] * shift;
+            let d = 1.0 + e;
+            let w = rule.base[i] * e / (d * d);
+            let t = rule.u3[i] / (rule.u4[i] + c);
+            k0 += w;
+            k1 += w * t;
+            k2 += w * t * t;
+        }
     } else {
-        // Fermi-Dirac weight x^(3/2) (-df/dx) = x^(3/2) f (1 - f), x = u^2.
+        // Degenerate: extend the range past the Fermi level.
         let (nodes, weights) = unit_rule();
         let u_max = (49.0 + eta.max(0.0)).sqrt();
         for panel in 0..PANELS {
@@ -342,6 +364,18 @@ mod tests {
             let a = hall_scattering_factor(1.0, 1.0 + ratio, ETA_DEGENERATE);
             let b = hall_scattering_factor(1.0, 1.0 + ratio, ETA_DEGENERATE + 1e-9);
             check_rel(&format!("ratio {ratio}"), b, a, 1e-2).unwrap();
+        }
+    }
+
+    /// The two Fermi-Dirac paths (fixed nodes for eta <= 0, widened range
+    /// above) are the same integral with different nodes: they agree at
+    /// eta = 0 to the quadrature error (~1e-7); 1e-6.
+    #[test]
+    fn fermi_dirac_paths_agree_at_zero() {
+        for ratio in [0.0, 0.3, 3.0, 300.0] {
+            let a = hall_scattering_factor(1.0, 1.0 + ratio, 0.0);
+            let b = hall_scattering_factor(1.0, 1.0 + ratio, 1e-12);
+            check_rel(&format!("ratio {ratio}"), b, a, 1e-6).unwrap();
         }
     }
 

@@ -1,0 +1,236 @@
+//! What every semidrift plot shares: the embedded font, palette, text sizes,
+//! log-axis ranges, and writing the finished SVG atomically.
+
+use plotters::style::{FontStyle, RGBColor};
+use std::path::Path;
+use std::sync::Once;
+
+/// DejaVu Sans (Bitstream Vera licence, see `assets/DejaVuSans-LICENSE.txt`),
+/// used only to measure text; the SVG names the generic family below.
+const FONT_BYTES: &[u8] = include_bytes!("../../assets/DejaVuSans.ttf");
+
+/// Font family the plots ask for; the embedded font is registered under it.
+pub const FONT_FAMILY: &str = "sans-serif";
+
+/// Caption (panel title) size in pixels.
+pub const CAPTION_PX: u32 = 20;
+/// Axis-description size in pixels.
+pub const LABEL_PX: u32 = 15;
+/// Tick-label and legend size in pixels.
+pub const TICK_PX: u32 = 12;
+
+/// Electron / n-type curves.
+pub const BLUE: RGBColor = RGBColor(0x1f, 0x5f, 0xb4);
+/// Hole / p-type curves.
+pub const RED: RGBColor = RGBColor(0xc0, 0x39, 0x2b);
+/// Reference curves (intrinsic density, fits).
+pub const GREY: RGBColor = RGBColor(0x70, 0x70, 0x70);
+/// Further curves (resistivity, totals).
+pub const GREEN: RGBColor = RGBColor(0x2e, 0x8b, 0x57);
+
+/// Why a plot could not be drawn or written.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum PlotError {
+    /// Nothing to draw (no finite positive values for a log axis, too few points).
+    #[error("nothing to plot: {0}")]
+    NoData(String),
+    /// plotters refused to draw.
+    #[error("drawing failed: {0}")]
+    Draw(String),
+    /// The file could not be written.
+    #[error("cannot write {path}: {source}")]
+    Write {
+        /// Destination file.
+        path: String,
+        /// Underlying I/O error.
+        source: std::io::Error,
+    },
+}
+
+impl PlotError {
+    /// Wraps any plotters error.
+    pub fn draw(e: impl std::fmt::Display) -> PlotError {
+        PlotError::Draw(e.to_string())
+    }
+}
+
+/// Registers the embedded font with plotters once per process.
+pub fn register_font() -> Result<(), PlotError> {
+    static ONCE: Once = Once::new();
+    let mut ok = true;
+    ONCE.call_once(|| {
+        ok = plotters::style::register_font(FONT_FAMILY, FontStyle::Normal, FONT_BYTES).is_ok();
+    });
+    if ok {
+        Ok(())
+    } else {
+        Err(PlotError::Draw(
+            "embedded font is not a valid TrueType font".into(),
+        ))
+    }
+}
+
+/// A logarithmic axis range covering every finite positive value, widened
+/// to whole decades so tick labels stay readable, and spanning at most
+/// `max_decades` below the largest value (smaller values fall off the axis).
+pub fn log_range(
+    values: impl IntoIterator<Item = f64>,
+    max_decades: f64,
+) -> Result<std::ops::Range<f64>, PlotError> {
+    let (lo, hi) = values
+        .into_iter()
+        .filter(|v| v.is_finite() && *v > 0.0)
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+            (lo.min(v), hi.max(v))
+        });
+    if !lo.is_finite() {
+        return Err(PlotError::NoData(
+            "no finite positive value for a logarithmic axis".into(),
+        ));
+    }
+    let mut hi_decade = hi.log10().ceil();
+    let lo_decade = lo
+        .log10()
+        .floor()
+        .max(hi_decade - max_decades.max(1.0).round());
+    if hi_decade <= lo_decade {
+        hi_decade = lo_decade + 1.0;
+    }
+    Ok(10f64.powf(lo_decade)..10f64.powf(hi_decade))
+}
+
+/// A linear axis range from the finite values with 3 % margin on each side.
+pub fn linear_range(
+    values: impl IntoIterator<Item = f64>,
+) -> Result<std::ops::Range<f64>, PlotError> {
+    let (lo, hi) = values
+        .into_iter()
+        .filter(|v| v.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+            (lo.min(v), hi.max(v))
+        });
+    if !lo.is_finite() {
+        return Err(PlotError::NoData(
+            "no finite value for a linear axis".into(),
+        ));
+    }
+    let margin = if hi > lo { 0.03 * (hi - lo) } else { 1.0 };
+    Ok(lo - margin..hi + margin)
+}
+
+/// Tick label of a logarithmic axis: `1e15` at powers of ten, else `3.0e15`.
+pub fn log_label(v: &f64) -> String {
+    let decade = v.log10();
+    if (decade - decade.round()).abs() < 1e-6 {
+        format!("1e{}", decade.round())
+    } else {
+        format!("{v:.1e}")
+    }
+}
+
+/// Tick label of a linear axis: no decimals for whole numbers, else one.
+pub fn tick_label(v: &f64) -> String {
+    if (v - v.round()).abs() < 1e-9 {
+        format!("{v:.0}")
+    } else {
+        format!("{v:.1}")
+    }
+}
+
+/// Writes `contents` to `path` via a temporary file in the same directory and
+/// a rename, so a failed run never leaves a half-written file behind.
+pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
+    let write_err = |source| PlotError::Write {
+        path: path.display().to_string(),
+        source,
+    };
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
+    let mut tmp = tempfile::NamedTempFile::new_in(dir).map_err(write_err)?;
+    std::io::Write::write_all(&mut tmp, contents).map_err(write_err)?;
+    persist(tmp, path)
+}
+
+/// Gives a finished temporary file ordinary permissions (tempfile creates it
+/// owner-only) and renames it to `path`.
+pub fn persist(tmp: tempfile::NamedTempFile, path: &Path) -> Result<(), PlotError> {
+    let write_err = |source| PlotError::Write {
+        path: path.display().to_string(),
+        source,
+    };
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o644))
+            .map_err(write_err)?;
+    }
+    tmp.persist(path).map_err(|e| write_err(e.error))?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn log_ranges_snap_to_decades() {
+        // (values, expected lo, expected hi); exact: powers of ten from powf
+        // of whole numbers are the nearest doubles and compared with 1e-12 relative.
+        let cases: &[(&[f64], f64, f64)] = &[
+            (&[3e14, 2e17], 1e14, 1e18),
+            (&[1e15], 1e15, 1e16),
+            (&[0.0, -1.0, f64::NAN, 5.0], 1.0, 10.0),
+            (&[1e-37, 1e15], 1e-6, 1e15),
+        ];
+        for (values, lo, hi) in cases {
+            let r = log_range(values.iter().copied(), 21.0).unwrap();
+            assert!(
+                ((r.start - lo) / lo).abs() < 1e-12 && ((r.end - hi) / hi).abs() < 1e-12,
+                "values {values:?}: got {r:?}, expected {lo}..{hi}"
+            );
+        }
+        assert!(
+            log_range([0.0, -3.0], 21.0).is_err(),
+            "no positive value must fail"
+        );
+    }
+
+    #[test]
+    fn tick_labels_are_short() {
+        for (v, expected) in [
+            (1e15, "1e15"),
+            (1e-3, "1e-3"),
+            (3e15, "3.0e15"),
+            (9999999987.0, "1e10"),
+        ] {
+            assert_eq!(log_label(&v), expected, "log label of {v:e}");
+        }
+        for (v, expected) in [(100.0, "100"), (2.5, "2.5"), (-40.0, "-40")] {
+            assert_eq!(tick_label(&v), expected, "tick label of {v}");
+        }
+    }
+
+    #[test]
+    fn font_registers_and_measures_text() {
+        use plotters::style::IntoFont;
+        register_font().unwrap();
+        let font = (FONT_FAMILY, 20).into_font();
+        let (w, h) = font.box_size("semidrift").unwrap();
+        // A 9-letter word at 20 px is clearly wider than tall and not absurd.
+        assert!(w > 60 && w < 200 && h > 10 && h < 40, "box {w}x{h}");
+    }
+
+    #[test]
+    fn atomic_write_replaces_the_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("a.svg");
+        write_atomically(&path, b"one").unwrap();
+        write_atomically(&path, b"two").unwrap();
+        assert_eq!(std::fs::read(&path).unwrap(), b"two");
+        let missing = dir.path().join("no/such/dir/a.svg");
+        assert!(write_atomically(&missing, b"x").is_err());
+    }
+}

@@ -1,0 +1,97 @@
+//! Helpers for tests that run the real `semidrift` binary.
+//!
+//! The binary belongs to the `host-tools` package, so cargo does not set
+//! `CARGO_BIN_EXE_semidrift` for this (root) package's tests. It is found
+//! next to the test executable instead: tests live in `target/<profile>/deps/`
+//! and binaries in `target/<profile>/` (the approach of ripgrep's
+//! `tests/util.rs`). `cargo test --workspace` builds it, because
+//! `host-tools/tests/cli_smoke.rs` names it through `CARGO_BIN_EXE_semidrift`.
+
+#![allow(dead_code)] // each test file uses a different subset
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// Path of the `semidrift` binary built alongside this test.
+pub fn semidrift_bin() -> PathBuf {
+    let exe = std::env::current_exe().expect("test executable path");
+    let deps = exe.parent().expect("test executable has a directory");
+    let profile_dir = if deps.ends_with("deps") {
+        deps.parent().expect("target/<profile>")
+    } else {
+        deps
+    };
+    let bin = profile_dir.join(format!("semidrift{}", std::env::consts::EXE_SUFFIX));
+    assert!(
+        bin.is_file(),
+        "{} not found: build it with `cargo build -p host-tools` or run `cargo test --workspace`",
+        bin.display()
+    );
+    bin
+}
+
+/// Runs `semidrift ARGS` in `dir` and returns its output.
+pub fn run_in(dir: &Path, args: &[&str]) -> Output {
+    Command::new(semidrift_bin())
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect("semidrift runs")
+}
+
+/// Runs `semidrift ARGS` in a fresh temporary directory.
+pub fn run(args: &[&str]) -> Output {
+    let dir = tempfile::tempdir().expect("temporary directory");
+    run_in(dir.path(), args)
+}
+
+/// Stdout as text.
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8(o.stdout.clone()).expect("stdout is UTF-8")
+}
+
+/// Stderr as text.
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8(o.stderr.clone()).expect("stderr is UTF-8")
+}
+
+/// Asserts success and returns stdout.
+pub fn ok(args: &[&str]) -> String {
+    let o = run(args);
+    assert!(
+        o.status.success(),
+        "semidrift {args:?} failed with {:?}: {}",
+        o.status.code(),
+        stderr(&o)
+    );
+    stdout(&o)
+}
+
+/// Asserts exit code 2, empty stdout and a single-line error on stderr that
+/// contains every fragment; returns that line.
+pub fn bad_input(args: &[&str], fragments: &[&str]) -> String {
+    let o = run(args);
+    let err = stderr(&o);
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "semidrift {args:?}: exit code, stderr {err:?}"
+    );
+    assert!(
+        o.stdout.is_empty(),
+        "semidrift {args:?}: stdout must stay empty, got {:?}",
+        stdout(&o)
+    );
+    assert_eq!(
+        err.lines().count(),
+        1,
+        "semidrift {args:?}: one-line error expected, got {err:?}"
+    );
+    for f in fragments {
+        assert!(
+            err.contains(f),
+            "semidrift {args:?}: error {err:?} lacks {f:?}"
+        );
+    }
+    err
+}
