@@ -180,7 +180,7 @@ pub const SIGNAL_CENTRE: i32 = 4_194_304;
 /// 6711 codes/C with its curvature, offset -1.29e4 Pa drifting 34 Pa/C,
 /// gain 0.25 Pa/code rising 0.21 %/K, a 0.08 % FS bow. Horner in f32 has no
 /// data-dependent branch, so the values do not change the count.
-pub fn demo_f32() -> PolyF32Bench {
+pub const fn demo_f32() -> PolyF32Bench {
     PolyF32 {
         // tn = (1.49e-4 u - 5.5e-11 u^2) / 64, u = code - SIGNAL_CENTRE.
         therm: [0.0, 2.328e-6, -8.6e-13],
@@ -198,7 +198,7 @@ pub fn demo_f32() -> PolyF32Bench {
 }
 
 /// Rounds half away from zero to i32 (core has no `f64::round` without std).
-fn round_i32(x: f64) -> i32 {
+const fn round_i32(x: f64) -> i32 {
     (if x >= 0.0 { x + 0.5 } else { x - 0.5 }) as i32
 }
 
@@ -208,20 +208,23 @@ fn round_i32(x: f64) -> i32 {
 /// offset row in Q8, the gain row in Q(8 + 20), the bow row in Q(8 + 40),
 /// so that the 20-bit shift per power of the raw code lands in Q8. The i32
 /// clamps in Horner's rule are the only data-dependent branches and these
-/// inputs never reach them.
-pub fn demo_q() -> PolyQBench {
+/// inputs never reach them. A `const fn`, so the coefficients are constants
+/// in flash as in a product, with no float code at run time.
+pub const fn demo_q() -> PolyQBench {
     let f = demo_f32();
-    let therm_scale = [16, 36, 56].map(|b| (1u64 << b) as f64);
-    let row_scale = [8, 28, 48].map(|b| (1u64 << b) as f64);
-    let mut coeffs = [[0i32; 4]; 3];
-    for ((row, frow), scale) in coeffs.iter_mut().zip(f.coeffs.iter()).zip(row_scale) {
-        for (c, &fc) in row.iter_mut().zip(frow.iter()) {
-            *c = round_i32(f64::from(fc) * scale);
-        }
-    }
+    let therm_bits = [16u32, 36, 56];
+    let row_bits = [8u32, 28, 48];
     let mut therm = [0i32; 3];
-    for ((c, &fc), scale) in therm.iter_mut().zip(f.therm.iter()).zip(therm_scale) {
-        *c = round_i32(f64::from(fc) * scale);
+    let mut coeffs = [[0i32; 4]; 3];
+    let mut i = 0;
+    while i < 3 {
+        therm[i] = round_i32(f.therm[i] as f64 * (1u64 << therm_bits[i]) as f64);
+        let mut j = 0;
+        while j < 4 {
+            coeffs[i][j] = round_i32(f.coeffs[i][j] as f64 * (1u64 << row_bits[i]) as f64);
+            j += 1;
+        }
+        i += 1;
     }
     PolyQ {
         therm,
@@ -230,3 +233,9 @@ pub fn demo_q() -> PolyQBench {
         cached: [0; 3],
     }
 }
+
+/// [`demo_f32`] evaluated at compile time.
+pub const DEMO_F32: PolyF32Bench = demo_f32();
+
+/// [`demo_q`] evaluated at compile time.
+pub const DEMO_Q: PolyQBench = demo_q();

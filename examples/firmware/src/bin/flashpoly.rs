@@ -23,13 +23,13 @@ fn main() -> ! {
     black_box(bytes.first().copied());
     #[cfg(fpu)]
     {
-        let mut p = black_box(semidrift_firmware::poly::demo_f32());
+        let mut p = semidrift_firmware::poly::DEMO_F32;
         p.update_temperature(signal as f32);
         black_box(p.sample(raw as f32));
     }
     #[cfg(not(fpu))]
     {
-        let mut p = black_box(semidrift_firmware::poly::demo_q());
+        let mut p = semidrift_firmware::poly::DEMO_Q;
         p.update_temperature(signal);
         black_box(p.sample(raw));
     }
