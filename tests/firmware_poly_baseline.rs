@@ -145,3 +145,18 @@ fn baselines_store_fifteen_coefficients() {
     assert_eq!(PolyF32::<3, 3, 4>::STORED, 15);
     assert_eq!(PolyQ::<3, 3, 4, 16, 20>::STORED, 15);
 }
+
+/// The compile-time constants the flash probe embeds are the same baseline.
+#[test]
+fn compile_time_constants_match_the_constructors() {
+    let (c, r) = (poly::DEMO_Q, poly::demo_q());
+    assert_eq!(
+        (c.therm, c.therm_centre, c.coeffs),
+        (r.therm, r.therm_centre, r.coeffs)
+    );
+    let (c, r) = (poly::DEMO_F32, poly::demo_f32());
+    assert_eq!(
+        (c.therm, c.therm_centre, c.coeffs),
+        (r.therm, r.therm_centre, r.coeffs)
+    );
+}
