@@ -111,6 +111,11 @@ fn human_report_names_all_interpretations() {
     ] {
         assert!(text.contains(s), "report lacks {s:?}:\n{text}");
     }
+    let again = run_in(
+        dir.path(),
+        &["arrhenius", "s.csv", "--regime", "freeze-out-compensated"],
+    );
+    assert_eq!(text, stdout(&again), "report must repeat byte for byte");
     let selected = text.lines().find(|l| l.contains("<- selected")).unwrap();
     assert!(
         selected.contains("ionization_energy_strong_compensation_ev"),

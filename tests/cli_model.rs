@@ -94,7 +94,9 @@ fn bad_inputs_exit_2_with_a_one_line_error_naming_option_and_value() {
         ],
         &["--celsius"],
     );
+    bad_input(&with(&["--json", "--csv"]), &["--csv"]);
 }
+
 #[test]
 fn json_has_the_contract_fields_and_nothing_else_on_stdout() {
     let text = ok(&[
@@ -262,4 +264,15 @@ fn plot_writes_a_repeatable_svg_with_the_regimes() {
     );
     assert_eq!(bad.status.code(), Some(2));
     assert!(!dir.path().join("x.svg").exists());
+    bad_input(
+        &[
+            "plot",
+            "model",
+            "--material",
+            "si",
+            "--out",
+            "no/such/dir/m.svg",
+        ],
+        &["--out 'no/such/dir/m.svg'", "cannot write"],
+    );
 }

@@ -33,6 +33,7 @@ pub trait Backend {
 /// `logf.rs`, `powf.rs` headers); 2.5e-7 leaves margin for double rounding.
 #[cfg(feature = "libm")]
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Libm;
 
 #[cfg(feature = "libm")]
@@ -67,6 +68,7 @@ impl Backend for Libm {
 /// (raw powf error up to 16 % here).
 #[cfg(feature = "micromath")]
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Micromath;
 
 // micromath's kernels do integer arithmetic on the float bits; some of it

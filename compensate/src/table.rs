@@ -13,6 +13,7 @@ use crate::interp::{
 
 /// A 1-D f32 table over temperature: `N` nodes from `start` every `step`.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Table1d<const N: usize> {
     axis: Axis,
     values: [f32; N],
@@ -67,6 +68,7 @@ impl<const N: usize> Table1d<N> {
 
 /// A 1-D Q-format table: i32 axis and values with any binary point.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Table1dQ<const N: usize> {
     axis: AxisQ,
     values: [i32; N],
@@ -148,6 +150,7 @@ impl<const R: usize, const C: usize> Nodes for Flat<'_, i32, R, C> {
 /// A 2-D f32 table over temperature (`NT` rows) x raw signal (`NR`
 /// columns), bilinear.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Table2d<const NT: usize, const NR: usize> {
     t_axis: Axis,
     raw_axis: Axis,
@@ -206,6 +209,7 @@ impl<const NT: usize, const NR: usize> Table2d<NT, NR> {
 
 /// A 2-D Q-format table over temperature x raw signal, bilinear.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Table2dQ<const NT: usize, const NR: usize> {
     t_axis: AxisQ,
     raw_axis: AxisQ,

@@ -264,3 +264,33 @@ fn monotone_cubic_images_work_in_both_paths() {
         );
     }
 }
+
+#[test]
+fn ratiometric_paths_agree() {
+    let fimg = encode(&f32_builder());
+    let qimg = encode(&q_builder(false));
+    let mut cf = Compensator::new(&parse(&fimg)).unwrap();
+    let mut cq = FixedCompensator::new(&parse(&qimg)).unwrap();
+    cf.update_temperature(4650.0);
+    cq.update_temperature(to_q(4650.0, QF.signal));
+    // (raw, excitation ratio): 10 % high, 5 % low, nominal, negative raw.
+    for (raw, ratio) in [(22_000, 1.1f32), (-47_500, 0.95), (50_000, 1.0), (-3, 1.5)] {
+        let a = cf.compensate_ratiometric(raw as f32, ratio);
+        let b = cq.compensate_ratiometric(raw, to_q(ratio, 16) as u32);
+        let bq = f64::from(b.value) / f64::from(QF.output).exp2();
+        // Quantization bound of the linear path plus the Q16.16 ratio
+        // (relative 2^-17 of a value below 12 bar: 1e-4) and the rounding
+        // of the scaled code to an integer (0.5 code x gain 1.2e-4 = 6e-5).
+        let bound = Q_VS_F32_BAR + 1e-4 + 6e-5;
+        assert!(
+            (f64::from(a.value) - bq).abs() <= bound,
+            "raw {raw} ratio {ratio}: f32 {} q {bq}",
+            a.value
+        );
+        assert_eq!(a.status, b.status);
+    }
+    assert_eq!(
+        cq.compensate_ratiometric(100, 0).status,
+        Status::SENSOR_FAULT
+    );
+}

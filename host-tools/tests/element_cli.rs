@@ -195,4 +195,25 @@ fn bad_specs_name_file_line_and_key_and_exit_2() {
         &["element", "bridge.toml", "--celsius", "0:10:0"],
     );
     assert_eq!(o.status.code(), Some(2), "bad sweep: {}", text(&o.stderr));
+    // Temperatures beyond the full model's range (Si: up to 1000 K) name the
+    // option when given, else the spec key that set them.
+    let spec = example_file(dir.path(), "bridge", |s| s);
+    let o = run_in(dir.path(), &["element", &spec, "--celsius", "900:1000:50"]);
+    assert_eq!(o.status.code(), Some(2), "hot sweep: {}", text(&o.stderr));
+    assert!(
+        text(&o.stderr).contains("--celsius '900:1000:50'"),
+        "{}",
+        text(&o.stderr)
+    );
+    let spec = example_file(dir.path(), "bridge", |s| {
+        s.replace("max_c = 85.0", "max_c = 1000.0")
+    });
+    let o = run_in(dir.path(), &["element", &spec]);
+    assert_eq!(o.status.code(), Some(2), "hot spec: {}", text(&o.stderr));
+    let want = format!("{spec}:16: field 'temperature.max_c'");
+    assert!(
+        text(&o.stderr).contains(&want),
+        "{} lacks {want}",
+        text(&o.stderr)
+    );
 }

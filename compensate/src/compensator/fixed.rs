@@ -9,6 +9,7 @@ use crate::image::{ColumnQ, NumberFormat, TableView, TablesQ};
 use crate::interp::{
     AxisQ, Interpolation, Nodes, PositionQ, bilinear_q, cubic_monotone_q, linear_q,
 };
+use crate::widemul::mul_wide;
 
 /// One compensated sample in Q(`output`) engineering units.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -26,6 +27,7 @@ pub struct ReadingQ {
 // `repr(C)` with the per-sample fields first: ARMv6-M loads reach only 124
 // bytes past a base register, so the hot path's fields must come early.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[repr(C)]
 pub struct FixedCompensator<'a> {
     raw_lo: i32,
@@ -51,56 +53,22 @@ pub struct FixedCompensator<'a> {
     tables: Option<TablesQ<'a>>,
 }
 
-/// Interpolates with the image's method.
-#[inline]
+/// Interpolates with the image's method: the linear kernel inline, the
+/// cubic one out of line, so the common linear update stays short (four or
+/// more interpolations per temperature update).
+#[inline(always)]
 fn interp<N: Nodes<Value = i32>>(method: Interpolation, nodes: &N, p: PositionQ) -> i32 {
-    match method {
-        Interpolation::MonotoneCubic => cubic_monotone_q(nodes, p),
-        _ => linear_q(nodes, p),
+    if method == Interpolation::Linear {
+        linear_q(nodes, p)
+    } else {
+        interp_cubic(nodes, p)
     }
 }
 
-/// Exact signed 32x32 -> 64-bit product.
-///
-/// Targets with a widening multiply (ARMv7-M SMULL, RV32IM MULH, x86) use
-/// it; ARMv6-M has only a 32-bit MULS, and the generic 64x64 library call
-/// (`__aeabi_lmul`) costs far more than four 16x16 partial products, so it
-/// gets [`mul_wide_soft`]. Both are exact, hence bit-identical.
-#[inline]
-fn mul_wide(a: i32, b: i32) -> i64 {
-    #[cfg(all(target_arch = "arm", not(target_feature = "v7")))]
-    {
-        mul_wide_soft(a, b)
-    }
-    #[cfg(not(all(target_arch = "arm", not(target_feature = "v7"))))]
-    {
-        // |a * b| <= 2^62: no overflow.
-        i64::from(a).wrapping_mul(i64::from(b))
-    }
-}
-
-/// Signed 32x32 -> 64-bit product from four 16x16 -> 32-bit products.
-///
-/// Split `a = ah 2^16 + al` with `al` unsigned (0..2^16) and `ah = a >> 16`
-/// signed, the same for `b`; then
-/// `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`, where `al bl` fits in
-/// u32, `ah bl` and `al bh` in i32 (|.| < 2^31) and `ah bh` in i32.
-#[inline]
-#[cfg_attr(
-    not(all(target_arch = "arm", not(target_feature = "v7"))),
-    allow(dead_code)
-)]
-fn mul_wide_soft(a: i32, b: i32) -> i64 {
-    let (al, ah) = ((a & 0xFFFF) as u32, a >> 16);
-    let (bl, bh) = ((b & 0xFFFF) as u32, b >> 16);
-    // Bounds as stated above; wrapping ops cannot wrap here.
-    let lo = u64::from(al.wrapping_mul(bl)) as i64;
-    let m1 = i64::from(ah.wrapping_mul(bl as i32));
-    let m2 = i64::from((al as i32).wrapping_mul(bh));
-    let hi = i64::from(ah.wrapping_mul(bh));
-    (hi << 32)
-        .wrapping_add(m1.wrapping_add(m2) << 16)
-        .wrapping_add(lo)
+/// The monotone cubic kernel, kept out of line.
+#[inline(never)]
+fn interp_cubic<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
+    cubic_monotone_q(nodes, p)
 }
 
 /// `p >> s` (arithmetic, `s` in 0..=63) if the result fits in i32.
@@ -328,6 +296,41 @@ impl<'a> FixedCompensator<'a> {
         self.compensate_general(raw)
     }
 
+    /// Compensates a raw code taken at an excitation that differs from the
+    /// calibration excitation by `excitation_ratio_q16` (measured / nominal
+    /// in Q16.16): the code is first scaled by `2^16 / ratio`, rounded to
+    /// nearest (ties away from zero), which undoes the proportional
+    /// dependence of a bridge or Hall output on excitation.
+    ///
+    /// A zero ratio (no excitation: open supply) gives value 0 with
+    /// [`Status::SENSOR_FAULT`]. Costs one 64-by-32-bit division.
+    #[inline]
+    pub fn compensate_ratiometric(&self, raw: i32, excitation_ratio_q16: u32) -> ReadingQ {
+        if excitation_ratio_q16 == 0 {
+            return ReadingQ {
+                value: 0,
+                status: self.temp_status | Status::SENSOR_FAULT,
+            };
+        }
+        let ratio = i64::from(excitation_ratio_q16);
+        // |raw << 16| < 2^47 and ratio < 2^32: no overflow; the division
+        // by a non-zero divisor cannot fail.
+        let num = i64::from(raw).wrapping_shl(16);
+        let half = ratio.wrapping_div(2);
+        let adj = if num >= 0 {
+            num.wrapping_add(half)
+        } else {
+            num.wrapping_sub(half)
+        };
+        let scaled = adj.checked_div(ratio).unwrap_or(0);
+        let (raw_scaled, sat) = saturate(scaled);
+        let mut r = self.compensate_sample(raw_scaled);
+        if sat {
+            r.status |= Status::SATURATED;
+        }
+        r
+    }
+
     /// Every case of [`Self::compensate_sample`]: statuses, saturation,
     /// quadratic term, 2-D correction.
     #[inline(never)]
@@ -382,6 +385,7 @@ mod tests {
 
     #[test]
     fn soft_multiply_is_exact() {
+        use crate::widemul::mul_wide_soft;
         let edge = [
             0,
             1,

@@ -23,6 +23,7 @@ pub struct Reading {
 /// signal arrives (it caches offset, gain and the 2-D row position), and
 /// [`Compensator::compensate_sample`] for every raw sample.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Compensator<'a> {
     tables: Option<TablesF32<'a>>,
     interpolation: Interpolation,
@@ -39,13 +40,22 @@ pub struct Compensator<'a> {
     temp_status: Status,
 }
 
-/// Interpolates with the image's method.
-#[inline]
+/// Interpolates with the image's method: the linear kernel inline, the
+/// cubic one out of line, so the common linear update stays short (four or
+/// more interpolations per temperature update).
+#[inline(always)]
 fn interp<N: Nodes<Value = f32>>(method: Interpolation, nodes: &N, p: Position) -> f32 {
-    match method {
-        Interpolation::MonotoneCubic => cubic_monotone(nodes, p),
-        _ => linear(nodes, p),
+    if method == Interpolation::Linear {
+        linear(nodes, p)
+    } else {
+        interp_cubic(nodes, p)
     }
+}
+
+/// The monotone cubic kernel, kept out of line.
+#[inline(never)]
+fn interp_cubic<N: Nodes<Value = f32>>(nodes: &N, p: Position) -> f32 {
+    cubic_monotone(nodes, p)
 }
 
 impl<'a> Compensator<'a> {

@@ -1,29 +1,37 @@
 //! Borrowed columns of numbers inside a validated image.
 
-use super::bytes;
 use crate::interp::Nodes;
 
 /// A column of f32 values borrowed from an image (little-endian words).
+///
+/// Stored as 4-byte words so that a read is one bounds check (no
+/// alignment is required of the image).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ColumnF32<'a> {
-    bytes: &'a [u8],
+    words: &'a [[u8; 4]],
 }
 
 /// A column of Q-format i32 values borrowed from an image.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ColumnQ<'a> {
-    bytes: &'a [u8],
+    words: &'a [[u8; 4]],
 }
 
 impl<'a> ColumnF32<'a> {
-    pub(crate) const fn new(bytes: &'a [u8]) -> Self {
-        Self { bytes }
+    pub(crate) fn new(bytes: &'a [u8]) -> Self {
+        Self {
+            words: bytes.as_chunks::<4>().0,
+        }
     }
 }
 
 impl<'a> ColumnQ<'a> {
-    pub(crate) const fn new(bytes: &'a [u8]) -> Self {
-        Self { bytes }
+    pub(crate) fn new(bytes: &'a [u8]) -> Self {
+        Self {
+            words: bytes.as_chunks::<4>().0,
+        }
     }
 }
 
@@ -31,11 +39,18 @@ impl Nodes for ColumnF32<'_> {
     type Value = f32;
     #[inline]
     fn len(&self) -> usize {
-        self.bytes.len() / 4
+        self.words.len()
     }
     #[inline]
     fn node(&self, i: usize) -> f32 {
-        bytes::f32_at(self.bytes, i.saturating_mul(4))
+        self.words.get(i).map_or(0.0, |w| f32::from_le_bytes(*w))
+    }
+    #[inline]
+    fn pair(&self, i: usize) -> (f32, f32) {
+        match self.words.get(i..i.wrapping_add(2)) {
+            Some(&[a, b]) => (f32::from_le_bytes(a), f32::from_le_bytes(b)),
+            _ => (self.node(i), 0.0),
+        }
     }
 }
 
@@ -43,10 +58,17 @@ impl Nodes for ColumnQ<'_> {
     type Value = i32;
     #[inline]
     fn len(&self) -> usize {
-        self.bytes.len() / 4
+        self.words.len()
     }
     #[inline]
     fn node(&self, i: usize) -> i32 {
-        bytes::i32_at(self.bytes, i.saturating_mul(4))
+        self.words.get(i).map_or(0, |w| i32::from_le_bytes(*w))
+    }
+    #[inline]
+    fn pair(&self, i: usize) -> (i32, i32) {
+        match self.words.get(i..i.wrapping_add(2)) {
+            Some(&[a, b]) => (i32::from_le_bytes(a), i32::from_le_bytes(b)),
+            _ => (self.node(i), 0),
+        }
     }
 }

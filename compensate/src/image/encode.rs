@@ -43,6 +43,7 @@ impl Number for i32 {
 
 /// A uniform axis to write: nodes at `start + k * step`.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct AxisSpec<V> {
     /// First node.
     pub start: V,
@@ -52,6 +53,7 @@ pub struct AxisSpec<V> {
 
 /// A 1-D map to write: axis plus one value per node.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct MapSpec<'a, V> {
     /// Input axis.
     pub axis: AxisSpec<V>,
@@ -61,6 +63,7 @@ pub struct MapSpec<'a, V> {
 
 /// A 2-D correction to write over temperature x raw signal.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct GridSpec<'a, V> {
     /// Raw-signal axis (ADC codes; integer codes for Q images).
     pub raw_axis: AxisSpec<V>,
@@ -76,6 +79,7 @@ pub struct GridSpec<'a, V> {
 /// `V` is `f32` for an f32 image and `i32` for a Q-format image (then
 /// [`ImageBuilder::q_format`] gives the binary point of each quantity).
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ImageBuilder<'a, V> {
     /// Interpolation method.
     pub interpolation: Interpolation,

@@ -218,7 +218,12 @@ impl Unit {
 
 /// Fractional bits of each quantity in a Q-format image (all zero for f32).
 ///
-/// Values are `round(x * 2^bits)` stored as i32.
+/// Values are `round(x * 2^bits)` stored as i32. Limits checked by the
+/// parser: temperature, signal, output and offset at most
+/// [`MAX_FRAC_BITS`] (30); gain and quadratic at most
+/// [`MAX_COEFF_FRAC_BITS`] (62, because they are tiny numbers per raw
+/// code); `offset + gain - output` and `quadratic + offset - gain` in
+/// `0..=`[`MAX_SHIFT`]; the rail codes shifted left by `offset` fit in i32.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct QFormat {
@@ -230,9 +235,11 @@ pub struct QFormat {
     pub output: u8,
     /// Offset channel, in raw codes.
     pub offset: u8,
-    /// Gain channel, in output units per raw code.
+    /// Gain channel, in output units per raw code (up to 62 bits).
     pub gain: u8,
-    /// Quadratic channel, in gain units per raw code (0 without the channel).
+    /// Quadratic channel, in gain units per raw code (up to 62 bits; 0
+    /// without the channel). A bow of 5e-11 output units per code^2 needs
+    /// about 45 bits for 16 significant bits.
     pub quadratic: u8,
 }
 

@@ -7,10 +7,13 @@ mod column;
 mod encode;
 mod error;
 pub mod layout;
+mod tables;
+mod validate;
 mod view;
 
 pub use column::{ColumnF32, ColumnQ};
 pub use encode::{AxisSpec, GridSpec, ImageBuilder, MapSpec, Number};
 pub use error::{EncodeError, ImageError, Section};
 pub use layout::{NumberFormat, QFormat, RawLimits, SignalKind, Unit};
-pub use view::{TableView, TablesF32, TablesQ};
+pub use tables::{TablesF32, TablesQ};
+pub use view::TableView;

@@ -4,10 +4,11 @@ use super::bytes::{f32_at, i32_at, u8_at, u16_at, u32_at, word};
 use super::column::{ColumnF32, ColumnQ};
 use super::error::{ImageError, Section};
 use super::layout::{
-    self, AXIS_LEN, CRC_LEN, FLAG_RATIOMETRIC, HEADER_LEN, MAGIC, MAX_COEFF_FRAC_BITS,
-    MAX_FRAC_BITS, MAX_SHIFT, NumberFormat, QFormat, RawLimits, SERIAL_LEN, SignalKind, Unit,
-    VERSION, WORD, off,
+    self, AXIS_LEN, CRC_LEN, FLAG_RATIOMETRIC, HEADER_LEN, MAGIC, NumberFormat, QFormat, RawLimits,
+    SERIAL_LEN, SignalKind, Unit, VERSION, WORD, off,
 };
+use super::tables::{TablesF32, TablesQ};
+use super::validate::{check_frac, f32_axis_ok};
 use crate::crc::crc32;
 use crate::interp::{Axis, AxisQ, Interpolation};
 
@@ -57,52 +58,6 @@ impl Offsets {
             .saturating_add(n_ch.saturating_mul(n_t).saturating_mul(WORD));
         Self { therm, chan, grid }
     }
-}
-
-/// The f32 tables of a validated f32 image.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct TablesF32<'a> {
-    /// Temperature axis of the channels, degrees Celsius.
-    pub temperature: Axis,
-    /// Offset channel, raw codes.
-    pub offset: ColumnF32<'a>,
-    /// Gain channel, output units per raw code.
-    pub gain: ColumnF32<'a>,
-    /// Optional quadratic channel, gain units per raw code.
-    pub quadratic: Option<ColumnF32<'a>>,
-    /// Optional map from temperature signal (axis) to degrees Celsius.
-    pub thermometer: Option<(Axis, ColumnF32<'a>)>,
-    /// Optional 2-D correction: raw axis and row-major values (one row of
-    /// `raw.len` values per temperature node), output units.
-    pub grid: Option<(Axis, ColumnF32<'a>)>,
-    /// Lowest plausible temperature signal.
-    pub signal_lo: f32,
-    /// Highest plausible temperature signal.
-    pub signal_hi: f32,
-}
-
-/// The Q-format tables of a validated Q image.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct TablesQ<'a> {
-    /// Temperature axis, Q(`temperature`) degrees Celsius.
-    pub temperature: AxisQ,
-    /// Offset channel, Q(`offset`) raw codes.
-    pub offset: ColumnQ<'a>,
-    /// Gain channel, Q(`gain`) output units per raw code.
-    pub gain: ColumnQ<'a>,
-    /// Optional quadratic channel, Q(`quadratic`).
-    pub quadratic: Option<ColumnQ<'a>>,
-    /// Optional map from Q(`signal`) temperature signal to Q(`temperature`).
-    pub thermometer: Option<(AxisQ, ColumnQ<'a>)>,
-    /// Optional 2-D correction: raw axis (integer codes) and row-major
-    /// Q(`output`) values.
-    pub grid: Option<(AxisQ, ColumnQ<'a>)>,
-    /// Lowest plausible temperature signal, Q(`signal`).
-    pub signal_lo: i32,
-    /// Highest plausible temperature signal, Q(`signal`).
-    pub signal_hi: i32,
-    /// Fractional bits of every quantity.
-    pub q: QFormat,
 }
 
 impl<'a> TableView<'a> {
@@ -521,85 +476,4 @@ impl<'a> TableView<'a> {
             q: self.q,
         })
     }
-}
-
-/// Uniform f32 axis with finite, strictly increasing nodes.
-fn f32_axis_ok(start: f32, step: f32, len: usize) -> bool {
-    if !(start.is_finite() && step.is_finite() && step > 0.0) {
-        return false;
-    }
-    let mut prev = start;
-    for k in 1..len {
-        let x = start + step * k as f32;
-        if !(x.is_finite() && x > prev) {
-            return false;
-        }
-        prev = x;
-    }
-    true
-}
-
-/// Fractional bits fit the format and keep the integer path overflow-free.
-fn check_frac(
-    format: NumberFormat,
-    q: QFormat,
-    n_ch: usize,
-    limits: RawLimits,
-) -> Result<(), ImageError> {
-    // Quantities that scale i32 inputs or outputs get at most 30 bits; the
-    // gain and quadratic coefficients are tiny numbers (units per code) and
-    // may use up to 62, limited below by the shifts they imply.
-    let named = [
-        ("temperature", q.temperature, MAX_FRAC_BITS),
-        ("signal", q.signal, MAX_FRAC_BITS),
-        ("output", q.output, MAX_FRAC_BITS),
-        ("offset", q.offset, MAX_FRAC_BITS),
-        ("gain", q.gain, MAX_COEFF_FRAC_BITS),
-        ("quadratic", q.quadratic, MAX_COEFF_FRAC_BITS),
-    ];
-    for (field, value, max) in named {
-        let bad = match format {
-            NumberFormat::F32 => value != 0,
-            NumberFormat::Q => value > max,
-        };
-        if bad {
-            return Err(ImageError::BadFracBits { field, value });
-        }
-    }
-    if format == NumberFormat::F32 {
-        return Ok(());
-    }
-    // (raw << offset - offset) * gain >> shift lands in Q(output): the
-    // shift offset + gain - output must not be negative.
-    if q.offset + q.gain < q.output || q.offset + q.gain - q.output > MAX_SHIFT {
-        return Err(ImageError::BadFracBits {
-            field: "output",
-            value: q.output,
-        });
-    }
-    // quadratic * d is Q(quadratic + offset), shifted down to Q(gain).
-    if n_ch > 2 && (q.quadratic + q.offset < q.gain || q.quadratic + q.offset - q.gain > MAX_SHIFT)
-    {
-        return Err(ImageError::BadFracBits {
-            field: "quadratic",
-            value: q.quadratic,
-        });
-    }
-    if n_ch == 2 && q.quadratic != 0 {
-        return Err(ImageError::BadFracBits {
-            field: "quadratic",
-            value: q.quadratic,
-        });
-    }
-    // Raw codes up to the rails, shifted to Q(offset), must fit in i32.
-    let shift = u32::from(q.offset);
-    let lo = i64::from(limits.rail_lo) << shift;
-    let hi = i64::from(limits.rail_hi) << shift;
-    if lo < i64::from(i32::MIN) || hi > i64::from(i32::MAX) {
-        return Err(ImageError::BadFracBits {
-            field: "offset",
-            value: q.offset,
-        });
-    }
-    Ok(())
 }

@@ -1,5 +1,7 @@
 //! Uniform axes: where a point falls between nodes, with clamping.
 
+use crate::widemul::mul_wide_u;
+
 /// A uniform f32 axis: nodes at `start + k * step`, `k = 0..len`.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -76,14 +78,16 @@ impl Axis {
 /// binary point shared with the input), `k = 0..len`.
 ///
 /// Construct with [`AxisQ::new`], which precomputes the reciprocal of the
-/// step so that locating a point costs one 32-bit division and one
-/// 32x32->64 multiplication.
+/// step so that locating a point costs two 32x32->64 multiplications and
+/// no division.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct AxisQ {
     start: i32,
     step: u32,
     len: usize,
+    /// `(len - 1) * step`, below 2^32 because the last node fits in i32.
+    span: u32,
     /// `ceil(2^48 / step)`.
     inv_step: u64,
 }
@@ -114,11 +118,13 @@ impl AxisQ {
         if end > i32::MAX as i64 {
             return None;
         }
+        let span = (end - start as i64) as u32;
         let step = step as u32;
         Some(Self {
             start,
             step,
             len,
+            span,
             inv_step: (1u64 << 48).div_ceil(step as u64),
         })
     }
@@ -163,7 +169,7 @@ impl AxisQ {
                 clamped: u < 0,
             };
         }
-        let span = (last as i64).wrapping_mul(i64::from(self.step));
+        let span = i64::from(self.span);
         if u >= span {
             return PositionQ {
                 index: last,
@@ -171,18 +177,32 @@ impl AxisQ {
                 clamped: u > span,
             };
         }
-        // 0 < u < span <= u32::MAX (the end fits in i32).
+        // 0 < u < span <= u32::MAX (the end fits in i32). Division-free:
+        // with inv = ceil(2^48 / step) = inv_hi 2^32 + inv_lo (inv_hi < 2^17),
+        // t = floor(u inv / 2^32) = u inv_hi + floor(u inv_lo / 2^32) is the
+        // position in Q.16 (u inv_hi < 2^49, the sum fits u64). The rounded-up
+        // reciprocal overshoots by u (inv - 2^48/step) / 2^32 < 1 LSB, and
+        // not at all in whole LSBs at a node (u = k step makes the overshoot
+        // k step (inv - 2^48/step) < 2^32, i.e. below one LSB, and the
+        // exact value an integer): |t - exact| < 1 LSB, nodes exact. Two
+        // 32x32 -> 64 products replace a 32-bit division (a library loop on
+        // ARMv6-M).
         let u = u as u32;
-        let index = u.checked_div(self.step).unwrap_or(0);
-        let rem = u.wrapping_sub(index.wrapping_mul(self.step));
-        // rem < step, so rem * ceil(2^48/step) < 2^48 + 2^31 (no overflow)
-        // and the shifted result is at most 2^16, clamped to 2^16 - 1. The
-        // rounded-up reciprocal overshoots by rem / 2^32 < 0.5 LSB, the final
-        // shift truncates by < 1 LSB: |frac - exact| < 1 LSB, and fractions
-        // that are whole LSBs (any dyadic step) come out exact.
-        let frac_q16 = ((u64::from(rem).wrapping_mul(self.inv_step) >> 32) as u32).min(0xFFFF);
+        let inv_hi = (self.inv_step >> 32) as u32;
+        let inv_lo = self.inv_step as u32;
+        let t = mul_wide_u(u, inv_hi).wrapping_add(mul_wide_u(u, inv_lo) >> 32);
+        let index = (t >> 16) as usize;
+        if index >= last {
+            // Only within one LSB of the last node.
+            return PositionQ {
+                index: last,
+                frac_q16: 0,
+                clamped: false,
+            };
+        }
+        let frac_q16 = (t & 0xFFFF) as u32;
         PositionQ {
-            index: index as usize,
+            index,
             frac_q16,
             clamped: false,
         }
@@ -260,19 +280,24 @@ mod tests {
     fn q_fraction_error_within_documented_bound() {
         // Awkward steps (primes, one above 2^16 and one near 2^31/8) to
         // exercise the truncated reciprocal; bound from `PositionQ::frac_q16`.
-        for step in [7919i32, 327_673, 268_435_399] {
+        for step in [1i32, 3, 65_536, 7919, 327_673, 268_435_399] {
             let axis = AxisQ::new(-1000, step, 8).unwrap();
             for k in 0..20_000i64 {
                 let u = (k * i64::from(step) * 7 / 20_000) as i32;
                 let p = axis.locate(-1000 + u);
-                let exact = f64::from(u % step) / f64::from(step) * 65536.0;
-                let err = exact - f64::from(p.frac_q16);
+                // Compare whole positions in Q.16 (index and fraction), so
+                // that a fraction rounding up into the next node counts as
+                // the sub-LSB error it is.
+                let exact = f64::from(u) / f64::from(step) * 65536.0;
+                let got = p.index as f64 * 65536.0 + f64::from(p.frac_q16);
+                let err = exact - got;
                 assert!(
                     err.abs() < 1.0,
-                    "step={step} u={u}: got {} exact {exact}",
-                    p.frac_q16
+                    "step={step} u={u}: got {got} exact {exact}"
                 );
-                assert_eq!(p.index, (u / step) as usize, "step={step} u={u}");
+                if u % step == 0 {
+                    assert_eq!(p.frac_q16, 0, "node not exact: step={step} u={u}");
+                }
             }
         }
     }

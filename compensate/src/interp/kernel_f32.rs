@@ -7,11 +7,10 @@ use super::{Nodes, Position};
 /// under correctly rounded arithmetic).
 #[inline]
 pub fn linear<N: Nodes<Value = f32>>(nodes: &N, p: Position) -> f32 {
-    let v0 = nodes.node(p.index);
     if p.frac == 0.0 {
-        return v0;
+        return nodes.node(p.index);
     }
-    let v1 = nodes.node(p.index.wrapping_add(1));
+    let (v0, v1) = nodes.pair(p.index);
     v0 + p.frac * (v1 - v0)
 }
 

@@ -7,12 +7,30 @@
 
 use super::{Nodes, PositionQ};
 
-/// `(a * frac_q16) >> 16` rounded half up, `a` within +-2^47.
+/// `(a * frac_q16) >> 16` rounded half up, `a` within +-2^47,
+/// `frac_q16 < 2^16`.
 #[inline]
 fn scale_q16(a: i64, frac_q16: u32) -> i64 {
-    // |a| < 2^47 and frac < 2^16 keep the product and the rounding offset
-    // below 2^63.
-    a.wrapping_mul(i64::from(frac_q16)).wrapping_add(1 << 15) >> 16
+    // Node differences usually fit in i32: then two 32-bit multiplies
+    // suffice (same exact result); otherwise |a| < 2^47 and frac < 2^16 keep
+    // the i64 product and the rounding offset below 2^63.
+    match i32::try_from(a) {
+        Ok(a32) => i64::from(scale_q16_i32(a32, frac_q16)),
+        Err(_) => a.wrapping_mul(i64::from(frac_q16)).wrapping_add(1 << 15) >> 16,
+    }
+}
+
+/// [`scale_q16`] for i32 in 32-bit arithmetic: with `a = hi 2^16 + lo`
+/// (`lo` unsigned 16 bits), `floor((a f + 2^15) / 2^16)
+/// = hi f + floor((lo f + 2^15) / 2^16)` exactly, because `hi f 2^16` is a
+/// multiple of `2^16`. `|hi f| < 2^31`, `lo f + 2^15 < 2^32`.
+#[inline]
+fn scale_q16_i32(a: i32, frac_q16: u32) -> i32 {
+    let f = frac_q16 & 0xFFFF;
+    let hi = a >> 16;
+    let lo = (a & 0xFFFF) as u32;
+    let low = (lo.wrapping_mul(f).wrapping_add(0x8000) >> 16) as i32;
+    hi.wrapping_mul(f as i32).wrapping_add(low)
 }
 
 /// i64 to i32 with saturation.
@@ -26,11 +44,10 @@ fn saturate(v: i64) -> i32 {
 /// position error of [`PositionQ::frac_q16`] times the node difference.
 #[inline]
 pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
-    let v0 = nodes.node(p.index);
     if p.frac_q16 == 0 {
-        return v0;
+        return nodes.node(p.index);
     }
-    let v1 = nodes.node(p.index.wrapping_add(1));
+    let (v0, v1) = nodes.pair(p.index);
     // |v1 - v0| < 2^32, so the scaled step fits and v0 + step lies between
     // v0 and v1 (rounding cannot pass v1 because frac < 2^16).
     let d = i64::from(v1).wrapping_sub(i64::from(v0));
@@ -119,6 +136,24 @@ pub fn bilinear_q<N: Nodes<Value = i32>>(
 mod tests {
     use super::super::{Axis, AxisQ, cubic_monotone, linear};
     use super::*;
+
+    #[test]
+    fn split_scale_matches_wide_product() {
+        let mut x: u64 = 0x2545_F491_4F6C_DD1D;
+        for i in 0..50_000u32 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            let a = match i % 3 {
+                0 => x as i32,
+                1 => (x as i32) >> 12,
+                _ => [i32::MIN, i32::MAX, -1, 0, 1, -65536, 65535][(i / 3 % 7) as usize],
+            };
+            let f = (x >> 40) as u32 & 0xFFFF;
+            let want = (i64::from(a) * i64::from(f) + (1 << 15)) >> 16;
+            assert_eq!(i64::from(scale_q16_i32(a, f)), want, "a={a} f={f}");
+        }
+    }
 
     #[test]
     fn linear_q_table() {

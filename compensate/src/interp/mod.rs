@@ -63,6 +63,12 @@ pub trait Nodes {
     }
     /// Value of node `i`.
     fn node(&self, i: usize) -> Self::Value;
+    /// Values of nodes `i` and `i + 1` (one bounds check where the storage
+    /// allows it).
+    #[inline]
+    fn pair(&self, i: usize) -> (Self::Value, Self::Value) {
+        (self.node(i), self.node(i.wrapping_add(1)))
+    }
 }
 
 impl<const N: usize> Nodes for [f32; N] {

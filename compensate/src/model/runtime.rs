@@ -56,7 +56,9 @@ impl<B: Backend> Model<B> {
         band_gap_ev(&self.params, t_k)
     }
 
-    /// `(Nc, Nv)` in cm^-3, power laws in T.
+    /// `(Nc, Nv)` in cm^-3, power laws in T; exact formula to backend
+    /// rounding (its deviation from the full DOS model is part of
+    /// [`super::bounds::NI_REL`]).
     #[must_use]
     pub fn effective_dos_cm3(&self, t_k: f32) -> (f32, f32) {
         effective_dos_cm3::<B>(&self.params, t_k)
@@ -91,7 +93,9 @@ impl<B: Backend> Model<B> {
         mobilities_cm2_vs::<B>(&self.params, t_k)
     }
 
-    /// Conductivity in S/cm.
+    /// Conductivity in S/cm; deviation from the full model within
+    /// `(1 + MAJORITY_REL)(1 + MOBILITY_REL) - 1` (see [`super::bounds`]),
+    /// Si, -55..175 C, 1e14..2e18 cm^-3.
     #[must_use]
     pub fn conductivity_s_cm(&self, t_k: f32) -> f32 {
         conductivity_s_cm::<B>(&self.params, t_k)
@@ -104,7 +108,9 @@ impl<B: Backend> Model<B> {
         conductivity_ratio::<B>(&self.params, t_k, t_ref_k)
     }
 
-    /// Two-carrier Hall coefficient in cm^3/C.
+    /// Two-carrier Hall coefficient in cm^3/C; exact formula to backend
+    /// rounding given the carriers and mobilities (only its ratio to a
+    /// reference temperature is bounded: [`super::bounds::HALL_RATIO_REL`]).
     #[must_use]
     pub fn hall_coefficient_cm3_c(&self, t_k: f32) -> f32 {
         hall_coefficient_cm3_c::<B>(&self.params, t_k)

@@ -1,10 +1,12 @@
 //! `semidrift element`: example specs and drift curves of sense elements.
 
 use super::CliError;
+use crate::element::locate::line_of;
 use crate::element::{
     DriftCurve, DriftRow, ElementError, ElementKind, ElementModel, ElementSpec, drift_curve_of,
     example_text, parse_spec,
 };
+use crate::physics::ModelError;
 use crate::physics::constants::ZERO_C_K;
 use serde::Serialize;
 use std::io::Write;
@@ -64,17 +66,59 @@ pub fn parse_celsius(text: &str) -> Result<Vec<f64>, CliError> {
     }
 }
 
+/// A spec file read and parsed, with its text (to locate later errors).
+#[derive(Debug, Clone)]
+pub struct LoadedSpec {
+    /// The file as given on the command line.
+    pub path: PathBuf,
+    /// Its text.
+    pub text: String,
+    /// The parsed, checked spec.
+    pub spec: ElementSpec,
+}
+
 /// Reads and parses a spec file; errors name the file, line and key.
-pub fn load_spec(path: &Path) -> Result<ElementSpec, CliError> {
+pub fn load_spec(path: &Path) -> Result<LoadedSpec, CliError> {
     let shown = path.display().to_string();
     let text = std::fs::read_to_string(path)
         .map_err(|e| CliError::Input(format!("{shown}: cannot read: {e}")))?;
-    parse_spec(&text).map_err(|e| CliError::at(&shown, e.line, &e.field, &e.message))
+    let spec = parse_spec(&text).map_err(|e| CliError::at(&shown, e.line, &e.field, &e.message))?;
+    Ok(LoadedSpec {
+        path: path.to_path_buf(),
+        text,
+        spec,
+    })
 }
 
-/// Maps a model failure to a bad-input error naming the spec file.
-pub fn model_error(path: &Path, e: ElementError) -> CliError {
-    CliError::Input(format!("{}: {e}", path.display()))
+/// Maps a model failure to a bad-input error: a temperature outside the
+/// model's range names `--celsius` when given, else the spec's
+/// `temperature.min_c` / `max_c` line; anything else names the spec file.
+pub fn model_error(loaded: &LoadedSpec, celsius: Option<&str>, e: ElementError) -> CliError {
+    let shown = loaded.path.display().to_string();
+    if let ElementError::Model {
+        source: ModelError::TemperatureOutOfRange { t_k, min_k, max_k },
+        ..
+    } = &e
+    {
+        let message = format!(
+            "{:.2} C is outside the model range {:.2}..{:.2} C",
+            t_k - ZERO_C_K,
+            min_k - ZERO_C_K,
+            max_k - ZERO_C_K
+        );
+        return match celsius {
+            Some(text) => CliError::option("--celsius", text, message),
+            None => {
+                let field = if t_k < min_k {
+                    "temperature.min_c"
+                } else {
+                    "temperature.max_c"
+                };
+                CliError::at(&shown, line_of(&loaded.text, field), field, message)
+            }
+        };
+    }
+    CliError::Input(format!("{shown}: {e}"))
 }
 
 /// The spec's range in 5 C steps, always including both ends.
@@ -96,9 +140,15 @@ pub fn temps_for(spec: &ElementSpec, celsius: Option<&str>) -> Result<Vec<f64>, 
     }
 }
 
-/// Computes the drift curve of a loaded spec.
-pub fn curve_for(path: &Path, spec: &ElementSpec, temps: &[f64]) -> Result<DriftCurve, CliError> {
-    let model = ElementModel::new(spec).map_err(|e| model_error(path, e))?;
+/// Computes the drift curve of a loaded spec (`celsius`: the option's text, if given).
+pub fn curve_for(
+    loaded: &LoadedSpec,
+    temps: &[f64],
+    celsius: Option<&str>,
+) -> Result<DriftCurve, CliError> {
+    let spec = &loaded.spec;
+    let err = |e| model_error(loaded, celsius, e);
+    let model = ElementModel::new(spec).map_err(err)?;
     let common = spec.common();
     drift_curve_of(
         &model,
@@ -107,7 +157,7 @@ pub fn curve_for(path: &Path, spec: &ElementSpec, temps: &[f64]) -> Result<Drift
         common.adc.lsb_v(),
         temps,
     )
-    .map_err(|e| model_error(path, e))
+    .map_err(err)
 }
 
 /// The JSON document of `semidrift element --json`.
@@ -133,9 +183,10 @@ pub fn run(args: ElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
             "element: give a SPEC file or --example bridge|hall".to_string(),
         ));
     };
-    let spec = load_spec(path)?;
-    let temps = temps_for(&spec, args.celsius.as_deref())?;
-    let curve = curve_for(path, &spec, &temps)?;
+    let loaded = load_spec(path)?;
+    let spec = &loaded.spec;
+    let temps = temps_for(spec, args.celsius.as_deref())?;
+    let curve = curve_for(&loaded, &temps, args.celsius.as_deref())?;
     let common = spec.common();
     if args.json {
         let report = JsonReport {
@@ -153,7 +204,7 @@ pub fn run(args: ElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
     } else if args.csv {
         write_csv(out, &curve)?;
     } else {
-        write_text(out, path, &spec, &curve)?;
+        write_text(out, path, spec, &curve)?;
     }
     Ok(())
 }

@@ -330,9 +330,9 @@ mod tests {
             rho_ohm_cm: 4.62,
             hall_coefficient_cm3_c: -7.3e3,
             piezo_factor: piezo,
-            hall_factor_n: 1.1,
-            hall_factor_p: 0.9,
-            hall_mobility_cm2_vs: 1500.0,
+            hall_factor_n: 1.18,
+            hall_factor_p: 0.75,
+            hall_mobility_cm2_vs: -1593.0,
         }
     }
 

@@ -21,7 +21,9 @@
 //!   Excitation::VoltageV(3.3))`; full-model points are memoized per
 //!   (doping, temperature), so each chamber temperature is solved once.
 //! - [`drift_curve`]`(&spec, &temps_c) -> `[`DriftCurve`] `{ rows, summary }`.
-//! - [`AdcSpec::code`] turns a voltage into the spec's ADC code.
+//! - [`AdcSpec::code`] turns a voltage into the spec's ADC code
+//!   (`model.adc().code(out.output_v)`); `model.temperature()` gives the
+//!   spec's range and reference.
 //!
 //! Example:
 //! ```no_run

@@ -6,7 +6,7 @@ use super::bridge::{BridgeModel, BridgeState};
 use super::error::ElementError;
 use super::hall::{HallModel, HallState};
 use super::output::{ElementOutput, Excitation};
-use super::spec::ElementSpec;
+use super::spec::{AdcSpec, ElementSpec, TemperatureSpec};
 use crate::physics::constants::ZERO_C_K;
 
 /// A checked element spec, ready to evaluate.
@@ -44,6 +44,22 @@ impl ElementModel {
         match self {
             ElementModel::Bridge(b) => Excitation::from_spec(&b.spec().excitation),
             ElementModel::Hall(h) => Excitation::from_spec(&h.spec().excitation),
+        }
+    }
+
+    /// The converter of the spec (turn an output into a code with [`AdcSpec::code`]).
+    pub fn adc(&self) -> &AdcSpec {
+        match self {
+            ElementModel::Bridge(b) => &b.spec().adc,
+            ElementModel::Hall(h) => &h.spec().adc,
+        }
+    }
+
+    /// Temperature range and reference of the spec.
+    pub fn temperature(&self) -> &TemperatureSpec {
+        match self {
+            ElementModel::Bridge(b) => &b.spec().temperature,
+            ElementModel::Hall(h) => &h.spec().temperature,
         }
     }
 

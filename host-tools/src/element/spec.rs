@@ -370,3 +370,70 @@ pub fn parse_spec(text: &str) -> Result<ElementSpec, SpecError> {
     spec.check().map_err(|e| e.located(Some(text)))?;
     Ok(spec)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn adc_codes_round_and_clamp() {
+        // 16 bits over 0.02 V: one step is 0.02 / 65536 V; codes by hand:
+        // 1 mV / step = 3276.8 -> 3277; +/-10 mV is the range end, where the
+        // positive side clamps to 32767 (two's complement).
+        let adc = AdcSpec {
+            bits: 16,
+            input_span_v: 0.02,
+        };
+        let table = [
+            (0.0, 0),
+            (1e-3, 3277),
+            (-1e-3, -3277),
+            (0.01, 32767),
+            (-0.01, -32768),
+            (1.0, 32767),
+            (f64::NAN, 0),
+        ];
+        for (v, want) in table {
+            let got = adc.code(v);
+            assert_eq!(got, want, "{v} V: got code {got}, expected {want}");
+        }
+        assert_eq!(adc.lsb_v(), 0.02 / 65536.0);
+    }
+
+    #[test]
+    fn checks_name_the_key() {
+        // (spec part, expected failing key)
+        let t = TemperatureSpec {
+            min_c: -20.0,
+            max_c: 85.0,
+            reference_c: 90.0,
+        };
+        assert_eq!(
+            t.check().map_err(|e| e.field),
+            Err("temperature.reference_c".to_string())
+        );
+        let t = TemperatureSpec {
+            min_c: -273.0,
+            max_c: 85.0,
+            reference_c: 25.0,
+        };
+        assert_eq!(
+            t.check().map_err(|e| e.field),
+            Err("temperature.min_c".to_string())
+        );
+        let x = ExcitationSpec {
+            mode: ExcitationMode::Current,
+            voltage_v: Some(3.3),
+            current_a: None,
+        };
+        assert_eq!(
+            x.check().map_err(|e| e.field),
+            Err("excitation.current_a".to_string())
+        );
+        let a = AdcSpec {
+            bits: 33,
+            input_span_v: 1.0,
+        };
+        assert_eq!(a.check().map_err(|e| e.field), Err("adc.bits".to_string()));
+    }
+}

@@ -21,11 +21,14 @@
 //! is the reduced Fermi level `u = (E_F - E_v)/kT`; every term is computed as a
 //! logarithm with its slope in u, so 20 K in 4H-SiC (densities of 1e-800
 //! cm^-3) neither underflows nor loses the balance. `h(u) = ln Q+ - ln Q-`
-//! falls strictly with u; a bracket is built from the doping and n_i, then
-//! Newton steps on h are taken inside the bracket, with bisection whenever a
-//! step would leave it. No heap allocation; about 6 evaluations per solve on
-//! average (counted by the `evaluations_per_solve` test), each ~20
-//! exp/ln calls.
+//! falls strictly with u. Newton steps on h start from a Boltzmann estimate
+//! (single-level freeze-out solution scaled to the complete-ionization one);
+//! the iterates bracket the root, and whenever a step would leave that
+//! bracket the missing end is built from the doping and n_i and the step
+//! becomes a bisection. No heap allocation; 3.6 evaluations per solve on
+//! average, 6 at worst, over a 20-1000 K Si sweep (the
+//! `evaluations_per_solve` test), each ~20 exp/ln calls: ~2.3 us of CPU per
+//! solve (release build, `benches/carriers_solve.rs`).
 //!
 //! # Pairing with mobility
 //! See [`super::dopant`]: mobility models fitted against total dopant
@@ -297,6 +300,21 @@ impl Problem {
     }
 }
 
+/// Moves from `start` in direction `dir` (-1 down, +1 up) in doubling steps
+/// until h has the sign of a bracket end (> 0 below the root, < 0 above).
+fn widen(p: &Problem, start: f64, dir: f64) -> Option<f64> {
+    let (mut u, mut step) = (start, 4.0);
+    for _ in 0..40 {
+        let h = p.eval(u).2;
+        if h * dir < 0.0 {
+            return Some(u);
+        }
+        u += dir * step;
+        step *= 2.0;
+    }
+    None
+}
+
 /// Solves charge neutrality for `sample` at `t_k`.
 ///
 /// Validates the input first ([`check_temperature`], [`check_sample`]); never
@@ -319,8 +337,7 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
     check_sample(sample)?;
 
     let kt = K_B_EV_PER_K * t_k;
-    let eg_ev = material.eg_ev(t_k);
-    let (nc, nv) = material.nc_nv_cm3(t_k);
+    let (eg_ev, nc, nv) = material.band_state(t_k);
     let eg_red = eg_ev / kt;
     let (ln_nc, ln_nv) = (nc.ln(), nv.ln());
 
@@ -358,12 +375,13 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
         };
         let e_red = lv.ionization_energy_ev(n) / kt;
         let ln_g = lv.degeneracy().ln();
-        let w = lv.localized_fraction(n) * n;
+        let (b, one_minus_b) = lv.localized_split(n);
+        let w = b * n;
         let level = Level {
             w,
             ln_w: (w / scale).ln(),
             // Not n - w: near b = 1 that difference loses all its digits.
-            free: lv.delocalized_fraction(n) * n,
+            free: one_minus_b * n,
             // Donor: z = (E_D - E_F)/kT - ln g_D with E_D - E_v = Eg - E_dop.
             // Acceptor: z = (E_F - E_A)/kT - ln g_A with E_A - E_v = E_dop.
             z0: match lv.kind {
@@ -401,40 +419,18 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
 
     let no_conv = |residual: f64| ModelError::NoConvergence { t_k, residual };
 
-    // Bracket: at u_lo holes alone exceed every negative charge, at u_hi
-    // electrons exceed every positive one; widened until the signs are right.
-    let mut lo = (-inv_f_half_ln(ln_scale - ln_nv)).min(u_i) - 2.0;
-    let mut hi = (eg_red + inv_f_half_ln(ln_scale - ln_nc)).max(u_i) + 2.0;
-    let mut step = 4.0;
-    let mut h_lo = p.eval(lo).2;
-    let mut tries = 0;
-    while h_lo.is_nan() || h_lo <= 0.0 {
-        lo -= step;
-        step *= 2.0;
-        h_lo = p.eval(lo).2;
-        tries += 1;
-        if tries > 40 {
-            return Err(no_conv(f64::NAN));
-        }
-    }
-    step = 4.0;
-    let mut h_hi = p.eval(hi).2;
-    tries = 0;
-    while h_hi.is_nan() || h_hi >= 0.0 {
-        hi += step;
-        step *= 2.0;
-        h_hi = p.eval(hi).2;
-        tries += 1;
-        if tries > 40 {
-            return Err(no_conv(f64::NAN));
-        }
-    }
+    // Bracket starts: at lo_start holes alone exceed every negative charge,
+    // at hi_start electrons exceed every positive one (Boltzmann estimate);
+    // only evaluated, and widened, if a Newton step ever leaves the bracket
+    // its own iterates have built (rare: the first estimate is close).
+    let lo_start = (-inv_f_half_ln(ln_scale - ln_nv)).min(u_i) - 2.0;
+    let hi_start = (eg_red + inv_f_half_ln(ln_scale - ln_nc)).max(u_i) + 2.0;
 
     // First estimate with Boltzmann bands: the single-level freeze-out
     // solution for the densest majority species, n (n + N_A) = k (N_D - N_A - n)
     // with k = (Nc/g) exp(-E_dop/kT), scaled by the complete-ionization
     // solution n_ci/net so it also covers the intrinsic regime (common
-    // practice; Blakemore 1962 ch. 3). Clamped into the bracket.
+    // practice; Blakemore 1962 ch. 3).
     let ni2 = (2.0 * ln_ni).exp();
     let guess = |net: f64, minority_tot: f64, levels: &[Level], ln_k_of: &dyn Fn(f64) -> f64| {
         let n_ci = 0.5 * net + (0.25 * net * net + ni2).sqrt();
@@ -467,10 +463,11 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
     } else {
         u_i
     };
-    if !(u > lo && u < hi) {
-        u = 0.5 * (lo + hi);
+    if !u.is_finite() {
+        u = u_i;
     }
 
+    let (mut lo, mut hi) = (f64::NEG_INFINITY, f64::INFINITY);
     let mut ev = p.eval(u);
     let mut converged = false;
     for _ in 0..200 {
@@ -481,7 +478,7 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
         }
         if h > 0.0 {
             lo = u;
-        } else {
+        } else if h < 0.0 {
             hi = u;
         }
         let tol = 1e-12 * (1.0 + u.abs());
@@ -497,6 +494,13 @@ pub fn solve(sample: &Sample, t_k: f64) -> Result<CarrierState, ModelError> {
         }
         let mut next = u + step;
         if !(next > lo && next < hi) {
+            // Bisect; build the missing side of the bracket first.
+            if lo == f64::NEG_INFINITY {
+                lo = widen(&p, lo_start, -1.0).ok_or_else(|| no_conv(f64::NAN))?;
+            }
+            if hi == f64::INFINITY {
+                hi = widen(&p, hi_start, 1.0).ok_or_else(|| no_conv(f64::NAN))?;
+            }
             next = 0.5 * (lo + hi);
         }
         u = next;
@@ -819,6 +823,8 @@ mod eval_count {
         }
         let avg = EVALS.with(|c| c.get()) as f64 / 981.0;
         eprintln!("evals per solve: avg {avg:.2} worst {worst}");
-        assert!(avg < 12.0 && worst <= 30, "avg {avg} worst {worst}");
+        // Measured 3.59 and 6; the bounds flag a regression of the first
+        // estimate or of the Newton safeguard, not noise (deterministic count).
+        assert!(avg < 5.0 && worst <= 10, "avg {avg} worst {worst}");
     }
 }

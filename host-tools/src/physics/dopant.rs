@@ -223,6 +223,12 @@ impl DopantLevel {
         x / (1.0 + x)
     }
 
+    /// (b(N), 1 - b(N)) with one power evaluation, both without cancellation.
+    pub fn localized_split(&self, n_cm3: f64) -> (f64, f64) {
+        let x = (n_cm3 / self.n_b_cm3).powf(self.d);
+        (1.0 / (1.0 + x), x / (1.0 + x))
+    }
+
     /// Ground-state degeneracy factor.
     pub fn degeneracy(&self) -> f64 {
         self.kind.degeneracy()

@@ -177,7 +177,7 @@ fn poly<const N: usize>(c: &[f64; N], x: f64) -> f64 {
     c.iter().rev().fold(0.0, |acc, &ci| acc * x + ci)
 }
 
-/// Normalised F_{1/2}(eta) (Blakemore), relative error below [`F_HALF_REL_ERROR`].
+/// Normalised F_{1/2}(eta) (Blakemore) for every finite eta, relative error below [`F_HALF_REL_ERROR`].
 ///
 /// ```
 /// use host_tools::physics::fermi::f_half;
@@ -194,7 +194,7 @@ pub fn f_half(eta: f64) -> f64 {
     }
 }
 
-/// Normalised F_{-1/2}(eta) = dF_{1/2}/deta (Blakemore), relative error below [`F_MINUS_HALF_REL_ERROR`].
+/// Normalised F_{-1/2}(eta) = dF_{1/2}/deta (Blakemore) for every finite eta, relative error below [`F_MINUS_HALF_REL_ERROR`].
 ///
 /// ```
 /// use host_tools::physics::fermi::f_minus_half;

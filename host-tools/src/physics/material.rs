@@ -88,6 +88,13 @@ pub enum GapModel {
 }
 
 impl GapModel {
+    /// Band gap at 0 K in eV.
+    pub fn eg0_ev(&self) -> f64 {
+        match *self {
+            GapModel::Varshni { eg0_ev, .. } | GapModel::Passler { eg0_ev, .. } => eg0_ev,
+        }
+    }
+
     /// Band gap in eV at `t_k`.
     pub fn eg_ev(&self, t_k: f64) -> f64 {
         match *self {
@@ -153,6 +160,8 @@ pub struct BandParams {
 /// the effective density of states for unit mass is this times T^1.5.
 pub const NC_UNIT_MASS_PER_K15_CM3: f64 = 4.829_366_08e15;
 
+/// 6^(2/3): six equivalent conduction-band valleys in Si.
+const SIX_POW_2_3: f64 = 3.301_927_248_894_626;
 /// Green (1990) silicon masses.
 const SI_ML: f64 = 0.9163;
 const SI_MT0: f64 = 0.1905;
@@ -289,7 +298,14 @@ impl Material {
 
     /// Effective densities of states (Nc, Nv) in cm^-3 at `t_k`.
     pub fn nc_nv_cm3(self, t_k: f64) -> (f64, f64) {
+        let (_, nc, nv) = self.band_state(t_k);
+        (nc, nv)
+    }
+
+    /// Band gap in eV and (Nc, Nv) in cm^-3 at `t_k`, computing the gap once.
+    pub fn band_state(self, t_k: f64) -> (f64, f64, f64) {
         let p = self.band_params();
+        let eg = p.gap.eg_ev(t_k);
         let t15 = t_k * t_k.sqrt();
         match p.dos {
             DosModel::PowerLaw {
@@ -298,17 +314,17 @@ impl Material {
                 nc_a2_per_k2,
                 c_nv,
             } => (
+                eg,
                 c_nc * t15 * (1.0 + nc_a1_per_k * t_k + nc_a2_per_k2 * t_k * t_k),
                 c_nv * t15,
             ),
             DosModel::SiGreenCouderc => {
-                let eg0 = p.gap.eg_ev(0.0);
-                let mt = SI_MT0 * eg0 / p.gap.eg_ev(t_k);
+                let mt = SI_MT0 * p.gap.eg0_ev() / eg;
                 // 6^(2/3) (m_l m_t^2)^(1/3), Green (1990) eq. for m_dc.
-                let m_dc = 6f64.powf(2.0 / 3.0) * (SI_ML * mt * mt).cbrt();
+                let m_dc = SIX_POW_2_3 * (SI_ML * mt * mt).cbrt();
                 let nc = NC_UNIT_MASS_PER_K15_CM3 * m_dc * m_dc.sqrt() * t15;
                 let sqrt_ncnv = SI_NI_PREFACTOR * t_k.powf(SI_NI_EXPONENT);
-                (nc, sqrt_ncnv * sqrt_ncnv / nc)
+                (eg, nc, sqrt_ncnv * sqrt_ncnv / nc)
             }
         }
     }
@@ -326,8 +342,8 @@ impl Material {
 
     /// Natural logarithm of [`Material::ni_cm3`] (finite where n_i itself underflows, e.g. 4H-SiC below ~60 K).
     pub fn ln_ni(self, t_k: f64) -> f64 {
-        let (nc, nv) = self.nc_nv_cm3(t_k);
-        0.5 * (nc.ln() + nv.ln()) - self.eg_ev(t_k) / (2.0 * K_B_EV_PER_K * t_k)
+        let (eg, nc, nv) = self.band_state(t_k);
+        0.5 * (nc.ln() + nv.ln()) - eg / (2.0 * K_B_EV_PER_K * t_k)
     }
 
     /// Static relative permittivity (common-practice handbook values).
@@ -444,6 +460,11 @@ mod tests {
                 prev = e;
             }
         }
+    }
+
+    #[test]
+    fn six_pow_two_thirds() {
+        assert!((SIX_POW_2_3 - 6f64.powf(2.0 / 3.0)).abs() < 1e-15);
     }
 
     #[test]

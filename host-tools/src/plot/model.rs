@@ -89,10 +89,7 @@ pub fn write_model_png(
     rows: &[ModelPoint],
 ) -> Result<(), PlotError> {
     check_rows(rows)?;
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
+    let write_err = |source| PlotError::write(path, source);
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => std::path::Path::new("."),
@@ -419,9 +416,9 @@ mod tests {
             rho_ohm_cm: 1.0 / (1.602e-19 * n_cm3 * 1400.0),
             hall_coefficient_cm3_c: -1.0 / (1.602e-19 * n_cm3),
             piezo_factor: Some(1.0),
-            hall_factor_n: 1.1,
-            hall_factor_p: 0.9,
-            hall_mobility_cm2_vs: 1500.0,
+            hall_factor_n: 1.18,
+            hall_factor_p: 0.75,
+            hall_mobility_cm2_vs: -1593.0,
         }
     }
 

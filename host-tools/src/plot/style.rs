@@ -49,6 +49,15 @@ pub enum PlotError {
 }
 
 impl PlotError {
+    /// A write error on `path`, keeping only the kind of the I/O error: the
+    /// temporary file's random name must not reach the (deterministic) message.
+    pub fn write(path: &Path, source: std::io::Error) -> PlotError {
+        PlotError::Write {
+            path: path.display().to_string(),
+            source: std::io::Error::from(source.kind()),
+        }
+    }
+
     /// Wraps any plotters error.
     pub fn draw(e: impl std::fmt::Display) -> PlotError {
         PlotError::Draw(e.to_string())
@@ -146,10 +155,7 @@ pub fn tick_label(v: &f64) -> String {
 /// Writes `contents` to `path` via a temporary file in the same directory and
 /// a rename, so a failed run never leaves a half-written file behind.
 pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
+    let write_err = |source| PlotError::write(path, source);
     let dir = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
@@ -162,10 +168,7 @@ pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
 /// Gives a finished temporary file ordinary permissions (tempfile creates it
 /// owner-only) and renames it to `path`.
 pub fn persist(tmp: tempfile::NamedTempFile, path: &Path) -> Result<(), PlotError> {
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
+    let write_err = |source| PlotError::write(path, source);
     #[cfg(unix)]
     {
         use std::os::unix::fs::PermissionsExt;

@@ -23,8 +23,9 @@ pub struct PlotElementArgs {
 
 /// Runs `semidrift plot element`.
 pub fn run(args: PlotElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let spec = load_spec(&args.spec)?;
-    let temps = temps_for(&spec, args.celsius.as_deref())?;
+    let loaded = load_spec(&args.spec)?;
+    let spec = &loaded.spec;
+    let temps = temps_for(spec, args.celsius.as_deref())?;
     if temps.len() < 2 {
         return Err(CliError::option(
             "--celsius",
@@ -32,7 +33,7 @@ pub fn run(args: PlotElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
             "a plot needs at least two temperatures",
         ));
     }
-    let curve = curve_for(&args.spec, &spec, &temps)?;
+    let curve = curve_for(&loaded, &temps, args.celsius.as_deref())?;
     let shown = args.out.display().to_string();
     let out_err = |e| CliError::option("--out", &shown, e);
     let title = spec.common().name;

@@ -1,0 +1,507 @@
+//! Instruction, stack and memory benchmark of the compensation path against
+//! the polynomial correction most products use, run in QEMU with `-icount`.
+//!
+//! `cargo run --release --bin bench --target <triple>` (from
+//! examples/firmware) prints one line per figure:
+//! `metric <name> <value> <unit> target=<triple>`. Instruction figures are
+//! per call, net of an empty call of the same signature through the same
+//! loop, averaged over the recorded stream's inputs (see `count`); they are
+//! instructions, not cycles. Two runs print identical lines.
+//!
+//! Cortex-M4F: the f32 path (the one an FPU part runs) and the polynomial
+//! baseline in f32; the integer path too, as `*_q_insn`. Cortex-M0: the
+//! integer path and the integer polynomial baseline (f32 is soft-float there
+//! and not what such a part runs).
+#![no_std]
+#![no_main]
+
+use compensate::{FixedCompensator, ReadingQ, Status, TableView};
+use cortex_m_rt::entry;
+use cortex_m_semihosting::hprintln;
+use semidrift_firmware::count::{Counter, time_calls};
+use semidrift_firmware::stack::{measure_call_bytes, program_high_water_bytes};
+use semidrift_firmware::stream::{Sample, fill};
+use semidrift_firmware::{rt, stream};
+
+semidrift_firmware::printing_fault_handlers!();
+
+static IMAGE_Q: &[u8] = include_bytes!("../../data/well_level_q.bin");
+#[cfg(fpu)]
+static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
+static STREAM: &str = include_str!("../../data/well_level_stream.csv");
+
+/// Inputs: the temperature ramp of the recorded stream (its last four
+/// samples are faults, which a benchmark of normal operation leaves out).
+const INPUTS: usize = 116;
+
+/// Calls per timed loop of the table and polynomial functions (1000 passes
+/// over the stream): a SysTick reading is exact to +-1 tick, so a figure is
+/// exact to +-2 ticks / CALLS = 0.001 instruction; cost x calls stays below
+/// 1.2e8 instructions, far below one SysTick wrap (6.7e8 instructions on
+/// mps2-an386, 1.0e9 on microbit).
+const CALLS: u32 = 116_000;
+
+/// Calls per timed loop of the runtime model (up to about 9000 instructions
+/// per call): 100 passes over the inputs keep cost x calls near 1e8.
+#[cfg(fpu)]
+const MODEL_CALLS: u32 = 11_600;
+
+#[cfg(fpu)]
+const TARGET: &str = "thumbv7em-none-eabihf";
+#[cfg(not(fpu))]
+const TARGET: &str = "thumbv6m-none-eabi";
+
+/// Prints one metric line; `centi` is the value in hundredths.
+fn metric_centi(name: &str, centi: u64, unit: &str) {
+    hprintln!(
+        "metric {} {}.{:02} {} target={}",
+        name,
+        centi / 100,
+        centi % 100,
+        unit,
+        TARGET
+    );
+}
+
+/// Prints one integer metric line.
+fn metric(name: &str, value: usize, unit: &str) {
+    hprintln!("metric {} {} {} target={}", name, value, unit, TARGET);
+}
+
+/// Instructions per call of `f` beyond `empty`, in hundredths.
+fn net_insn<S, A: Copy, R>(
+    counter: &Counter,
+    calls: u32,
+    state: &mut S,
+    inputs: &[A],
+    f: fn(&mut S, A) -> R,
+    empty: fn(&mut S, A) -> R,
+) -> u64 {
+    let work = time_calls(counter, calls, state, inputs, f);
+    let base = time_calls(counter, calls, state, inputs, empty);
+    counter.centi_insn_per_call(u64::from(work.saturating_sub(base)), u64::from(calls))
+}
+
+// ---- the integer path (both targets) --------------------------------------
+
+#[inline(never)]
+fn q_temp_update(c: &mut FixedCompensator<'static>, signal: i32) -> Status {
+    c.update_temperature(signal)
+}
+
+#[inline(never)]
+fn q_temp_update_empty(_c: &mut FixedCompensator<'static>, _signal: i32) -> Status {
+    Status::OK
+}
+
+#[inline(never)]
+fn q_sample(c: &mut FixedCompensator<'static>, raw: i32) -> ReadingQ {
+    c.compensate_sample(raw)
+}
+
+#[inline(never)]
+fn q_sample_empty(_c: &mut FixedCompensator<'static>, raw: i32) -> ReadingQ {
+    ReadingQ {
+        value: raw,
+        status: Status::OK,
+    }
+}
+
+use semidrift_firmware::poly::{PolyQBench, demo_q as poly_q};
+
+#[inline(never)]
+fn poly_q_temp_update(p: &mut PolyQBench, signal: i32) -> i32 {
+    p.update_temperature(signal)
+}
+
+#[inline(never)]
+fn poly_q_temp_update_empty(_p: &mut PolyQBench, signal: i32) -> i32 {
+    signal
+}
+
+#[inline(never)]
+fn poly_q_sample(p: &mut PolyQBench, raw: i32) -> i32 {
+    p.sample(raw)
+}
+
+#[inline(never)]
+fn poly_q_sample_empty(_p: &mut PolyQBench, raw: i32) -> i32 {
+    raw
+}
+
+// ---- the f32 path (FPU targets) -------------------------------------------
+
+#[cfg(fpu)]
+mod fpu {
+    use compensate::{Compensator, Reading, Status};
+
+    #[inline(never)]
+    pub fn temp_update(c: &mut Compensator<'static>, signal: f32) -> Status {
+        c.update_temperature(signal)
+    }
+
+    #[inline(never)]
+    pub fn temp_update_empty(_c: &mut Compensator<'static>, _signal: f32) -> Status {
+        Status::OK
+    }
+
+    #[inline(never)]
+    pub fn sample(c: &mut Compensator<'static>, raw: f32) -> Reading {
+        c.compensate_sample(raw)
+    }
+
+    #[inline(never)]
+    pub fn sample_empty(_c: &mut Compensator<'static>, raw: f32) -> Reading {
+        Reading {
+            value: raw,
+            status: Status::OK,
+        }
+    }
+
+    pub use semidrift_firmware::poly::{PolyF32Bench as PolyBench, demo_f32 as poly};
+
+    /// Runtime-model parameters of the demo scenarios: the well-level
+    /// logger's p-type piezoresistor (boron 2e18 cm^-3) and the current
+    /// sensor's n-type Hall plate (phosphorus 5e15 cm^-3, invented).
+    #[cfg(any(feature = "libm", feature = "micromath"))]
+    pub mod model {
+        use compensate::math::Backend;
+        use compensate::model::{Model, ModelParams};
+
+        /// Reference temperature of the ratios, 25 C.
+        const T_REF_K: f32 = 298.15;
+
+        pub fn bridge<B: Backend>() -> Model<B> {
+            Model::with_backend(ModelParams::silicon(0.0, 2e18))
+        }
+
+        pub fn hall<B: Backend>() -> Model<B> {
+            Model::with_backend(ModelParams::silicon(5e15, 0.0))
+        }
+
+        /// One evaluation of the model at one temperature: band gap,
+        /// densities of states, intrinsic density, neutrality, both
+        /// mobilities, conductivity.
+        #[inline(never)]
+        pub fn conductivity<B: Backend>(m: &mut Model<B>, t_k: f32) -> f32 {
+            m.conductivity_s_cm(t_k)
+        }
+
+        /// Current-bias Hall sensitivity ratio (two evaluations, T and T_ref).
+        #[inline(never)]
+        pub fn hall_ratio<B: Backend>(m: &mut Model<B>, t_k: f32) -> f32 {
+            m.hall_current_bias_ratio(t_k, T_REF_K)
+        }
+
+        /// Piezoresistance-factor ratio.
+        #[inline(never)]
+        pub fn piezo_ratio<B: Backend>(m: &mut Model<B>, t_k: f32) -> f32 {
+            m.piezo_factor_ratio(t_k, T_REF_K)
+        }
+
+        #[inline(never)]
+        pub fn empty<B: Backend>(_m: &mut Model<B>, t_k: f32) -> f32 {
+            t_k
+        }
+    }
+
+    #[inline(never)]
+    pub fn poly_temp_update(p: &mut PolyBench, signal: f32) -> f32 {
+        p.update_temperature(signal)
+    }
+
+    #[inline(never)]
+    pub fn poly_temp_update_empty(_p: &mut PolyBench, signal: f32) -> f32 {
+        signal
+    }
+
+    #[inline(never)]
+    pub fn poly_sample(p: &mut PolyBench, raw: f32) -> f32 {
+        p.sample(raw)
+    }
+
+    #[inline(never)]
+    pub fn poly_sample_empty(_p: &mut PolyBench, raw: f32) -> f32 {
+        raw
+    }
+}
+
+/// Runtime-model figures with backend `B`, named after the backend.
+#[cfg(all(fpu, any(feature = "libm", feature = "micromath")))]
+fn model_figures<B: compensate::math::Backend>(counter: &Counter, t_k: &[f32]) {
+    use fpu::model;
+    let mut bridge = model::bridge::<B>();
+    let mut hall = model::hall::<B>();
+    let t = net_insn(
+        counter,
+        MODEL_CALLS,
+        &mut bridge,
+        t_k,
+        model::conductivity,
+        model::empty,
+    );
+    hprintln!(
+        "metric runtime_model_{}_insn {}.{:02} insn target={}",
+        B::NAME,
+        t / 100,
+        t % 100,
+        TARGET
+    );
+    let t = net_insn(
+        counter,
+        MODEL_CALLS,
+        &mut hall,
+        t_k,
+        model::hall_ratio,
+        model::empty,
+    );
+    hprintln!(
+        "metric runtime_model_hall_ratio_{}_insn {}.{:02} insn target={}",
+        B::NAME,
+        t / 100,
+        t % 100,
+        TARGET
+    );
+    let t = net_insn(
+        counter,
+        MODEL_CALLS,
+        &mut bridge,
+        t_k,
+        model::piezo_ratio,
+        model::empty,
+    );
+    hprintln!(
+        "metric runtime_model_piezo_ratio_{}_insn {}.{:02} insn target={}",
+        B::NAME,
+        t / 100,
+        t % 100,
+        TARGET
+    );
+    let first = t_k.first().copied().unwrap_or(298.15);
+    let stack = measure_call_bytes(&mut bridge, first, model::conductivity)
+        .max(measure_call_bytes(&mut hall, first, model::hall_ratio))
+        .max(measure_call_bytes(&mut bridge, first, model::piezo_ratio));
+    hprintln!(
+        "metric stack_model_{}_bytes {} bytes target={}",
+        B::NAME,
+        stack,
+        TARGET
+    );
+}
+
+/// Parses the recorded stream into the input arrays.
+fn inputs() -> [Sample; INPUTS] {
+    let mut samples = [Sample {
+        raw_code: 0,
+        temp_code: 0,
+    }; INPUTS];
+    match fill(STREAM, &mut samples) {
+        Ok(INPUTS) => samples,
+        Ok(n) => {
+            hprintln!(
+                "error: well_level_stream.csv has {} samples, bench needs {}",
+                n,
+                INPUTS
+            );
+            rt::exit_failure()
+        }
+        Err(stream::ParseError { line }) => {
+            hprintln!(
+                "error: well_level_stream.csv line {}: expected raw_code,temp_code",
+                line
+            );
+            rt::exit_failure()
+        }
+    }
+}
+
+#[entry]
+fn main() -> ! {
+    let Some(peripherals) = cortex_m::Peripherals::take() else {
+        rt::exit_failure()
+    };
+    let counter = Counter::new(peripherals.SYST);
+    metric_centi(
+        "insn_per_systick",
+        counter.insn_per_tick_centi(),
+        "insn/tick",
+    );
+
+    let samples = inputs();
+    let raw_q: [i32; INPUTS] = samples.map(|s| s.raw_code);
+    let temp_q: [i32; INPUTS] = samples.map(|s| s.temp_code);
+
+    let Ok(view_q) = TableView::parse(IMAGE_Q) else {
+        hprintln!("error: well_level_q.bin does not parse");
+        rt::exit_failure()
+    };
+    let Ok(mut fixed) = FixedCompensator::new(&view_q) else {
+        hprintln!("error: well_level_q.bin is not a Q-format image");
+        rt::exit_failure()
+    };
+    let mut poly_q = poly_q();
+    // Samples are timed at the coefficients of the first recorded temperature.
+    let _ = fixed.update_temperature(temp_q[0]);
+    let _ = poly_q_temp_update(&mut poly_q, temp_q[0]);
+
+    let q_names: [&str; 4] = if cfg!(fpu) {
+        [
+            "temp_update_q_insn",
+            "sample_q_insn",
+            "poly_temp_update_q_insn",
+            "poly_sample_q_insn",
+        ]
+    } else {
+        [
+            "temp_update_insn",
+            "sample_insn",
+            "poly_temp_update_insn",
+            "poly_sample_insn",
+        ]
+    };
+
+    #[cfg(fpu)]
+    {
+        let raw_f: [f32; INPUTS] = samples.map(|s| s.raw_code as f32);
+        let temp_f: [f32; INPUTS] = samples.map(|s| s.temp_code as f32);
+        let Ok(view) = TableView::parse(IMAGE_F32) else {
+            hprintln!("error: well_level_f32.bin does not parse");
+            rt::exit_failure()
+        };
+        let Ok(mut float) = compensate::Compensator::new(&view) else {
+            hprintln!("error: well_level_f32.bin is not an f32 image");
+            rt::exit_failure()
+        };
+        let mut poly = fpu::poly();
+        let _ = float.update_temperature(temp_f[0]);
+        let _ = fpu::poly_temp_update(&mut poly, temp_f[0]);
+
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut float,
+            &temp_f,
+            fpu::temp_update,
+            fpu::temp_update_empty,
+        );
+        metric_centi("temp_update_insn", t, "insn");
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut float,
+            &raw_f,
+            fpu::sample,
+            fpu::sample_empty,
+        );
+        metric_centi("sample_insn", t, "insn");
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut poly,
+            &temp_f,
+            fpu::poly_temp_update,
+            fpu::poly_temp_update_empty,
+        );
+        metric_centi("poly_temp_update_insn", t, "insn");
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut poly,
+            &raw_f,
+            fpu::poly_sample,
+            fpu::poly_sample_empty,
+        );
+        metric_centi("poly_sample_insn", t, "insn");
+
+        let stack = measure_call_bytes(&mut float, temp_f[0], fpu::temp_update)
+            .max(measure_call_bytes(&mut float, raw_f[0], fpu::sample));
+        metric("stack_bytes", stack, "bytes");
+        let stack = measure_call_bytes(&mut poly, temp_f[0], fpu::poly_temp_update)
+            .max(measure_call_bytes(&mut poly, raw_f[0], fpu::poly_sample));
+        metric("poly_stack_bytes", stack, "bytes");
+        metric(
+            "state_bytes",
+            core::mem::size_of::<compensate::Compensator<'static>>(),
+            "bytes",
+        );
+
+        // The runtime model over the stream's temperature range, -20..85 C.
+        let t_k: [f32; INPUTS] =
+            core::array::from_fn(|k| 253.15 + 105.0 * k as f32 / (INPUTS - 1) as f32);
+        #[cfg(feature = "libm")]
+        model_figures::<compensate::math::Libm>(&counter, &t_k);
+        #[cfg(feature = "micromath")]
+        model_figures::<compensate::math::Micromath>(&counter, &t_k);
+    }
+
+    let t = net_insn(
+        &counter,
+        CALLS,
+        &mut fixed,
+        &temp_q,
+        q_temp_update,
+        q_temp_update_empty,
+    );
+    metric_centi(q_names[0], t, "insn");
+    let t = net_insn(
+        &counter,
+        CALLS,
+        &mut fixed,
+        &raw_q,
+        q_sample,
+        q_sample_empty,
+    );
+    metric_centi(q_names[1], t, "insn");
+    let t = net_insn(
+        &counter,
+        CALLS,
+        &mut poly_q,
+        &temp_q,
+        poly_q_temp_update,
+        poly_q_temp_update_empty,
+    );
+    metric_centi(q_names[2], t, "insn");
+    let t = net_insn(
+        &counter,
+        CALLS,
+        &mut poly_q,
+        &raw_q,
+        poly_q_sample,
+        poly_q_sample_empty,
+    );
+    metric_centi(q_names[3], t, "insn");
+
+    let stack_q = measure_call_bytes(&mut fixed, temp_q[0], q_temp_update)
+        .max(measure_call_bytes(&mut fixed, raw_q[0], q_sample));
+    let poly_stack_q = measure_call_bytes(&mut poly_q, temp_q[0], poly_q_temp_update)
+        .max(measure_call_bytes(&mut poly_q, raw_q[0], poly_q_sample));
+    if cfg!(fpu) {
+        metric("stack_q_bytes", stack_q, "bytes");
+        metric("poly_stack_q_bytes", poly_stack_q, "bytes");
+        metric(
+            "state_q_bytes",
+            core::mem::size_of::<FixedCompensator<'static>>(),
+            "bytes",
+        );
+    } else {
+        metric("stack_bytes", stack_q, "bytes");
+        metric("poly_stack_bytes", poly_stack_q, "bytes");
+        metric(
+            "state_bytes",
+            core::mem::size_of::<FixedCompensator<'static>>(),
+            "bytes",
+        );
+    }
+    metric(
+        "table_numbers",
+        view_q.temperature_nodes() * view_q.channel_count() + view_q.thermometer_nodes(),
+        "count",
+    );
+    metric("poly_coefficients", PolyQBench::STORED, "count");
+    // No global allocator is defined and no crate links `alloc`: any heap
+    // use would fail to link. tests/firmware_qemu.rs checks the ELF files
+    // for allocator symbols.
+    metric("heap_bytes", 0, "bytes");
+    metric("stack_program_bytes", program_high_water_bytes(), "bytes");
+    rt::exit_success()
+}

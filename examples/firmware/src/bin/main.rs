@@ -1,0 +1,158 @@
+//! Demo and verification firmware: validates the embedded table images at
+//! boot, shows that a corrupted image is refused, replays the recorded
+//! sample stream through the compensators and prints one line per sample
+//! (the f32 result as its exact bit pattern and in decimal, the integer
+//! result as the raw i32), for `tests/firmware_qemu.rs` to recompute on the
+//! host. Exits 0 when every check passed, 1 otherwise.
+//!
+//! On the Cortex-M4F both paths run; on the Cortex-M0 (no FPU) only the
+//! integer fixed-point path does.
+#![no_std]
+#![no_main]
+
+use compensate::{FixedCompensator, Status, TableView};
+use cortex_m_rt::entry;
+use cortex_m_semihosting::hprintln;
+use semidrift_firmware::{rt, stream};
+
+semidrift_firmware::printing_fault_handlers!();
+
+/// Q-format table image (the integer path).
+static IMAGE_Q: &[u8] = include_bytes!("../../data/well_level_q.bin");
+/// f32 table image (the FPU path).
+#[cfg(fpu)]
+static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
+/// The recorded raw and temperature-signal codes.
+static STREAM: &str = include_str!("../../data/well_level_stream.csv");
+
+/// Parses an image and prints what was found; `None` means refused.
+fn validate<'a>(name: &str, bytes: &'a [u8]) -> Option<TableView<'a>> {
+    match TableView::parse(bytes) {
+        Ok(view) => {
+            hprintln!(
+                "image {} ok bytes={} t_nodes={} sig_nodes={} channels={}",
+                name,
+                bytes.len(),
+                view.temperature_nodes(),
+                view.thermometer_nodes(),
+                view.channel_count()
+            );
+            Some(view)
+        }
+        Err(e) => {
+            hprintln!("image {} rejected: {}", name, e);
+            None
+        }
+    }
+}
+
+/// A compensator on `view`, or the unconfigured one that refuses to
+/// compensate (every sample 0 with `TABLE_INVALID`).
+fn fixed_compensator<'a>(view: Option<&TableView<'a>>) -> FixedCompensator<'a> {
+    view.and_then(|v| FixedCompensator::new(v).ok())
+        .unwrap_or(FixedCompensator::unconfigured())
+}
+
+/// Flips one bit in a copy of `image` and checks the copy is refused and
+/// that a compensator on it refuses to compensate. Returns `true` on the
+/// expected outcome.
+fn corrupt_copy_is_refused(image: &[u8]) -> bool {
+    let mut copy = [0u8; 512];
+    let Some(copy) = copy.get_mut(..image.len()) else {
+        hprintln!("error: image larger than the 512-byte corruption buffer");
+        return false;
+    };
+    copy.copy_from_slice(image);
+    // A byte inside the gain column: only the CRC can catch this change.
+    let at = copy.len() / 2;
+    if let Some(b) = copy.get_mut(at) {
+        *b ^= 0x10;
+    }
+    let view = validate("corrupted", copy);
+    let refused = view.is_none();
+    let mut comp = fixed_compensator(view.as_ref());
+    comp.update_temperature(4_194_304);
+    let r = comp.compensate_sample(1_000_000);
+    hprintln!(
+        "refused sample value={} status={}",
+        r.value,
+        r.status.bits()
+    );
+    refused && r.value == 0 && r.status.contains(Status::TABLE_INVALID)
+}
+
+#[entry]
+fn main() -> ! {
+    let mut ok = true;
+    let view_q = validate("q", IMAGE_Q);
+    ok &= view_q.is_some();
+    let mut fixed = fixed_compensator(view_q.as_ref());
+
+    #[cfg(fpu)]
+    let mut float = {
+        let view = validate("f32", IMAGE_F32);
+        ok &= view.is_some();
+        view.and_then(|v| compensate::Compensator::new(&v).ok())
+            .unwrap_or(compensate::Compensator::unconfigured())
+    };
+
+    if !corrupt_copy_is_refused(IMAGE_Q) {
+        hprintln!("error: a corrupted image was not refused");
+        ok = false;
+    }
+
+    let mut n = 0usize;
+    for (i, sample) in stream::samples(STREAM).enumerate() {
+        let s = match sample {
+            Ok(s) => s,
+            Err(e) => {
+                hprintln!(
+                    "error: well_level_stream.csv line {}: expected raw_code,temp_code",
+                    e.line
+                );
+                rt::exit_failure();
+            }
+        };
+        let tq = fixed.update_temperature(s.temp_code);
+        let q = fixed.compensate_sample(s.raw_code);
+
+        #[cfg(fpu)]
+        {
+            let tf = float.update_temperature(s.temp_code as f32);
+            let f = float.compensate_sample(s.raw_code as f32);
+            hprintln!(
+                "sample {} raw={} temp={} t_c={:#010x} t_q={} f32={:#010x} {} f32_status={} f32_temp_status={} q={} q_status={} q_temp_status={}",
+                i,
+                s.raw_code,
+                s.temp_code,
+                float.temperature_c().to_bits(),
+                fixed.temperature_q(),
+                f.value.to_bits(),
+                f.value,
+                f.status.bits(),
+                tf.bits(),
+                q.value,
+                q.status.bits(),
+                tq.bits()
+            );
+        }
+        #[cfg(not(fpu))]
+        hprintln!(
+            "sample {} raw={} temp={} t_q={} q={} q_status={} q_temp_status={}",
+            i,
+            s.raw_code,
+            s.temp_code,
+            fixed.temperature_q(),
+            q.value,
+            q.status.bits(),
+            tq.bits()
+        );
+        n += 1;
+    }
+    hprintln!("done samples={} ok={}", n, ok);
+    if ok {
+        rt::exit_success()
+    } else {
+        rt::exit_failure()
+    }
+}

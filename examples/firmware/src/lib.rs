@@ -1,0 +1,14 @@
+//! Shared pieces of the semidrift firmware binaries (`main`, `bench`,
+//! `nopanic` and the flash probes): semihosting exit and fault handlers,
+//! the SysTick instruction counter, stack painting, the recorded sample
+//! stream and the polynomial baseline the benchmark compares against.
+//!
+//! Runs on QEMU's `mps2-an386` (Cortex-M4F) and `microbit` (Cortex-M0).
+#![no_std]
+
+pub mod count;
+pub mod poly;
+pub mod probe;
+pub mod rt;
+pub mod stack;
+pub mod stream;
