@@ -281,17 +281,36 @@ pub fn summary_text(summaries: &[ScenarioSummary]) -> String {
             "{}: {} parts, {} calibrated at {:?} C\n",
             m.scenario, m.parts, m.calibrated, m.cal_temps_c
         ));
+        let (lo, hi) = c.calibrated_c;
+        let any_outside = c
+            .by_temperature
+            .iter()
+            .any(|row| row[0] < lo - 1e-9 || row[0] > hi + 1e-9);
+        // A lot checked only inside its calibrated span has no outside figure;
+        // printing 0 ppm there would read as a perfect result.
+        let outside = |ppm: f64| {
+            if any_outside {
+                format!("{ppm:.0} ppm outside")
+            } else {
+                "no held-out temperature outside".to_string()
+            }
+        };
         s.push_str(&format!(
-            "  raw drift (ref-temperature offset and gain only): {:.0} ppm of span inside, {:.0} outside the calibrated span\n",
-            c.raw.inside_ppm, c.raw.outside_ppm
+            "  raw drift (ref-temperature offset and gain only): {:.0} ppm of span inside, {} the calibrated span\n",
+            c.raw.inside_ppm,
+            outside(c.raw.outside_ppm)
         ));
         s.push_str(&format!(
-            "  held-out worst case, physics ({} coefficients): {:.0} ppm inside, {:.0} ppm outside\n",
-            c.physics_coefficients, c.physics.inside_ppm, c.physics.outside_ppm
+            "  held-out worst case, physics ({} coefficients): {:.0} ppm inside, {}\n",
+            c.physics_coefficients,
+            c.physics.inside_ppm,
+            outside(c.physics.outside_ppm)
         ));
         s.push_str(&format!(
-            "  held-out worst case, polynomial ({} coefficients): {:.0} ppm inside, {:.0} ppm outside\n",
-            c.polynomial_coefficients, c.polynomial.inside_ppm, c.polynomial.outside_ppm
+            "  held-out worst case, polynomial ({} coefficients): {:.0} ppm inside, {}\n",
+            c.polynomial_coefficients,
+            c.polynomial.inside_ppm,
+            outside(c.polynomial.outside_ppm)
         ));
         s.push_str(&format!(
             "  flashed images at held-out temperatures in range: worst {:.0} ppm (budget {} ppm)\n",
