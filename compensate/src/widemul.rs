@@ -9,11 +9,11 @@
 /// gets [`mul_wide_soft`]. Both are exact, hence bit-identical.
 #[inline]
 pub(crate) fn mul_wide(a: i32, b: i32) -> i64 {
-    #[cfg(all(target_arch = "arm", not(target_feature = "v7")))]
+    #[cfg(narrow_mul)]
     {
         mul_wide_soft(a, b)
     }
-    #[cfg(not(all(target_arch = "arm", not(target_feature = "v7"))))]
+    #[cfg(not(narrow_mul))]
     {
         // |a * b| <= 2^62: no overflow.
         i64::from(a).wrapping_mul(i64::from(b))
@@ -27,10 +27,7 @@ pub(crate) fn mul_wide(a: i32, b: i32) -> i64 {
 /// `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`, where `al bl` fits in
 /// u32, `ah bl` and `al bh` in i32 (|.| < 2^31) and `ah bh` in i32.
 #[inline]
-#[cfg_attr(
-    not(all(target_arch = "arm", not(target_feature = "v7"))),
-    allow(dead_code)
-)]
+#[cfg_attr(not(narrow_mul), allow(dead_code))]
 pub(crate) fn mul_wide_soft(a: i32, b: i32) -> i64 {
     let (al, ah) = ((a & 0xFFFF) as u32, a >> 16);
     let (bl, bh) = ((b & 0xFFFF) as u32, b >> 16);
@@ -48,11 +45,11 @@ pub(crate) fn mul_wide_soft(a: i32, b: i32) -> i64 {
 /// target split).
 #[inline]
 pub(crate) fn mul_wide_u(a: u32, b: u32) -> u64 {
-    #[cfg(all(target_arch = "arm", not(target_feature = "v7")))]
+    #[cfg(narrow_mul)]
     {
         mul_wide_u_soft(a, b)
     }
-    #[cfg(not(all(target_arch = "arm", not(target_feature = "v7"))))]
+    #[cfg(not(narrow_mul))]
     {
         // < 2^64: no overflow.
         u64::from(a).wrapping_mul(u64::from(b))
@@ -62,10 +59,7 @@ pub(crate) fn mul_wide_u(a: u32, b: u32) -> u64 {
 /// Unsigned 32x32 -> 64-bit product from four 16x16 -> 32-bit products;
 /// each partial product is below 2^32, the middle sum below 2^33.
 #[inline]
-#[cfg_attr(
-    not(all(target_arch = "arm", not(target_feature = "v7"))),
-    allow(dead_code)
-)]
+#[cfg_attr(not(narrow_mul), allow(dead_code))]
 pub(crate) fn mul_wide_u_soft(a: u32, b: u32) -> u64 {
     let (al, ah) = (a & 0xFFFF, a >> 16);
     let (bl, bh) = (b & 0xFFFF, b >> 16);

@@ -30,11 +30,19 @@ pub struct ReadingQ {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[repr(C)]
 pub struct FixedCompensator<'a> {
-    raw_lo: i32,
-    raw_hi: i32,
+    /// Lower end of the short path's raw range: the calibrated range when
+    /// the short path applies at the current temperature (no quadratic
+    /// term, no 2-D correction), else an empty range (`fast_lo > fast_hi`),
+    /// so that one pair of compares decides.
+    fast_lo: i32,
+    /// Upper end of the short path's raw range (see `fast_lo`).
+    fast_hi: i32,
     offset: i32,
     gain: i32,
     quadratic: i32,
+    /// `2^offset_bits`: raw codes times this are in the offset's Q format
+    /// (a multiply needs no shift-amount mask on ARMv6-M).
+    offset_scale: i32,
     /// Fractional bits of the offset channel: raw codes are shifted by this.
     offset_shift: u32,
     /// `offset + gain - output` fractional bits, at most 62.
@@ -43,6 +51,8 @@ pub struct FixedCompensator<'a> {
     out_round: i64,
     temp_status: Status,
     grid: Option<(AxisQ, ColumnQ<'a>)>,
+    raw_lo: i32,
+    raw_hi: i32,
     rail_lo: i32,
     rail_hi: i32,
     /// `quadratic + offset - gain` fractional bits.
@@ -74,11 +84,11 @@ fn interp_cubic<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
 /// `p >> s` (arithmetic, `s` in 0..=63) if the result fits in i32.
 #[inline]
 fn shr_to_i32(p: i64, s: u32) -> Option<i32> {
-    #[cfg(all(target_arch = "arm", not(target_feature = "v7")))]
+    #[cfg(narrow_mul)]
     {
         shr_to_i32_soft(p, s)
     }
-    #[cfg(not(all(target_arch = "arm", not(target_feature = "v7"))))]
+    #[cfg(not(narrow_mul))]
     {
         i32::try_from(p.wrapping_shr(s)).ok()
     }
@@ -87,10 +97,7 @@ fn shr_to_i32(p: i64, s: u32) -> Option<i32> {
 /// [`shr_to_i32`] in 32-bit operations, for ARMv6-M where a variable i64
 /// shift is a library call.
 #[inline]
-#[cfg_attr(
-    not(all(target_arch = "arm", not(target_feature = "v7"))),
-    allow(dead_code)
-)]
+#[cfg_attr(not(narrow_mul), allow(dead_code))]
 fn shr_to_i32_soft(p: i64, s: u32) -> Option<i32> {
     let hi = (p >> 32) as i32;
     let lo = p as u32;
@@ -128,6 +135,9 @@ impl<'a> FixedCompensator<'a> {
             rail_hi: i32::MAX,
             raw_lo: i32::MIN,
             raw_hi: i32::MAX,
+            fast_lo: i32::MAX,
+            fast_hi: i32::MIN,
+            offset_scale: 1,
             offset_shift: 0,
             out_shift: 0,
             out_round: 0,
@@ -179,6 +189,8 @@ impl<'a> FixedCompensator<'a> {
             rail_hi: l.rail_hi,
             raw_lo: l.raw_lo,
             raw_hi: l.raw_hi,
+            // The parser limits the offset's fractional bits to 0..=30.
+            offset_scale: 1i32.wrapping_shl(u32::from(q.offset)),
             offset_shift: u32::from(q.offset),
             out_shift,
             out_round,
@@ -200,6 +212,11 @@ impl<'a> FixedCompensator<'a> {
         self.quadratic = match tables.quadratic {
             Some(q) => interp(self.interpolation, &q, p),
             None => 0,
+        };
+        (self.fast_lo, self.fast_hi) = if self.quadratic == 0 && self.grid.is_none() {
+            (self.raw_lo, self.raw_hi)
+        } else {
+            (i32::MAX, i32::MIN)
         };
         if p.clamped {
             Status::TEMPERATURE_CLAMPED
@@ -277,11 +294,13 @@ impl<'a> FixedCompensator<'a> {
     /// results (tested).
     #[inline]
     pub fn compensate_sample(&self, raw: i32) -> ReadingQ {
-        if raw >= self.raw_lo && raw <= self.raw_hi && self.quadratic == 0 && self.grid.is_none() {
+        // `fast_lo..=fast_hi` is the calibrated range when there is no
+        // quadratic term and no 2-D correction, else empty.
+        if raw >= self.fast_lo && raw <= self.fast_hi {
             // The parser checked that rail codes shifted by the offset's
             // fractional bits fit in i32, and the calibrated range lies
-            // inside the rails: the shift cannot overflow.
-            let shifted = raw.wrapping_shl(self.offset_shift);
+            // inside the rails: the product (a shift) cannot overflow.
+            let shifted = raw.wrapping_mul(self.offset_scale);
             if let Some(d) = shifted.checked_sub(self.offset) {
                 // |d * gain| <= 2^62, out_round <= 2^61: no overflow.
                 let p = mul_wide(d, self.gain).wrapping_add(self.out_round);

@@ -41,8 +41,7 @@ pub struct Compensator<'a> {
 }
 
 /// Interpolates with the image's method: the linear kernel inline, the
-/// cubic one out of line, so the common linear update stays short (four or
-/// more interpolations per temperature update).
+/// cubic one out of line.
 #[inline(always)]
 fn interp<N: Nodes<Value = f32>>(method: Interpolation, nodes: &N, p: Position) -> f32 {
     if method == Interpolation::Linear {
@@ -56,6 +55,57 @@ fn interp<N: Nodes<Value = f32>>(method: Interpolation, nodes: &N, p: Position) 
 #[inline(never)]
 fn interp_cubic<N: Nodes<Value = f32>>(nodes: &N, p: Position) -> f32 {
     cubic_monotone(nodes, p)
+}
+
+/// Position on the temperature axis and `(offset, gain, quadratic)` at
+/// `t_c`.
+#[inline(always)]
+fn at_temperature(
+    method: Interpolation,
+    tables: &TablesF32<'_>,
+    t_c: f32,
+) -> (Position, (f32, f32, f32)) {
+    let p = tables.temperature.locate_nonempty(t_c);
+    let c = if method == Interpolation::Linear {
+        channels_linear(tables, p)
+    } else {
+        channels_cubic(tables, p)
+    };
+    (p, c)
+}
+
+/// `(offset, gain, quadratic)` at `p` by linear interpolation, with the
+/// node test (`frac == 0`) made once for the three channels instead of
+/// once per channel; identical to [`linear`] on each.
+#[inline(always)]
+fn channels_linear(t: &TablesF32<'_>, p: Position) -> (f32, f32, f32) {
+    if p.frac == 0.0 {
+        let q = match &t.quadratic {
+            Some(q) => q.node(p.index),
+            None => 0.0,
+        };
+        return (t.offset.node(p.index), t.gain.node(p.index), q);
+    }
+    let lerp = |c: &ColumnF32<'_>| {
+        let (v0, v1) = c.pair(p.index);
+        v0 + p.frac * (v1 - v0)
+    };
+    let q = match &t.quadratic {
+        Some(q) => lerp(q),
+        None => 0.0,
+    };
+    (lerp(&t.offset), lerp(&t.gain), q)
+}
+
+/// `(offset, gain, quadratic)` at `p` by monotone cubic interpolation,
+/// out of line so the linear update stays short.
+#[inline(never)]
+fn channels_cubic(t: &TablesF32<'_>, p: Position) -> (f32, f32, f32) {
+    let q = match &t.quadratic {
+        Some(q) => cubic_monotone(q, p),
+        None => 0.0,
+    };
+    (cubic_monotone(&t.offset, p), cubic_monotone(&t.gain, p), q)
 }
 
 impl<'a> Compensator<'a> {
@@ -107,7 +157,7 @@ impl<'a> Compensator<'a> {
             raw_hi: l.raw_hi as f32,
             ..Self::unconfigured()
         };
-        c.set_temperature_c(tables, tables.temperature.start);
+        c.set_temperature_c(&tables, tables.temperature.start);
         c.temp_status = Status::NO_TEMPERATURE;
         Ok(c)
     }
@@ -115,16 +165,11 @@ impl<'a> Compensator<'a> {
     /// Caches the coefficients at `t_c` degrees Celsius; returns whether
     /// `t_c` was clamped to the table axis.
     #[inline]
-    fn set_temperature_c(&mut self, tables: TablesF32<'a>, t_c: f32) -> Status {
-        let p = tables.temperature.locate(t_c);
+    fn set_temperature_c(&mut self, tables: &TablesF32<'a>, t_c: f32) -> Status {
+        let (p, coefficients) = at_temperature(self.interpolation, tables, t_c);
         self.temperature_c = t_c;
         self.row = p;
-        self.offset = interp(self.interpolation, &tables.offset, p);
-        self.gain = interp(self.interpolation, &tables.gain, p);
-        self.quadratic = match tables.quadratic {
-            Some(q) => interp(self.interpolation, &q, p),
-            None => 0.0,
-        };
+        (self.offset, self.gain, self.quadratic) = coefficients;
         if p.clamped {
             Status::TEMPERATURE_CLAMPED
         } else {
@@ -141,7 +186,9 @@ impl<'a> Compensator<'a> {
     /// [`Status::SENSOR_FAULT`] (and is clamped).
     #[inline]
     pub fn update_temperature(&mut self, signal: f32) -> Status {
-        let Some(tables) = self.tables else {
+        // Borrowed, not copied: the whole update reads the tables in place
+        // and writes the cache once at the end (fewer registers to spill).
+        let Some(tables) = &self.tables else {
             return Status::TABLE_INVALID;
         };
         if !signal.is_finite() {
@@ -152,17 +199,23 @@ impl<'a> Compensator<'a> {
         if signal < tables.signal_lo || signal > tables.signal_hi {
             status |= Status::SENSOR_FAULT;
         }
-        let t_c = match tables.thermometer {
+        let t_c = match &tables.thermometer {
             Some((axis, values)) => {
-                let p = axis.locate(signal);
+                let p = axis.locate_nonempty(signal);
                 if p.clamped {
                     status |= Status::TEMPERATURE_CLAMPED;
                 }
-                interp(self.interpolation, &values, p)
+                interp(self.interpolation, values, p)
             }
             None => signal,
         };
-        status |= self.set_temperature_c(tables, t_c);
+        let (p, coefficients) = at_temperature(self.interpolation, tables, t_c);
+        if p.clamped {
+            status |= Status::TEMPERATURE_CLAMPED;
+        }
+        self.temperature_c = t_c;
+        self.row = p;
+        (self.offset, self.gain, self.quadratic) = coefficients;
         self.temp_status = status;
         status
     }

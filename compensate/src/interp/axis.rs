@@ -45,7 +45,23 @@ impl Axis {
     // `!(pos > 0.0)` is deliberate: it is true for NaN as well.
     #[allow(clippy::neg_cmp_op_on_partial_ord)]
     pub fn locate(&self, x: f32) -> Position {
-        let last = self.len.saturating_sub(1);
+        self.locate_from_last(x, self.len.saturating_sub(1))
+    }
+
+    /// [`Self::locate`] on an axis known to have at least one node (a
+    /// validated image's axes have two or more): `len - 1` needs no
+    /// saturation, which saves the compensators a compare and a select per
+    /// look-up. With `len == 0` the result is meaningless but every node
+    /// read after it stays bounds-checked.
+    #[inline]
+    #[must_use]
+    pub(crate) fn locate_nonempty(&self, x: f32) -> Position {
+        self.locate_from_last(x, self.len.wrapping_sub(1))
+    }
+
+    #[inline(always)]
+    #[allow(clippy::neg_cmp_op_on_partial_ord)]
+    fn locate_from_last(&self, x: f32, last: usize) -> Position {
         let pos = (x - self.start) / self.step;
         // `!(pos > 0)` also catches NaN.
         if !(pos > 0.0) {
@@ -105,6 +121,29 @@ pub struct PositionQ {
     pub clamped: bool,
 }
 
+/// `ceil(2^48 / step)` for `step` in `1..2^31`, by restoring binary long
+/// division with 64-bit shifts, compares and subtractions only: a 64-bit
+/// division is a library routine of about 1 KiB on ARMv6-M, and this runs
+/// once per axis when an image is parsed. The remainder stays below
+/// `step < 2^31`, so `2 r + 1` fits easily.
+const fn recip_2p48_ceil(step: u32) -> u64 {
+    let d = step as u64;
+    let mut q: u64 = 0;
+    let mut r: u64 = 0;
+    // The dividend 2^48 has bit 48 set and bits 47..0 clear.
+    let mut bit = 49u32;
+    while bit > 0 {
+        bit -= 1;
+        r = (r << 1) | (if bit == 48 { 1 } else { 0 });
+        q <<= 1;
+        if r >= d {
+            r -= d;
+            q |= 1;
+        }
+    }
+    if r != 0 { q + 1 } else { q }
+}
+
 impl AxisQ {
     /// A Q axis; `None` when `step <= 0`, `len < 2`, or the last node
     /// `start + (len - 1) * step` does not fit in i32.
@@ -125,7 +164,7 @@ impl AxisQ {
             step,
             len,
             span,
-            inv_step: (1u64 << 48).div_ceil(step as u64),
+            inv_step: recip_2p48_ceil(step),
         })
     }
 
@@ -264,6 +303,25 @@ mod tests {
                 clamped,
             };
             assert_eq!(got, want, "locate({x}): got {got:?}, expected {want:?}");
+        }
+    }
+
+    #[test]
+    fn reciprocal_matches_u64_division() {
+        // Edge steps and a spread of odd ones; reference: u64 div_ceil.
+        let mut steps = vec![1u32, 2, 3, 7, 0xFFFF, 0x1_0000, 0x1_0001, 458_752, 48_738];
+        steps.extend([(1 << 31) - 1, 1 << 30, (1 << 30) + 1]);
+        let mut x: u32 = 0x1357_9BDF;
+        for _ in 0..2000 {
+            x ^= x << 13;
+            x ^= x >> 17;
+            x ^= x << 5;
+            steps.push((x >> 1).max(1));
+        }
+        for step in steps {
+            let want = (1u64 << 48).div_ceil(u64::from(step));
+            let got = recip_2p48_ceil(step);
+            assert_eq!(got, want, "step {step}: got {got}, expected {want}");
         }
     }
 

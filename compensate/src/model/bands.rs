@@ -1,6 +1,7 @@
 //! Band gap, effective densities of states, intrinsic density.
 
-use super::{K_B_EV_PER_K, ModelParams, T_REF_K};
+use super::ModelParams;
+use super::prepared::{At, Prepared};
 use crate::math::Backend;
 
 /// Varshni band gap `Eg0 - alpha T^2 / (T + beta)` in eV (Varshni 1967,
@@ -19,22 +20,22 @@ pub(crate) fn band_gap_ev(p: &ModelParams, t_k: f32) -> f32 {
 /// temperature-independent effective masses; common practice).
 #[inline]
 #[must_use]
-pub(crate) fn effective_dos_cm3<B: Backend>(p: &ModelParams, t_k: f32) -> (f32, f32) {
-    let x = t_k / T_REF_K;
+pub(crate) fn effective_dos_cm3<B: Backend>(p: &ModelParams, at: &At) -> (f32, f32) {
     (
-        p.nc_300_cm3 * B::powf(x, p.nc_exp),
-        p.nv_300_cm3 * B::powf(x, p.nv_exp),
+        p.nc_300_cm3 * at.pow::<B>(p.nc_exp),
+        p.nv_300_cm3 * at.pow::<B>(p.nv_exp),
     )
 }
 
 /// Intrinsic density `sqrt(Nc Nv) exp(-Eg / 2kT)` in cm^-3, Boltzmann
 /// statistics; deviation from the full model within
 /// [`super::bounds::NI_REL`] over -55..175 C for Si.
+///
+/// One `exp`: `sqrt(Nc(300) Nv(300)) exp(e ln(T/300) - Eg / 2kT)` with
+/// `e = (nc_exp + nv_exp) / 2`.
 #[inline]
 #[must_use]
-pub(crate) fn intrinsic_density_cm3<B: Backend>(p: &ModelParams, t_k: f32) -> f32 {
-    let (nc, nv) = effective_dos_cm3::<B>(p, t_k);
-    let eg = band_gap_ev(p, t_k);
-    // sqrt(nc) * sqrt(nv) avoids the 1e39 overflow of nc * nv in f32.
-    B::sqrt(nc) * B::sqrt(nv) * B::exp(-eg / (2.0 * K_B_EV_PER_K * t_k))
+pub(crate) fn intrinsic_density_cm3<B: Backend>(pr: &Prepared, at: &At) -> f32 {
+    let eg = band_gap_ev(&pr.params, at.t_k);
+    pr.sqrt_ncnv_300 * B::exp(pr.ni_exp * at.ln_x - 0.5 * eg * at.inv_kt)
 }

@@ -17,8 +17,8 @@
 //! ionized; in Si the regimes are separated by hundreds of kelvin, so the
 //! stitched result follows the full neutrality solution closely.
 
-use super::bands::{effective_dos_cm3, intrinsic_density_cm3};
-use super::{K_B_EV_PER_K, ModelParams};
+use super::bands::intrinsic_density_cm3;
+use super::prepared::{At, Prepared};
 use crate::math::Backend;
 
 /// Carrier densities at one temperature, cm^-3.
@@ -45,12 +45,13 @@ fn hypot<B: Backend>(a: f32, b: f32) -> f32 {
 }
 
 /// Ionized net doping of the majority type through freeze-out:
-/// `2 n1 N / (b + sqrt(b^2 + 4 n1 N))`, `b = N_minority + n1`.
+/// `2 n1 N / (b + sqrt(b^2 + 4 n1 N))`, `b = N_minority + n1`, given
+/// `sqrt(n1)` and `sqrt(N)` (so that `4 n1 N`, up to 1e39, never forms).
 #[inline]
-fn ionized_net<B: Backend>(net: f32, minority: f32, n1: f32) -> f32 {
+fn ionized_net<B: Backend>(net: f32, minority: f32, sqrt_n1: f32, sqrt_net: f32) -> f32 {
+    let n1 = sqrt_n1 * sqrt_n1;
     let b = minority + n1;
-    // sqrt(4 n1 N) = 2 sqrt(n1) sqrt(N): no overflow of n1 * N.
-    let root = hypot::<B>(b, 2.0 * B::sqrt(n1) * B::sqrt(net));
+    let root = hypot::<B>(b, 2.0 * sqrt_n1 * sqrt_net);
     let den = b + root;
     if !(den > 0.0) {
         return 0.0;
@@ -63,13 +64,14 @@ fn ionized_net<B: Backend>(net: f32, minority: f32, n1: f32) -> f32 {
 /// within [`super::bounds::MAJORITY_REL`] for the majority carrier over
 /// -55..175 C for Si at 1e14..1e19 cm^-3 (Boltzmann statistics limit the
 /// accuracy at the degenerate end). NaN for `t_k <= 0` or NaN inputs.
+///
+/// Two `exp`: the intrinsic density's and `sqrt(n1) = sqrt(N(300)/g)
+/// exp(e/2 ln(T/300) - E/2kT)`, whose square is `n1` (no `sqrt` of it).
 #[must_use]
-pub(crate) fn carriers<B: Backend>(p: &ModelParams, t_k: f32) -> Carriers {
-    let ni = intrinsic_density_cm3::<B>(p, t_k);
-    let (nc, nv) = effective_dos_cm3::<B>(p, t_k);
-    let kt = K_B_EV_PER_K * t_k;
-    let net = p.donor_cm3 - p.acceptor_cm3;
-    if net.is_nan() || ni.is_nan() {
+pub(crate) fn carriers<B: Backend>(pr: &Prepared, at: &At) -> Carriers {
+    let p = &pr.params;
+    let ni = intrinsic_density_cm3::<B>(pr, at);
+    if (p.donor_cm3 - p.acceptor_cm3).is_nan() || ni.is_nan() {
         return Carriers {
             n_cm3: f32::NAN,
             p_cm3: f32::NAN,
@@ -77,14 +79,14 @@ pub(crate) fn carriers<B: Backend>(p: &ModelParams, t_k: f32) -> Carriers {
         };
     }
     // Signed ionized net doping (positive: n-type).
-    let ionized = if net > 0.0 {
-        let n1 = nc / p.donor_degeneracy * B::exp(-p.donor_level_ev / kt);
-        ionized_net::<B>(net, p.acceptor_cm3, n1)
-    } else if net < 0.0 {
-        let p1 = nv / p.acceptor_degeneracy * B::exp(-p.acceptor_level_ev / kt);
-        -ionized_net::<B>(-net, p.donor_cm3, p1)
-    } else {
-        0.0
+    let ionized = match &pr.freeze_out {
+        Some(f) => {
+            let sqrt_n1 =
+                f.sqrt_prefactor * B::exp(f.half_dos_exp * at.ln_x - f.half_level_ev * at.inv_kt);
+            let ionized = ionized_net::<B>(f.net, f.minority, sqrt_n1, f.sqrt_net);
+            if f.n_type { ionized } else { -ionized }
+        }
+        None => 0.0,
     };
     let half = 0.5 * ionized.abs();
     let majority = half + hypot::<B>(half, ni);

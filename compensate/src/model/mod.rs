@@ -21,6 +21,7 @@ pub mod bounds;
 mod carriers;
 mod mobility;
 mod params;
+mod prepared;
 mod ratios;
 mod runtime;
 

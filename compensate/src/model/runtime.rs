@@ -3,6 +3,7 @@
 
 use core::marker::PhantomData;
 
+use super::prepared::{At, MobilityConsts, Prepared};
 use super::{
     Carriers, ModelParams, band_gap_ev, carriers, caughey_thomas_cm2_vs, conductivity_ratio,
     conductivity_s_cm, effective_dos_cm3, hall_coefficient_cm3_c, hall_current_bias_ratio,
@@ -14,6 +15,10 @@ use crate::math::{Backend, Selected};
 ///
 /// `B` is the math backend; [`Model::new`] uses the one selected by cargo
 /// features, [`Model::with_backend`] any enabled one (tests compare both).
+/// Construction precomputes the per-part constants (a few `ln` and `sqrt`),
+/// so that one evaluation at a temperature costs one `ln` plus the `exp`
+/// of each temperature-dependent factor; the parameters are therefore
+/// read-only afterwards ([`Model::params`]).
 ///
 /// ```
 /// use compensate::model::{Model, ModelParams};
@@ -24,36 +29,38 @@ use crate::math::{Backend, Selected};
 /// ```
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Model<B: Backend = Selected> {
-    /// Parameters, filled by the host.
-    pub params: ModelParams,
+    prepared: Prepared,
     backend: PhantomData<B>,
 }
 
 impl Model<Selected> {
     /// A model using the backend selected by cargo features.
     #[must_use]
-    pub const fn new(params: ModelParams) -> Self {
-        Self {
-            params,
-            backend: PhantomData,
-        }
+    pub fn new(params: ModelParams) -> Self {
+        Self::with_backend(params)
     }
 }
 
 impl<B: Backend> Model<B> {
     /// A model using backend `B`.
     #[must_use]
-    pub const fn with_backend(params: ModelParams) -> Self {
+    pub fn with_backend(params: ModelParams) -> Self {
         Self {
-            params,
+            prepared: Prepared::new::<B>(params),
             backend: PhantomData,
         }
+    }
+
+    /// The parameters the model was built from (filled by the host).
+    #[must_use]
+    pub const fn params(&self) -> &ModelParams {
+        &self.prepared.params
     }
 
     /// Varshni band gap in eV; exact formula to f32 rounding.
     #[must_use]
     pub fn band_gap_ev(&self, t_k: f32) -> f32 {
-        band_gap_ev(&self.params, t_k)
+        band_gap_ev(&self.prepared.params, t_k)
     }
 
     /// `(Nc, Nv)` in cm^-3, power laws in T; exact formula to backend
@@ -61,14 +68,14 @@ impl<B: Backend> Model<B> {
     /// [`super::bounds::NI_REL`]).
     #[must_use]
     pub fn effective_dos_cm3(&self, t_k: f32) -> (f32, f32) {
-        effective_dos_cm3::<B>(&self.params, t_k)
+        effective_dos_cm3::<B>(&self.prepared.params, &At::new::<B>(t_k))
     }
 
     /// Intrinsic density in cm^-3; within [`super::bounds::NI_REL`] of the
     /// full model (Si, -55..175 C).
     #[must_use]
     pub fn intrinsic_density_cm3(&self, t_k: f32) -> f32 {
-        intrinsic_density_cm3::<B>(&self.params, t_k)
+        intrinsic_density_cm3::<B>(&self.prepared, &At::new::<B>(t_k))
     }
 
     /// Electron and hole densities; majority carrier within
@@ -76,21 +83,22 @@ impl<B: Backend> Model<B> {
     /// 1e14..1e19 cm^-3).
     #[must_use]
     pub fn carriers(&self, t_k: f32) -> Carriers {
-        carriers::<B>(&self.params, t_k)
+        carriers::<B>(&self.prepared, &At::new::<B>(t_k))
     }
 
     /// Caughey–Thomas mobility of the electron parameter set at density
     /// `n_cm3`; exact formula to backend rounding.
     #[must_use]
     pub fn electron_mobility_cm2_vs(&self, n_cm3: f32, t_k: f32) -> f32 {
-        caughey_thomas_cm2_vs::<B>(&self.params.electron, n_cm3, t_k)
+        let m = MobilityConsts::new::<B>(self.prepared.params.electron, n_cm3);
+        caughey_thomas_cm2_vs::<B>(&m, &At::new::<B>(t_k))
     }
 
     /// `(mu_n, mu_p)` in cm^2/(V s); within [`super::bounds::MOBILITY_REL`]
     /// of the full model (Si, -55..175 C, 1e14..1e19 cm^-3).
     #[must_use]
     pub fn mobilities_cm2_vs(&self, t_k: f32) -> (f32, f32) {
-        mobilities_cm2_vs::<B>(&self.params, t_k)
+        mobilities_cm2_vs::<B>(&self.prepared, &At::new::<B>(t_k))
     }
 
     /// Conductivity in S/cm; deviation from the full model within
@@ -98,14 +106,14 @@ impl<B: Backend> Model<B> {
     /// Si, -55..175 C, 1e14..2e18 cm^-3.
     #[must_use]
     pub fn conductivity_s_cm(&self, t_k: f32) -> f32 {
-        conductivity_s_cm::<B>(&self.params, t_k)
+        conductivity_s_cm::<B>(&self.prepared, t_k)
     }
 
     /// `sigma(T)/sigma(T_ref)`; within
     /// [`super::bounds::CONDUCTIVITY_RATIO_REL`] of the full model.
     #[must_use]
     pub fn conductivity_ratio(&self, t_k: f32, t_ref_k: f32) -> f32 {
-        conductivity_ratio::<B>(&self.params, t_k, t_ref_k)
+        conductivity_ratio::<B>(&self.prepared, t_k, t_ref_k)
     }
 
     /// Two-carrier Hall coefficient in cm^3/C; exact formula to backend
@@ -113,28 +121,28 @@ impl<B: Backend> Model<B> {
     /// reference temperature is bounded: [`super::bounds::HALL_RATIO_REL`]).
     #[must_use]
     pub fn hall_coefficient_cm3_c(&self, t_k: f32) -> f32 {
-        hall_coefficient_cm3_c::<B>(&self.params, t_k)
+        hall_coefficient_cm3_c::<B>(&self.prepared, t_k)
     }
 
     /// Current-bias Hall sensitivity ratio `|R_H(T)/R_H(T_ref)|`; within
     /// [`super::bounds::HALL_RATIO_REL`] of the full model.
     #[must_use]
     pub fn hall_current_bias_ratio(&self, t_k: f32, t_ref_k: f32) -> f32 {
-        hall_current_bias_ratio::<B>(&self.params, t_k, t_ref_k)
+        hall_current_bias_ratio::<B>(&self.prepared, t_k, t_ref_k)
     }
 
     /// Voltage-bias Hall sensitivity ratio (Hall mobility ratio); within
     /// [`super::bounds::HALL_RATIO_REL`] of the full model.
     #[must_use]
     pub fn hall_voltage_bias_ratio(&self, t_k: f32, t_ref_k: f32) -> f32 {
-        hall_voltage_bias_ratio::<B>(&self.params, t_k, t_ref_k)
+        hall_voltage_bias_ratio::<B>(&self.prepared, t_k, t_ref_k)
     }
 
     /// Piezoresistance-factor ratio `(T_ref/T)^theta`; within
     /// [`super::bounds::PIEZO_RATIO_REL`] of Kanda's full form.
     #[must_use]
     pub fn piezo_factor_ratio(&self, t_k: f32, t_ref_k: f32) -> f32 {
-        piezo_factor_ratio::<B>(&self.params, t_k, t_ref_k)
+        piezo_factor_ratio::<B>(&self.prepared.params, t_k, t_ref_k)
     }
 }
 
