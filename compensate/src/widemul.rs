@@ -1,4 +1,5 @@
-//! Exact signed 32x32 -> 64-bit multiplication that stays cheap on ARMv6-M.
+//! Exact 32x32 -> 64-bit multiplication (full signed product, unsigned
+//! high word) that stays cheap on ARMv6-M.
 #![deny(clippy::arithmetic_side_effects)]
 
 /// Exact signed 32x32 -> 64-bit product.
@@ -41,32 +42,43 @@ pub(crate) fn mul_wide_soft(a: i32, b: i32) -> i64 {
         .wrapping_add(lo)
 }
 
-/// Exact unsigned 32x32 -> 64-bit product (see [`mul_wide`] for the
-/// target split).
+/// High word of the unsigned 32x32 -> 64-bit product, `floor(a b / 2^32)`.
+///
+/// On ARMv6-M from four 16x16 -> 32-bit products with `a = ah 2^16 + al`,
+/// `b = bh 2^16 + bl`: `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`.
+/// The bits below 2^32 that can carry into the high word are collected in
+/// `mid = (al bl >> 16) + (ah bl & 0xFFFF) + (al bh & 0xFFFF) < 3 2^16`;
+/// then `hi = ah bh + (ah bl >> 16) + (al bh >> 16) + (mid >> 16)`, which is
+/// the exact high word and so below 2^32: no step wraps.
 #[inline]
-pub(crate) fn mul_wide_u(a: u32, b: u32) -> u64 {
+pub(crate) fn mul_hi_u32(a: u32, b: u32) -> u32 {
     #[cfg(narrow_mul)]
     {
-        mul_wide_u_soft(a, b)
+        mul_hi_u32_soft(a, b)
     }
     #[cfg(not(narrow_mul))]
     {
-        // < 2^64: no overflow.
-        u64::from(a).wrapping_mul(u64::from(b))
+        // < 2^64: no overflow; the shifted value is below 2^32.
+        (u64::from(a).wrapping_mul(u64::from(b)) >> 32) as u32
     }
 }
 
-/// Unsigned 32x32 -> 64-bit product from four 16x16 -> 32-bit products;
-/// each partial product is below 2^32, the middle sum below 2^33.
+/// [`mul_hi_u32`] in 32-bit operations (see there for the bounds).
 #[inline]
 #[cfg_attr(not(narrow_mul), allow(dead_code))]
-pub(crate) fn mul_wide_u_soft(a: u32, b: u32) -> u64 {
+pub(crate) fn mul_hi_u32_soft(a: u32, b: u32) -> u32 {
     let (al, ah) = (a & 0xFFFF, a >> 16);
     let (bl, bh) = (b & 0xFFFF, b >> 16);
-    let lo = u64::from(al.wrapping_mul(bl));
-    let mid = u64::from(ah.wrapping_mul(bl)).wrapping_add(u64::from(al.wrapping_mul(bh)));
-    let hi = u64::from(ah.wrapping_mul(bh));
-    (hi << 32).wrapping_add(mid << 16).wrapping_add(lo)
+    let ll = al.wrapping_mul(bl);
+    let hl = ah.wrapping_mul(bl);
+    let lh = al.wrapping_mul(bh);
+    let hh = ah.wrapping_mul(bh);
+    let mid = (ll >> 16)
+        .wrapping_add(hl & 0xFFFF)
+        .wrapping_add(lh & 0xFFFF);
+    hh.wrapping_add(hl >> 16)
+        .wrapping_add(lh >> 16)
+        .wrapping_add(mid >> 16)
 }
 
 #[cfg(test)]
@@ -74,9 +86,17 @@ mod tests {
     use super::*;
 
     #[test]
-    fn soft_unsigned_multiply_is_exact() {
-        let edge = [0u32, 1, 0xFFFF, 0x1_0000, 0xFFFF_FFFF, 0x8000_0000, 12345];
-        let mut x: u32 = 0xDEAD_BEEF;
+    fn soft_high_word_is_exact() {
+        let edge = [
+            0u32,
+            1,
+            0xFFFF,
+            0x1_0000,
+            0xFFFF_FFFF,
+            0x8000_0000,
+            0xFFFF_0001,
+        ];
+        let mut x: u32 = 0x0BAD_F00D;
         let mut vals = edge.to_vec();
         for _ in 0..3000 {
             x ^= x << 13;
@@ -86,11 +106,9 @@ mod tests {
         }
         for &a in &vals {
             for &b in edge.iter().chain(vals.iter().take(50)) {
-                assert_eq!(
-                    mul_wide_u_soft(a, b),
-                    u64::from(a) * u64::from(b),
-                    "{a} * {b}"
-                );
+                let want = ((u64::from(a) * u64::from(b)) >> 32) as u32;
+                assert_eq!(mul_hi_u32_soft(a, b), want, "hi({a} * {b})");
+                assert_eq!(mul_hi_u32(a, b), want, "hi({a} * {b})");
             }
         }
     }

@@ -47,6 +47,9 @@ pub struct FixedCompensator<'a> {
     offset_shift: u32,
     /// `offset + gain - output` fractional bits, at most 62.
     out_shift: u32,
+    /// `32 - out_shift`, used by the short path only (which runs only when
+    /// `out_shift` is in 1..=31).
+    out_shift_c: u32,
     /// Half an LSB of the output before the shift (round half up).
     out_round: i64,
     temp_status: Status,
@@ -58,6 +61,9 @@ pub struct FixedCompensator<'a> {
     /// `quadratic + offset - gain` fractional bits.
     quad_shift: u32,
     temperature_q: i32,
+    /// The short sample path can apply: no 2-D correction and `out_shift`
+    /// in 1..=31 (it also needs a zero quadratic term, checked per update).
+    short_ok: bool,
     row: PositionQ,
     interpolation: Interpolation,
     tables: Option<TablesQ<'a>>,
@@ -81,37 +87,68 @@ fn interp_cubic<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
     cubic_monotone_q(nodes, p)
 }
 
-/// `p >> s` (arithmetic, `s` in 0..=63) if the result fits in i32.
-#[inline]
-fn shr_to_i32(p: i64, s: u32) -> Option<i32> {
-    #[cfg(narrow_mul)]
-    {
-        shr_to_i32_soft(p, s)
-    }
-    #[cfg(not(narrow_mul))]
-    {
-        i32::try_from(p.wrapping_shr(s)).ok()
-    }
+/// Position on the temperature axis and `(offset, gain, quadratic)` at
+/// `t_q`.
+#[inline(always)]
+fn at_temperature_q(
+    method: Interpolation,
+    tables: &TablesQ<'_>,
+    t_q: i32,
+) -> (PositionQ, (i32, i32, i32)) {
+    let p = tables.temperature.locate(t_q);
+    let c = if method == Interpolation::Linear {
+        channels_linear_q(tables, p)
+    } else {
+        channels_cubic_q(tables, p)
+    };
+    (p, c)
 }
 
-/// [`shr_to_i32`] in 32-bit operations, for ARMv6-M where a variable i64
-/// shift is a library call.
-#[inline]
-#[cfg_attr(not(narrow_mul), allow(dead_code))]
-fn shr_to_i32_soft(p: i64, s: u32) -> Option<i32> {
+/// `(offset, gain, quadratic)` at `p` by [`linear_q`], with the node test
+/// made once for the three channels; identical to [`linear_q`] on each.
+#[inline(always)]
+fn channels_linear_q(t: &TablesQ<'_>, p: PositionQ) -> (i32, i32, i32) {
+    if p.frac_q16 == 0 {
+        let q = match &t.quadratic {
+            Some(q) => q.node(p.index),
+            None => 0,
+        };
+        return (t.offset.node(p.index), t.gain.node(p.index), q);
+    }
+    let q = match &t.quadratic {
+        Some(q) => linear_q(q, p),
+        None => 0,
+    };
+    (linear_q(&t.offset, p), linear_q(&t.gain, p), q)
+}
+
+/// `(offset, gain, quadratic)` at `p` by [`cubic_monotone_q`], out of
+/// line so the linear update stays short.
+#[inline(never)]
+fn channels_cubic_q(t: &TablesQ<'_>, p: PositionQ) -> (i32, i32, i32) {
+    let q = match &t.quadratic {
+        Some(q) => cubic_monotone_q(q, p),
+        None => 0,
+    };
+    (
+        cubic_monotone_q(&t.offset, p),
+        cubic_monotone_q(&t.gain, p),
+        q,
+    )
+}
+
+/// `p >> s` (arithmetic) if the result fits in i32, for `s` in 1..=31 and
+/// `sc = 32 - s` (both precomputed): two 32-bit words, no 64-bit shift
+/// and no branch on the shift amount. The low word of the result takes
+/// bits `s..32` of `p`'s low word and bits `0..s` of its high word; the
+/// result fits in i32 exactly when the remaining high bits are the sign
+/// extension of that word.
+#[inline(always)]
+fn shr_1_31_to_i32(p: i64, s: u32, sc: u32) -> Option<i32> {
     let hi = (p >> 32) as i32;
     let lo = p as u32;
-    let s = s & 63;
-    if s >= 32 {
-        // The result is hi >> (s - 32) sign-extended: always fits.
-        return Some(hi.wrapping_shr(s.wrapping_sub(32)));
-    }
-    if s == 0 {
-        let fits = hi == (lo as i32) >> 31;
-        return fits.then_some(lo as i32);
-    }
-    let res_lo = (lo >> s) | ((hi as u32).wrapping_shl(32u32.wrapping_sub(s)));
-    let res_hi = hi >> s;
+    let res_lo = lo.wrapping_shr(s) | (hi as u32).wrapping_shl(sc);
+    let res_hi = hi.wrapping_shr(s);
     (res_hi == (res_lo as i32) >> 31).then_some(res_lo as i32)
 }
 
@@ -140,9 +177,11 @@ impl<'a> FixedCompensator<'a> {
             offset_scale: 1,
             offset_shift: 0,
             out_shift: 0,
+            out_shift_c: 32,
             out_round: 0,
             quad_shift: 0,
             temperature_q: 0,
+            short_ok: false,
             offset: 0,
             gain: 0,
             quadratic: 0,
@@ -193,36 +232,42 @@ impl<'a> FixedCompensator<'a> {
             offset_scale: 1i32.wrapping_shl(u32::from(q.offset)),
             offset_shift: u32::from(q.offset),
             out_shift,
+            out_shift_c: 32u32.wrapping_sub(out_shift),
+            short_ok: tables.grid.is_none() && (1..=31).contains(&out_shift),
             out_round,
             quad_shift,
             ..Self::unconfigured()
         };
-        c.set_temperature_q(tables, tables.temperature.start());
+        c.set_temperature_q(&tables, tables.temperature.start());
         c.temp_status = Status::NO_TEMPERATURE;
         Ok(c)
     }
 
     #[inline]
-    fn set_temperature_q(&mut self, tables: TablesQ<'a>, t_q: i32) -> Status {
-        let p = tables.temperature.locate(t_q);
-        self.temperature_q = t_q;
-        self.row = p;
-        self.offset = interp(self.interpolation, &tables.offset, p);
-        self.gain = interp(self.interpolation, &tables.gain, p);
-        self.quadratic = match tables.quadratic {
-            Some(q) => interp(self.interpolation, &q, p),
-            None => 0,
-        };
-        (self.fast_lo, self.fast_hi) = if self.quadratic == 0 && self.grid.is_none() {
-            (self.raw_lo, self.raw_hi)
-        } else {
-            (i32::MAX, i32::MIN)
-        };
+    fn set_temperature_q(&mut self, tables: &TablesQ<'a>, t_q: i32) -> Status {
+        let (p, coefficients) = at_temperature_q(self.interpolation, tables, t_q);
+        self.store(t_q, p, coefficients);
         if p.clamped {
             Status::TEMPERATURE_CLAMPED
         } else {
             Status::OK
         }
+    }
+
+    /// Caches the coefficients at a located temperature and opens or closes
+    /// the short sample path (closed while the quadratic term is non-zero).
+    #[inline(always)]
+    fn store(&mut self, t_q: i32, p: PositionQ, (offset, gain, quadratic): (i32, i32, i32)) {
+        self.temperature_q = t_q;
+        self.row = p;
+        self.offset = offset;
+        self.gain = gain;
+        self.quadratic = quadratic;
+        (self.fast_lo, self.fast_hi) = if self.short_ok && quadratic == 0 {
+            (self.raw_lo, self.raw_hi)
+        } else {
+            (i32::MAX, i32::MIN)
+        };
     }
 
     /// Takes a new temperature signal in Q(`signal`) (degrees Celsius in
@@ -233,24 +278,30 @@ impl<'a> FixedCompensator<'a> {
     /// [`Status::SENSOR_FAULT`] (and is clamped).
     #[inline]
     pub fn update_temperature(&mut self, signal_q: i32) -> Status {
-        let Some(tables) = self.tables else {
+        // Borrowed, not copied: the update reads the tables in place and
+        // writes the cache once at the end (fewer registers to spill).
+        let Some(tables) = &self.tables else {
             return Status::TABLE_INVALID;
         };
         let mut status = Status::OK;
         if signal_q < tables.signal_lo || signal_q > tables.signal_hi {
             status |= Status::SENSOR_FAULT;
         }
-        let t_q = match tables.thermometer {
+        let t_q = match &tables.thermometer {
             Some((axis, values)) => {
                 let p = axis.locate(signal_q);
                 if p.clamped {
                     status |= Status::TEMPERATURE_CLAMPED;
                 }
-                interp(self.interpolation, &values, p)
+                interp(self.interpolation, values, p)
             }
             None => signal_q,
         };
-        status |= self.set_temperature_q(tables, t_q);
+        let (p, coefficients) = at_temperature_q(self.interpolation, tables, t_q);
+        if p.clamped {
+            status |= Status::TEMPERATURE_CLAMPED;
+        }
+        self.store(t_q, p, coefficients);
         self.temp_status = status;
         status
     }
@@ -304,7 +355,7 @@ impl<'a> FixedCompensator<'a> {
             if let Some(d) = shifted.checked_sub(self.offset) {
                 // |d * gain| <= 2^62, out_round <= 2^61: no overflow.
                 let p = mul_wide(d, self.gain).wrapping_add(self.out_round);
-                if let Some(value) = shr_to_i32(p, self.out_shift) {
+                if let Some(value) = shr_1_31_to_i32(p, self.out_shift, self.out_shift_c) {
                     return ReadingQ {
                         value,
                         status: self.temp_status,
@@ -450,9 +501,10 @@ mod tests {
                 2 => i64::from(i32::MAX) << (i % 31),
                 _ => i64::from(i32::MIN) << (i % 31),
             };
-            let s = i % 64;
+            let s = 1 + i % 31;
             let want = i32::try_from(p >> s).ok();
-            assert_eq!(shr_to_i32_soft(p, s), want, "{p} >> {s}");
+            let got = shr_1_31_to_i32(p, s, 32 - s);
+            assert_eq!(got, want, "{p} >> {s}");
         }
     }
 

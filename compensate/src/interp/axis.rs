@@ -1,6 +1,6 @@
 //! Uniform axes: where a point falls between nodes, with clamping.
 
-use crate::widemul::mul_wide_u;
+use crate::widemul::mul_hi_u32;
 
 /// A uniform f32 axis: nodes at `start + k * step`, `k = 0..len`.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -121,29 +121,6 @@ pub struct PositionQ {
     pub clamped: bool,
 }
 
-/// `ceil(2^48 / step)` for `step` in `1..2^31`, by restoring binary long
-/// division with 64-bit shifts, compares and subtractions only: a 64-bit
-/// division is a library routine of about 1 KiB on ARMv6-M, and this runs
-/// once per axis when an image is parsed. The remainder stays below
-/// `step < 2^31`, so `2 r + 1` fits easily.
-const fn recip_2p48_ceil(step: u32) -> u64 {
-    let d = step as u64;
-    let mut q: u64 = 0;
-    let mut r: u64 = 0;
-    // The dividend 2^48 has bit 48 set and bits 47..0 clear.
-    let mut bit = 49u32;
-    while bit > 0 {
-        bit -= 1;
-        r = (r << 1) | (if bit == 48 { 1 } else { 0 });
-        q <<= 1;
-        if r >= d {
-            r -= d;
-            q |= 1;
-        }
-    }
-    if r != 0 { q + 1 } else { q }
-}
-
 impl AxisQ {
     /// A Q axis; `None` when `step <= 0`, `len < 2`, or the last node
     /// `start + (len - 1) * step` does not fit in i32.
@@ -164,7 +141,7 @@ impl AxisQ {
             step,
             len,
             span,
-            inv_step: recip_2p48_ceil(step),
+            inv_step: (1u64 << 48).div_ceil(step as u64),
         })
     }
 
@@ -200,36 +177,38 @@ impl AxisQ {
         // Integer arithmetic here is bounded by construction (see `new`);
         // wrapping operations state that no overflow is possible.
         let last = self.len.wrapping_sub(1);
-        let u = i64::from(x).wrapping_sub(i64::from(self.start));
-        if u <= 0 {
+        if x <= self.start {
             return PositionQ {
                 index: 0,
                 frac_q16: 0,
-                clamped: u < 0,
+                clamped: x < self.start,
             };
         }
-        let span = i64::from(self.span);
-        if u >= span {
+        // x > start, so the exact difference is in 1..2^32 and the wrapping
+        // u32 difference equals it.
+        let u = (x as u32).wrapping_sub(self.start as u32);
+        if u >= self.span {
             return PositionQ {
                 index: last,
                 frac_q16: 0,
-                clamped: u > span,
+                clamped: u > self.span,
             };
         }
         // 0 < u < span <= u32::MAX (the end fits in i32). Division-free:
-        // with inv = ceil(2^48 / step) = inv_hi 2^32 + inv_lo (inv_hi < 2^17),
+        // with inv = ceil(2^48 / step) = inv_hi 2^32 + inv_lo (inv_hi <= 2^16),
         // t = floor(u inv / 2^32) = u inv_hi + floor(u inv_lo / 2^32) is the
-        // position in Q.16 (u inv_hi < 2^49, the sum fits u64). The rounded-up
-        // reciprocal overshoots by u (inv - 2^48/step) / 2^32 < 1 LSB, and
-        // not at all in whole LSBs at a node (u = k step makes the overshoot
-        // k step (inv - 2^48/step) < 2^32, i.e. below one LSB, and the
-        // exact value an integer): |t - exact| < 1 LSB, nodes exact. Two
-        // 32x32 -> 64 products replace a 32-bit division (a library loop on
-        // ARMv6-M).
-        let u = u as u32;
+        // position in Q.16. The rounded-up reciprocal overshoots by
+        // u (inv - 2^48/step) / 2^32 < 1 LSB, and not at all in whole LSBs
+        // at a node (u = k step makes the overshoot k step (inv - 2^48/step)
+        // < 2^32, i.e. below one LSB, and the exact value an integer):
+        // |t - exact| < 1 LSB, nodes exact. Since u < (len - 1) step,
+        // t < (len - 1) 2^16 + 1 <= 2^32 - 2^17 + 1: t and both terms fit in
+        // u32, so 32-bit wrapping arithmetic computes them exactly (one
+        // 32-bit multiply and one high word of a 32x32 product, instead of
+        // two 64-bit products on ARMv6-M).
         let inv_hi = (self.inv_step >> 32) as u32;
         let inv_lo = self.inv_step as u32;
-        let t = mul_wide_u(u, inv_hi).wrapping_add(mul_wide_u(u, inv_lo) >> 32);
+        let t = u.wrapping_mul(inv_hi).wrapping_add(mul_hi_u32(u, inv_lo));
         let index = (t >> 16) as usize;
         if index >= last {
             // Only within one LSB of the last node.
@@ -239,10 +218,9 @@ impl AxisQ {
                 clamped: false,
             };
         }
-        let frac_q16 = (t & 0xFFFF) as u32;
         PositionQ {
             index,
-            frac_q16,
+            frac_q16: t & 0xFFFF,
             clamped: false,
         }
     }
@@ -303,25 +281,6 @@ mod tests {
                 clamped,
             };
             assert_eq!(got, want, "locate({x}): got {got:?}, expected {want:?}");
-        }
-    }
-
-    #[test]
-    fn reciprocal_matches_u64_division() {
-        // Edge steps and a spread of odd ones; reference: u64 div_ceil.
-        let mut steps = vec![1u32, 2, 3, 7, 0xFFFF, 0x1_0000, 0x1_0001, 458_752, 48_738];
-        steps.extend([(1 << 31) - 1, 1 << 30, (1 << 30) + 1]);
-        let mut x: u32 = 0x1357_9BDF;
-        for _ in 0..2000 {
-            x ^= x << 13;
-            x ^= x >> 17;
-            x ^= x << 5;
-            steps.push((x >> 1).max(1));
-        }
-        for step in steps {
-            let want = (1u64 << 48).div_ceil(u64::from(step));
-            let got = recip_2p48_ceil(step);
-            assert_eq!(got, want, "step {step}: got {got}, expected {want}");
         }
     }
 

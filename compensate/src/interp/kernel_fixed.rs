@@ -48,6 +48,16 @@ pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
         return nodes.node(p.index);
     }
     let (v0, v1) = nodes.pair(p.index);
+    if let Some(d) = v1.checked_sub(v0) {
+        // 32-bit path when the node difference fits in i32 (always for
+        // neighbouring nodes of a smooth column). With f = frac < 2^16,
+        // s = floor((d f + 2^15) / 2^16) lies between 0 and d: for d > 0,
+        // d f + 2^15 <= d (2^16 - 1) + 2^15 < (d + 1) 2^16 gives s <= d;
+        // for d < 0, d f + 2^15 >= d (2^16 - 1) + 2^15 > d 2^16 gives
+        // s >= d. So v0 + s lies between v0 and v1: it fits in i32, needs
+        // no saturation, and equals the i64 path below bit for bit.
+        return v0.wrapping_add(scale_q16_i32(d, p.frac_q16));
+    }
     // |v1 - v0| < 2^32, so the scaled step fits and v0 + step lies between
     // v0 and v1 (rounding cannot pass v1 because frac < 2^16).
     let d = i64::from(v1).wrapping_sub(i64::from(v0));
