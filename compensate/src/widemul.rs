@@ -42,33 +42,36 @@ pub(crate) fn mul_wide_soft(a: i32, b: i32) -> i64 {
         .wrapping_add(lo)
 }
 
-/// High word of the unsigned 32x32 -> 64-bit product, `floor(a b / 2^32)`.
+/// High word of the unsigned 32x32 -> 64-bit product `a b`, with `b`
+/// given as its 16-bit halves `b = bh 2^16 + bl` (`bh, bl < 2^16`).
 ///
-/// On ARMv6-M from four 16x16 -> 32-bit products with `a = ah 2^16 + al`,
-/// `b = bh 2^16 + bl`: `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`.
-/// The bits below 2^32 that can carry into the high word are collected in
+/// On ARMv6-M from four 16x16 -> 32-bit products with `a = ah 2^16 + al`:
+/// `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`. The bits below 2^32
+/// that can carry into the high word are collected in
 /// `mid = (al bl >> 16) + (ah bl & 0xFFFF) + (al bh & 0xFFFF) < 3 2^16`;
 /// then `hi = ah bh + (ah bl >> 16) + (al bh >> 16) + (mid >> 16)`, which is
-/// the exact high word and so below 2^32: no step wraps.
+/// the exact high word and so below 2^32: no step wraps. Taking `b` as
+/// halves (precomputed by the caller) also keeps LLVM from recognising the
+/// pattern and calling the 64x64 library multiply instead.
 #[inline]
-pub(crate) fn mul_hi_u32(a: u32, b: u32) -> u32 {
+pub(crate) fn mul_hi_u32_halves(a: u32, bh: u32, bl: u32) -> u32 {
     #[cfg(narrow_mul)]
     {
-        mul_hi_u32_soft(a, b)
+        mul_hi_u32_halves_soft(a, bh, bl)
     }
     #[cfg(not(narrow_mul))]
     {
+        let b = (bh << 16) | bl;
         // < 2^64: no overflow; the shifted value is below 2^32.
         (u64::from(a).wrapping_mul(u64::from(b)) >> 32) as u32
     }
 }
 
-/// [`mul_hi_u32`] in 32-bit operations (see there for the bounds).
+/// [`mul_hi_u32_halves`] in 32-bit operations (see there for the bounds).
 #[inline]
 #[cfg_attr(not(narrow_mul), allow(dead_code))]
-pub(crate) fn mul_hi_u32_soft(a: u32, b: u32) -> u32 {
+pub(crate) fn mul_hi_u32_halves_soft(a: u32, bh: u32, bl: u32) -> u32 {
     let (al, ah) = (a & 0xFFFF, a >> 16);
-    let (bl, bh) = (b & 0xFFFF, b >> 16);
     let ll = al.wrapping_mul(bl);
     let hl = ah.wrapping_mul(bl);
     let lh = al.wrapping_mul(bh);
@@ -107,8 +110,9 @@ mod tests {
         for &a in &vals {
             for &b in edge.iter().chain(vals.iter().take(50)) {
                 let want = ((u64::from(a) * u64::from(b)) >> 32) as u32;
-                assert_eq!(mul_hi_u32_soft(a, b), want, "hi({a} * {b})");
-                assert_eq!(mul_hi_u32(a, b), want, "hi({a} * {b})");
+                let (bh, bl) = (b >> 16, b & 0xFFFF);
+                assert_eq!(mul_hi_u32_halves_soft(a, bh, bl), want, "hi({a} * {b})");
+                assert_eq!(mul_hi_u32_halves(a, bh, bl), want, "hi({a} * {b})");
             }
         }
     }

@@ -1,6 +1,6 @@
 //! Uniform axes: where a point falls between nodes, with clamping.
 
-use crate::widemul::mul_hi_u32;
+use crate::widemul::mul_hi_u32_halves;
 
 /// A uniform f32 axis: nodes at `start + k * step`, `k = 0..len`.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -104,8 +104,13 @@ pub struct AxisQ {
     len: usize,
     /// `(len - 1) * step`, below 2^32 because the last node fits in i32.
     span: u32,
-    /// `ceil(2^48 / step)`.
-    inv_step: u64,
+    /// `inv = ceil(2^48 / step)` split as `inv_hi 2^32 + inv_mid 2^16 +
+    /// inv_low` (`inv_hi <= 2^16`; the other two 16-bit halves, stored
+    /// apart so that ARMv6-M code forms the high word of `u inv_lo` from
+    /// 16x16 products instead of a 64-bit library multiply).
+    inv_hi: u32,
+    inv_mid: u32,
+    inv_low: u32,
 }
 
 /// Where a point lies on a Q-format axis.
@@ -136,12 +141,15 @@ impl AxisQ {
         }
         let span = (end - start as i64) as u32;
         let step = step as u32;
+        let inv = (1u64 << 48).div_ceil(step as u64);
         Some(Self {
             start,
             step,
             len,
             span,
-            inv_step: (1u64 << 48).div_ceil(step as u64),
+            inv_hi: (inv >> 32) as u32,
+            inv_mid: ((inv >> 16) & 0xFFFF) as u32,
+            inv_low: (inv & 0xFFFF) as u32,
         })
     }
 
@@ -206,9 +214,11 @@ impl AxisQ {
         // u32, so 32-bit wrapping arithmetic computes them exactly (one
         // 32-bit multiply and one high word of a 32x32 product, instead of
         // two 64-bit products on ARMv6-M).
-        let inv_hi = (self.inv_step >> 32) as u32;
-        let inv_lo = self.inv_step as u32;
-        let t = u.wrapping_mul(inv_hi).wrapping_add(mul_hi_u32(u, inv_lo));
+        let t = u.wrapping_mul(self.inv_hi).wrapping_add(mul_hi_u32_halves(
+            u,
+            self.inv_mid,
+            self.inv_low,
+        ));
         let index = (t >> 16) as usize;
         if index >= last {
             // Only within one LSB of the last node.
