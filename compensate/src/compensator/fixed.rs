@@ -123,18 +123,15 @@ fn channels_linear_q(t: &TablesQ<'_>, p: PositionQ) -> (i32, i32, i32) {
 }
 
 /// `(offset, gain, quadratic)` at `p` by [`cubic_monotone_q`], out of
-/// line so the linear update stays short.
+/// line so the linear update stays short; shares the one out-of-line
+/// cubic kernel with the thermometer.
 #[inline(never)]
 fn channels_cubic_q(t: &TablesQ<'_>, p: PositionQ) -> (i32, i32, i32) {
     let q = match &t.quadratic {
-        Some(q) => cubic_monotone_q(q, p),
+        Some(q) => interp_cubic(q, p),
         None => 0,
     };
-    (
-        cubic_monotone_q(&t.offset, p),
-        cubic_monotone_q(&t.gain, p),
-        q,
-    )
+    (interp_cubic(&t.offset, p), interp_cubic(&t.gain, p), q)
 }
 
 /// `p >> s` (arithmetic) if the result fits in i32, for `s` in 1..=31 and

@@ -32,6 +32,12 @@ pub struct Compensator<'a> {
     rail_hi: f32,
     raw_lo: f32,
     raw_hi: f32,
+    /// Lower end of the short sample path's range: `raw_lo` without a 2-D
+    /// correction, else `+inf` (an empty range), so one pair of compares
+    /// decides.
+    fast_lo: f32,
+    /// Upper end of the short sample path's range (see `fast_lo`).
+    fast_hi: f32,
     temperature_c: f32,
     offset: f32,
     gain: f32,
@@ -98,14 +104,15 @@ fn channels_linear(t: &TablesF32<'_>, p: Position) -> (f32, f32, f32) {
 }
 
 /// `(offset, gain, quadratic)` at `p` by monotone cubic interpolation,
-/// out of line so the linear update stays short.
+/// out of line so the linear update stays short; shares the one
+/// out-of-line cubic kernel with the thermometer.
 #[inline(never)]
 fn channels_cubic(t: &TablesF32<'_>, p: Position) -> (f32, f32, f32) {
     let q = match &t.quadratic {
-        Some(q) => cubic_monotone(q, p),
+        Some(q) => interp_cubic(q, p),
         None => 0.0,
     };
-    (cubic_monotone(&t.offset, p), cubic_monotone(&t.gain, p), q)
+    (interp_cubic(&t.offset, p), interp_cubic(&t.gain, p), q)
 }
 
 impl<'a> Compensator<'a> {
@@ -122,6 +129,8 @@ impl<'a> Compensator<'a> {
             rail_hi: f32::INFINITY,
             raw_lo: f32::NEG_INFINITY,
             raw_hi: f32::INFINITY,
+            fast_lo: f32::NEG_INFINITY,
+            fast_hi: f32::INFINITY,
             temperature_c: 0.0,
             offset: 0.0,
             gain: 0.0,
@@ -155,6 +164,16 @@ impl<'a> Compensator<'a> {
             rail_hi: l.rail_hi as f32,
             raw_lo: l.raw_lo as f32,
             raw_hi: l.raw_hi as f32,
+            fast_lo: if tables.grid.is_none() {
+                l.raw_lo as f32
+            } else {
+                f32::INFINITY
+            },
+            fast_hi: if tables.grid.is_none() {
+                l.raw_hi as f32
+            } else {
+                f32::NEG_INFINITY
+            },
             ..Self::unconfigured()
         };
         c.set_temperature_c(&tables, tables.temperature.start);
@@ -247,7 +266,9 @@ impl<'a> Compensator<'a> {
     #[inline]
     pub fn compensate_sample(&self, raw: f32) -> Reading {
         // False for NaN, so NaN takes the general path.
-        if raw >= self.raw_lo && raw <= self.raw_hi && self.grid.is_none() {
+        // `fast_lo..=fast_hi` is the calibrated range without a 2-D
+        // correction, else empty.
+        if raw >= self.fast_lo && raw <= self.fast_hi {
             let d = raw - self.offset;
             return Reading {
                 value: d * (self.gain + self.quadratic * d),
