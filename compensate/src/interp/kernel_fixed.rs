@@ -65,8 +65,9 @@ pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
 }
 
 /// Fritsch–Carlson tangent at node `k` in LSB per node step (see the f32
-/// kernel for the method and sources).
-#[inline]
+/// kernel for the method and sources). Out of line: it is called twice per
+/// cubic interpolation, and its i64 arithmetic is large on ARMv6-M.
+#[inline(never)]
 fn tangent_q<N: Nodes<Value = i32>>(nodes: &N, k: usize) -> i64 {
     let last = nodes.len().saturating_sub(1);
     let at = |i: usize| i64::from(nodes.node(i));
