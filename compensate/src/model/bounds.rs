@@ -5,9 +5,13 @@
 //! exponent, piezo exponent). The repository's
 //! `tests/runtime_model_deviation.rs` fits them and asserts these bounds for
 //! both math backends; the values are the measured worst cases rounded up
-//! (measured with libm: ni 2.9 %, majority 0.9 %, mobility 3.1 %,
-//! sigma ratio 4.0 %, Hall ratios 6.8 %, piezo ratio 0.13 %; micromath
-//! within 0.2 % of these).
+//! (measured with libm: ni 2.9 %, majority 0.9 %, mobility 4.1 %,
+//! sigma ratio 5.3 %, Hall ratios 6.8 %, piezo ratio 0.13 %; micromath
+//! within 0.2 % of these). The sigma ratio grew from 4.0 % when the full
+//! model's Si mobility began to follow Arora's fitted temperature trend with
+//! the ionized fraction at each temperature (host physics/mobility.rs): the
+//! runtime model's power-law mobility on top of its own incomplete
+//! ionization follows that to 5.3 % at 1e18 cm^-3 n-type.
 //!
 //! With the micromath backend add 8 x [`crate::math::BACKEND_REL_ERROR`]
 //! (at most 8 chained exp/powf calls per quantity).
@@ -26,7 +30,7 @@ pub const MAJORITY_REL: f32 = 0.015;
 /// mobility at 1e18 cm^-3 by up to 50 % from Arora's published values).
 pub const MOBILITY_REL: f32 = 0.05;
 /// Conductivity ratio to 25 C.
-pub const CONDUCTIVITY_RATIO_REL: f32 = 0.05;
+pub const CONDUCTIVITY_RATIO_REL: f32 = 0.06;
 /// Hall-sensitivity ratios to 25 C (current and voltage bias), n-type up to
 /// 1e17 cm^-3 (the Hall plates' range; the constant Hall factor is the
 /// limit).

@@ -33,17 +33,31 @@
 //!
 //! Our pairing:
 //! - scattering centres `N = N_D,total + N_A,total` (as fitted);
-//! - band carriers `n, p` from the carrier solver (neutral fraction included,
-//!   with its full temperature dependence);
-//! - Si drift mobility `mu = mu_Masetti/Arora(N, T) * N / N_ion,300K(N)`,
-//!   where `N_ion,300K(N)` is the ionized density our own carrier model
-//!   gives at 300 K for the data set behind each Masetti parameter set
-//!   (P-doped for electrons, B-doped for holes). This undoes the fit's
-//!   full-ionization convention, so `q n mu` reproduces Masetti's fit (and
-//!   hence Thurber's data) at 300 K, and the neutral fraction enters the
-//!   resistivity exactly once, through `n` or `p`, at every temperature.
-//!   [`fit_convention_factor`] tabulates the factor (log grid, 20 points per
-//!   decade, built once).
+//! - band carriers `n, p` from the carrier solver (neutral fraction included);
+//! - Si drift mobility `mu = mu_Masetti/Arora(N, T) * N / N_ion(N, T_fit)`,
+//!   where `N_ion(N, T_fit)` is the ionized density our own carrier model
+//!   gives for the data set behind each Masetti parameter set (P-doped for
+//!   electrons, B-doped for holes) at `T_fit = clamp(T, 200 K, 500 K)`.
+//!   This undoes the fit's full-ionization convention at every temperature
+//!   the fit covers, so for a singly doped sample `q n mu` reproduces
+//!   `q N mu_Masetti/Arora(N, T)`: Masetti's fit (Thurber's data) at 300 K
+//!   and Arora's fitted temperature trend between 200 and 500 K.
+//!   [`fit_convention_factor`] tabulates the factor (log grid in N, 20 points
+//!   per decade, times a 10 K grid in T, built once).
+//!
+//! Why the factor depends on temperature: Arora's temperature exponents
+//! (`-2.23`, `-0.57`, `2.4`, `-0.146`) were fitted to mobilities reduced from
+//! resistivity (and Hall) data as `1 / (q N rho)` at each temperature
+//! (Arora, Hauser & Roulston 1982: "within +/- 13 % of the reported
+//! experimental values" from 250 to 500 K, abstract). The rise of the ionized
+//! fraction with temperature is therefore already inside the fitted trend. A
+//! factor frozen at 300 K (this module before) added that rise a second time
+//! through `p(T)`: for 2e18 cm^-3 boron the TCR at 25 C came out +290 ppm/K
+//! with a resistivity minimum near 5 C, where Arora's own formula with
+//! complete ionization gives about +1 200 ppm/K and the Masetti/Arora pairing
+//! +2 000 ppm/K (`tests/si_resistivity_temperature.rs`). Below 200 K, outside
+//! the fit, the factor is held at its 200 K value, so carrier freeze-out
+//! still enters through `p(T)`.
 //!
 //! No neutral-impurity scattering term is added. The Caughey-Thomas sets of
 //! the other materials are used as published (their shallow dopants are
@@ -378,14 +392,16 @@ fn caughey_thomas_sets(
 ///
 /// Scattering centres are the total chemical dopant density
 /// `donors_total + acceptors_total`; for Si the published mobility is
-/// divided by the fit's ionized fraction at 300 K (module docs, pairing).
+/// divided by the fit's ionized fraction (module docs, pairing).
 pub fn drift_mobility(material: Material, state: &CarrierState) -> Mobility {
     let n_total_cm3 = state.donors_total_cm3 + state.acceptors_total_cm3;
     let mut m = mobility_for_density(material, n_total_cm3, state.t_k);
     if material == Material::Si {
-        m.mu_n_cm2_vs = (m.mu_n_cm2_vs * fit_convention_factor(FitSet::Electrons, n_total_cm3))
-            .min(m.mu_n_lattice_cm2_vs);
-        m.mu_p_cm2_vs = (m.mu_p_cm2_vs * fit_convention_factor(FitSet::Holes, n_total_cm3))
+        let t_k = state.t_k;
+        m.mu_n_cm2_vs = (m.mu_n_cm2_vs
+            * fit_convention_factor(FitSet::Electrons, n_total_cm3, t_k))
+        .min(m.mu_n_lattice_cm2_vs);
+        m.mu_p_cm2_vs = (m.mu_p_cm2_vs * fit_convention_factor(FitSet::Holes, n_total_cm3, t_k))
             .min(m.mu_p_lattice_cm2_vs);
     }
     m
@@ -400,22 +416,33 @@ pub enum FitSet {
     Holes,
 }
 
-/// Temperature of the Masetti/Thurber fits (room temperature, Masetti 1983).
-const FIT_T_K: f64 = 300.0;
+/// Coldest temperature of Arora's fit (Arora et al. 1982 fitted 200..500 K).
+pub const FIT_T_MIN_K: f64 = 200.0;
+/// Hottest temperature of Arora's fit.
+pub const FIT_T_MAX_K: f64 = 500.0;
+/// Temperature step of the table, K: the factor's curvature in T is below
+/// 1e-5 per K^2 (10 K steps: interpolation error < 2e-4 relative).
+const FIT_T_STEP_K: f64 = 10.0;
+/// Number of temperature points.
+const FIT_T_POINTS: usize = 31;
 /// Table range of the fit-convention factor, log10 of cm^-3.
 const FIT_LOG_MIN: f64 = 10.0;
 /// Upper end of the table, log10 of cm^-3.
 const FIT_LOG_MAX: f64 = 21.0;
 /// Table points per decade.
 const FIT_PER_DECADE: f64 = 20.0;
-/// Number of table points.
+/// Number of density points.
 const FIT_POINTS: usize = 221;
 
-/// `N / N_ionized` at 300 K of a singly doped Si sample of total density
-/// `n_total_cm3` (P for electrons, B for holes), from our carrier model;
-/// 1 outside the table or where the solver refuses the input.
-pub fn fit_convention_factor(set: FitSet, n_total_cm3: f64) -> f64 {
-    static TABLES: OnceLock<[[f64; FIT_POINTS]; 2]> = OnceLock::new();
+/// One data set's table: `[temperature][density]`.
+type FitTable = Vec<[f64; FIT_POINTS]>;
+
+/// `N / N_ionized` of a singly doped Si sample of total density
+/// `n_total_cm3` (P for electrons, B for holes) at `clamp(t_k, 200, 500)` K,
+/// from our carrier model; 1 outside the density table or where the solver
+/// refuses the input. Bilinear in (log10 N, T).
+pub fn fit_convention_factor(set: FitSet, n_total_cm3: f64, t_k: f64) -> f64 {
+    static TABLES: OnceLock<[FitTable; 2]> = OnceLock::new();
     if n_total_cm3.is_nan() || n_total_cm3 <= 0.0 {
         return 1.0;
     }
@@ -432,44 +459,58 @@ pub fn fit_convention_factor(set: FitSet, n_total_cm3: f64) -> f64 {
     let x =
         ((n_total_cm3.log10() - FIT_LOG_MIN) * FIT_PER_DECADE).clamp(0.0, (FIT_POINTS - 1) as f64);
     let i = (x as usize).min(FIT_POINTS - 2);
-    let f = x - i as f64;
-    table[i] + f * (table[i + 1] - table[i])
+    let fx = x - i as f64;
+    let t_fit = if t_k.is_nan() {
+        T_300_K
+    } else {
+        t_k.clamp(FIT_T_MIN_K, FIT_T_MAX_K)
+    };
+    let y = ((t_fit - FIT_T_MIN_K) / FIT_T_STEP_K).clamp(0.0, (FIT_T_POINTS - 1) as f64);
+    let j = (y as usize).min(FIT_T_POINTS - 2);
+    let fy = y - j as f64;
+    let row = |r: &[f64; FIT_POINTS]| r[i] + fx * (r[i + 1] - r[i]);
+    let lo = row(&table[j]);
+    let hi = row(&table[j + 1]);
+    lo + fy * (hi - lo)
 }
 
-fn build_fit_table(set: FitSet) -> [f64; FIT_POINTS] {
-    let mut table = [1.0; FIT_POINTS];
-    for (k, slot) in table.iter_mut().enumerate() {
-        let n = 10f64.powf(FIT_LOG_MIN + k as f64 / FIT_PER_DECADE);
-        let (species, donors) = match set {
-            FitSet::Electrons => (Species::P, true),
-            FitSet::Holes => (Species::B, false),
-        };
-        let dopant = vec![Dopant {
-            species,
-            density_cm3: n,
-        }];
-        let sample = if donors {
-            Sample {
-                material: Material::Si,
-                donors: dopant,
-                acceptors: vec![],
-            }
-        } else {
-            Sample {
-                material: Material::Si,
-                donors: vec![],
-                acceptors: dopant,
-            }
-        };
-        if let Ok(state) = carriers::solve(&sample, FIT_T_K) {
-            let ionized = state.donors_ionized_cm3 + state.acceptors_ionized_cm3;
-            if ionized > 0.0 {
-                *slot = n / ionized;
-            }
-        }
-    }
+fn build_fit_table(set: FitSet) -> FitTable {
     debug_assert!((FIT_LOG_MAX - FIT_LOG_MIN) * FIT_PER_DECADE + 1.0 == FIT_POINTS as f64);
-    table
+    debug_assert!((FIT_T_MAX_K - FIT_T_MIN_K) / FIT_T_STEP_K + 1.0 == FIT_T_POINTS as f64);
+    let (species, donors) = match set {
+        FitSet::Electrons => (Species::P, true),
+        FitSet::Holes => (Species::B, false),
+    };
+    (0..FIT_T_POINTS)
+        .map(|jt| {
+            let t_k = FIT_T_MIN_K + jt as f64 * FIT_T_STEP_K;
+            let mut row = [1.0; FIT_POINTS];
+            for (k, slot) in row.iter_mut().enumerate() {
+                let n = 10f64.powf(FIT_LOG_MIN + k as f64 / FIT_PER_DECADE);
+                let dopant = vec![Dopant {
+                    species,
+                    density_cm3: n,
+                }];
+                let (donors, acceptors) = if donors {
+                    (dopant, vec![])
+                } else {
+                    (vec![], dopant)
+                };
+                let sample = Sample {
+                    material: Material::Si,
+                    donors,
+                    acceptors,
+                };
+                if let Ok(state) = carriers::solve(&sample, t_k) {
+                    let ionized = state.donors_ionized_cm3 + state.acceptors_ionized_cm3;
+                    if ionized > 0.0 {
+                        *slot = n / ionized;
+                    }
+                }
+            }
+            row
+        })
+        .collect()
 }
 
 #[cfg(test)]
@@ -608,6 +649,29 @@ mod tests {
                     }
                 }
             }
+        }
+    }
+
+    /// The fit-convention factor follows the ionized fraction of the fit's
+    /// data set: at 1e18 cm^-3 it falls as temperature rises (more dopants
+    /// ionize; Altermatt 2006), and outside Arora's 200..500 K it is held at
+    /// the nearest end (exactly, same table row).
+    #[test]
+    fn fit_convention_factor_temperature() {
+        for set in [FitSet::Electrons, FitSet::Holes] {
+            let f = |t: f64| fit_convention_factor(set, 1e18, t);
+            assert!(
+                f(250.0) > f(300.0) && f(300.0) > f(400.0),
+                "{set:?}: {} {} {}",
+                f(250.0),
+                f(300.0),
+                f(400.0)
+            );
+            assert_eq!(f(77.0), f(FIT_T_MIN_K), "{set:?} below the fit");
+            assert_eq!(f(900.0), f(FIT_T_MAX_K), "{set:?} above the fit");
+            // Lightly doped: all ionized at every fitted temperature (< 0.1 %).
+            let low = fit_convention_factor(set, 1e14, 250.0);
+            assert!((low - 1.0).abs() < 1e-3, "{set:?} 1e14 at 250 K: {low}");
         }
     }
 

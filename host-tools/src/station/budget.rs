@@ -11,7 +11,8 @@ pub const COVERAGE_K: f64 = 3.0;
 /// The terms that do not depend on the table.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct PartTerms {
-    /// Largest calibration fit residual at the chamber points.
+    /// Largest calibration fit residual at the chamber points or at a
+    /// left-out chamber temperature (cross-validation), whichever is larger.
     pub fit_residual_ppm: f64,
     /// Temperature-signal uncertainty (k = 3) times the worst drift slope.
     pub temperature_ppm: f64,
@@ -63,7 +64,8 @@ impl PartTerms {
         }
         let sigma_k = part.thermometer_rms_k.hypot(part.signal_noise_k);
         PartTerms {
-            fit_residual_ppm: part.fit_max_ppm,
+            // Model error between chamber points (leave-one-temperature-out).
+            fit_residual_ppm: part.fit_max_ppm.max(part.holdout_max_ppm.unwrap_or(0.0)),
             temperature_ppm: COVERAGE_K * sigma_k * slope,
             temperature_sigma_k: sigma_k,
             drift_slope_ppm_per_k: slope,

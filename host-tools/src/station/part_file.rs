@@ -33,6 +33,47 @@ pub struct FitPoint {
     pub residual_ppm: f64,
 }
 
+/// One leave-one-temperature-out refit, judged at the temperature left out
+/// (see [`super::calibrate::cross_validate`]).
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct HoldOut {
+    /// The chamber temperature left out, C.
+    pub chamber_c: f64,
+    /// Whether it lies strictly inside the calibrated span (interpolation;
+    /// the end temperatures are extrapolations of the reduced fit).
+    pub interior: bool,
+    /// Worst |error| of the refitted part at that temperature, ppm of span
+    /// (`null` when the refit failed).
+    #[serde(with = "nan_as_null")]
+    pub max_error_ppm: f64,
+    /// Worst |thermometer error| of the refitted part there, K.
+    #[serde(with = "nan_as_null")]
+    pub thermometer_error_k: f64,
+}
+
+/// Writes NaN as `null` and reads `null` back as NaN.
+mod nan_as_null {
+    /// Serializes a float, NaN or infinite as `null`.
+    pub fn serialize<S: serde::Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
+        if x.is_finite() {
+            s.serialize_f64(*x)
+        } else {
+            s.serialize_none()
+        }
+    }
+    /// Deserializes a float or `null` (as NaN).
+    pub fn deserialize<'de, D: serde::Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+        let v: Option<f64> = serde::Deserialize::deserialize(d)?;
+        Ok(v.unwrap_or(f64::NAN))
+    }
+}
+
+/// Reads a float, or `null` (how an infinite value is written) as +infinity.
+fn null_as_infinity<'de, D: serde::Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+    let v: Option<f64> = serde::Deserialize::deserialize(d)?;
+    Ok(v.unwrap_or(f64::INFINITY))
+}
+
 /// The outcome of one part's calibration.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct PartFile {
@@ -53,7 +94,9 @@ pub struct PartFile {
     /// Covariance matrix (thermometer and output blocks; the blocks are fitted
     /// separately, so the cross terms are zero).
     pub covariance: Vec<Vec<Option<f64>>>,
-    /// Largest condition number of the two fits' scaled Jacobians.
+    /// Largest condition number of the two fits' scaled Jacobians (written
+    /// as `null` when infinite: a singular fit, always rejected).
+    #[serde(deserialize_with = "null_as_infinity")]
     pub condition: f64,
     /// Thermometer residual rms, K.
     pub thermometer_rms_k: f64,
@@ -69,6 +112,18 @@ pub struct PartFile {
     pub points: Vec<FitPoint>,
     /// The usual-practice polynomial through the same points (for comparison).
     pub polynomial: Option<PolyCal>,
+    /// Worst error at an interior left-out calibration temperature, ppm of
+    /// span: the estimate of model error between chamber points that `table`
+    /// and `verify` count in the fit residual term (absent in part files
+    /// written before cross-validation existed).
+    #[serde(default)]
+    pub holdout_max_ppm: Option<f64>,
+    /// Worst thermometer error at an interior left-out temperature, K.
+    #[serde(default)]
+    pub holdout_thermometer_max_k: Option<f64>,
+    /// Every leave-one-temperature-out refit, ascending in temperature.
+    #[serde(default)]
+    pub holdouts: Vec<HoldOut>,
 }
 
 /// Why a part file could not be read.

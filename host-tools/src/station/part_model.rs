@@ -2,14 +2,24 @@
 //! ([`ShapeCurves`]) scaled and bent by the part's own physical parameters.
 //!
 //! - temperature signal:
-//!   `signal_ref * exp(beta * L(T) + act_k * (1/T_ref - 1/T))`, L = ln
-//!   rho(T)/rho(T_ref) of the full model; `beta` absorbs a mobility
-//!   temperature law that is off by a few percent, the Arrhenius term `act_k`
-//!   (kelvin) an error in the ionized fraction (ionization energy, complete
-//!   versus incomplete ionization), so the thermometer stays right between and
-//!   beyond the chamber points;
-//! - offset: `offset_ref + mismatch * g(T)`, g the offset shape: the doping
-//!   sensitivity of rho for a bridge; for a Hall plate the plate resistance
+//!   `signal_ref * exp(beta * L(T) + curv * L(T)^2 + act_k * (1/T_ref - 1/T))`,
+//!   L = ln rho(T)/rho(T_ref) of the full model: the part's log-resistance
+//!   is a quadratic function of the model's log-resistivity. `beta` absorbs
+//!   a model TCR that is off (another published mobility variant: Arora's
+//!   own formula and the Masetti/Arora pairing differ by up to 1.6x at
+//!   2e18 cm^-3), `curv` the difference in curvature such a variant brings.
+//!   The calibration fits `signal_ref, beta, curv`; the Arrhenius term
+//!   `act_k` (kelvin; an error in the ionized fraction) stays in the model
+//!   and the part file but is held at 0 since the full model's ionization
+//!   and mobility were made consistent (physics/mobility.rs): on the
+//!   well-logger's simulated lot the quadratic term leaves ~0.01 K between
+//!   the chamber points and ~0.1 K at -40 and 125 C where the Arrhenius term
+//!   left ~0.17 K and ~1 K;
+//! - offset: `offset_ref + mismatch * g(T) + offset_curvature * g(T)^2`, g
+//!   the offset shape: the doping sensitivity of rho for a bridge (the
+//!   curvature term absorbs the error of the model's least certain shape:
+//!   d ln(rho)/d ln(N) against temperature differs by about 2x between the
+//!   Masetti/Arora pairing and Arora's own formula at 2e18 cm^-3); for a Hall plate the plate resistance
 //!   ratio itself, `signal(T) / signal_ref - 1`, so the thermometer's fitted
 //!   TCR also shapes the offset (both are the same resistor); plus a linear
 //!   residual term for packaging stress;
@@ -22,7 +32,7 @@
 use super::curves::{OffsetShape, ShapeCurves};
 
 /// Names of the fitted parameters, in [`PartParams::to_vec`] order.
-pub const PARAM_NAMES: [&str; 9] = [
+pub const PARAM_NAMES: [&str; 11] = [
     "signal_ref",
     "signal_beta",
     "signal_act_k",
@@ -32,6 +42,8 @@ pub const PARAM_NAMES: [&str; 9] = [
     "sens_ref",
     "doping_shift",
     "span_tc_per_k",
+    "signal_curvature",
+    "offset_curvature",
 ];
 
 /// The per-part parameters of the physical model.
@@ -55,11 +67,19 @@ pub struct PartParams {
     pub doping_shift: f64,
     /// Residual linear span drift in 1/K (packaging stress).
     pub span_tc_per_k: f64,
+    /// Coefficient of `L(T)^2` in the log of the temperature signal (0 in
+    /// part files written before it existed).
+    #[serde(default)]
+    pub signal_curvature: f64,
+    /// Coefficient of `g(T)^2` in the offset, output units (0 in part files
+    /// written before it existed).
+    #[serde(default)]
+    pub offset_curvature: f64,
 }
 
 impl PartParams {
     /// The parameters as a vector in [`PARAM_NAMES`] order.
-    pub fn to_vec(&self) -> [f64; 9] {
+    pub fn to_vec(&self) -> [f64; 11] {
         [
             self.signal_ref,
             self.signal_beta,
@@ -70,11 +90,13 @@ impl PartParams {
             self.sens_ref,
             self.doping_shift,
             self.span_tc_per_k,
+            self.signal_curvature,
+            self.offset_curvature,
         ]
     }
 
     /// Parameters from a vector in [`PARAM_NAMES`] order.
-    pub fn from_slice(v: &[f64; 9]) -> PartParams {
+    pub fn from_slice(v: &[f64; 11]) -> PartParams {
         PartParams {
             signal_ref: v[0],
             signal_beta: v[1],
@@ -85,6 +107,8 @@ impl PartParams {
             sens_ref: v[6],
             doping_shift: v[7],
             span_tc_per_k: v[8],
+            signal_curvature: v[9],
+            offset_curvature: v[10],
         }
     }
 }
@@ -104,8 +128,9 @@ impl PartModel<'_> {
         let c = self.curves;
         let p = &self.params;
         let arrhenius = 1.0 / (c.t_ref_c + 273.15) - 1.0 / (t_c + 273.15);
+        let l = c.interp(&c.ln_rho_rel, t_c);
         p.signal_ref
-            * (p.signal_beta * c.interp(&c.ln_rho_rel, t_c) + p.signal_act_k * arrhenius).exp()
+            * ((p.signal_beta + p.signal_curvature * l) * l + p.signal_act_k * arrhenius).exp()
     }
 
     /// Offset (output at zero stimulus) at `t_c`.
@@ -116,7 +141,9 @@ impl PartModel<'_> {
             OffsetShape::Resistivity => self.signal(t_c) / self.params.signal_ref - 1.0,
         };
         let p = &self.params;
-        p.offset_ref + p.mismatch * g + p.offset_tc_per_k * (t_c - c.t_ref_c)
+        p.offset_ref
+            + (p.mismatch + p.offset_curvature * g) * g
+            + p.offset_tc_per_k * (t_c - c.t_ref_c)
     }
 
     /// Sensitivity (output per stimulus unit) at `t_c`.
@@ -164,8 +191,10 @@ impl PartModel<'_> {
     pub fn signal_slope(&self, t_c: f64) -> f64 {
         let c = self.curves;
         let t_k = t_c + 273.15;
+        let l = c.interp(&c.ln_rho_rel, t_c);
         self.signal(t_c)
-            * (self.params.signal_beta * c.slope(&c.ln_rho_rel, t_c)
+            * ((self.params.signal_beta + 2.0 * self.params.signal_curvature * l)
+                * c.slope(&c.ln_rho_rel, t_c)
                 + self.params.signal_act_k / (t_k * t_k))
     }
 }
@@ -209,6 +238,8 @@ mod tests {
                 sens_ref: 2e-3,
                 doping_shift: 0.1,
                 span_tc_per_k: 2e-5,
+                signal_curvature: 0.3,
+                offset_curvature: 0.05,
             },
         };
         // (t_c, stimulus)
