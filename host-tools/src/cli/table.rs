@@ -113,6 +113,16 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     )?;
     writeln!(
         out,
+        "    cross-validation (held-out temp.) {:>10.2}  ({})",
+        t.cross_validation_ppm,
+        if t.cross_validation_budgeted {
+            "in the fit residual"
+        } else {
+            "reported only: fewer than 4 calibration temperatures"
+        }
+    )?;
+    writeln!(
+        out,
         "  temperature signal x drift slope   {:>10.2}",
         t.temperature_ppm
     )?;
