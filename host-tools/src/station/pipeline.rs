@@ -5,7 +5,7 @@ use super::bound::interpolation_bound_ppm;
 use super::budget::{BudgetTerms, PartTerms};
 use super::choose::{Candidate, ChooseError, candidates, try_plan};
 use super::curves::ShapeCurves;
-use super::image_eval::{ErrorStats, EvalError, evaluate, linspace};
+use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperature};
 use super::model_shapes::shapes_for;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
@@ -255,6 +255,27 @@ pub fn plan_of(view: &TableView<'_>) -> TablePlan {
         n_t,
         n_sig,
     }
+}
+
+/// Temperatures of a table's error curve (plots): 0.25 K steps over the
+/// well-logger's 105 K range, fine enough to show every node interval.
+pub const CURVE_TEMPS: usize = 421;
+
+/// Largest |error| of `image` at each of [`CURVE_TEMPS`] temperatures over
+/// the part's range, across [`DENSE_STIMULI`] stimuli (ppm of span).
+pub fn table_error_curve(
+    image: &[u8],
+    part: &PartFile,
+    curves: &ShapeCurves,
+) -> Result<Vec<(f64, f64)>, StepError> {
+    let model = PartModel {
+        curves,
+        params: part.params,
+    };
+    let frame = TableFrame::new(part, model)?;
+    let temps = linspace(frame.t_lo_c, frame.t_hi_c, CURVE_TEMPS);
+    let stimuli = linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI);
+    Ok(per_temperature(image, &frame, &temps, &stimuli)?)
 }
 
 /// Verifies `image` against `part` on `n_temps` x `n_stimuli` points.
