@@ -6,6 +6,7 @@
 
 pub mod apply;
 pub mod bound;
+pub mod bow;
 pub mod budget;
 pub mod calibrate;
 pub mod chamber;

@@ -3,7 +3,7 @@
 
 use super::bound::interpolation_bound_ppm;
 use super::budget::{BudgetTerms, PartTerms};
-use super::choose::{Candidate, ChooseError, candidates, try_plan};
+use super::choose::{Candidate, ChooseError, Restrict, candidates, try_plan};
 use super::curves::ShapeCurves;
 use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperature};
 use super::model_shapes::shapes_for;
@@ -18,6 +18,30 @@ use compensate::interp::Interpolation;
 pub const DENSE_TEMPS: usize = 20001;
 /// Stimuli of the dense verification grid.
 pub const DENSE_STIMULI: usize = 6;
+/// Dense grid of an image with a 2-D correction: temperatures...
+pub const DENSE_2D_TEMPS: usize = 1001;
+/// ...x raw signals (stimuli), 1001 x 101 = 101101 points, so the raw axis
+/// is sampled between its nodes as densely as temperature is.
+pub const DENSE_2D_STIMULI: usize = 101;
+
+/// Dense grid size (temperatures, stimuli) for verifying a plan: at least
+/// 1e5 points, spread over raw signal too when the image has a 2-D correction.
+pub fn dense_counts(plan: &TablePlan) -> (usize, usize) {
+    if plan.n_raw > 0 {
+        (DENSE_2D_TEMPS, DENSE_2D_STIMULI)
+    } else {
+        (DENSE_TEMPS, DENSE_STIMULI)
+    }
+}
+
+/// The dense grid of `plan` over the frame's range.
+fn dense_grid(frame: &TableFrame<'_>, plan: &TablePlan) -> (Vec<f64>, Vec<f64>) {
+    let (n_t, n_s) = dense_counts(plan);
+    (
+        linspace(frame.t_lo_c, frame.t_hi_c, n_t),
+        linspace(frame.fs_lo, frame.fs_hi, n_s),
+    )
+}
 
 /// Why a step failed.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -113,10 +137,7 @@ fn split_terms(
                 format: NumFormat::F32,
                 ..*plan
             };
-            let grid = (
-                linspace(frame.t_lo_c, frame.t_hi_c, DENSE_TEMPS),
-                linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI),
-            );
+            let grid = dense_grid(frame, plan);
             let (_, stats) = try_plan(frame, &f, serial, unit, &grid)?;
             Ok((
                 stats.max_error_ppm,
@@ -131,6 +152,16 @@ pub fn build_table(
     part: &PartFile,
     curves: &ShapeCurves,
     budget_ppm: f64,
+) -> Result<TableOutcome, StepError> {
+    build_table_with(part, curves, budget_ppm, Restrict::default())
+}
+
+/// [`build_table`] with the choice limited by `restrict`.
+pub fn build_table_with(
+    part: &PartFile,
+    curves: &ShapeCurves,
+    budget_ppm: f64,
+    restrict: Restrict,
 ) -> Result<TableOutcome, StepError> {
     if !part.is_ok() {
         return Err(StepError::PartNotOk {
@@ -152,7 +183,7 @@ pub fn build_table(
             temperature_ppm: terms.temperature_ppm,
         });
     }
-    build_table_for_allowance(part, &frame, &terms, allowance, budget_ppm)
+    build_table_for_allowance_with(part, &frame, &terms, allowance, budget_ppm, restrict)
 }
 
 /// Builds the least-flash table whose own error stays within `allowance_ppm`.
@@ -163,21 +194,38 @@ pub fn build_table_for_allowance(
     allowance_ppm: f64,
     budget_ppm: f64,
 ) -> Result<TableOutcome, StepError> {
+    build_table_for_allowance_with(
+        part,
+        frame,
+        terms,
+        allowance_ppm,
+        budget_ppm,
+        Restrict::default(),
+    )
+}
+
+/// [`build_table_for_allowance`] with the choice limited by `restrict`.
+pub fn build_table_for_allowance_with(
+    part: &PartFile,
+    frame: &TableFrame<'_>,
+    terms: &PartTerms,
+    allowance_ppm: f64,
+    budget_ppm: f64,
+    restrict: Restrict,
+) -> Result<TableOutcome, StepError> {
     let unit = part.scenario.stimulus_unit.as_str();
     let serial = part.serial.as_str();
-    let list = candidates(frame, allowance_ppm, serial, unit)?;
-    let dense_grid = (
-        linspace(frame.t_lo_c, frame.t_hi_c, DENSE_TEMPS),
-        linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI),
-    );
+    let list = candidates(frame, allowance_ppm, serial, unit, restrict)?;
     // The dense grid may find a point a little worse than the search grid:
     // grow the chosen plan by 10 % until the dense check passes too.
     let mut plan = list[0].plan;
-    let (mut image, mut dense) = try_plan(frame, &plan, serial, unit, &dense_grid)?;
+    let grid = dense_grid(frame, &plan);
+    let (mut image, mut dense) = try_plan(frame, &plan, serial, unit, &grid)?;
     while dense.max_error_ppm > allowance_ppm && plan.n_t < super::choose::MAX_NODES {
         plan.n_t += plan.n_t.div_ceil(10);
         plan.n_sig += plan.n_sig.div_ceil(10);
-        (image, dense) = try_plan(frame, &plan, serial, unit, &dense_grid)?;
+        plan.n_raw += plan.n_raw.div_ceil(10);
+        (image, dense) = try_plan(frame, &plan, serial, unit, &grid)?;
     }
     let (interp, quant) = split_terms(frame, &plan, serial, unit, dense.max_error_ppm)?;
     Ok(TableOutcome {
@@ -227,7 +275,9 @@ pub struct VerifyReport {
 
 /// Reads an image's plan from its header.
 pub fn plan_of(view: &TableView<'_>) -> TablePlan {
+    let n_raw = view.grid_raw_nodes();
     let interpolation = match view.interpolation() {
+        _ if n_raw > 0 => InterpKind::Bilinear2d,
         Interpolation::MonotoneCubic => InterpKind::MonotoneCubic,
         _ => InterpKind::Linear,
     };
@@ -254,6 +304,7 @@ pub fn plan_of(view: &TableView<'_>) -> TablePlan {
         format,
         n_t,
         n_sig,
+        n_raw,
     }
 }
 
@@ -278,7 +329,8 @@ pub fn table_error_curve(
     Ok(per_temperature(image, &frame, &temps, &stimuli)?)
 }
 
-/// Verifies `image` against `part` on `n_temps` x `n_stimuli` points.
+/// Verifies `image` against `part` on `n_temps` x `n_stimuli` points
+/// ([`dense_counts`] gives the usual sizes).
 pub fn verify(
     image: &[u8],
     part: &PartFile,

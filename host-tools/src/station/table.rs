@@ -6,14 +6,17 @@
 //! `T = thermometer(signal)`; the columns hold the fitted model's offset in
 //! ADC codes and `lsb / sensitivity` in stimulus units per code.
 
+use super::bow::Bow;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
 use compensate::ImageBuilder;
-use compensate::image::{AxisSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use compensate::image::{AxisSpec, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
 use compensate::interp::Interpolation;
 
 /// Number format of an image.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, clap::ValueEnum,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum NumFormat {
     /// IEEE binary32 (FPU parts).
@@ -23,20 +26,26 @@ pub enum NumFormat {
 }
 
 /// Interpolation between nodes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, clap::ValueEnum,
+)]
 #[serde(rename_all = "snake_case")]
 pub enum InterpKind {
     /// Piecewise linear.
     Linear,
     /// Monotone cubic (Fritsch-Carlson).
     MonotoneCubic,
+    /// Piecewise-linear offset and gain columns plus a 2-D correction over
+    /// temperature x raw signal, interpolated bilinearly (for an output
+    /// whose nonlinearity in the stimulus changes with temperature).
+    Bilinear2d,
 }
 
 impl InterpKind {
     /// The runtime crate's code for it.
     pub fn runtime(self) -> Interpolation {
         match self {
-            InterpKind::Linear => Interpolation::Linear,
+            InterpKind::Linear | InterpKind::Bilinear2d => Interpolation::Linear,
             InterpKind::MonotoneCubic => Interpolation::MonotoneCubic,
         }
     }
@@ -53,6 +62,14 @@ pub struct TablePlan {
     pub n_t: usize,
     /// Signal nodes of the thermometer map.
     pub n_sig: usize,
+    /// Raw-signal nodes of the 2-D correction (0: none; only
+    /// [`InterpKind::Bilinear2d`] has one).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub n_raw: usize,
+}
+
+fn is_zero(n: &usize) -> bool {
+    *n == 0
 }
 
 /// Why a table could not be built.
@@ -95,6 +112,10 @@ pub struct TableFrame<'a> {
     pub fs_lo: f64,
     /// Stimulus full-scale range.
     pub fs_hi: f64,
+    /// Reference temperature of the part model, C.
+    pub t_ref_c: f64,
+    /// The element's nonlinearity, if any.
+    pub bow: Option<Bow>,
 }
 
 fn unit(name: &str) -> Unit {
@@ -144,7 +165,45 @@ impl<'a> TableFrame<'a> {
             bits: sc.output_adc.bits,
             fs_lo: sc.stimulus_fs.0,
             fs_hi: sc.stimulus_fs.1,
+            t_ref_c: sc.t_ref_c,
+            bow: sc.bow,
         })
+    }
+
+    /// Raw output at `t_c` and `stimulus`, the element's bow included.
+    pub fn output(&self, t_c: f64, stimulus: f64) -> f64 {
+        let apparent = match self.bow {
+            Some(b) => b.apparent(stimulus, t_c, self.t_ref_c, (self.fs_lo, self.fs_hi)),
+            None => stimulus,
+        };
+        self.model.output(t_c, apparent)
+    }
+
+    /// The stimulus that gives `output` at `t_c` (the exact compensation).
+    pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
+        let apparent = self.model.stimulus(output, t_c);
+        match self.bow {
+            Some(b) => b.true_stimulus(apparent, t_c, self.t_ref_c, (self.fs_lo, self.fs_hi)),
+            None => apparent,
+        }
+    }
+
+    /// What the 2-D correction adds at `t_c` and raw code `raw` (stimulus
+    /// units): the exact stimulus minus the terminal line's.
+    pub fn grid_correction(&self, t_c: f64, raw: f64) -> f64 {
+        let y = raw * self.lsb;
+        self.stimulus(y, t_c) - self.model.stimulus(y, t_c)
+    }
+
+    /// Raw axis of a 2-D correction with `n_raw` nodes over the calibrated
+    /// codes: integer start and step (codes), the last node at or beyond
+    /// the calibrated range's end.
+    pub fn raw_axis(&self, n_raw: usize) -> (i32, i32) {
+        let l = self.raw_limits();
+        let step = ((f64::from(l.raw_hi) - f64::from(l.raw_lo)) / (n_raw.max(2) - 1) as f64)
+            .ceil()
+            .max(1.0);
+        (l.raw_lo, step as i32)
     }
 
     /// Offset in ADC codes at `t_c`.
@@ -165,7 +224,7 @@ impl<'a> TableFrame<'a> {
         for k in 0..=200 {
             let t = self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 200.0;
             for s in [self.fs_lo, self.fs_hi] {
-                let c = self.model.output(t, s) / self.lsb;
+                let c = self.output(t, s) / self.lsb;
                 lo = lo.min(c);
                 hi = hi.max(c);
             }
@@ -238,6 +297,12 @@ impl<'a> TableFrame<'a> {
                 let therm: Vec<f32> = (0..n_sig)
                     .map(|k| self.model.temperature(self.sig_lo + s_step * k as f64) as f32)
                     .collect();
+                let (raw_start, raw_step) = self.raw_axis(plan.n_raw);
+                let grid_values: Vec<f32> = self
+                    .grid_values(plan, &t_nodes, raw_start, raw_step)
+                    .iter()
+                    .map(|&v| v as f32)
+                    .collect();
                 let builder = ImageBuilder::<f32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: QFormat::F32,
@@ -263,7 +328,14 @@ impl<'a> TableFrame<'a> {
                     offset: &offset,
                     gain: &gain,
                     quadratic: None,
-                    grid: None,
+                    grid: (plan.n_raw > 0).then_some(GridSpec {
+                        raw_axis: AxisSpec {
+                            start: raw_start as f32,
+                            step: raw_step as f32,
+                        },
+                        raw_len: plan.n_raw,
+                        values: &grid_values,
+                    }),
                 };
                 encode(&builder)
             }
@@ -293,6 +365,12 @@ impl<'a> TableFrame<'a> {
                 let therm: Vec<i32> = (0..n_sig)
                     .map(|k| scale(self.model.temperature(s_node(k)), q.temperature))
                     .collect();
+                let (raw_start, raw_step) = self.raw_axis(plan.n_raw);
+                let grid_values: Vec<i32> = self
+                    .grid_values(plan, &t_node, raw_start, raw_step)
+                    .iter()
+                    .map(|&v| scale(v, q.output))
+                    .collect();
                 let builder = ImageBuilder::<i32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: q,
@@ -318,11 +396,41 @@ impl<'a> TableFrame<'a> {
                     offset: &offset,
                     gain: &gain,
                     quadratic: None,
-                    grid: None,
+                    grid: (plan.n_raw > 0).then_some(GridSpec {
+                        raw_axis: AxisSpec {
+                            start: raw_start,
+                            step: raw_step,
+                        },
+                        raw_len: plan.n_raw,
+                        values: &grid_values,
+                    }),
                 };
                 encode(&builder)
             }
         }
+    }
+
+    /// Row-major 2-D correction values of `plan` (stimulus units): one row
+    /// of `n_raw` per temperature node; empty without a 2-D correction.
+    fn grid_values(
+        &self,
+        plan: &TablePlan,
+        t_node: &dyn Fn(usize) -> f64,
+        raw_start: i32,
+        raw_step: i32,
+    ) -> Vec<f64> {
+        if plan.n_raw == 0 {
+            return Vec::new();
+        }
+        let mut v = Vec::with_capacity(plan.n_t.max(2) * plan.n_raw);
+        for i in 0..plan.n_t.max(2) {
+            let t = t_node(i);
+            for j in 0..plan.n_raw {
+                let raw = f64::from(raw_start) + f64::from(raw_step) * j as f64;
+                v.push(self.grid_correction(t, raw));
+            }
+        }
+        v
     }
 }
 
