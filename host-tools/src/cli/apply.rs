@@ -76,8 +76,12 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let model_comp;
     let image_comp;
     let method: &dyn Compensation = if is_image {
-        image_comp = ImageCompensation::new(&first, part.scenario.output_adc.lsb())
-            .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
+        image_comp = ImageCompensation::new(
+            &first,
+            part.scenario.output_adc.lsb(),
+            part.scenario.signal_adc.lsb(),
+        )
+        .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
         &image_comp
     } else {
         model_comp = ModelCompensation {

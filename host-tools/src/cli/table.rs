@@ -5,7 +5,7 @@ use super::CliError;
 use crate::station::choose::Restrict;
 use crate::station::export::{ExportFormat, export};
 use crate::station::part_file::PartFile;
-use crate::station::table::{InterpKind, NumFormat};
+use crate::station::table::{InterpKind, NumFormat, SignalUnit};
 use crate::station::{output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -41,6 +41,11 @@ pub struct TableArgs {
     /// monotone cubic and, for an element with a bow, 2-D].
     #[arg(long, value_enum, value_name = "KIND")]
     pub interpolation: Option<InterpKind>,
+    /// Temperature signal the image takes: `ohm` (the spec's units, as the
+    /// chamber CSV records it) or `adc-code` (whole codes of the spec's
+    /// temperature-signal ADC, as firmware reads them).
+    #[arg(long, value_enum, default_value_t = SignalUnit::Ohm, value_name = "UNIT")]
+    pub signal_unit: SignalUnit,
 }
 
 /// Parses a decimal or 0x-prefixed hexadecimal address.
@@ -73,8 +78,8 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
         interpolation: args.interpolation,
         format: args.number_format,
     };
-    let outcome =
-        pipeline::build_table_with(&part, &curves, budget, restrict).map_err(|e| match e {
+    let outcome = pipeline::build_table_with(&part, &curves, budget, restrict, args.signal_unit)
+        .map_err(|e| match e {
             pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
                 CliError::CheckFailed(format!("{}: {e}", args.part.display()))
             }

@@ -92,14 +92,18 @@ pub struct ImageCompensation<'a> {
     view: compensate::TableView<'a>,
     /// Output ADC code size: raw outputs are divided by it to get codes.
     lsb: f64,
+    /// Temperature-signal ADC code size, used when the image takes codes.
+    signal_lsb: f64,
 }
 
 impl<'a> ImageCompensation<'a> {
-    /// Parses `image`; `lsb` converts the CSV's output to ADC codes.
-    pub fn new(image: &'a [u8], lsb: f64) -> Result<Self, compensate::ImageError> {
+    /// Parses `image`; `lsb` converts the CSV's output to ADC codes, and
+    /// `signal_lsb` its temperature signal when the image takes ADC codes.
+    pub fn new(image: &'a [u8], lsb: f64, signal_lsb: f64) -> Result<Self, compensate::ImageError> {
         Ok(ImageCompensation {
             view: compensate::TableView::parse(image)?,
             lsb,
+            signal_lsb,
         })
     }
 }
@@ -107,6 +111,10 @@ impl<'a> ImageCompensation<'a> {
 impl Compensation for ImageCompensation<'_> {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
         let raw = (output / self.lsb).round();
+        let temp_signal = match self.view.signal_kind() {
+            compensate::image::SignalKind::AdcCode => (temp_signal / self.signal_lsb).round(),
+            _ => temp_signal,
+        };
         match self.view.format() {
             compensate::image::NumberFormat::Q => {
                 let Ok(mut c) = compensate::FixedCompensator::new(&self.view) else {

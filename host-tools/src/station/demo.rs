@@ -216,7 +216,7 @@ pub fn run_scenario(
                 .collect();
             let comp = step(
                 scenario,
-                ImageCompensation::new(image, scenario.output_adc.lsb()),
+                ImageCompensation::new(image, scenario.output_adc.lsb(), scenario.signal_adc.lsb()),
             )?;
             for r in apply_rows(part, &curves, &comp, &inside) {
                 image_check_max = image_check_max.max(r.error_ppm.abs());

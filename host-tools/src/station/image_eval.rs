@@ -97,7 +97,6 @@ pub fn evaluate(
     let view = TableView::parse(image).map_err(EvalError::Image)?;
     let fs = frame.fs_hi - frame.fs_lo;
     let to_ppm = 1e6 / fs;
-    let model = frame.model;
     let lsb = frame.lsb;
     let per_row: Vec<Acc> = match view.format() {
         NumberFormat::Q => {
@@ -105,13 +104,14 @@ pub fn evaluate(
                 FixedCompensator::new(&view).map_err(|e| EvalError::Compensator(e.to_string()))?;
             let q = view.q_format();
             let sq = 2f64.powi(i32::from(q.signal));
+            let frame = frame.for_view(&view);
             let oq = 2f64.powi(-i32::from(q.output));
             temps
                 .par_iter()
                 .map(|&t| {
                     let mut c = base;
                     let mut acc = Acc::EMPTY;
-                    c.update_temperature((model.signal(t) * sq).round() as i32);
+                    c.update_temperature((frame.image_signal(t) * sq).round() as i32);
                     for &s in stimuli {
                         let raw = (frame.output(t, s) / lsb).round();
                         let reference = frame.stimulus(raw * lsb, t);
@@ -125,12 +125,13 @@ pub fn evaluate(
         _ => {
             let base =
                 Compensator::new(&view).map_err(|e| EvalError::Compensator(e.to_string()))?;
+            let frame = frame.for_view(&view);
             temps
                 .par_iter()
                 .map(|&t| {
                     let mut c = base;
                     let mut acc = Acc::EMPTY;
-                    c.update_temperature(model.signal(t) as f32);
+                    c.update_temperature(frame.image_signal(t) as f32);
                     for &s in stimuli {
                         let raw = (frame.output(t, s) / lsb).round();
                         let reference = frame.stimulus(raw * lsb, t);

@@ -9,7 +9,7 @@ use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperatu
 use super::model_shapes::shapes_for;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
-use super::table::{InterpKind, NumFormat, TableError, TableFrame, TablePlan};
+use super::table::{InterpKind, NumFormat, SignalUnit, TableError, TableFrame, TablePlan};
 use compensate::TableView;
 use compensate::image::NumberFormat;
 use compensate::interp::Interpolation;
@@ -153,15 +153,23 @@ pub fn build_table(
     curves: &ShapeCurves,
     budget_ppm: f64,
 ) -> Result<TableOutcome, StepError> {
-    build_table_with(part, curves, budget_ppm, Restrict::default())
+    build_table_with(
+        part,
+        curves,
+        budget_ppm,
+        Restrict::default(),
+        SignalUnit::Ohm,
+    )
 }
 
-/// [`build_table`] with the choice limited by `restrict`.
+/// [`build_table`] with the choice limited by `restrict` and the image's
+/// temperature signal in `signal_unit`.
 pub fn build_table_with(
     part: &PartFile,
     curves: &ShapeCurves,
     budget_ppm: f64,
     restrict: Restrict,
+    signal_unit: SignalUnit,
 ) -> Result<TableOutcome, StepError> {
     if !part.is_ok() {
         return Err(StepError::PartNotOk {
@@ -173,7 +181,7 @@ pub fn build_table_with(
         curves,
         params: part.params,
     };
-    let frame = TableFrame::new(part, model)?;
+    let frame = TableFrame::new(part, model)?.with_signal_unit(signal_unit);
     let terms = PartTerms::of(part, &frame);
     let allowance = terms.table_allowance(budget_ppm);
     if allowance <= 0.0 {
@@ -345,7 +353,7 @@ pub fn verify(
         curves,
         params: part.params,
     };
-    let frame = TableFrame::new(part, model)?;
+    let frame = TableFrame::new(part, model)?.for_view(&view);
     let terms = PartTerms::of(part, &frame);
     let temps = linspace(frame.t_lo_c, frame.t_hi_c, n_temps);
     let stimuli = linspace(frame.fs_lo, frame.fs_hi, n_stimuli);

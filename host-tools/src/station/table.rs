@@ -51,6 +51,29 @@ impl InterpKind {
     }
 }
 
+/// What the image's thermometer takes as its temperature signal.
+#[derive(
+    Debug,
+    Clone,
+    Copy,
+    PartialEq,
+    Eq,
+    Default,
+    serde::Serialize,
+    serde::Deserialize,
+    clap::ValueEnum,
+)]
+#[serde(rename_all = "snake_case")]
+pub enum SignalUnit {
+    /// The signal in the spec's units (ohm), as the chamber CSV records it.
+    #[default]
+    Ohm,
+    /// Whole codes of the temperature-signal ADC (the spec's `signal_adc`),
+    /// as firmware reads them: no conversion on the part, and Q images take
+    /// the code itself (0 fraction bits).
+    AdcCode,
+}
+
 /// The choices that decide a table's size and error.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 pub struct TablePlan {
@@ -116,6 +139,10 @@ pub struct TableFrame<'a> {
     pub t_ref_c: f64,
     /// The element's nonlinearity, if any.
     pub bow: Option<Bow>,
+    /// Unit of the image's temperature signal.
+    pub signal_unit: SignalUnit,
+    /// Temperature-signal ADC code size, spec units (ohm) per code.
+    pub signal_lsb: f64,
 }
 
 fn unit(name: &str) -> Unit {
@@ -167,7 +194,54 @@ impl<'a> TableFrame<'a> {
             fs_hi: sc.stimulus_fs.1,
             t_ref_c: sc.t_ref_c,
             bow: sc.bow,
+            signal_unit: SignalUnit::Ohm,
+            signal_lsb: sc.signal_adc.lsb(),
         })
+    }
+
+    /// The same frame with the image's temperature signal in `unit`.
+    pub fn with_signal_unit(mut self, unit: SignalUnit) -> TableFrame<'a> {
+        self.signal_unit = unit;
+        self
+    }
+
+    /// The frame for an existing image: its temperature-signal unit read
+    /// from the image header.
+    pub fn for_view(self, view: &compensate::TableView<'_>) -> TableFrame<'a> {
+        let unit = match view.signal_kind() {
+            SignalKind::AdcCode => SignalUnit::AdcCode,
+            _ => SignalUnit::Ohm,
+        };
+        self.with_signal_unit(unit)
+    }
+
+    /// Spec units (ohm) per image signal unit.
+    fn signal_scale(&self) -> f64 {
+        match self.signal_unit {
+            SignalUnit::Ohm => 1.0,
+            SignalUnit::AdcCode => self.signal_lsb,
+        }
+    }
+
+    /// The temperature signal the image receives at `t_c`, in its unit
+    /// (whole codes for [`SignalUnit::AdcCode`], as the ADC delivers them).
+    pub fn image_signal(&self, t_c: f64) -> f64 {
+        self.image_signal_of(self.model.signal(t_c))
+    }
+
+    /// A spec-unit temperature signal (ohm) in the image's unit.
+    pub fn image_signal_of(&self, signal: f64) -> f64 {
+        match self.signal_unit {
+            SignalUnit::Ohm => signal,
+            SignalUnit::AdcCode => (signal / self.signal_lsb).round(),
+        }
+    }
+
+    fn signal_kind(&self) -> SignalKind {
+        match self.signal_unit {
+            SignalUnit::Ohm => SignalKind::Ohm,
+            SignalUnit::AdcCode => SignalKind::AdcCode,
+        }
     }
 
     /// Raw output at `t_c` and `stimulus`, the element's bow included.
@@ -257,9 +331,13 @@ impl<'a> TableFrame<'a> {
         let mut gain = frac_bits_for(max_gain, 30);
         // offset + gain - output must lie in 0..=62.
         gain = gain.clamp(output.saturating_sub(offset), 62 - offset);
+        let signal = match self.signal_unit {
+            SignalUnit::Ohm => frac_bits_for(max_sig, 30),
+            SignalUnit::AdcCode => 0,
+        };
         QFormat {
             temperature: frac_bits_for(max_t * 2.0, 30),
-            signal: frac_bits_for(max_sig, 30),
+            signal,
             output,
             offset,
             gain,
@@ -303,21 +381,22 @@ impl<'a> TableFrame<'a> {
                     .iter()
                     .map(|&v| v as f32)
                     .collect();
+                let u = self.signal_scale();
                 let builder = ImageBuilder::<f32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: QFormat::F32,
-                    signal_kind: SignalKind::Ohm,
+                    signal_kind: self.signal_kind(),
                     unit: unit(unit_name),
                     ratiometric: false,
                     full_scale: fs as f32,
                     raw_limits: limits,
-                    signal_lo: (self.sig_lo - sig_margin) as f32,
-                    signal_hi: (self.sig_hi + sig_margin) as f32,
+                    signal_lo: ((self.sig_lo - sig_margin) / u) as f32,
+                    signal_hi: ((self.sig_hi + sig_margin) / u) as f32,
                     serial: serial_bytes,
                     thermometer: Some(MapSpec {
                         axis: AxisSpec {
-                            start: self.sig_lo as f32,
-                            step: s_step as f32,
+                            start: (self.sig_lo / u) as f32,
+                            step: (s_step / u) as f32,
                         },
                         values: &therm,
                     }),
@@ -342,7 +421,8 @@ impl<'a> TableFrame<'a> {
             NumFormat::Q => {
                 let q = self.q_format();
                 let tq = 2f64.powi(i32::from(q.temperature));
-                let sq = 2f64.powi(i32::from(q.signal));
+                // Image signal units (fraction bits included) per ohm.
+                let sq = 2f64.powi(i32::from(q.signal)) / self.signal_scale();
                 // Integer axes: start rounded down, step rounded up so the
                 // last node reaches the range end.
                 let t_start = (self.t_lo_c * tq).floor() as i32;
@@ -374,13 +454,13 @@ impl<'a> TableFrame<'a> {
                 let builder = ImageBuilder::<i32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: q,
-                    signal_kind: SignalKind::Ohm,
+                    signal_kind: self.signal_kind(),
                     unit: unit(unit_name),
                     ratiometric: false,
                     full_scale: fs as f32,
                     raw_limits: limits,
-                    signal_lo: scale(self.sig_lo - sig_margin, q.signal),
-                    signal_hi: scale(self.sig_hi + sig_margin, q.signal),
+                    signal_lo: ((self.sig_lo - sig_margin) * sq).round() as i32,
+                    signal_hi: ((self.sig_hi + sig_margin) * sq).round() as i32,
                     serial: serial_bytes,
                     thermometer: Some(MapSpec {
                         axis: AxisSpec {
