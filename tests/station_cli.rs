@@ -378,3 +378,52 @@ fn bowed_part_gets_a_2d_table_that_verifies() {
         loose["dense"]
     );
 }
+
+/// `--signal-unit adc-code` images take the temperature signal as whole ADC
+/// codes (as firmware reads them): they verify like the ohm image of the
+/// same plan and compensate chamber rows (converted to codes by `apply`) to
+/// the same readings within the code rounding of the thermometer input.
+#[test]
+fn adc_code_images_verify_and_apply() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    chain(d);
+    let part = "parts/WELL-0001.part.json";
+    let mut worst = Vec::new();
+    for (unit, file) in [("ohm", "o.bin"), ("adc-code", "c.bin")] {
+        ok_in(
+            d,
+            &[
+                "table",
+                part,
+                "--number-format",
+                "q",
+                "--interpolation",
+                "linear",
+                "--signal-unit",
+                unit,
+                "--out",
+                file,
+            ],
+        );
+        let v: serde_json::Value =
+            serde_json::from_str(&ok_in(d, &["verify", file, "--against", part, "--json"]))
+                .unwrap();
+        assert_eq!(v["pass"], true, "{unit}: {v}");
+        let a: serde_json::Value = serde_json::from_str(&ok_in(
+            d,
+            &["apply", file, "check.csv", "--against", part, "--json"],
+        ))
+        .unwrap();
+        worst.push(a["max_abs_error_ppm"].as_f64().unwrap());
+    }
+    // One signal code is 1.2 mohm = 0.15 mK on this thermometer (1.6e-3/K
+    // of 5 kohm); times the 2100 ppm/K raw drift that is under 1 ppm: the
+    // two images' worst held-out errors agree within 5 ppm.
+    assert!(
+        (worst[0] - worst[1]).abs() < 5.0,
+        "ohm image worst {} ppm, code image worst {} ppm",
+        worst[0],
+        worst[1]
+    );
+}
