@@ -321,7 +321,8 @@ pub fn plan_of(view: &TableView<'_>) -> TablePlan {
 pub const CURVE_TEMPS: usize = 421;
 
 /// Largest |error| of `image` at each of [`CURVE_TEMPS`] temperatures over
-/// the part's range, across [`DENSE_STIMULI`] stimuli (ppm of span).
+/// the part's range, across the dense grid's stimuli ([`dense_counts`]),
+/// in ppm of span.
 pub fn table_error_curve(
     image: &[u8],
     part: &PartFile,
@@ -332,8 +333,11 @@ pub fn table_error_curve(
         params: part.params,
     };
     let frame = TableFrame::new(part, model)?;
+    let view = TableView::parse(image).map_err(|e| StepError::Eval(EvalError::Image(e)))?;
+    // A 2-D image is sampled between its raw nodes too.
+    let (_, n_stimuli) = dense_counts(&plan_of(&view));
     let temps = linspace(frame.t_lo_c, frame.t_hi_c, CURVE_TEMPS);
-    let stimuli = linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI);
+    let stimuli = linspace(frame.fs_lo, frame.fs_hi, n_stimuli);
     Ok(per_temperature(image, &frame, &temps, &stimuli)?)
 }
 
