@@ -132,6 +132,26 @@ fn station_plots_are_valid_and_byte_identical() {
     for label in ["lot of 3 parts", "uncompensated", "physics calibration"] {
         assert!(lot.contains(label), "lot.svg lacks {label:?}");
     }
+    // The same lot from its calibration CSV, fitted in memory, draws the
+    // same figure as from the part files `calibrate` wrote.
+    ok_in(
+        d,
+        &[
+            "plot",
+            "lot",
+            "cal.csv",
+            "--spec",
+            "well.toml",
+            "--chamber",
+            "check.csv",
+            "--out",
+            "lot-csv.svg",
+        ],
+    );
+    assert!(
+        std::fs::read(d.join("lot-csv.svg")).unwrap() == lot.as_bytes(),
+        "lot from cal.csv differs from lot from the part files"
+    );
     let table = std::fs::read_to_string(d.join("table.svg")).unwrap();
     assert!(table.contains("WELL-0001: table error"), "table.svg title");
 }
@@ -157,7 +177,7 @@ fn bad_input_names_file_line_and_field() {
         .collect();
     std::fs::write(d.join("bad.csv"), bad.join("\n") + "\n").unwrap();
     std::fs::write(d.join("notes.txt"), "not a table image\n").unwrap();
-    let cases: [(&[&str], &[&str]); 4] = [
+    let cases: [(&[&str], &[&str]); 5] = [
         (
             &[
                 "plot",
@@ -174,7 +194,19 @@ fn bad_input_names_file_line_and_field() {
         ),
         (
             &["plot", "lot", "cal.csv", "--chamber", "check.csv"],
-            &["cal.csv"],
+            &["--spec", "cal.csv"],
+        ),
+        (
+            &[
+                "plot",
+                "lot",
+                "bad.csv",
+                "--spec",
+                "well.toml",
+                "--chamber",
+                "check.csv",
+            ],
+            &["bad.csv:3", "temp_signal"],
         ),
         (
             &[
