@@ -125,7 +125,10 @@ fn station_plots_are_valid_and_byte_identical() {
                 text.starts_with("<svg") && text.trim_end().ends_with("</svg>"),
                 "{file}: not an SVG document"
             );
-            assert!(text.contains("budget"), "{file}: no budget line");
+            assert!(
+                text.contains("budget") || text.contains("allowance"),
+                "{file}: no budget line"
+            );
         }
     }
     let lot = std::fs::read_to_string(d.join("lot.svg")).unwrap();

@@ -6,7 +6,6 @@ use super::table::read_part;
 use crate::station::apply::{
     AppliedRow, Compensation, ImageCompensation, ModelCompensation, apply_rows,
 };
-use crate::station::part_model::PartModel;
 use crate::station::{chamber, output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -84,12 +83,7 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
         &image_comp
     } else {
-        model_comp = ModelCompensation {
-            model: PartModel {
-                curves: &curves,
-                params: part.params,
-            },
-        };
+        model_comp = ModelCompensation::for_part(&part, &curves);
         &model_comp
     };
     let applied = apply_rows(&part, &curves, method, &rows);

@@ -29,6 +29,8 @@ pub struct ErrorFigure<'a> {
     pub series: &'a [Series],
     /// Budget (or allowance) line, ppm of span.
     pub budget_ppm: Option<f64>,
+    /// Legend label of that line.
+    pub budget_label: &'a str,
 }
 
 /// Axis limits of an error figure: (t0, t1, log-axis low, log-axis high).
@@ -112,7 +114,7 @@ impl Figure for ErrorFigure<'_> {
                     BLACK.stroke_width(1),
                 ))
                 .map_err(PlotError::draw)?
-                .label("budget")
+                .label(self.budget_label)
                 .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], BLACK));
         }
         legend(&mut chart, SeriesLabelPosition::MiddleRight)
@@ -120,29 +122,32 @@ impl Figure for ErrorFigure<'_> {
 }
 
 /// Draws `series` (|error| in ppm of span, log axis) against temperature,
-/// with an optional horizontal budget line; returns the SVG text.
+/// with an optional horizontal line `(ppm, label)`; returns the SVG text.
 pub fn error_svg(
     title: &str,
     series: &[Series],
-    budget_ppm: Option<f64>,
+    line: Option<(f64, &str)>,
 ) -> Result<String, PlotError> {
+    let budget_ppm = line.map(|l| l.0);
     let figure = ErrorFigure {
         title,
         series,
         budget_ppm,
+        budget_label: line.map_or("", |l| l.1),
     };
     limits(series, budget_ppm)?;
     figure_svg(&figure)
 }
 
-/// Writes the error plot to `path` atomically: PNG when the name ends in
-/// `.png`, SVG otherwise.
+/// Writes the error plot to `path` atomically (PNG when the name ends in
+/// `.png`, SVG otherwise), with an optional horizontal line `(ppm, label)`.
 pub fn write_error_plot(
     path: &Path,
     title: &str,
     series: &[Series],
-    budget_ppm: Option<f64>,
+    line: Option<(f64, &str)>,
 ) -> Result<(), PlotError> {
+    let budget_ppm = line.map(|l| l.0);
     limits(series, budget_ppm)?;
     write_figure(
         path,
@@ -150,6 +155,7 @@ pub fn write_error_plot(
             title,
             series,
             budget_ppm,
+            budget_label: line.map_or("", |l| l.1),
         },
     )
 }
@@ -213,8 +219,8 @@ mod tests {
     #[test]
     fn svg_and_bitmap_are_repeatable_and_labelled() {
         let s = series();
-        let a = error_svg("lot", &s, Some(500.0)).unwrap();
-        let b = error_svg("lot", &s, Some(500.0)).unwrap();
+        let a = error_svg("lot", &s, Some((500.0, "budget"))).unwrap();
+        let b = error_svg("lot", &s, Some((500.0, "budget"))).unwrap();
         assert_eq!(a, b, "same input must give the same SVG");
         for text in ["lot", "before", "after", "budget", "temperature (C)"] {
             assert!(a.contains(text), "SVG lacks {text:?}");
@@ -223,6 +229,7 @@ mod tests {
             title: "lot",
             series: &s,
             budget_ppm: None,
+            budget_label: "",
         };
         let (x, y) = (figure_rgb(&f).unwrap(), figure_rgb(&f).unwrap());
         assert_eq!(x, y, "same input must give the same bitmap");

@@ -1,6 +1,7 @@
 //! Compensating recorded raw rows the way the firmware does, and the error of
 //! each row against its reference stimulus in ppm of span.
 
+use super::bow::Bow;
 use super::chamber::ChamberRow;
 use super::curves::ShapeCurves;
 use super::part_file::PartFile;
@@ -36,12 +37,34 @@ pub trait Compensation {
 pub struct ModelCompensation<'a> {
     /// The fitted part model.
     pub model: PartModel<'a>,
+    /// The element's bow with the scenario's reference temperature and
+    /// full-scale range, when the scenario states one.
+    pub bow: Option<(Bow, f64, (f64, f64))>,
+}
+
+impl<'a> ModelCompensation<'a> {
+    /// The compensation of `part`: its fitted model and its scenario's bow.
+    pub fn for_part(part: &PartFile, curves: &'a ShapeCurves) -> ModelCompensation<'a> {
+        let sc = &part.scenario;
+        ModelCompensation {
+            model: PartModel {
+                curves,
+                params: part.params,
+            },
+            bow: sc.bow.map(|b| (b, sc.t_ref_c, sc.stimulus_fs)),
+        }
+    }
 }
 
 impl Compensation for ModelCompensation<'_> {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
         let t = self.model.temperature(temp_signal);
-        (self.model.stimulus(output, t), t)
+        let apparent = self.model.stimulus(output, t);
+        let s = match self.bow {
+            Some((b, t_ref_c, fs)) => b.true_stimulus(apparent, t, t_ref_c, fs),
+            None => apparent,
+        };
+        (s, t)
     }
 }
 

@@ -132,7 +132,7 @@ pub fn run_scenario(
                 scenario.name
             ),
             &comparison_series(&comparison),
-            Some(scenario.budget_ppm),
+            Some((scenario.budget_ppm, "budget")),
         ),
     )?;
     write_atomic(&dir.join("plots").join("lot-error.svg"), lot_svg.as_bytes())?;
@@ -191,7 +191,11 @@ pub fn run_scenario(
             let (title, series) = table_series(report, curve);
             let svg = step(
                 scenario,
-                error_svg(&title, &series, Some(report.table_allowance_ppm)),
+                error_svg(
+                    &title,
+                    &series,
+                    Some((report.table_allowance_ppm, "allowance")),
+                ),
             )?;
             write_atomic(
                 &dir.join("plots").join(format!("table-error-{serial}.svg")),

@@ -144,8 +144,13 @@ fn plot_lot(
     }
     let series: Vec<Series> = comparison_series(&comparison);
     let title = format!("{what}: worst |error| before and after compensation");
-    write_error_plot(out_path, &title, &series, Some(first.scenario.budget_ppm))
-        .map_err(|e| CliError::option("--out", &out_path.display().to_string(), e))?;
+    write_error_plot(
+        out_path,
+        &title,
+        &series,
+        Some((first.scenario.budget_ppm, "budget")),
+    )
+    .map_err(|e| CliError::option("--out", &out_path.display().to_string(), e))?;
     Ok((comparison.parts, comparison.by_temperature.len()))
 }
 

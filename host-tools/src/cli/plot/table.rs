@@ -46,8 +46,13 @@ pub fn run(args: PlotTableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let report = pipeline::verify(&image, &part, &curves, budget, 3, 2).map_err(image_err)?;
     let curve = pipeline::table_error_curve(&image, &part, &curves).map_err(image_err)?;
     let (title, series) = table_series(&report, curve);
-    write_error_plot(&args.out, &title, &series, Some(report.table_allowance_ppm))
-        .map_err(|e| CliError::option("--out", &args.out.display().to_string(), e))?;
+    write_error_plot(
+        &args.out,
+        &title,
+        &series,
+        Some((report.table_allowance_ppm, "allowance")),
+    )
+    .map_err(|e| CliError::option("--out", &args.out.display().to_string(), e))?;
     writeln!(
         out,
         "wrote {} ({} temperatures)",
