@@ -28,4 +28,5 @@ pub mod scenario;
 pub mod simulate;
 pub mod spec;
 pub mod table;
+pub mod table_grid;
 pub mod truth;
