@@ -1,5 +1,19 @@
 //! Writes the table images and the recorded sample stream that the
-//! bare-metal firmware in `examples/firmware/` embeds:
+//! bare-metal firmware in `examples/firmware/` embeds, by running the
+//! calibration station chain on a simulated well-level logger part:
+//!
+//! ```text
+//! semidrift simulate well-logger --parts 1 --seed 42 --out cal.csv --write-spec well.toml
+//! semidrift calibrate well.toml cal.csv --out-dir parts --quiet
+//! semidrift table parts/WELL-0001.part.json --format bin --budget 100 \
+//!     --number-format f32 --interpolation linear --signal-unit adc-code --out f32.bin
+//! semidrift table parts/WELL-0001.part.json --format bin --budget 100 \
+//!     --number-format q --interpolation linear --signal-unit adc-code --out q.bin
+//! ```
+//!
+//! (run in-process through `host_tools::cli`, in a temporary folder), then
+//! records a stream from the same simulated part (`host_tools::station::
+//! simulate`, the code behind `simulate`):
 //!
 //! - `examples/firmware/data/well_level_f32.bin`: f32 table image (Cortex-M4F path),
 //! - `examples/firmware/data/well_level_q.bin`: Q-format table image (integer path),
@@ -7,122 +21,40 @@
 //!
 //! Scenario (invented data, DESIGN.md): a well-level logger's 0-10 bar gauge
 //! silicon die, p-type piezoresistive bridge read by a 24-bit ADC, the
-//! bridge's own resistance as the thermometer, -20..85 C. The part below is
-//! a simple invented drift model with round coefficients; it stands in for a
-//! calibrated part until the station's table command produces these images.
+//! bridge's own resistance as the thermometer (read by a second 24-bit ADC),
+//! -20..85 C, budget 0.05 % FS of which the table gets 0.01 %. The images take the temperature signal as
+//! whole ADC codes (`--signal-unit adc-code`), as the firmware reads them,
+//! so the same stream drives both paths. Interpolation is forced to linear:
+//! the chooser's least-flash pick for this part is a 3-node monotone cubic
+//! table, whose temperature update costs about twice the instructions of
+//! the linear kernel (issue 6's per-update targets); linear needs a few more
+//! nodes and bytes.
 //!
 //! `cargo run --example make_firmware_image` rewrites the files (atomically);
 //! `cargo run --example make_firmware_image -- --check` fails if they differ
 //! from what this program produces. The test `tests/firmware_qemu.rs` makes
 //! the same check.
 
-use compensate::ImageBuilder;
-use compensate::image::{AxisSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
-use compensate::interp::Interpolation;
+use host_tools::station::chamber::ChamberRow;
+use host_tools::station::scenario::Scenario;
+use host_tools::station::simulate::{Plan, draw_parts, measure};
 use std::path::{Path, PathBuf};
 
-/// Temperature axis of the correction channels: -20..85 C in 7 C steps.
-const T_START_C: f64 = -20.0;
-const T_STEP_C: f64 = 7.0;
-const T_NODES: usize = 16;
-/// Thermometer nodes, evenly spaced in temperature-signal code.
-const SIG_NODES: usize = 16;
-/// Full scale: 10 bar gauge, in pascal.
-pub const FULL_SCALE_PA: f64 = 1.0e6;
-/// Reference temperature of the drift coefficients.
-const T_REF_C: f64 = 25.0;
-/// Recorded samples in the stream.
+/// Seed of the simulated lot (`simulate --seed`).
+pub const SEED: u64 = 42;
+/// Seed of the recorded stream's noise and die-temperature error.
+pub const STREAM_SEED: u64 = 4242;
+/// Recorded samples in the stream (a ramp, then four fault samples).
 pub const STREAM_LEN: usize = 120;
-
-/// Q formats of the integer image: temperature in Q16 C, temperature signal
-/// in integer codes, output in Q8 Pa (1/256 Pa, far below the 500 Pa budget
-/// of 0.05 % FS), offset in Q6 codes (raw << 6 stays below 2^30), gain in
-/// Q30 Pa/code (0.25 Pa/code gives about 28 significant bits) and the
-/// quadratic channel at the largest fraction the format allows.
-///
-/// Known limitation of layout version 1: the quadratic channel of this part
-/// is about 5e-11 Pa/code^2, which needs about 45 fraction bits; at the
-/// format's maximum of 30 it rounds to zero, so the integer path leaves the
-/// bow (and the bow's share of the gain) uncorrected, about 0.3 % FS at full
-/// scale. The f32 image is unaffected.
-pub const Q_FORMAT: QFormat = QFormat {
-    temperature: 16,
-    signal: 0,
-    output: 8,
-    offset: 6,
-    gain: 30,
-    quadratic: 30,
-};
-
-/// The invented part (recalled-from-memory magnitudes for a boron-doped
-/// bridge near 2e18 cm^-3, not a measured device): bridge resistance
-/// temperature coefficient about +0.16 %/K, span falling about 0.21 %/K
-/// under constant-voltage excitation, an offset that creeps with
-/// temperature, and a 0.08 % FS bow.
-pub mod part {
-    use super::T_REF_C;
-
-    /// Bridge resistance in ohms at `t_c`.
-    pub fn resistance_ohm(t_c: f64) -> f64 {
-        let dt = t_c - T_REF_C;
-        5000.0 * (1.0 + 1.6e-3 * dt + 4.0e-6 * dt * dt)
-    }
-
-    /// Temperature-signal ADC code: the bridge resistance measured against
-    /// a 10 kOhm reference by the 24-bit ADC (full scale 2^23).
-    pub fn temp_code(t_c: f64) -> f64 {
-        resistance_ohm(t_c) / 10_000.0 * 8_388_608.0
-    }
-
-    /// Span (codes from 0 to 10 bar) at `t_c`.
-    pub fn span_codes(t_c: f64) -> f64 {
-        let dt = t_c - T_REF_C;
-        4.0e6 * (1.0 - 2.1e-3 * dt + 5.0e-6 * dt * dt)
-    }
-
-    /// Zero-pressure output code at `t_c`.
-    pub fn offset_codes(t_c: f64) -> f64 {
-        let dt = t_c - T_REF_C;
-        52_000.0 + 140.0 * dt + 0.9 * dt * dt
-    }
-
-    /// Terminal-based bow as a fraction of span (negative: sags at mid-scale).
-    pub const BOW: f64 = -8.0e-4;
-
-    /// Raw output code at pressure fraction `x` (0..1 of 10 bar) and `t_c`.
-    pub fn raw_code(x: f64, t_c: f64) -> f64 {
-        let s = span_codes(t_c);
-        offset_codes(t_c) + s * x + 4.0 * BOW * s * x * (x - 1.0)
-    }
-
-    /// Temperature at which the signal code equals `code` (inverse of
-    /// [`temp_code`] by the quadratic formula).
-    pub fn t_from_code(code: f64) -> f64 {
-        let r = code / 8_388_608.0 * 10_000.0 / 5000.0;
-        // 4e-6 dt^2 + 1.6e-3 dt + (1 - r) = 0, the root near dt = 0.
-        let (a, b, c) = (4.0e-6, 1.6e-3, 1.0 - r);
-        T_REF_C + (-b + (b * b - 4.0 * a * c).sqrt()) / (2.0 * a)
-    }
-}
-
-/// Correction channels at temperature `t_c`: `(offset, gain, quadratic)` so
-/// that `p = d (gain + quadratic d)`, `d = raw - offset`, inverts
-/// [`part::raw_code`] to second order in the bow.
-fn channels(t_c: f64) -> (f64, f64, f64) {
-    let s = part::span_codes(t_c);
-    let b = 4.0 * part::BOW;
-    // d = s (1 - b) x + b s x^2, so x = d / s1 - b s d^2 / s1^3 + O(b^2).
-    let s1 = s * (1.0 - b);
-    let gain = FULL_SCALE_PA / s1;
-    let quadratic = -FULL_SCALE_PA * b * s / (s1 * s1 * s1);
-    (part::offset_codes(t_c), gain, quadratic)
-}
-
-fn q(v: f64, bits: u8) -> i32 {
-    let scaled = (v * f64::from(1u32 << bits)).round();
-    assert!(scaled.abs() < 2f64.powi(31), "{v} does not fit Q{bits}");
-    scaled as i32
-}
+/// Full scale of the 0-10 bar gauge, in bar (the images' unit).
+pub const FULL_SCALE_BAR: f64 = 10.0;
+/// Budget given to `table`, ppm of span: a fifth of the data sheet's
+/// 500 ppm, so the table's error stays small beside the fitted model's own
+/// error against the part (the full 500 ppm gives a 2-node table that uses
+/// up the budget by itself).
+pub const TABLE_BUDGET_PPM: &str = "100";
+/// Operating range of the scenario, C.
+const RANGE_C: (f64, f64) = (-20.0, 85.0);
 
 /// The three files, in memory.
 pub struct FirmwareData {
@@ -134,176 +66,130 @@ pub struct FirmwareData {
     pub stream_csv: String,
 }
 
-/// Raw-code limits: rails near the 24-bit ends, calibrated range from a
-/// little below the lowest zero-pressure code to a little above full scale.
-const RAW_LIMITS: RawLimits = RawLimits {
-    rail_lo: -8_388_000,
-    raw_lo: 0,
-    raw_hi: 4_400_000,
-    rail_hi: 8_388_000,
-};
-
-/// Builds the images and the stream (deterministic).
-pub fn build() -> FirmwareData {
-    let t_nodes: Vec<f64> = (0..T_NODES)
-        .map(|k| T_START_C + T_STEP_C * k as f64)
-        .collect();
-    let t_end = t_nodes[T_NODES - 1];
-    let (offset, gain, quadratic): (Vec<f64>, Vec<f64>, Vec<f64>) = {
-        let ch: Vec<_> = t_nodes.iter().map(|&t| channels(t)).collect();
-        (
-            ch.iter().map(|c| c.0).collect(),
-            ch.iter().map(|c| c.1).collect(),
-            ch.iter().map(|c| c.2).collect(),
-        )
-    };
-    // Thermometer: integer signal codes, so the same axis serves both images.
-    let sig_start = part::temp_code(T_START_C).round();
-    let sig_end = part::temp_code(t_end).round();
-    let sig_step = ((sig_end - sig_start) / (SIG_NODES - 1) as f64).ceil();
-    let sig_codes: Vec<f64> = (0..SIG_NODES)
-        .map(|k| sig_start + sig_step * k as f64)
-        .collect();
-    let therm_t: Vec<f64> = sig_codes.iter().map(|&c| part::t_from_code(c)).collect();
-    let signal_lo = part::temp_code(-40.0).round();
-    let signal_hi = part::temp_code(125.0).round();
-    let mut serial = [0u8; 16];
-    serial[..14].copy_from_slice(b"WLL-DEMO-00042");
-
-    let f = |v: &[f64]| v.iter().map(|&x| x as f32).collect::<Vec<f32>>();
-    let (therm_f, offset_f, gain_f, quad_f) = (f(&therm_t), f(&offset), f(&gain), f(&quadratic));
-    let image_f32 = ImageBuilder::<f32> {
-        interpolation: Interpolation::Linear,
-        q_format: QFormat::F32,
-        signal_kind: SignalKind::AdcCode,
-        unit: Unit::Pascal,
-        ratiometric: true,
-        full_scale: FULL_SCALE_PA as f32,
-        raw_limits: RAW_LIMITS,
-        signal_lo: signal_lo as f32,
-        signal_hi: signal_hi as f32,
-        serial,
-        thermometer: Some(MapSpec {
-            axis: AxisSpec {
-                start: sig_start as f32,
-                step: sig_step as f32,
-            },
-            values: &therm_f,
-        }),
-        temperature_axis: AxisSpec {
-            start: T_START_C as f32,
-            step: T_STEP_C as f32,
-        },
-        offset: &offset_f,
-        gain: &gain_f,
-        quadratic: Some(&quad_f),
-        grid: None,
-    };
-
-    let qf = Q_FORMAT;
-    let qv = |v: &[f64], bits: u8| v.iter().map(|&x| q(x, bits)).collect::<Vec<i32>>();
-    let (therm_q, offset_q, gain_q, quad_q) = (
-        qv(&therm_t, qf.temperature),
-        qv(&offset, qf.offset),
-        qv(&gain, qf.gain),
-        qv(&quadratic, qf.quadratic),
-    );
-    let image_q = ImageBuilder::<i32> {
-        interpolation: Interpolation::Linear,
-        q_format: qf,
-        signal_kind: SignalKind::AdcCode,
-        unit: Unit::Pascal,
-        ratiometric: true,
-        full_scale: FULL_SCALE_PA as f32,
-        raw_limits: RAW_LIMITS,
-        signal_lo: q(signal_lo, qf.signal),
-        signal_hi: q(signal_hi, qf.signal),
-        serial,
-        thermometer: Some(MapSpec {
-            axis: AxisSpec {
-                start: q(sig_start, qf.signal),
-                step: q(sig_step, qf.signal),
-            },
-            values: &therm_q,
-        }),
-        temperature_axis: AxisSpec {
-            start: q(T_START_C, qf.temperature),
-            step: q(T_STEP_C, qf.temperature),
-        },
-        offset: &offset_q,
-        gain: &gain_q,
-        quadratic: Some(&quad_q),
-        grid: None,
-    };
-
-    let encode =
-        |len: Result<usize, _>,
-         enc: &dyn Fn(&mut [u8]) -> Result<usize, compensate::image::EncodeError>| {
-            let len: usize = len.unwrap_or_else(|e| panic!("image length: {e}"));
-            let mut buf = vec![0u8; len];
-            let n = enc(&mut buf).unwrap_or_else(|e| panic!("encode: {e}"));
-            buf.truncate(n);
-            buf
-        };
-    let f32_image = encode(image_f32.encoded_len(), &|b| image_f32.encode(b));
-    let q_image = encode(image_q.encoded_len(), &|b| image_q.encode(b));
-    FirmwareData {
-        f32_image,
-        q_image,
-        stream_csv: stream(),
-    }
+/// Runs one `semidrift` command in-process; panics with its message on failure.
+fn semidrift(args: &[&str]) -> String {
+    let mut out = Vec::new();
+    let mut argv = vec!["semidrift"];
+    argv.extend_from_slice(args);
+    let code = host_tools::cli::run_with_args(argv, &mut out);
+    assert_eq!(code, 0, "semidrift {args:?} failed (exit {code})");
+    String::from_utf8_lossy(&out).into_owned()
 }
 
-/// Pressure in pascal and temperature in degrees Celsius of recorded sample
-/// `i` of the temperature ramp (`i < STREAM_LEN - 4`): a chamber-style ramp
-/// from -20 C to 85 C and back while the pressure cycles over the range.
+/// Pressure in bar and chamber temperature in degrees Celsius of recorded
+/// sample `i` of the ramp (`i < STREAM_LEN - 4`): a chamber-style ramp from
+/// -20 C to 85 C and back while the pressure cycles over the range.
 pub fn ramp_truth(i: usize) -> (f64, f64) {
     let ramp = STREAM_LEN - 4;
     let phase = i as f64 / (ramp - 1) as f64;
     // Triangle: up for the first half, down for the second.
     let tri = 1.0 - (2.0 * phase - 1.0).abs();
-    let t_c = T_START_C + (85.0 - T_START_C) * tri;
+    let t_c = RANGE_C.0 + (RANGE_C.1 - RANGE_C.0) * tri;
     let x = 0.5 - 0.45 * (i as f64 * 0.37).cos();
-    (x * FULL_SCALE_PA, t_c)
+    (x * FULL_SCALE_BAR, t_c)
 }
 
-/// Largest ADC noise added to a recorded code, in codes.
-pub const NOISE_CODES: f64 = 3.5;
+/// One reading of the simulated part at `t_c` and `bar`, as (output code,
+/// temperature-signal code): the station's simulated die, chamber error,
+/// ADC noise and quantization.
+fn record(scenario: &Scenario, t_c: f64, bar: f64, k: usize) -> (i64, i64) {
+    let parts = draw_parts(scenario, 1, SEED);
+    let plan = Plan {
+        temps_c: vec![t_c],
+        stimuli: vec![bar],
+    };
+    let rows: Vec<ChamberRow> = measure(scenario, &parts, &plan, STREAM_SEED ^ k as u64)
+        .unwrap_or_else(|e| panic!("simulated part at {t_c} C, {bar} bar: {e}"));
+    let r = &rows[0];
+    (
+        (r.output / scenario.output_adc.lsb()).round() as i64,
+        (r.temp_signal / scenario.signal_adc.lsb()).round() as i64,
+    )
+}
 
-/// The recorded stream: the ramp of [`ramp_truth`] with a few codes of
-/// deterministic ADC noise, then four fault samples (open bridge at the
-/// upper rail, thermometer signal beyond its plausible range, a code above
-/// the calibrated range, a code below it).
-fn stream() -> String {
+/// The recorded stream: the ramp of [`ramp_truth`] read from the simulated
+/// part, then four fault samples (open bridge at the upper rail, thermometer
+/// signal beyond its plausible range, a code above the calibrated range, a
+/// code below it).
+fn stream(scenario: &Scenario, q_image: &[u8]) -> String {
     let mut out = String::from(
-        "# Recorded stream of the well-level logger demo (invented data), made by\n\
-         # examples/make_firmware_image.rs: bridge output code, temperature-signal code.\n\
+        "# Recorded stream of the well-level logger demo (simulated part WELL-0001, seed 42),\n\
+         # made by examples/make_firmware_image.rs: bridge output code, temperature-signal code.\n\
          raw_code,temp_code\n",
     );
-    // Numerical Recipes' 32-bit LCG constants (Press et al., Numerical
-    // Recipes, 2nd ed. 1992, sec. 7.1): deterministic noise, same on every run.
-    let mut state: u32 = 20_251_201;
-    let mut noise = || {
-        state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
-        f64::from(state >> 29) - NOISE_CODES
-    };
     for i in 0..STREAM_LEN - 4 {
-        let (p_pa, t_c) = ramp_truth(i);
-        let raw = (part::raw_code(p_pa / FULL_SCALE_PA, t_c) + noise()).round() as i32;
-        let temp = (part::temp_code(t_c) + noise()).round() as i32;
+        let (bar, t_c) = ramp_truth(i);
+        let (raw, temp) = record(scenario, t_c, bar, i);
         out.push_str(&format!("{raw},{temp}\n"));
     }
-    let t25 = part::temp_code(25.0).round() as i32;
-    let mid = part::raw_code(0.5, 25.0).round() as i32;
+    let limits = compensate::TableView::parse(q_image)
+        .expect("the station's Q image parses")
+        .raw_limits();
+    let (mid, t25) = record(scenario, 25.0, 5.0, STREAM_LEN);
+    let (_, hot) = record(scenario, 125.0, 5.0, STREAM_LEN + 1);
     for (raw, temp) in [
-        (RAW_LIMITS.rail_hi, t25),
-        (mid, part::temp_code(150.0).round() as i32),
-        (RAW_LIMITS.raw_hi + 100_000, t25),
-        (RAW_LIMITS.raw_lo - 30_000, t25),
+        (i64::from(limits.rail_hi), t25),
+        (mid, hot),
+        (i64::from(limits.raw_hi) + 100_000, t25),
+        (i64::from(limits.raw_lo) - 30_000, t25),
     ] {
         out.push_str(&format!("{raw},{temp}\n"));
     }
     out
+}
+
+/// Runs the chain in a temporary folder and returns the files (deterministic).
+pub fn build() -> FirmwareData {
+    let dir = tempfile::tempdir().expect("temporary folder");
+    let p = |name: &str| dir.path().join(name).display().to_string();
+    let seed = SEED.to_string();
+    semidrift(&[
+        "simulate",
+        "well-logger",
+        "--parts",
+        "1",
+        "--seed",
+        &seed,
+        "--out",
+        &p("cal.csv"),
+        "--write-spec",
+        &p("well.toml"),
+    ]);
+    semidrift(&[
+        "calibrate",
+        &p("well.toml"),
+        &p("cal.csv"),
+        "--out-dir",
+        &p("parts"),
+        "--quiet",
+    ]);
+    let part = p("parts/WELL-0001.part.json");
+    for format in ["f32", "q"] {
+        semidrift(&[
+            "table",
+            &part,
+            "--format",
+            "bin",
+            "--budget",
+            TABLE_BUDGET_PPM,
+            "--number-format",
+            format,
+            "--interpolation",
+            "linear",
+            "--signal-unit",
+            "adc-code",
+            "--out",
+            &p(&format!("{format}.bin")),
+        ]);
+    }
+    let read = |name: &str| std::fs::read(p(name)).unwrap_or_else(|e| panic!("{name}: {e}"));
+    let (f32_image, q_image) = (read("f32.bin"), read("q.bin"));
+    let stream_csv = stream(&Scenario::well_logger(), &q_image);
+    FirmwareData {
+        f32_image,
+        q_image,
+        stream_csv,
+    }
 }
 
 /// Folder the firmware embeds its data from.

@@ -407,55 +407,58 @@ fn firmware_links_no_allocator() {
     }
 }
 
-/// The demo data mean something: on the temperature ramp, the f32 path's
+/// The demo data mean something: on the temperature ramp, both paths'
 /// readings (bit-identical to the firmware's, see above) recover the
-/// pressure the invented part was driven with.
+/// pressure the simulated part was driven with.
 ///
-/// Tolerance 200 ppm of full scale, the sum of: linear interpolation of the
-/// gain over 7 C nodes, h^2/8 max|g''|/g = 49/8 * 1.9e-5 = 1.2e-4 of the
-/// reading (g = 1/span, span -2100 ppm/K and +5 ppm/K^2); offset curvature,
-/// 49/8 * 1.8 codes * 0.25 Pa/code = 3 ppm; ADC noise 3.5 codes, 1 ppm;
-/// thermometer noise 3.5 codes = 0.003 C times the 2100 ppm/K span drift,
-/// 6 ppm; the neglected O(bow^2) of the inversion, 1e-5: 140 ppm, rounded up.
-///
-/// The integer path is not held to this: with the image's Q formats the
-/// quadratic channel quantises to zero (see examples/make_firmware_image.rs).
+/// Tolerance 600 ppm of full scale, the sum of: the image's verified error
+/// against the part's fitted model plus the budget's fit-residual and
+/// temperature-signal terms, within the 100 ppm budget the images are built
+/// to (`semidrift verify` passes on both); the fitted model's own error
+/// against the simulated truth at temperatures between the chamber points,
+/// at most about 460 ppm on this scenario (README, physics versus
+/// polynomial, inside the calibrated span); ADC noise of the output, 80 nV
+/// rms = 2.4 ppm of the 33 mV span, 4 sigma 10 ppm: 570 ppm, rounded up.
 #[test]
-fn f32_readings_recover_the_demo_pressure() {
-    const TOLERANCE_PPM_FS: f64 = 200.0;
+fn readings_recover_the_demo_pressure() {
+    const TOLERANCE_PPM_FS: f64 = 600.0;
     let data = make_firmware_image::build();
     let view = TableView::parse(&data.f32_image).expect("f32 demo image parses");
     let mut c = Compensator::new(&view).expect("f32 image");
+    let view_q = TableView::parse(&data.q_image).expect("Q demo image parses");
+    let mut cq = FixedCompensator::new(&view_q).expect("Q image");
+    let out_scale = 2f64.powi(-i32::from(view_q.q_format().output));
     let mut worst = (0.0f64, 0usize);
     for (i, s) in stream::samples(&data.stream_csv)
         .enumerate()
         .take(make_firmware_image::STREAM_LEN - 4)
     {
         let s = s.expect("stream parses");
-        let (p_pa, t_c) = make_firmware_image::ramp_truth(i);
+        let (bar, t_c) = make_firmware_image::ramp_truth(i);
         c.update_temperature(s.temp_code as f32);
         let r = c.compensate_sample(s.raw_code as f32);
-        let err_ppm =
-            (f64::from(r.value) - p_pa).abs() / make_firmware_image::FULL_SCALE_PA * 1.0e6;
-        assert!(
-            err_ppm <= TOLERANCE_PPM_FS,
-            "sample {i} (raw {}, temp code {}, {t_c:.2} C): got {} Pa, expected {p_pa:.1} Pa, \
-             error {err_ppm:.1} ppm FS > {TOLERANCE_PPM_FS}",
-            s.raw_code,
-            s.temp_code,
-            r.value
-        );
-        if err_ppm > worst.0 {
-            worst = (err_ppm, i);
+        cq.update_temperature(s.temp_code);
+        let rq = f64::from(cq.compensate_sample(s.raw_code).value) * out_scale;
+        for (path, got) in [("f32", f64::from(r.value)), ("q", rq)] {
+            let err_ppm = (got - bar).abs() / make_firmware_image::FULL_SCALE_BAR * 1.0e6;
+            assert!(
+                err_ppm <= TOLERANCE_PPM_FS,
+                "{path} sample {i} (raw {}, temp code {}, {t_c:.2} C): got {got} bar, \
+                 expected {bar:.4} bar, error {err_ppm:.1} ppm FS > {TOLERANCE_PPM_FS}",
+                s.raw_code,
+                s.temp_code,
+            );
+            if err_ppm > worst.0 {
+                worst = (err_ppm, i);
+            }
         }
     }
-    // The check can fail: a reading off by 0.03 % FS would be rejected.
+    // The check can fail: a reading 0.03 % FS worse than the worst seen
+    // would be rejected.
     assert!(
         worst.0 + 300.0 > TOLERANCE_PPM_FS,
-        "tolerance check is vacuous"
+        "tolerance check is vacuous: worst {:.1} ppm",
+        worst.0
     );
-    println!(
-        "worst f32 error {:.1} ppm FS at sample {}",
-        worst.0, worst.1
-    );
+    println!("worst error {:.1} ppm FS at sample {}", worst.0, worst.1);
 }

@@ -283,3 +283,147 @@ fn bad_spec_and_part_files_name_the_place() {
     assert!(stderr(&o).contains("no-such.toml:1:"), "{}", stderr(&o));
     assert!(!dir.join("x.csv").exists(), "nothing written on failure");
 }
+
+/// An element whose bow changes with temperature: a 1-D table (offset and
+/// gain columns) leaves the bow uncorrected, so under a budget tighter than
+/// the bow `table` must pick a 2-D correction, and `verify` must sample it
+/// over temperature and raw signal (>= 1e5 points) and pass; under a loose
+/// budget the smaller 1-D table is still chosen.
+#[test]
+fn bowed_part_gets_a_2d_table_that_verifies() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    chain(d);
+    let mut part: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(d.join("parts/WELL-0001.part.json")).unwrap())
+            .unwrap();
+    // 0.04 % FS at mid-scale at 25 C, falling 6 ppm/K: 0.046 % at -20 C,
+    // 0.004 % at 85 C (invented, of the order a gauge die shows).
+    part["scenario"]["bow"] = serde_json::json!({"mid_rel": 4e-4, "mid_rel_per_k": -6e-6});
+    std::fs::write(
+        d.join("bowed.part.json"),
+        serde_json::to_vec_pretty(&part).unwrap(),
+    )
+    .unwrap();
+    let text = ok_in(
+        d,
+        &[
+            "table",
+            "bowed.part.json",
+            "--budget",
+            "500",
+            "--json",
+            "--out",
+            "b.bin",
+        ],
+    );
+    let outcome: serde_json::Value = serde_json::from_str(&text).unwrap();
+    assert_eq!(
+        outcome["plan"]["interpolation"], "bilinear2d",
+        "a 460 ppm bow under a 500 ppm budget needs a 2-D table: {}",
+        outcome["plan"]
+    );
+    assert!(outcome["plan"]["n_raw"].as_u64().unwrap() >= 2);
+    let report: serde_json::Value = serde_json::from_str(&ok_in(
+        d,
+        &[
+            "verify",
+            "b.bin",
+            "--against",
+            "bowed.part.json",
+            "--budget",
+            "500",
+            "--json",
+        ],
+    ))
+    .unwrap();
+    assert_eq!(report["pass"], true, "{report}");
+    assert!(report["points"].as_u64().unwrap() >= 100_000, "{report}");
+    // The analytic bound bounds the sampled maximum (it is an upper bound of
+    // the interpolation remainder; quantization adds < 2 ppm here).
+    let (max, bound) = (
+        report["max_error_ppm"].as_f64().unwrap(),
+        report["analytic_bound_ppm"].as_f64().unwrap(),
+    );
+    assert!(
+        max <= bound + 2.0,
+        "dense max {max} ppm above the analytic bound {bound} ppm"
+    );
+    // Same part, one format forced, loose budget: a 1-D table suffices and
+    // is smaller, and its error includes the uncorrected bow (>= 400 ppm).
+    let loose: serde_json::Value = serde_json::from_str(&ok_in(
+        d,
+        &[
+            "table",
+            "bowed.part.json",
+            "--budget",
+            "3000",
+            "--number-format",
+            "q",
+            "--json",
+            "--out",
+            "l.bin",
+        ],
+    ))
+    .unwrap();
+    assert_ne!(
+        loose["plan"]["interpolation"], "bilinear2d",
+        "{}",
+        loose["plan"]
+    );
+    assert_eq!(loose["plan"]["format"], "q");
+    assert!(
+        loose["dense"]["max_error_ppm"].as_f64().unwrap() >= 400.0,
+        "a 1-D table cannot correct the bow: {}",
+        loose["dense"]
+    );
+}
+
+/// `--signal-unit adc-code` images take the temperature signal as whole ADC
+/// codes (as firmware reads them): they verify like the ohm image of the
+/// same plan and compensate chamber rows (converted to codes by `apply`) to
+/// the same readings within the code rounding of the thermometer input.
+#[test]
+fn adc_code_images_verify_and_apply() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    chain(d);
+    let part = "parts/WELL-0001.part.json";
+    let mut worst = Vec::new();
+    for (unit, file) in [("ohm", "o.bin"), ("adc-code", "c.bin")] {
+        ok_in(
+            d,
+            &[
+                "table",
+                part,
+                "--number-format",
+                "q",
+                "--interpolation",
+                "linear",
+                "--signal-unit",
+                unit,
+                "--out",
+                file,
+            ],
+        );
+        let v: serde_json::Value =
+            serde_json::from_str(&ok_in(d, &["verify", file, "--against", part, "--json"]))
+                .unwrap();
+        assert_eq!(v["pass"], true, "{unit}: {v}");
+        let a: serde_json::Value = serde_json::from_str(&ok_in(
+            d,
+            &["apply", file, "check.csv", "--against", part, "--json"],
+        ))
+        .unwrap();
+        worst.push(a["max_abs_error_ppm"].as_f64().unwrap());
+    }
+    // One signal code is 1.2 mohm = 0.15 mK on this thermometer (1.6e-3/K
+    // of 5 kohm); times the 2100 ppm/K raw drift that is under 1 ppm: the
+    // two images' worst held-out errors agree within 5 ppm.
+    assert!(
+        (worst[0] - worst[1]).abs() < 5.0,
+        "ohm image worst {} ppm, code image worst {} ppm",
+        worst[0],
+        worst[1]
+    );
+}

@@ -6,7 +6,6 @@ use super::table::read_part;
 use crate::station::apply::{
     AppliedRow, Compensation, ImageCompensation, ModelCompensation, apply_rows,
 };
-use crate::station::part_model::PartModel;
 use crate::station::{chamber, output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -76,16 +75,15 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let model_comp;
     let image_comp;
     let method: &dyn Compensation = if is_image {
-        image_comp = ImageCompensation::new(&first, part.scenario.output_adc.lsb())
-            .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
+        image_comp = ImageCompensation::new(
+            &first,
+            part.scenario.output_adc.lsb(),
+            part.scenario.signal_adc.lsb(),
+        )
+        .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
         &image_comp
     } else {
-        model_comp = ModelCompensation {
-            model: PartModel {
-                curves: &curves,
-                params: part.params,
-            },
-        };
+        model_comp = ModelCompensation::for_part(&part, &curves);
         &model_comp
     };
     let applied = apply_rows(&part, &curves, method, &rows);

@@ -44,7 +44,7 @@ pub struct Cli {
 pub enum Command {
     /// Evaluate the full physics model of a doped sample over temperature.
     Model(model::ModelArgs),
-    /// Draw plots as SVG files.
+    /// Draw plots as SVG or PNG files.
     #[command(subcommand)]
     Plot(plot::PlotCommand),
     /// Fit an activation energy to conductivity or resistance versus temperature.

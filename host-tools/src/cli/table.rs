@@ -2,8 +2,10 @@
 //! the budget, its budget terms, and the export for flashing.
 
 use super::CliError;
+use crate::station::choose::Restrict;
 use crate::station::export::{ExportFormat, export};
 use crate::station::part_file::PartFile;
+use crate::station::table::{InterpKind, NumFormat, SignalUnit};
 use crate::station::{output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -31,6 +33,19 @@ pub struct TableArgs {
     /// Print the outcome as JSON instead of text.
     #[arg(long)]
     pub json: bool,
+    /// Use only this number format (e.g. `q` for a part without an FPU)
+    /// [default: the least flash of both].
+    #[arg(long, value_enum, value_name = "FORMAT")]
+    pub number_format: Option<NumFormat>,
+    /// Use only this interpolation [default: the least flash of linear,
+    /// monotone cubic and, for an element with a bow, 2-D].
+    #[arg(long, value_enum, value_name = "KIND")]
+    pub interpolation: Option<InterpKind>,
+    /// Temperature signal the image takes: `ohm` (the spec's units, as the
+    /// chamber CSV records it) or `adc-code` (whole codes of the spec's
+    /// temperature-signal ADC, as firmware reads them).
+    #[arg(long, value_enum, default_value_t = SignalUnit::Ohm, value_name = "UNIT")]
+    pub signal_unit: SignalUnit,
 }
 
 /// Parses a decimal or 0x-prefixed hexadecimal address.
@@ -59,12 +74,17 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
         ));
     }
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
-    let outcome = pipeline::build_table(&part, &curves, budget).map_err(|e| match e {
-        pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
-            CliError::CheckFailed(format!("{}: {e}", args.part.display()))
-        }
-        other => CliError::Input(format!("{}: {other}", args.part.display())),
-    })?;
+    let restrict = Restrict {
+        interpolation: args.interpolation,
+        format: args.number_format,
+    };
+    let outcome = pipeline::build_table_with(&part, &curves, budget, restrict, args.signal_unit)
+        .map_err(|e| match e {
+            pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
+                CliError::CheckFailed(format!("{}: {e}", args.part.display()))
+            }
+            other => CliError::Input(format!("{}: {other}", args.part.display())),
+        })?;
     let bytes = export(&outcome.image, args.format, &args.name, args.address)
         .map_err(|e| CliError::option("--name/--address", &args.name, e))?;
     let path = args.out.clone().unwrap_or_else(|| {
@@ -79,14 +99,22 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     }
     let t = &outcome.terms;
     let p = &outcome.plan;
+    let raw_nodes = |n: usize| {
+        if n > 0 {
+            format!(", {n} raw-signal nodes")
+        } else {
+            String::new()
+        }
+    };
     writeln!(
         out,
-        "part {}: {:?} {:?}, {} temperature nodes, {} thermometer nodes, {} bytes -> {}",
+        "part {}: {:?} {:?}, {} temperature nodes, {} thermometer nodes{}, {} bytes -> {}",
         outcome.serial,
         p.interpolation,
         p.format,
         p.n_t,
         p.n_sig,
+        raw_nodes(p.n_raw),
         outcome.bytes,
         path.display()
     )?;
@@ -142,9 +170,14 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     )?;
     writeln!(out, "candidates (least flash first):")?;
     for c in &outcome.candidates {
+        let raw = if c.plan.n_raw > 0 {
+            format!(" n_raw={}", c.plan.n_raw)
+        } else {
+            String::new()
+        };
         writeln!(
             out,
-            "  {:?} {:?} n_t={} n_sig={}: {} bytes, {:.2} ppm",
+            "  {:?} {:?} n_t={} n_sig={}{raw}: {} bytes, {:.2} ppm",
             c.plan.interpolation, c.plan.format, c.plan.n_t, c.plan.n_sig, c.bytes, c.max_error_ppm
         )?;
     }

@@ -18,12 +18,14 @@ pub struct VerifyArgs {
     /// Total budget in ppm of span (default: the scenario's).
     #[arg(long)]
     pub budget: Option<f64>,
-    /// Temperatures of the dense grid.
-    #[arg(long, default_value_t = pipeline::DENSE_TEMPS)]
-    pub temps: usize,
-    /// Stimuli of the dense grid.
-    #[arg(long, default_value_t = pipeline::DENSE_STIMULI)]
-    pub stimuli: usize,
+    /// Temperatures of the dense grid [default: 20001, or 1001 for an image
+    /// with a 2-D correction].
+    #[arg(long)]
+    pub temps: Option<usize>,
+    /// Stimuli (raw signals) of the dense grid [default: 6, or 101 for an
+    /// image with a 2-D correction].
+    #[arg(long)]
+    pub stimuli: Option<usize>,
     /// JSON report on stdout.
     #[arg(long)]
     pub json: bool,
@@ -35,15 +37,20 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let image = std::fs::read(&args.image)
         .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", args.image.display())))?;
     let budget = args.budget.unwrap_or(part.scenario.budget_ppm);
-    if args.temps < 2 || args.stimuli < 2 {
+    let (temps_default, stimuli_default) = compensate::TableView::parse(&image)
+        .map(|v| pipeline::dense_counts(&pipeline::plan_of(&v)))
+        .unwrap_or((pipeline::DENSE_TEMPS, pipeline::DENSE_STIMULI));
+    let temps = args.temps.unwrap_or(temps_default);
+    let stimuli = args.stimuli.unwrap_or(stimuli_default);
+    if temps < 2 || stimuli < 2 {
         return Err(CliError::option(
             "--temps/--stimuli",
-            &format!("{}/{}", args.temps, args.stimuli),
+            &format!("{temps}/{stimuli}"),
             "need at least 2 each",
         ));
     }
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
-    let report = pipeline::verify(&image, &part, &curves, budget, args.temps, args.stimuli)
+    let report = pipeline::verify(&image, &part, &curves, budget, temps, stimuli)
         .map_err(|e| CliError::Input(format!("{}: {e}", args.image.display())))?;
     if args.json {
         out.write_all(&output::to_json_bytes(&report))?;

@@ -2,8 +2,8 @@
 //! temperature, under constant-voltage and constant-current drive.
 
 use super::style::{
-    BLUE, CAPTION_PX, FONT_FAMILY, GREEN, LABEL_PX, PlotError, RED, TICK_PX, linear_range,
-    register_font,
+    BLUE, CAPTION_PX, FONT_FAMILY, Figure, GREEN, LABEL_PX, PlotError, RED, TICK_PX, figure_svg,
+    legend, linear_range, register_font, write_figure,
 };
 use crate::element::{DriftCurve, ElementKind};
 use plotters::prelude::*;
@@ -14,45 +14,40 @@ pub const SIZE_PX: (u32, u32) = (1000, 1100);
 /// A named curve: label, colour, (t_c, y) points.
 type Curve = (&'static str, RGBColor, Vec<(f64, f64)>);
 
+/// The drift plot of one element as a [`Figure`].
+struct ElementFigure<'a> {
+    curve: &'a DriftCurve,
+    title: &'a str,
+}
+
+impl Figure for ElementFigure<'_> {
+    fn size_px(&self) -> (u32, u32) {
+        SIZE_PX
+    }
+    fn draw<DB: DrawingBackend>(
+        &self,
+        root: &DrawingArea<DB, plotters::coord::Shift>,
+    ) -> Result<(), PlotError> {
+        draw(root, self.curve, self.title)
+    }
+}
+
 /// Draws the three-panel drift plot of `curve` (title names the part) and
 /// returns the SVG text.
 pub fn element_svg(curve: &DriftCurve, title: &str) -> Result<String, PlotError> {
     check_rows(curve)?;
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        draw(&root, curve, title)?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    Ok(svg)
+    figure_svg(&ElementFigure { curve, title })
 }
 
-/// Draws the drift plot as a PNG file, written atomically (temporary file in
-/// the same directory, then renamed).
-pub fn write_element_png(
+/// Writes the drift plot to `path` atomically: PNG when the name ends in
+/// `.png`, SVG otherwise.
+pub fn write_element_plot(
     path: &std::path::Path,
     curve: &DriftCurve,
     title: &str,
 ) -> Result<(), PlotError> {
     check_rows(curve)?;
-    let write_err = |source| PlotError::Write {
-        path: path.display().to_string(),
-        source,
-    };
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => std::path::Path::new("."),
-    };
-    let tmp = tempfile::Builder::new()
-        .suffix(".png")
-        .tempfile_in(dir)
-        .map_err(write_err)?;
-    {
-        let root = BitMapBackend::new(tmp.path(), SIZE_PX).into_drawing_area();
-        draw(&root, curve, title)?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    super::style::persist(tmp, path)
+    write_figure(path, &ElementFigure { curve, title })
 }
 
 fn check_rows(curve: &DriftCurve) -> Result<(), PlotError> {
@@ -176,14 +171,7 @@ fn panel<DB: DrawingBackend>(
                 PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
             });
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .label_font((FONT_FAMILY, TICK_PX))
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .draw()
-        .map_err(PlotError::draw)
+    legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
 
 #[cfg(test)]

@@ -3,8 +3,9 @@
 //! carrier density with the freeze-out, extrinsic and intrinsic regimes shaded.
 
 use super::style::{
-    BLUE, CAPTION_PX, FONT_FAMILY, GREEN, GREY, LABEL_PX, PlotError, RED, TICK_PX, linear_range,
-    log_label, log_range, register_font, tick_label,
+    BLUE, CAPTION_PX, FONT_FAMILY, Figure, GREEN, GREY, LABEL_PX, PlotError, RED, TICK_PX,
+    figure_rgb, figure_svg, legend, linear_range, log_label, log_range, register_font, tick_label,
+    write_figure,
 };
 use crate::physics::{ModelPoint, Sample};
 use plotters::coord::Shift;
@@ -56,54 +57,43 @@ pub fn classify_regime(sample: &Sample, point: &ModelPoint) -> Regime {
     }
 }
 
+/// The model plot of one sample as a [`Figure`].
+struct ModelFigure<'a> {
+    sample: &'a Sample,
+    rows: &'a [ModelPoint],
+}
+
+impl Figure for ModelFigure<'_> {
+    fn size_px(&self) -> (u32, u32) {
+        SIZE_PX
+    }
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), PlotError> {
+        draw(root, self.sample, self.rows)
+    }
+}
+
 /// Draws the four-panel model plot of `sample` and returns the SVG text.
 pub fn model_svg(sample: &Sample, rows: &[ModelPoint]) -> Result<String, PlotError> {
     check_rows(rows)?;
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
-        draw(&root, sample, rows)?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    Ok(svg)
+    figure_svg(&ModelFigure { sample, rows })
 }
 
 /// Draws the model plot as an RGB bitmap (`SIZE_PX`, 3 bytes per pixel,
 /// row-major), for PNG output and for looking at the plot in tests.
 pub fn model_rgb(sample: &Sample, rows: &[ModelPoint]) -> Result<Vec<u8>, PlotError> {
     check_rows(rows)?;
-    let mut buf = vec![0u8; (SIZE_PX.0 * SIZE_PX.1 * 3) as usize];
-    {
-        let root = BitMapBackend::with_buffer(&mut buf, SIZE_PX).into_drawing_area();
-        draw(&root, sample, rows)?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    Ok(buf)
+    figure_rgb(&ModelFigure { sample, rows })
 }
 
-/// Draws the model plot as a PNG file, written atomically (temporary file in
-/// the same directory, then renamed).
-pub fn write_model_png(
+/// Writes the model plot to `path` atomically: PNG when the name ends in
+/// `.png`, SVG otherwise.
+pub fn write_model_plot(
     path: &std::path::Path,
     sample: &Sample,
     rows: &[ModelPoint],
 ) -> Result<(), PlotError> {
     check_rows(rows)?;
-    let write_err = |source| PlotError::write(path, source);
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => std::path::Path::new("."),
-    };
-    let tmp = tempfile::Builder::new()
-        .suffix(".png")
-        .tempfile_in(dir)
-        .map_err(write_err)?;
-    {
-        let root = BitMapBackend::new(tmp.path(), SIZE_PX).into_drawing_area();
-        draw(&root, sample, rows)?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    super::style::persist(tmp, path)
+    write_figure(path, &ModelFigure { sample, rows })
 }
 
 fn check_rows(rows: &[ModelPoint]) -> Result<(), PlotError> {
@@ -363,25 +353,6 @@ fn arrhenius_panel<DB: DrawingBackend>(
         .label(label)
         .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2)));
     legend(&mut chart, SeriesLabelPosition::UpperRight)
-}
-
-/// Draws the series legend at `position`.
-fn legend<'a, DB: DrawingBackend + 'a, X, Y>(
-    chart: &mut ChartContext<'a, DB, Cartesian2d<X, Y>>,
-    position: SeriesLabelPosition,
-) -> Result<(), PlotError>
-where
-    X: plotters::coord::ranged1d::Ranged<ValueType = f64>,
-    Y: plotters::coord::ranged1d::Ranged<ValueType = f64>,
-{
-    chart
-        .configure_series_labels()
-        .position(position)
-        .label_font((FONT_FAMILY, TICK_PX))
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .draw()
-        .map_err(PlotError::draw)
 }
 
 #[cfg(test)]

@@ -1,11 +1,17 @@
-//! Station plots: error against temperature on a logarithmic axis (lot
-//! envelopes before and after compensation; a table's error against its
-//! allowance), as SVG text.
+//! Station plots: error against temperature on a logarithmic axis (one part
+//! or a lot's worst-case envelope before and after compensation; a table's
+//! error against its allowance), as SVG or PNG. The `demo` and the
+//! `plot part|lot|table` commands draw through the same [`ErrorFigure`].
 
 use super::style::{
-    BLUE, CAPTION_PX, FONT_FAMILY, GREEN, GREY, LABEL_PX, PlotError, RED, TICK_PX, register_font,
+    BLUE, CAPTION_PX, FONT_FAMILY, Figure, GREEN, GREY, LABEL_PX, PlotError, RED, TICK_PX,
+    figure_svg, legend, write_figure,
 };
+use crate::station::compare::Comparison;
+use crate::station::pipeline::VerifyReport;
+use plotters::coord::Shift;
 use plotters::prelude::*;
+use std::path::Path;
 
 /// Width and height of the station plots in pixels.
 pub const SIZE_PX: (u32, u32) = (900, 560);
@@ -13,22 +19,29 @@ pub const SIZE_PX: (u32, u32) = (900, 560);
 /// One curve: label and (t_c, |error| ppm) points.
 pub type Series = (String, Vec<(f64, f64)>);
 
-/// Draws `series` (|error| in ppm of span, log axis) against temperature,
-/// with an optional horizontal budget line; returns the SVG text.
-pub fn error_svg(
-    title: &str,
-    series: &[Series],
-    budget_ppm: Option<f64>,
-) -> Result<String, PlotError> {
-    register_font()?;
-    let pts = series.iter().flat_map(|s| s.1.iter());
+/// |error| in ppm of span against temperature, one line per series, with an
+/// optional horizontal budget line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ErrorFigure<'a> {
+    /// Caption.
+    pub title: &'a str,
+    /// The curves.
+    pub series: &'a [Series],
+    /// Budget (or allowance) line, ppm of span.
+    pub budget_ppm: Option<f64>,
+    /// Legend label of that line.
+    pub budget_label: &'a str,
+}
+
+/// Axis limits of an error figure: (t0, t1, log-axis low, log-axis high).
+fn limits(series: &[Series], budget_ppm: Option<f64>) -> Result<(f64, f64, f64, f64), PlotError> {
     let (mut t0, mut t1, mut y0, mut y1) = (
         f64::INFINITY,
         f64::NEG_INFINITY,
         f64::INFINITY,
         f64::NEG_INFINITY,
     );
-    for &(t, y) in pts {
+    for &(t, y) in series.iter().flat_map(|s| s.1.iter()) {
         t0 = t0.min(t);
         t1 = t1.max(t);
         if y > 0.0 && y.is_finite() {
@@ -45,16 +58,24 @@ pub fn error_svg(
             "error plot needs two temperatures and positive errors".into(),
         ));
     }
-    let (lo, hi) = (
+    Ok((
+        t0,
+        t1,
         10f64.powf(y0.log10().floor()),
         10f64.powf(y1.log10().ceil() + 1e-9),
-    );
-    let mut svg = String::new();
-    {
-        let root = SVGBackend::with_string(&mut svg, SIZE_PX).into_drawing_area();
+    ))
+}
+
+impl Figure for ErrorFigure<'_> {
+    fn size_px(&self) -> (u32, u32) {
+        SIZE_PX
+    }
+
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), PlotError> {
+        let (t0, t1, lo, hi) = limits(self.series, self.budget_ppm)?;
         root.fill(&WHITE).map_err(PlotError::draw)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption(title, (FONT_FAMILY, CAPTION_PX))
+        let mut chart = ChartBuilder::on(root)
+            .caption(self.title, (FONT_FAMILY, CAPTION_PX))
             .margin(20)
             .x_label_area_size(45)
             .y_label_area_size(70)
@@ -69,7 +90,7 @@ pub fn error_svg(
             .draw()
             .map_err(PlotError::draw)?;
         let colours = [GREY, RED, BLUE, GREEN];
-        for (k, (label, points)) in series.iter().enumerate() {
+        for (k, (label, points)) in self.series.iter().enumerate() {
             let c = colours[k % colours.len()];
             let p: Vec<(f64, f64)> = points.iter().map(|&(t, y)| (t, y.max(lo))).collect();
             chart
@@ -79,30 +100,148 @@ pub fn error_svg(
                 .legend(move |(x, y)| {
                     PathElement::new(vec![(x, y), (x + 20, y)], c.stroke_width(2))
                 });
+            // Few points are chamber temperatures: mark them.
             if p.len() < 40 {
                 chart
                     .draw_series(p.iter().map(|&q| Circle::new(q, 3, c.filled())))
                     .map_err(PlotError::draw)?;
             }
         }
-        if let Some(b) = budget_ppm {
+        if let Some(b) = self.budget_ppm {
             chart
                 .draw_series(LineSeries::new(
                     vec![(t0, b), (t1, b)],
                     BLACK.stroke_width(1),
                 ))
                 .map_err(PlotError::draw)?
-                .label("budget")
+                .label(self.budget_label)
                 .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], BLACK));
         }
-        chart
-            .configure_series_labels()
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK)
-            .label_font((FONT_FAMILY, TICK_PX))
-            .draw()
-            .map_err(PlotError::draw)?;
-        root.present().map_err(PlotError::draw)?;
+        legend(&mut chart, SeriesLabelPosition::MiddleRight)
     }
-    Ok(svg)
+}
+
+/// Draws `series` (|error| in ppm of span, log axis) against temperature,
+/// with an optional horizontal line `(ppm, label)`; returns the SVG text.
+pub fn error_svg(
+    title: &str,
+    series: &[Series],
+    line: Option<(f64, &str)>,
+) -> Result<String, PlotError> {
+    let budget_ppm = line.map(|l| l.0);
+    let figure = ErrorFigure {
+        title,
+        series,
+        budget_ppm,
+        budget_label: line.map_or("", |l| l.1),
+    };
+    limits(series, budget_ppm)?;
+    figure_svg(&figure)
+}
+
+/// Writes the error plot to `path` atomically (PNG when the name ends in
+/// `.png`, SVG otherwise), with an optional horizontal line `(ppm, label)`.
+pub fn write_error_plot(
+    path: &Path,
+    title: &str,
+    series: &[Series],
+    line: Option<(f64, &str)>,
+) -> Result<(), PlotError> {
+    let budget_ppm = line.map(|l| l.0);
+    limits(series, budget_ppm)?;
+    write_figure(
+        path,
+        &ErrorFigure {
+            title,
+            series,
+            budget_ppm,
+            budget_label: line.map_or("", |l| l.1),
+        },
+    )
+}
+
+/// The lot plot's curves from a comparison: worst |error| over the lot at
+/// each held-out temperature, uncompensated, physics and (when the parts
+/// carry one) polynomial calibration.
+pub fn comparison_series(c: &Comparison) -> Vec<Series> {
+    let column =
+        |k: usize| -> Vec<(f64, f64)> { c.by_temperature.iter().map(|r| (r[0], r[k])).collect() };
+    vec![
+        ("uncompensated (25 C offset and gain)".into(), column(1)),
+        (
+            format!("physics calibration ({} numbers)", c.physics_coefficients),
+            column(2),
+        ),
+        (
+            format!(
+                "polynomial calibration ({} numbers)",
+                c.polynomial_coefficients
+            ),
+            column(3),
+        ),
+    ]
+}
+
+/// Title and curve of a table's error plot: the image's dense error per
+/// temperature, labelled with its plan and size (the allowance is the
+/// budget line).
+pub fn table_series(report: &VerifyReport, curve: Vec<(f64, f64)>) -> (String, Vec<Series>) {
+    (
+        format!("{}: table error against its allowance", report.serial),
+        vec![(
+            format!(
+                "{:?} {:?} table, {} bytes",
+                report.plan.interpolation, report.plan.format, report.bytes
+            ),
+            curve,
+        )],
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::plot::style::figure_rgb;
+
+    fn series() -> Vec<Series> {
+        vec![
+            (
+                "before".into(),
+                vec![(-20.0, 3000.0), (25.0, 10.0), (85.0, 4000.0)],
+            ),
+            (
+                "after".into(),
+                vec![(-20.0, 30.0), (25.0, 2.0), (85.0, 40.0)],
+            ),
+        ]
+    }
+
+    #[test]
+    fn svg_and_bitmap_are_repeatable_and_labelled() {
+        let s = series();
+        let a = error_svg("lot", &s, Some((500.0, "budget"))).unwrap();
+        let b = error_svg("lot", &s, Some((500.0, "budget"))).unwrap();
+        assert_eq!(a, b, "same input must give the same SVG");
+        for text in ["lot", "before", "after", "budget", "temperature (C)"] {
+            assert!(a.contains(text), "SVG lacks {text:?}");
+        }
+        let f = ErrorFigure {
+            title: "lot",
+            series: &s,
+            budget_ppm: None,
+            budget_label: "",
+        };
+        let (x, y) = (figure_rgb(&f).unwrap(), figure_rgb(&f).unwrap());
+        assert_eq!(x, y, "same input must give the same bitmap");
+        // Not blank: the curves and text leave non-white pixels.
+        assert!(x.iter().any(|&v| v < 200), "bitmap is blank");
+    }
+
+    #[test]
+    fn empty_or_non_positive_data_is_refused() {
+        let one: Vec<Series> = vec![("x".into(), vec![(25.0, 1.0)])];
+        assert!(error_svg("t", &one, None).is_err(), "one temperature");
+        let zero: Vec<Series> = vec![("x".into(), vec![(0.0, 0.0), (1.0, 0.0)])];
+        assert!(error_svg("t", &zero, None).is_err(), "no positive error");
+    }
 }

@@ -1,6 +1,12 @@
 //! What every semidrift plot shares: the embedded font, palette, text sizes,
-//! log-axis ranges, and writing the finished SVG atomically.
+//! log-axis ranges, the legend box, and writing a finished figure as SVG or
+//! PNG atomically.
 
+use plotters::coord::Shift;
+use plotters::prelude::{
+    BLACK, BitMapBackend, Cartesian2d, ChartContext, Color, DrawingArea, DrawingBackend,
+    IntoDrawingArea, SVGBackend, SeriesLabelPosition, WHITE,
+};
 use plotters::style::{FontStyle, RGBColor};
 use std::path::Path;
 use std::sync::Once;
@@ -150,6 +156,90 @@ pub fn tick_label(v: &f64) -> String {
     } else {
         format!("{v:.1}")
     }
+}
+
+/// A plot that draws itself on any plotters backend, so one drawing routine
+/// serves both the SVG and the PNG output.
+pub trait Figure {
+    /// Width and height in pixels.
+    fn size_px(&self) -> (u32, u32);
+    /// Draws the whole figure on `root` (background included).
+    fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), PlotError>;
+}
+
+/// The figure as SVG text.
+pub fn figure_svg(figure: &impl Figure) -> Result<String, PlotError> {
+    register_font()?;
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, figure.size_px()).into_drawing_area();
+        figure.draw(&root)?;
+        root.present().map_err(PlotError::draw)?;
+    }
+    Ok(svg)
+}
+
+/// The figure as an RGB bitmap (3 bytes per pixel, row-major).
+pub fn figure_rgb(figure: &impl Figure) -> Result<Vec<u8>, PlotError> {
+    register_font()?;
+    let (w, h) = figure.size_px();
+    let mut buf = vec![0u8; (w as usize) * (h as usize) * 3];
+    {
+        let root = BitMapBackend::with_buffer(&mut buf, (w, h)).into_drawing_area();
+        figure.draw(&root)?;
+        root.present().map_err(PlotError::draw)?;
+    }
+    Ok(buf)
+}
+
+/// True when `path` names a PNG file (extension `.png`, any case).
+pub fn is_png(path: &Path) -> bool {
+    path.extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("png"))
+}
+
+/// Writes the figure to `path` atomically: PNG when the name ends in `.png`,
+/// SVG otherwise. Both are byte-identical for identical figures (text is
+/// rasterised from the embedded font; the PNG encoder has no timestamps).
+pub fn write_figure(path: &Path, figure: &impl Figure) -> Result<(), PlotError> {
+    if !is_png(path) {
+        return write_atomically(path, figure_svg(figure)?.as_bytes());
+    }
+    register_font()?;
+    let write_err = |source| PlotError::write(path, source);
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
+    let tmp = tempfile::Builder::new()
+        .suffix(".png")
+        .tempfile_in(dir)
+        .map_err(write_err)?;
+    {
+        let root = BitMapBackend::new(tmp.path(), figure.size_px()).into_drawing_area();
+        figure.draw(&root)?;
+        root.present().map_err(PlotError::draw)?;
+    }
+    persist(tmp, path)
+}
+
+/// Draws the series legend of `chart` at `position` in the common style.
+pub fn legend<'a, DB: DrawingBackend + 'a, X, Y>(
+    chart: &mut ChartContext<'a, DB, Cartesian2d<X, Y>>,
+    position: SeriesLabelPosition,
+) -> Result<(), PlotError>
+where
+    X: plotters::coord::ranged1d::Ranged,
+    Y: plotters::coord::ranged1d::Ranged,
+{
+    chart
+        .configure_series_labels()
+        .position(position)
+        .label_font((FONT_FAMILY, TICK_PX))
+        .background_style(WHITE.mix(0.85))
+        .border_style(BLACK)
+        .draw()
+        .map_err(PlotError::draw)
 }
 
 /// Writes `contents` to `path` via a temporary file in the same directory and

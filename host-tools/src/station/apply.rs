@@ -1,6 +1,7 @@
 //! Compensating recorded raw rows the way the firmware does, and the error of
 //! each row against its reference stimulus in ppm of span.
 
+use super::bow::Bow;
 use super::chamber::ChamberRow;
 use super::curves::ShapeCurves;
 use super::part_file::PartFile;
@@ -36,12 +37,34 @@ pub trait Compensation {
 pub struct ModelCompensation<'a> {
     /// The fitted part model.
     pub model: PartModel<'a>,
+    /// The element's bow with the scenario's reference temperature and
+    /// full-scale range, when the scenario states one.
+    pub bow: Option<(Bow, f64, (f64, f64))>,
+}
+
+impl<'a> ModelCompensation<'a> {
+    /// The compensation of `part`: its fitted model and its scenario's bow.
+    pub fn for_part(part: &PartFile, curves: &'a ShapeCurves) -> ModelCompensation<'a> {
+        let sc = &part.scenario;
+        ModelCompensation {
+            model: PartModel {
+                curves,
+                params: part.params,
+            },
+            bow: sc.bow.map(|b| (b, sc.t_ref_c, sc.stimulus_fs)),
+        }
+    }
 }
 
 impl Compensation for ModelCompensation<'_> {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
         let t = self.model.temperature(temp_signal);
-        (self.model.stimulus(output, t), t)
+        let apparent = self.model.stimulus(output, t);
+        let s = match self.bow {
+            Some((b, t_ref_c, fs)) => b.true_stimulus(apparent, t, t_ref_c, fs),
+            None => apparent,
+        };
+        (s, t)
     }
 }
 
@@ -92,14 +115,18 @@ pub struct ImageCompensation<'a> {
     view: compensate::TableView<'a>,
     /// Output ADC code size: raw outputs are divided by it to get codes.
     lsb: f64,
+    /// Temperature-signal ADC code size, used when the image takes codes.
+    signal_lsb: f64,
 }
 
 impl<'a> ImageCompensation<'a> {
-    /// Parses `image`; `lsb` converts the CSV's output to ADC codes.
-    pub fn new(image: &'a [u8], lsb: f64) -> Result<Self, compensate::ImageError> {
+    /// Parses `image`; `lsb` converts the CSV's output to ADC codes, and
+    /// `signal_lsb` its temperature signal when the image takes ADC codes.
+    pub fn new(image: &'a [u8], lsb: f64, signal_lsb: f64) -> Result<Self, compensate::ImageError> {
         Ok(ImageCompensation {
             view: compensate::TableView::parse(image)?,
             lsb,
+            signal_lsb,
         })
     }
 }
@@ -107,6 +134,10 @@ impl<'a> ImageCompensation<'a> {
 impl Compensation for ImageCompensation<'_> {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
         let raw = (output / self.lsb).round();
+        let temp_signal = match self.view.signal_kind() {
+            compensate::image::SignalKind::AdcCode => (temp_signal / self.signal_lsb).round(),
+            _ => temp_signal,
+        };
         match self.view.format() {
             compensate::image::NumberFormat::Q => {
                 let Ok(mut c) = compensate::FixedCompensator::new(&self.view) else {

@@ -78,7 +78,6 @@ fn fit_residual(fit_max_ppm: f64, holdout_ppm: f64, temperatures: usize) -> (f64
 impl PartTerms {
     /// Computes the table-independent terms of a part over its range.
     pub fn of(part: &PartFile, frame: &TableFrame<'_>) -> PartTerms {
-        let m = frame.model;
         let fs = frame.fs_hi - frame.fs_lo;
         let mut slope: f64 = 0.0;
         let n = 400;
@@ -87,9 +86,9 @@ impl PartTerms {
             let h = 0.01;
             for s in [frame.fs_lo, frame.fs_hi] {
                 // Reading error per kelvin of temperature error at a fixed raw output.
-                let y = m.output(t, s);
-                let up = m.stimulus(y, t + h);
-                let down = m.stimulus(y, t - h);
+                let y = frame.output(t, s);
+                let up = frame.stimulus(y, t + h);
+                let down = frame.stimulus(y, t - h);
                 slope = slope.max(((up - down) / (2.0 * h) / fs * 1e6).abs());
             }
         }

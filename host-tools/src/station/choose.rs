@@ -1,6 +1,7 @@
 //! Choosing the table that meets an error allowance with the least flash:
-//! for each interpolation and number format, the fewest temperature and
-//! thermometer nodes whose image (run with the runtime crate's code) stays
+//! for each interpolation (linear, monotone cubic, and for an element with a
+//! bow a 2-D correction over temperature x raw signal) and number format, the
+//! fewest temperature, thermometer (and raw-signal) nodes whose image (run with the runtime crate's code) stays
 //! within the allowance; then the smallest image wins.
 
 use super::image_eval::{ErrorStats, EvalError, evaluate, linspace};
@@ -49,13 +50,23 @@ pub enum ChooseError {
 }
 
 /// The search grid: 1001 temperatures x 3 stimuli (ends and middle), where
-/// the gain error (ends) and the offset error (everywhere) peak.
-pub fn search_grid(frame: &TableFrame<'_>) -> (Vec<f64>, Vec<f64>) {
+/// the gain error (ends) and the offset error (everywhere) peak; a 2-D
+/// correction's error peaks between its raw nodes, so its plans are searched
+/// on [`SEARCH_STIMULI_2D`] stimuli.
+pub fn search_grid(frame: &TableFrame<'_>, two_d: bool) -> (Vec<f64>, Vec<f64>) {
+    let n_s = if two_d { SEARCH_STIMULI_2D } else { 3 };
     (
         linspace(frame.t_lo_c, frame.t_hi_c, 1001),
-        linspace(frame.fs_lo, frame.fs_hi, 3),
+        linspace(frame.fs_lo, frame.fs_hi, n_s),
     )
 }
+
+/// Stimuli of the search grid of a 2-D plan: 97 intervals, a prime-ish
+/// count that does not line up with small raw-node counts.
+pub const SEARCH_STIMULI_2D: usize = 98;
+/// Most raw-signal nodes tried for a 2-D correction: beyond this a grid of
+/// `n_t x n_raw` values costs more flash than any 1-D table.
+pub const MAX_RAW_NODES: usize = 256;
 
 /// Builds and evaluates one plan on the given grid.
 pub fn try_plan(
@@ -70,18 +81,19 @@ pub fn try_plan(
     Ok((image, stats))
 }
 
-/// Smallest n in 2..=MAX_NODES with `err(n) <= target`, assuming err falls with n.
+/// Smallest n in 2..=max with `err(n) <= target`, assuming err falls with n.
 fn smallest(
     target: f64,
+    max: usize,
     err: &mut dyn FnMut(usize) -> Result<f64, ChooseError>,
 ) -> Result<Option<usize>, ChooseError> {
     let (mut lo, mut hi) = (2usize, 2usize);
     while err(hi)? > target {
-        if hi >= MAX_NODES {
+        if hi >= max {
             return Ok(None);
         }
         lo = hi + 1;
-        hi = (hi * 2).min(MAX_NODES);
+        hi = (hi * 2).min(max);
     }
     while lo < hi {
         let mid = (lo + hi) / 2;
@@ -94,7 +106,10 @@ fn smallest(
     Ok(Some(hi))
 }
 
-/// The smallest plan of one interpolation and format meeting `allowance_ppm`.
+/// The smallest plan of one interpolation and format meeting `allowance_ppm`:
+/// each axis (temperature nodes, thermometer nodes and, for a 2-D plan, raw
+/// nodes) searched alone with the others fine, against an equal share of the
+/// target; then all shrunk or grown together.
 pub fn smallest_plan(
     frame: &TableFrame<'_>,
     interpolation: InterpKind,
@@ -103,47 +118,66 @@ pub fn smallest_plan(
     serial: &str,
     unit: &str,
 ) -> Result<Candidate, ChooseError> {
-    let grid = search_grid(frame);
+    let two_d = interpolation == InterpKind::Bilinear2d;
+    let grid = search_grid(frame, two_d);
     let target = SEARCH_SHARE * allowance_ppm;
-    let plan = |n_t, n_sig| TablePlan {
+    let plan = |n: [usize; 3]| TablePlan {
         interpolation,
         format,
-        n_t,
-        n_sig,
+        n_t: n[0],
+        n_sig: n[1],
+        n_raw: n[2],
     };
     let eval = |p: TablePlan| try_plan(frame, &p, serial, unit, &grid).map(|r| r.1.max_error_ppm);
     let unreachable = |best| ChooseError::Unreachable {
         allowance_ppm,
         best_ppm: best,
     };
-    let n_t = smallest(target / 2.0, &mut |n| eval(plan(n, FINE_NODES)))?
-        .ok_or_else(|| unreachable(f64::NAN))?;
-    let n_sig = smallest(target / 2.0, &mut |n| eval(plan(FINE_NODES, n)))?
-        .ok_or_else(|| unreachable(f64::NAN))?;
-    // The two errors add at worst; usually they partly cancel, so shrink
-    // both together while the pair still meets the target, then grow if not.
-    let (mut a, mut b) = (n_t, n_sig);
-    let mut e = eval(plan(a, b))?;
+    let (axes, fine, max) = if two_d {
+        (
+            3,
+            [FINE_NODES, FINE_NODES, MAX_RAW_NODES],
+            [MAX_NODES, MAX_NODES, MAX_RAW_NODES],
+        )
+    } else {
+        (2, [FINE_NODES, FINE_NODES, 0], [MAX_NODES, MAX_NODES, 0])
+    };
+    let mut n = [0usize; 3];
+    for axis in 0..axes {
+        let found = smallest(target / axes as f64, max[axis], &mut |k| {
+            let mut m = fine;
+            m[axis] = k;
+            eval(plan(m))
+        })?;
+        n[axis] = found.ok_or_else(|| unreachable(f64::NAN))?;
+    }
+    // The errors add at worst; usually they partly cancel, so shrink all
+    // together while the plan still meets the target, then grow if not.
+    let mut e = eval(plan(n))?;
     while e > target {
-        if a >= MAX_NODES && b >= MAX_NODES {
+        if (0..axes).all(|k| n[k] >= max[k]) {
             return Err(unreachable(e));
         }
-        a = (a + a.div_ceil(10)).min(MAX_NODES);
-        b = (b + b.div_ceil(10)).min(MAX_NODES);
-        e = eval(plan(a, b))?;
+        for k in 0..axes {
+            n[k] = (n[k] + n[k].div_ceil(10)).min(max[k]);
+        }
+        e = eval(plan(n))?;
     }
     loop {
-        let (a2, b2) = ((a * 9 / 10).max(2), (b * 9 / 10).max(2));
-        if (a2, b2) == (a, b) {
+        let mut m = n;
+        for k in 0..axes {
+            m[k] = (n[k] * 9 / 10).max(2);
+        }
+        if m == n {
             break;
         }
-        let e2 = eval(plan(a2, b2))?;
+        let e2 = eval(plan(m))?;
         if e2 > target {
             break;
         }
-        (a, b, e) = (a2, b2, e2);
+        (n, e) = (m, e2);
     }
-    let p = plan(a, b);
+    let p = plan(n);
     let bytes = frame
         .build(&p, serial, unit, frame.fs_hi - frame.fs_lo)?
         .len();
@@ -154,19 +188,50 @@ pub fn smallest_plan(
     })
 }
 
-/// Every interpolation and format, each at its smallest size; the least
-/// flash first (ties: Q before f32, since it runs on parts with and without
-/// an FPU and is bit-exact on the host; then the smaller error).
+/// Limits the chooser to one interpolation and/or one number format (a
+/// firmware without an FPU needs Q; one that shares a table with another
+/// part's firmware may need a given interpolation).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct Restrict {
+    /// Only this interpolation.
+    pub interpolation: Option<InterpKind>,
+    /// Only this number format.
+    pub format: Option<NumFormat>,
+}
+
+/// Every interpolation and format allowed by `restrict`, each at its
+/// smallest size; the least flash first (ties: Q before f32, since it runs on
+/// parts with and without an FPU and is bit-exact on the host; then the
+/// smaller error).
 pub fn candidates(
     frame: &TableFrame<'_>,
     allowance_ppm: f64,
     serial: &str,
     unit: &str,
+    restrict: Restrict,
 ) -> Result<Vec<Candidate>, ChooseError> {
     let mut out = Vec::new();
     let mut last_err = None;
-    for interpolation in [InterpKind::Linear, InterpKind::MonotoneCubic] {
-        for format in [NumFormat::Q, NumFormat::F32] {
+    // A 2-D correction only helps an output with a bow.
+    let kinds: &[InterpKind] = if frame.bow.is_some() {
+        &[
+            InterpKind::Linear,
+            InterpKind::MonotoneCubic,
+            InterpKind::Bilinear2d,
+        ]
+    } else {
+        &[InterpKind::Linear, InterpKind::MonotoneCubic]
+    };
+    let kinds: Vec<InterpKind> = match restrict.interpolation {
+        Some(k) => vec![k],
+        None => kinds.to_vec(),
+    };
+    let formats: Vec<NumFormat> = match restrict.format {
+        Some(f) => vec![f],
+        None => vec![NumFormat::Q, NumFormat::F32],
+    };
+    for &interpolation in &kinds {
+        for &format in &formats {
             match smallest_plan(frame, interpolation, format, allowance_ppm, serial, unit) {
                 Ok(c) => out.push(c),
                 Err(e) => last_err = Some(e),

@@ -6,7 +6,6 @@ use super::apply::{ModelCompensation, PolyCompensation, apply_rows};
 use super::chamber::ChamberData;
 use super::curves::ShapeCurves;
 use super::part_file::PartFile;
-use super::part_model::PartModel;
 
 /// Worst-case errors of one method, ppm of span.
 #[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
@@ -77,12 +76,7 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
             .map(|p| p.chamber_c)
             .fold(f64::NEG_INFINITY, f64::max);
         out.calibrated_c = (out.calibrated_c.0.min(lo), out.calibrated_c.1.max(hi));
-        let model = ModelCompensation {
-            model: PartModel {
-                curves,
-                params: part.params,
-            },
-        };
+        let model = ModelCompensation::for_part(part, curves);
         let phys = apply_rows(part, curves, &model, rows);
         let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
         for (a, b) in phys.iter().zip(&pol) {

@@ -6,18 +6,15 @@ use super::apply::{ImageCompensation, apply_rows};
 use super::chamber::{self, ChamberData};
 use super::compare::{Comparison, compare};
 use super::export::{ExportFormat, export};
-use super::image_eval::{linspace, per_temperature};
 use super::lot::{calibrate_lot, progress};
 use super::model_shapes::shapes_for;
 use super::output::{OutputError, to_json_bytes, write_atomic};
 use super::part_file::PartFile;
-use super::part_model::PartModel;
 use super::pipeline::{self, DENSE_STIMULI, DENSE_TEMPS};
 use super::scenario::Scenario;
 use super::simulate::{Plan, draw_parts, measure};
 use super::spec::to_toml;
-use super::table::TableFrame;
-use crate::plot::station::error_svg;
+use crate::plot::station::{comparison_series, error_svg, table_series};
 use rayon::prelude::*;
 use std::path::Path;
 
@@ -127,13 +124,6 @@ pub fn run_scenario(
     }
     let comparison = compare(&fitted, &curves, &check);
     write_atomic(&dir.join("comparison.json"), &to_json_bytes(&comparison))?;
-    let column = |k: usize| -> Vec<(f64, f64)> {
-        comparison
-            .by_temperature
-            .iter()
-            .map(|r| (r[0], r[k]))
-            .collect()
-    };
     let lot_svg = step(
         scenario,
         error_svg(
@@ -141,12 +131,8 @@ pub fn run_scenario(
                 "{}: worst error over the lot at held-out temperatures",
                 scenario.name
             ),
-            &[
-                ("uncompensated (25 C offset and gain)".into(), column(1)),
-                ("physics calibration (8 numbers)".into(), column(2)),
-                ("polynomial calibration (8 numbers)".into(), column(3)),
-            ],
-            Some(scenario.budget_ppm),
+            &comparison_series(&comparison),
+            Some((scenario.budget_ppm, "budget")),
         ),
     )?;
     write_atomic(&dir.join("plots").join("lot-error.svg"), lot_svg.as_bytes())?;
@@ -201,29 +187,14 @@ pub fn run_scenario(
         verified_pass += usize::from(report.pass);
         verify_max = verify_max.max(report.max_error_ppm);
         if k == 0 {
-            let part = ok[k];
-            let model = PartModel {
-                curves: &curves,
-                params: part.params,
-            };
-            let frame = step(scenario, TableFrame::new(part, model))?;
-            let temps = linspace(frame.t_lo_c, frame.t_hi_c, 421);
-            let stimuli = linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI);
-            let curve = step(scenario, per_temperature(image, &frame, &temps, &stimuli))?;
+            let curve = step(scenario, pipeline::table_error_curve(image, ok[k], &curves))?;
+            let (title, series) = table_series(report, curve);
             let svg = step(
                 scenario,
                 error_svg(
-                    &format!("{serial}: table error against its allowance"),
-                    &[(
-                        format!(
-                            "{:?} {:?} table, {} bytes",
-                            report.plan.interpolation,
-                            report.plan.format,
-                            image.len()
-                        ),
-                        curve,
-                    )],
-                    Some(report.table_allowance_ppm),
+                    &title,
+                    &series,
+                    Some((report.table_allowance_ppm, "allowance")),
                 ),
             )?;
             write_atomic(
@@ -249,7 +220,7 @@ pub fn run_scenario(
                 .collect();
             let comp = step(
                 scenario,
-                ImageCompensation::new(image, scenario.output_adc.lsb()),
+                ImageCompensation::new(image, scenario.output_adc.lsb(), scenario.signal_adc.lsb()),
             )?;
             for r in apply_rows(part, &curves, &comp, &inside) {
                 image_check_max = image_check_max.max(r.error_ppm.abs());

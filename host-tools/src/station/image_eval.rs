@@ -2,10 +2,10 @@
 //! firmware runs; bit-exact for Q images) against the fitted part model on a
 //! grid of temperatures and stimuli.
 //!
-//! Per grid point: the model gives the offset and sensitivity at T, the ADC
-//! code of the stimulus (rounded to an integer, as the firmware receives it)
-//! and the temperature signal; the reference is the stimulus the model maps
-//! that same integer code to, so ADC quantization is not counted as table
+//! Per grid point: the model gives the ADC code of the stimulus (rounded to
+//! an integer, as the firmware receives it; the element's bow included) and
+//! the temperature signal; the reference is the stimulus the model maps that
+//! same integer code to, so ADC quantization is not counted as table
 //! error, while everything the image and its arithmetic add is.
 
 use super::table::TableFrame;
@@ -97,7 +97,6 @@ pub fn evaluate(
     let view = TableView::parse(image).map_err(EvalError::Image)?;
     let fs = frame.fs_hi - frame.fs_lo;
     let to_ppm = 1e6 / fs;
-    let model = frame.model;
     let lsb = frame.lsb;
     let per_row: Vec<Acc> = match view.format() {
         NumberFormat::Q => {
@@ -105,18 +104,17 @@ pub fn evaluate(
                 FixedCompensator::new(&view).map_err(|e| EvalError::Compensator(e.to_string()))?;
             let q = view.q_format();
             let sq = 2f64.powi(i32::from(q.signal));
+            let frame = frame.for_view(&view);
             let oq = 2f64.powi(-i32::from(q.output));
             temps
                 .par_iter()
                 .map(|&t| {
                     let mut c = base;
                     let mut acc = Acc::EMPTY;
-                    let off = model.offset(t);
-                    let sens = model.sensitivity(t);
-                    c.update_temperature((model.signal(t) * sq).round() as i32);
+                    c.update_temperature((frame.image_signal(t) * sq).round() as i32);
                     for &s in stimuli {
-                        let raw = ((off + sens * s) / lsb).round();
-                        let reference = (raw * lsb - off) / sens;
+                        let raw = (frame.output(t, s) / lsb).round();
+                        let reference = frame.stimulus(raw * lsb, t);
                         let got = f64::from(c.compensate_sample(raw as i32).value) * oq;
                         acc.add((got - reference) * to_ppm, t, s);
                     }
@@ -127,17 +125,16 @@ pub fn evaluate(
         _ => {
             let base =
                 Compensator::new(&view).map_err(|e| EvalError::Compensator(e.to_string()))?;
+            let frame = frame.for_view(&view);
             temps
                 .par_iter()
                 .map(|&t| {
                     let mut c = base;
                     let mut acc = Acc::EMPTY;
-                    let off = model.offset(t);
-                    let sens = model.sensitivity(t);
-                    c.update_temperature(model.signal(t) as f32);
+                    c.update_temperature(frame.image_signal(t) as f32);
                     for &s in stimuli {
-                        let raw = ((off + sens * s) / lsb).round();
-                        let reference = (raw * lsb - off) / sens;
+                        let raw = (frame.output(t, s) / lsb).round();
+                        let reference = frame.stimulus(raw * lsb, t);
                         let got = f64::from(c.compensate_sample(raw as f32).value);
                         acc.add((got - reference) * to_ppm, t, s);
                     }

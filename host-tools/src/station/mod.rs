@@ -6,6 +6,7 @@
 
 pub mod apply;
 pub mod bound;
+pub mod bow;
 pub mod budget;
 pub mod calibrate;
 pub mod chamber;
@@ -27,4 +28,5 @@ pub mod scenario;
 pub mod simulate;
 pub mod spec;
 pub mod table;
+pub mod table_grid;
 pub mod truth;

@@ -3,13 +3,13 @@
 
 use super::bound::interpolation_bound_ppm;
 use super::budget::{BudgetTerms, PartTerms};
-use super::choose::{Candidate, ChooseError, candidates, try_plan};
+use super::choose::{Candidate, ChooseError, Restrict, candidates, try_plan};
 use super::curves::ShapeCurves;
-use super::image_eval::{ErrorStats, EvalError, evaluate, linspace};
+use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperature};
 use super::model_shapes::shapes_for;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
-use super::table::{InterpKind, NumFormat, TableError, TableFrame, TablePlan};
+use super::table::{InterpKind, NumFormat, SignalUnit, TableError, TableFrame, TablePlan};
 use compensate::TableView;
 use compensate::image::NumberFormat;
 use compensate::interp::Interpolation;
@@ -18,6 +18,30 @@ use compensate::interp::Interpolation;
 pub const DENSE_TEMPS: usize = 20001;
 /// Stimuli of the dense verification grid.
 pub const DENSE_STIMULI: usize = 6;
+/// Dense grid of an image with a 2-D correction: temperatures...
+pub const DENSE_2D_TEMPS: usize = 1001;
+/// ...x raw signals (stimuli), 1001 x 101 = 101101 points, so the raw axis
+/// is sampled between its nodes as densely as temperature is.
+pub const DENSE_2D_STIMULI: usize = 101;
+
+/// Dense grid size (temperatures, stimuli) for verifying a plan: at least
+/// 1e5 points, spread over raw signal too when the image has a 2-D correction.
+pub fn dense_counts(plan: &TablePlan) -> (usize, usize) {
+    if plan.n_raw > 0 {
+        (DENSE_2D_TEMPS, DENSE_2D_STIMULI)
+    } else {
+        (DENSE_TEMPS, DENSE_STIMULI)
+    }
+}
+
+/// The dense grid of `plan` over the frame's range.
+fn dense_grid(frame: &TableFrame<'_>, plan: &TablePlan) -> (Vec<f64>, Vec<f64>) {
+    let (n_t, n_s) = dense_counts(plan);
+    (
+        linspace(frame.t_lo_c, frame.t_hi_c, n_t),
+        linspace(frame.fs_lo, frame.fs_hi, n_s),
+    )
+}
 
 /// Why a step failed.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -113,10 +137,7 @@ fn split_terms(
                 format: NumFormat::F32,
                 ..*plan
             };
-            let grid = (
-                linspace(frame.t_lo_c, frame.t_hi_c, DENSE_TEMPS),
-                linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI),
-            );
+            let grid = dense_grid(frame, plan);
             let (_, stats) = try_plan(frame, &f, serial, unit, &grid)?;
             Ok((
                 stats.max_error_ppm,
@@ -132,6 +153,24 @@ pub fn build_table(
     curves: &ShapeCurves,
     budget_ppm: f64,
 ) -> Result<TableOutcome, StepError> {
+    build_table_with(
+        part,
+        curves,
+        budget_ppm,
+        Restrict::default(),
+        SignalUnit::Ohm,
+    )
+}
+
+/// [`build_table`] with the choice limited by `restrict` and the image's
+/// temperature signal in `signal_unit`.
+pub fn build_table_with(
+    part: &PartFile,
+    curves: &ShapeCurves,
+    budget_ppm: f64,
+    restrict: Restrict,
+    signal_unit: SignalUnit,
+) -> Result<TableOutcome, StepError> {
     if !part.is_ok() {
         return Err(StepError::PartNotOk {
             serial: part.serial.clone(),
@@ -142,7 +181,7 @@ pub fn build_table(
         curves,
         params: part.params,
     };
-    let frame = TableFrame::new(part, model)?;
+    let frame = TableFrame::new(part, model)?.with_signal_unit(signal_unit);
     let terms = PartTerms::of(part, &frame);
     let allowance = terms.table_allowance(budget_ppm);
     if allowance <= 0.0 {
@@ -152,7 +191,7 @@ pub fn build_table(
             temperature_ppm: terms.temperature_ppm,
         });
     }
-    build_table_for_allowance(part, &frame, &terms, allowance, budget_ppm)
+    build_table_for_allowance_with(part, &frame, &terms, allowance, budget_ppm, restrict)
 }
 
 /// Builds the least-flash table whose own error stays within `allowance_ppm`.
@@ -163,21 +202,38 @@ pub fn build_table_for_allowance(
     allowance_ppm: f64,
     budget_ppm: f64,
 ) -> Result<TableOutcome, StepError> {
+    build_table_for_allowance_with(
+        part,
+        frame,
+        terms,
+        allowance_ppm,
+        budget_ppm,
+        Restrict::default(),
+    )
+}
+
+/// [`build_table_for_allowance`] with the choice limited by `restrict`.
+pub fn build_table_for_allowance_with(
+    part: &PartFile,
+    frame: &TableFrame<'_>,
+    terms: &PartTerms,
+    allowance_ppm: f64,
+    budget_ppm: f64,
+    restrict: Restrict,
+) -> Result<TableOutcome, StepError> {
     let unit = part.scenario.stimulus_unit.as_str();
     let serial = part.serial.as_str();
-    let list = candidates(frame, allowance_ppm, serial, unit)?;
-    let dense_grid = (
-        linspace(frame.t_lo_c, frame.t_hi_c, DENSE_TEMPS),
-        linspace(frame.fs_lo, frame.fs_hi, DENSE_STIMULI),
-    );
+    let list = candidates(frame, allowance_ppm, serial, unit, restrict)?;
     // The dense grid may find a point a little worse than the search grid:
     // grow the chosen plan by 10 % until the dense check passes too.
     let mut plan = list[0].plan;
-    let (mut image, mut dense) = try_plan(frame, &plan, serial, unit, &dense_grid)?;
+    let grid = dense_grid(frame, &plan);
+    let (mut image, mut dense) = try_plan(frame, &plan, serial, unit, &grid)?;
     while dense.max_error_ppm > allowance_ppm && plan.n_t < super::choose::MAX_NODES {
         plan.n_t += plan.n_t.div_ceil(10);
         plan.n_sig += plan.n_sig.div_ceil(10);
-        (image, dense) = try_plan(frame, &plan, serial, unit, &dense_grid)?;
+        plan.n_raw += plan.n_raw.div_ceil(10);
+        (image, dense) = try_plan(frame, &plan, serial, unit, &grid)?;
     }
     let (interp, quant) = split_terms(frame, &plan, serial, unit, dense.max_error_ppm)?;
     Ok(TableOutcome {
@@ -227,7 +283,9 @@ pub struct VerifyReport {
 
 /// Reads an image's plan from its header.
 pub fn plan_of(view: &TableView<'_>) -> TablePlan {
+    let n_raw = view.grid_raw_nodes();
     let interpolation = match view.interpolation() {
+        _ if n_raw > 0 => InterpKind::Bilinear2d,
         Interpolation::MonotoneCubic => InterpKind::MonotoneCubic,
         _ => InterpKind::Linear,
     };
@@ -254,10 +312,37 @@ pub fn plan_of(view: &TableView<'_>) -> TablePlan {
         format,
         n_t,
         n_sig,
+        n_raw,
     }
 }
 
-/// Verifies `image` against `part` on `n_temps` x `n_stimuli` points.
+/// Temperatures of a table's error curve (plots): 0.25 K steps over the
+/// well-logger's 105 K range, fine enough to show every node interval.
+pub const CURVE_TEMPS: usize = 421;
+
+/// Largest |error| of `image` at each of [`CURVE_TEMPS`] temperatures over
+/// the part's range, across the dense grid's stimuli ([`dense_counts`]),
+/// in ppm of span.
+pub fn table_error_curve(
+    image: &[u8],
+    part: &PartFile,
+    curves: &ShapeCurves,
+) -> Result<Vec<(f64, f64)>, StepError> {
+    let model = PartModel {
+        curves,
+        params: part.params,
+    };
+    let frame = TableFrame::new(part, model)?;
+    let view = TableView::parse(image).map_err(|e| StepError::Eval(EvalError::Image(e)))?;
+    // A 2-D image is sampled between its raw nodes too.
+    let (_, n_stimuli) = dense_counts(&plan_of(&view));
+    let temps = linspace(frame.t_lo_c, frame.t_hi_c, CURVE_TEMPS);
+    let stimuli = linspace(frame.fs_lo, frame.fs_hi, n_stimuli);
+    Ok(per_temperature(image, &frame, &temps, &stimuli)?)
+}
+
+/// Verifies `image` against `part` on `n_temps` x `n_stimuli` points
+/// ([`dense_counts`] gives the usual sizes).
 pub fn verify(
     image: &[u8],
     part: &PartFile,
@@ -272,7 +357,7 @@ pub fn verify(
         curves,
         params: part.params,
     };
-    let frame = TableFrame::new(part, model)?;
+    let frame = TableFrame::new(part, model)?.for_view(&view);
     let terms = PartTerms::of(part, &frame);
     let temps = linspace(frame.t_lo_c, frame.t_hi_c, n_temps);
     let stimuli = linspace(frame.fs_lo, frame.fs_hi, n_stimuli);

@@ -5,6 +5,7 @@
 //! All numbers here are invented for the demo scenarios (simulated data,
 //! never a measurement); the physics they feed is the full model's.
 
+use super::bow::Bow;
 use crate::physics::{Dopant, Material, Sample, Species};
 
 /// The kind of sense element.
@@ -100,6 +101,10 @@ pub struct Scenario {
     pub spread: Spread,
     /// Total error budget of the compensated part, ppm of span.
     pub budget_ppm: f64,
+    /// Nonlinearity of the output in the stimulus from the element's
+    /// characterisation (none: the output is linear in the stimulus).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bow: Option<Bow>,
 }
 
 impl Scenario {
@@ -159,6 +164,7 @@ impl Scenario {
                 chamber_k: 0.03,
             },
             budget_ppm: 500.0,
+            bow: None,
         }
     }
 
@@ -211,6 +217,7 @@ impl Scenario {
                 chamber_k: 0.03,
             },
             budget_ppm: 1000.0,
+            bow: None,
         }
     }
 }

@@ -6,14 +6,17 @@
 //! `T = thermometer(signal)`; the columns hold the fitted model's offset in
 //! ADC codes and `lsb / sensitivity` in stimulus units per code.
 
+use super::bow::Bow;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
 use compensate::ImageBuilder;
-use compensate::image::{AxisSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use compensate::image::{AxisSpec, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
 use compensate::interp::Interpolation;
 
 /// Number format of an image.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, clap::ValueEnum,
+)]
 #[serde(rename_all = "lowercase")]
 pub enum NumFormat {
     /// IEEE binary32 (FPU parts).
@@ -23,23 +26,52 @@ pub enum NumFormat {
 }
 
 /// Interpolation between nodes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, clap::ValueEnum,
+)]
 #[serde(rename_all = "snake_case")]
 pub enum InterpKind {
     /// Piecewise linear.
     Linear,
     /// Monotone cubic (Fritsch-Carlson).
     MonotoneCubic,
+    /// Piecewise-linear offset and gain columns plus a 2-D correction over
+    /// temperature x raw signal, interpolated bilinearly (for an output
+    /// whose nonlinearity in the stimulus changes with temperature).
+    Bilinear2d,
 }
 
 impl InterpKind {
     /// The runtime crate's code for it.
     pub fn runtime(self) -> Interpolation {
         match self {
-            InterpKind::Linear => Interpolation::Linear,
+            InterpKind::Linear | InterpKind::Bilinear2d => Interpolation::Linear,
             InterpKind::MonotoneCubic => Interpolation::MonotoneCubic,
         }
     }
+}
+
+/// What the image's thermometer takes as its temperature signal.
+#[derive(
+    Debug,
+    Clone,
+    Copy,
+    PartialEq,
+    Eq,
+    Default,
+    serde::Serialize,
+    serde::Deserialize,
+    clap::ValueEnum,
+)]
+#[serde(rename_all = "snake_case")]
+pub enum SignalUnit {
+    /// The signal in the spec's units (ohm), as the chamber CSV records it.
+    #[default]
+    Ohm,
+    /// Whole codes of the temperature-signal ADC (the spec's `signal_adc`),
+    /// as firmware reads them: no conversion on the part, and Q images take
+    /// the code itself (0 fraction bits).
+    AdcCode,
 }
 
 /// The choices that decide a table's size and error.
@@ -53,6 +85,14 @@ pub struct TablePlan {
     pub n_t: usize,
     /// Signal nodes of the thermometer map.
     pub n_sig: usize,
+    /// Raw-signal nodes of the 2-D correction (0: none; only
+    /// [`InterpKind::Bilinear2d`] has one).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub n_raw: usize,
+}
+
+fn is_zero(n: &usize) -> bool {
+    *n == 0
 }
 
 /// Why a table could not be built.
@@ -95,6 +135,14 @@ pub struct TableFrame<'a> {
     pub fs_lo: f64,
     /// Stimulus full-scale range.
     pub fs_hi: f64,
+    /// Reference temperature of the part model, C.
+    pub t_ref_c: f64,
+    /// The element's nonlinearity, if any.
+    pub bow: Option<Bow>,
+    /// Unit of the image's temperature signal.
+    pub signal_unit: SignalUnit,
+    /// Temperature-signal ADC code size, spec units (ohm) per code.
+    pub signal_lsb: f64,
 }
 
 fn unit(name: &str) -> Unit {
@@ -144,7 +192,56 @@ impl<'a> TableFrame<'a> {
             bits: sc.output_adc.bits,
             fs_lo: sc.stimulus_fs.0,
             fs_hi: sc.stimulus_fs.1,
+            t_ref_c: sc.t_ref_c,
+            bow: sc.bow,
+            signal_unit: SignalUnit::Ohm,
+            signal_lsb: sc.signal_adc.lsb(),
         })
+    }
+
+    /// The same frame with the image's temperature signal in `unit`.
+    pub fn with_signal_unit(mut self, unit: SignalUnit) -> TableFrame<'a> {
+        self.signal_unit = unit;
+        self
+    }
+
+    /// The frame for an existing image: its temperature-signal unit read
+    /// from the image header.
+    pub fn for_view(self, view: &compensate::TableView<'_>) -> TableFrame<'a> {
+        let unit = match view.signal_kind() {
+            SignalKind::AdcCode => SignalUnit::AdcCode,
+            _ => SignalUnit::Ohm,
+        };
+        self.with_signal_unit(unit)
+    }
+
+    /// Spec units (ohm) per image signal unit.
+    fn signal_scale(&self) -> f64 {
+        match self.signal_unit {
+            SignalUnit::Ohm => 1.0,
+            SignalUnit::AdcCode => self.signal_lsb,
+        }
+    }
+
+    /// The temperature signal the image receives at `t_c`, in its unit
+    /// (whole codes for [`SignalUnit::AdcCode`], as the ADC delivers them).
+    pub fn image_signal(&self, t_c: f64) -> f64 {
+        self.image_signal_of(self.model.signal(t_c))
+    }
+
+    /// A spec-unit temperature signal (ohm) in the image's unit.
+    pub fn image_signal_of(&self, signal: f64) -> f64 {
+        match self.signal_unit {
+            SignalUnit::Ohm => signal,
+            SignalUnit::AdcCode => (signal / self.signal_lsb).round(),
+        }
+    }
+
+    fn signal_kind(&self) -> SignalKind {
+        match self.signal_unit {
+            SignalUnit::Ohm => SignalKind::Ohm,
+            SignalUnit::AdcCode => SignalKind::AdcCode,
+        }
     }
 
     /// Offset in ADC codes at `t_c`.
@@ -165,7 +262,7 @@ impl<'a> TableFrame<'a> {
         for k in 0..=200 {
             let t = self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 200.0;
             for s in [self.fs_lo, self.fs_hi] {
-                let c = self.model.output(t, s) / self.lsb;
+                let c = self.output(t, s) / self.lsb;
                 lo = lo.min(c);
                 hi = hi.max(c);
             }
@@ -198,9 +295,13 @@ impl<'a> TableFrame<'a> {
         let mut gain = frac_bits_for(max_gain, 30);
         // offset + gain - output must lie in 0..=62.
         gain = gain.clamp(output.saturating_sub(offset), 62 - offset);
+        let signal = match self.signal_unit {
+            SignalUnit::Ohm => frac_bits_for(max_sig, 30),
+            SignalUnit::AdcCode => 0,
+        };
         QFormat {
             temperature: frac_bits_for(max_t * 2.0, 30),
-            signal: frac_bits_for(max_sig, 30),
+            signal,
             output,
             offset,
             gain,
@@ -238,21 +339,28 @@ impl<'a> TableFrame<'a> {
                 let therm: Vec<f32> = (0..n_sig)
                     .map(|k| self.model.temperature(self.sig_lo + s_step * k as f64) as f32)
                     .collect();
+                let (raw_start, raw_step) = self.raw_axis(plan.n_raw);
+                let grid_values: Vec<f32> = self
+                    .grid_values(plan, &t_nodes, raw_start, raw_step)
+                    .iter()
+                    .map(|&v| v as f32)
+                    .collect();
+                let u = self.signal_scale();
                 let builder = ImageBuilder::<f32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: QFormat::F32,
-                    signal_kind: SignalKind::Ohm,
+                    signal_kind: self.signal_kind(),
                     unit: unit(unit_name),
                     ratiometric: false,
                     full_scale: fs as f32,
                     raw_limits: limits,
-                    signal_lo: (self.sig_lo - sig_margin) as f32,
-                    signal_hi: (self.sig_hi + sig_margin) as f32,
+                    signal_lo: ((self.sig_lo - sig_margin) / u) as f32,
+                    signal_hi: ((self.sig_hi + sig_margin) / u) as f32,
                     serial: serial_bytes,
                     thermometer: Some(MapSpec {
                         axis: AxisSpec {
-                            start: self.sig_lo as f32,
-                            step: s_step as f32,
+                            start: (self.sig_lo / u) as f32,
+                            step: (s_step / u) as f32,
                         },
                         values: &therm,
                     }),
@@ -263,14 +371,22 @@ impl<'a> TableFrame<'a> {
                     offset: &offset,
                     gain: &gain,
                     quadratic: None,
-                    grid: None,
+                    grid: (plan.n_raw > 0).then_some(GridSpec {
+                        raw_axis: AxisSpec {
+                            start: raw_start as f32,
+                            step: raw_step as f32,
+                        },
+                        raw_len: plan.n_raw,
+                        values: &grid_values,
+                    }),
                 };
                 encode(&builder)
             }
             NumFormat::Q => {
                 let q = self.q_format();
                 let tq = 2f64.powi(i32::from(q.temperature));
-                let sq = 2f64.powi(i32::from(q.signal));
+                // Image signal units (fraction bits included) per ohm.
+                let sq = 2f64.powi(i32::from(q.signal)) / self.signal_scale();
                 // Integer axes: start rounded down, step rounded up so the
                 // last node reaches the range end.
                 let t_start = (self.t_lo_c * tq).floor() as i32;
@@ -293,16 +409,22 @@ impl<'a> TableFrame<'a> {
                 let therm: Vec<i32> = (0..n_sig)
                     .map(|k| scale(self.model.temperature(s_node(k)), q.temperature))
                     .collect();
+                let (raw_start, raw_step) = self.raw_axis(plan.n_raw);
+                let grid_values: Vec<i32> = self
+                    .grid_values(plan, &t_node, raw_start, raw_step)
+                    .iter()
+                    .map(|&v| scale(v, q.output))
+                    .collect();
                 let builder = ImageBuilder::<i32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: q,
-                    signal_kind: SignalKind::Ohm,
+                    signal_kind: self.signal_kind(),
                     unit: unit(unit_name),
                     ratiometric: false,
                     full_scale: fs as f32,
                     raw_limits: limits,
-                    signal_lo: scale(self.sig_lo - sig_margin, q.signal),
-                    signal_hi: scale(self.sig_hi + sig_margin, q.signal),
+                    signal_lo: ((self.sig_lo - sig_margin) * sq).round() as i32,
+                    signal_hi: ((self.sig_hi + sig_margin) * sq).round() as i32,
                     serial: serial_bytes,
                     thermometer: Some(MapSpec {
                         axis: AxisSpec {
@@ -318,7 +440,14 @@ impl<'a> TableFrame<'a> {
                     offset: &offset,
                     gain: &gain,
                     quadratic: None,
-                    grid: None,
+                    grid: (plan.n_raw > 0).then_some(GridSpec {
+                        raw_axis: AxisSpec {
+                            start: raw_start,
+                            step: raw_step,
+                        },
+                        raw_len: plan.n_raw,
+                        values: &grid_values,
+                    }),
                 };
                 encode(&builder)
             }

@@ -2,7 +2,7 @@
 
 use crate::cli::CliError;
 use crate::cli::element::{curve_for, load_spec, temps_for};
-use crate::plot::{element_svg, write_atomically, write_element_png};
+use crate::plot::write_element_plot;
 use clap::Args;
 use std::io::Write;
 use std::path::PathBuf;
@@ -37,16 +37,7 @@ pub fn run(args: PlotElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let shown = args.out.display().to_string();
     let out_err = |e| CliError::option("--out", &shown, e);
     let title = spec.common().name;
-    if args
-        .out
-        .extension()
-        .is_some_and(|e| e.eq_ignore_ascii_case("png"))
-    {
-        write_element_png(&args.out, &curve, title).map_err(out_err)?;
-    } else {
-        let svg = element_svg(&curve, title).map_err(out_err)?;
-        write_atomically(&args.out, svg.as_bytes()).map_err(out_err)?;
-    }
+    write_element_plot(&args.out, &curve, title).map_err(out_err)?;
     writeln!(out, "wrote {shown} ({} temperatures)", curve.rows.len())?;
     Ok(())
 }

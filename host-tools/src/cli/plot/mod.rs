@@ -1,7 +1,10 @@
 //! `semidrift plot KIND ...`: one file per kind of plot; this file dispatches.
 
 mod element;
+mod lot;
 mod model;
+mod part;
+mod table;
 
 use super::CliError;
 use clap::Subcommand;
@@ -14,6 +17,12 @@ pub enum PlotCommand {
     Model(model::PlotModelArgs),
     /// Relative span, offset and resistance drift of a sense element, both drives.
     Element(element::PlotElementArgs),
+    /// One part's error against temperature before and after compensation.
+    Part(part::PlotPartArgs),
+    /// A lot's worst-case error envelope before and after compensation.
+    Lot(lot::PlotLotArgs),
+    /// A table image's error against temperature beside its budget allowance.
+    Table(table::PlotTableArgs),
 }
 
 /// Runs `semidrift plot ...`.
@@ -21,5 +30,8 @@ pub fn run(command: PlotCommand, out: &mut dyn Write) -> Result<(), CliError> {
     match command {
         PlotCommand::Model(args) => model::run(args, out),
         PlotCommand::Element(args) => element::run(args, out),
+        PlotCommand::Part(args) => part::run(args, out),
+        PlotCommand::Lot(args) => lot::run(args, out),
+        PlotCommand::Table(args) => table::run(args, out),
     }
 }

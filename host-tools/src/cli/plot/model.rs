@@ -1,11 +1,11 @@
-//! `semidrift plot model`: the model plot of one sample as an SVG file.
+//! `semidrift plot model`: the model plot of one sample as an SVG (or PNG) file.
 
 use crate::cli::CliError;
 use crate::cli::model::sweep;
 use crate::cli::range::TemperatureArgs;
 use crate::cli::sample_args::SampleArgs;
 use crate::physics::carriers;
-use crate::plot::{model_svg, write_atomically, write_model_png};
+use crate::plot::write_model_plot;
 use clap::Args;
 use std::io::Write;
 use std::path::PathBuf;
@@ -49,16 +49,7 @@ pub fn run(args: PlotModelArgs, out: &mut dyn Write) -> Result<(), CliError> {
     }
     let rows = sweep(&args.sample, &sample, &temperature, &temperatures_k)?;
     let out_err = |e| CliError::option("--out", &args.out.display().to_string(), e);
-    let png = args
-        .out
-        .extension()
-        .is_some_and(|e| e.eq_ignore_ascii_case("png"));
-    if png {
-        write_model_png(&args.out, &sample, &rows).map_err(out_err)?;
-    } else {
-        let svg = model_svg(&sample, &rows).map_err(out_err)?;
-        write_atomically(&args.out, svg.as_bytes()).map_err(out_err)?;
-    }
+    write_model_plot(&args.out, &sample, &rows).map_err(out_err)?;
     writeln!(
         out,
         "wrote {} ({} temperatures)",

@@ -1,0 +1,66 @@
+//! The part of a table frame that concerns the element's bow: the model's
+//! output and its exact inverse with the bow included, and the 2-D
+//! correction (temperature x raw code) that a bilinear grid stores.
+
+use super::table::{TableFrame, TablePlan};
+
+impl TableFrame<'_> {
+    /// Raw output at `t_c` and `stimulus`, the element's bow included.
+    pub fn output(&self, t_c: f64, stimulus: f64) -> f64 {
+        let apparent = match self.bow {
+            Some(b) => b.apparent(stimulus, t_c, self.t_ref_c, (self.fs_lo, self.fs_hi)),
+            None => stimulus,
+        };
+        self.model.output(t_c, apparent)
+    }
+
+    /// The stimulus that gives `output` at `t_c` (the exact compensation).
+    pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
+        let apparent = self.model.stimulus(output, t_c);
+        match self.bow {
+            Some(b) => b.true_stimulus(apparent, t_c, self.t_ref_c, (self.fs_lo, self.fs_hi)),
+            None => apparent,
+        }
+    }
+
+    /// What the 2-D correction adds at `t_c` and raw code `raw` (stimulus
+    /// units): the exact stimulus minus the terminal line's.
+    pub fn grid_correction(&self, t_c: f64, raw: f64) -> f64 {
+        let y = raw * self.lsb;
+        self.stimulus(y, t_c) - self.model.stimulus(y, t_c)
+    }
+
+    /// Raw axis of a 2-D correction with `n_raw` nodes over the calibrated
+    /// codes: integer start and step (codes), the last node at or beyond
+    /// the calibrated range's end.
+    pub fn raw_axis(&self, n_raw: usize) -> (i32, i32) {
+        let l = self.raw_limits();
+        let step = ((f64::from(l.raw_hi) - f64::from(l.raw_lo)) / (n_raw.max(2) - 1) as f64)
+            .ceil()
+            .max(1.0);
+        (l.raw_lo, step as i32)
+    }
+
+    /// Row-major 2-D correction values of `plan` (stimulus units): one row
+    /// of `n_raw` per temperature node; empty without a 2-D correction.
+    pub(super) fn grid_values(
+        &self,
+        plan: &TablePlan,
+        t_node: &dyn Fn(usize) -> f64,
+        raw_start: i32,
+        raw_step: i32,
+    ) -> Vec<f64> {
+        if plan.n_raw == 0 {
+            return Vec::new();
+        }
+        let mut v = Vec::with_capacity(plan.n_t.max(2) * plan.n_raw);
+        for i in 0..plan.n_t.max(2) {
+            let t = t_node(i);
+            for j in 0..plan.n_raw {
+                let raw = f64::from(raw_start) + f64::from(raw_step) * j as f64;
+                v.push(self.grid_correction(t, raw));
+            }
+        }
+        v
+    }
+}
