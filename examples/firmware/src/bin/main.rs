@@ -53,13 +53,18 @@ fn fixed_compensator<'a>(view: Option<&TableView<'a>>) -> FixedCompensator<'a> {
         .unwrap_or(FixedCompensator::unconfigured())
 }
 
+/// Room for the copy that `corrupt_copy_is_refused` damages: the demo
+/// images are 704 bytes; 2 KiB of the micro:bit's 16 KiB RAM leaves room
+/// for a larger plan (a larger image fails with a clear line, not a panic).
+const CORRUPTION_BUFFER_BYTES: usize = 2048;
+
 /// Flips one bit in a copy of `image` and checks the copy is refused and
 /// that a compensator on it refuses to compensate. Returns `true` on the
 /// expected outcome.
 fn corrupt_copy_is_refused(image: &[u8]) -> bool {
-    let mut copy = [0u8; 512];
+    let mut copy = [0u8; CORRUPTION_BUFFER_BYTES];
     let Some(copy) = copy.get_mut(..image.len()) else {
-        hprintln!("error: image larger than the 512-byte corruption buffer");
+        hprintln!("error: image larger than the {CORRUPTION_BUFFER_BYTES}-byte corruption buffer");
         return false;
     };
     copy.copy_from_slice(image);
