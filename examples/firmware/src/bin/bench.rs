@@ -331,7 +331,7 @@ fn main() -> ! {
     let raw_q: [i32; INPUTS] = samples.map(|s| s.raw_code);
     let temp_q: [i32; INPUTS] = samples.map(|s| s.temp_code);
 
-    let Ok(view_q) = TableView::parse(IMAGE_Q) else {
+    let Ok(view_q) = TableView::parse_q(IMAGE_Q) else {
         hprintln!("error: well_level_q.bin does not parse");
         rt::exit_failure()
     };

@@ -22,11 +22,11 @@ fn main() -> ! {
     let bytes = black_box(IMAGE);
     let signal = black_box(4_194_304i32);
     let raw = black_box(2_000_000i32);
-    let Ok(view) = compensate::TableView::parse(bytes) else {
-        rt::exit_failure()
-    };
     #[cfg(fpu)]
     let ok = {
+        let Ok(view) = compensate::TableView::parse(bytes) else {
+            rt::exit_failure()
+        };
         let Ok(mut c) = compensate::Compensator::new(&view) else {
             rt::exit_failure()
         };
@@ -37,6 +37,9 @@ fn main() -> ! {
     };
     #[cfg(not(fpu))]
     let ok = {
+        let Ok(view) = compensate::TableView::parse_q(bytes) else {
+            rt::exit_failure()
+        };
         let Ok(mut c) = compensate::FixedCompensator::new(&view) else {
             rt::exit_failure()
         };
