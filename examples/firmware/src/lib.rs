@@ -8,6 +8,7 @@
 
 pub mod count;
 pub mod poly;
+pub mod poly_checked;
 pub mod probe;
 pub mod rt;
 pub mod stack;

@@ -158,7 +158,55 @@ mod fpu {
         }
     }
 
+    use semidrift_firmware::poly::normalised_temperature;
     pub use semidrift_firmware::poly::{PolyF32Bench as PolyBench, demo_f32 as poly};
+    use semidrift_firmware::poly_checked::PolyF32Checked;
+
+    /// The benchmark's polynomial with the checks of our f32 path.
+    pub type PolyCheckedBench = PolyF32Checked<3, 3, 4>;
+
+    /// [`poly`] with the limits of the f32 image `view`: its raw limits,
+    /// plausible signal range and temperature axis (the span the table
+    /// was calibrated over), so both sides check the same inputs.
+    pub fn poly_checked(view: &compensate::TableView<'_>) -> Option<PolyCheckedBench> {
+        let t = view.tables_f32()?;
+        let l = view.raw_limits();
+        Some(PolyF32Checked {
+            poly: poly(),
+            raw_lo: l.raw_lo as f32,
+            raw_hi: l.raw_hi as f32,
+            rail_lo: l.rail_lo as f32,
+            rail_hi: l.rail_hi as f32,
+            signal_lo: t.signal_lo,
+            signal_hi: t.signal_hi,
+            t_lo: normalised_temperature(t.temperature.start),
+            t_hi: normalised_temperature(t.temperature.end()),
+            temp_status: Status::NO_TEMPERATURE,
+        })
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_temp_update(p: &mut PolyCheckedBench, signal: f32) -> Status {
+        p.update_temperature(signal)
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_sample(p: &mut PolyCheckedBench, raw: f32) -> Reading {
+        p.sample(raw)
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_temp_update_empty(_p: &mut PolyCheckedBench, _signal: f32) -> Status {
+        Status::OK
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_sample_empty(_p: &mut PolyCheckedBench, raw: f32) -> Reading {
+        Reading {
+            value: raw,
+            status: Status::OK,
+        }
+    }
 
     /// Runtime-model parameters of the demo scenarios: the well-level
     /// logger's p-type piezoresistor (boron 2e18 cm^-3) and the current
@@ -412,6 +460,30 @@ fn main() -> ! {
             fpu::poly_sample_empty,
         );
         metric_centi("poly_sample_insn", t, "insn");
+
+        let Some(mut checked) = fpu::poly_checked(&view) else {
+            hprintln!("error: well_level_f32.bin has no f32 tables");
+            rt::exit_failure()
+        };
+        let _ = checked.update_temperature(temp_f[0]);
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut checked,
+            &temp_f,
+            fpu::poly_checked_temp_update,
+            fpu::poly_checked_temp_update_empty,
+        );
+        metric_centi("poly_checked_temp_update_insn", t, "insn");
+        let t = net_insn(
+            &counter,
+            CALLS,
+            &mut checked,
+            &raw_f,
+            fpu::poly_checked_sample,
+            fpu::poly_checked_sample_empty,
+        );
+        metric_centi("poly_checked_sample_insn", t, "insn");
 
         let stack = measure_call_bytes(&mut float, temp_f[0], fpu::temp_update)
             .max(measure_call_bytes(&mut float, raw_f[0], fpu::sample));
