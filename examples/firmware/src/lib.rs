@@ -10,6 +10,7 @@ pub mod count;
 pub mod poly;
 pub mod poly_checked;
 pub mod probe;
+pub mod report;
 pub mod rt;
 pub mod stack;
 pub mod stream;

@@ -13,6 +13,7 @@
 use compensate::{FixedCompensator, ImageError, Status, TableView};
 use cortex_m_rt::entry;
 use cortex_m_semihosting::hprintln;
+use semidrift_firmware::report::{FloatResult, SampleLine};
 use semidrift_firmware::{rt, stream};
 
 semidrift_firmware::printing_fault_handlers!();
@@ -121,36 +122,15 @@ fn main() -> ! {
         let q = fixed.compensate_sample(s.raw_code);
 
         #[cfg(fpu)]
-        {
+        let float_result = {
             let tf = float.update_temperature(s.temp_code as f32);
             let f = float.compensate_sample(s.raw_code as f32);
-            hprintln!(
-                "sample {} raw={} temp={} t_c={:#010x} t_q={} f32={:#010x} {} f32_status={} f32_temp_status={} q={} q_status={} q_temp_status={}",
-                i,
-                s.raw_code,
-                s.temp_code,
-                float.temperature_c().to_bits(),
-                fixed.temperature_q(),
-                f.value.to_bits(),
-                f.value,
-                f.status.bits(),
-                tf.bits(),
-                q.value,
-                q.status.bits(),
-                tq.bits()
-            );
-        }
+            Some(FloatResult::new(&float, f, tf))
+        };
         #[cfg(not(fpu))]
-        hprintln!(
-            "sample {} raw={} temp={} t_q={} q={} q_status={} q_temp_status={}",
-            i,
-            s.raw_code,
-            s.temp_code,
-            fixed.temperature_q(),
-            q.value,
-            q.status.bits(),
-            tq.bits()
-        );
+        let float_result: Option<FloatResult> = None;
+        let line = SampleLine::new(i, s, float_result, &fixed, q, tq);
+        hprintln!("{}", line);
         n += 1;
     }
     hprintln!("done samples={} ok={}", n, ok);
