@@ -94,7 +94,9 @@ impl<'a> TableView<'a> {
     /// section lengths, limits, axes, finiteness of every number.
     ///
     /// # Errors
-    /// One [`ImageError`] variant per kind of defect; never panics.
+    /// One [`ImageError`] variant per kind of defect; never panics. Built
+    /// without the `cubic` feature, a cubic image gives
+    /// [`ImageError::InterpolationNotCompiled`].
     pub fn parse(bytes: &'a [u8]) -> Result<Self, ImageError> {
         Self::parse_as::<false>(bytes)
     }
