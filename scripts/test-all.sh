@@ -29,6 +29,9 @@ for target in thumbv7em-none-eabihf thumbv6m-none-eabi riscv32imc-unknown-none-e
     done
 done
 
+step "runtime crate without the cubic kernel (host tests)"
+cargo test -p compensate --locked --no-default-features --features libm
+
 step "docs (warnings are errors)"
 RUSTDOCFLAGS="-D warnings" cargo doc --workspace --no-deps --locked
 

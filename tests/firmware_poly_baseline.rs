@@ -160,3 +160,21 @@ fn compile_time_constants_match_the_constructors() {
         (r.therm, r.therm_centre, r.coeffs)
     );
 }
+
+#[test]
+fn normalised_temperature_keeps_the_demo_span_inside_unit_interval() {
+    // poly.rs: `tn = (T - 25 C) / 64 C`, |tn| < 1 over the demo part's
+    // -20..85 C (Horner's rule stays well conditioned); poly_checked clamps
+    // to this span. Exact values: the divisions by 64 are exact in f32.
+    let cases = [
+        (25.0f32, 0.0f32),
+        (89.0, 1.0),
+        (-20.0, -0.703_125),
+        (85.0, 0.937_5),
+    ];
+    for (t_c, want) in cases {
+        let got = poly::normalised_temperature(t_c);
+        assert_eq!(got, want, "T {t_c} C: got {got}, expected {want}");
+        assert!(t_c == 89.0 || got.abs() < 1.0, "T {t_c} C: |tn| = {got}");
+    }
+}

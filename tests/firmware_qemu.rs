@@ -168,9 +168,13 @@ mod make_firmware_image;
 
 // The firmware's own stream parser (plain `core` code), so host and
 // firmware read the CSV identically; `fill` is only used by the benchmark.
+#[path = "../examples/firmware/src/report.rs"]
+mod report;
 #[allow(dead_code)]
 #[path = "../examples/firmware/src/stream.rs"]
 mod stream;
+
+use report::{FloatResult, SampleLine};
 
 use compensate::{Compensator, FixedCompensator, TableView};
 
@@ -242,34 +246,13 @@ fn expected_output(target: &str, data: &make_firmware_image::FirmwareData) -> Ve
         let s = s.unwrap_or_else(|e| panic!("well_level_stream.csv line {}: bad sample", e.line));
         let tq = fixed.update_temperature(s.temp_code);
         let q = fixed.compensate_sample(s.raw_code);
-        if fpu {
+        let float_result = fpu.then(|| {
             let tf = float.update_temperature(s.temp_code as f32);
             let f = float.compensate_sample(s.raw_code as f32);
-            lines.push(format!(
-                "sample {i} raw={} temp={} t_c={:#010x} t_q={} f32={:#010x} {} f32_status={} f32_temp_status={} q={} q_status={} q_temp_status={}",
-                s.raw_code,
-                s.temp_code,
-                float.temperature_c().to_bits(),
-                fixed.temperature_q(),
-                f.value.to_bits(),
-                f.value,
-                f.status.bits(),
-                tf.bits(),
-                q.value,
-                q.status.bits(),
-                tq.bits()
-            ));
-        } else {
-            lines.push(format!(
-                "sample {i} raw={} temp={} t_q={} q={} q_status={} q_temp_status={}",
-                s.raw_code,
-                s.temp_code,
-                fixed.temperature_q(),
-                q.value,
-                q.status.bits(),
-                tq.bits()
-            ));
-        }
+            FloatResult::new(&float, f, tf)
+        });
+        let line = SampleLine::new(i, s, float_result, &fixed, q, tq);
+        lines.push(line.to_string());
         n += 1;
     }
     lines.push(format!("done samples={n} ok={ok}"));

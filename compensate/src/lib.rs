@@ -6,6 +6,7 @@
 //! | you want to | use |
 //! |---|---|
 //! | check and open a table image from flash | [`TableView::parse`] `(&[u8]) -> Result<TableView, ImageError>` |
+//! | the same on a part without FPU (Q images only, no f32 checks linked) | [`TableView::parse_q`] |
 //! | compensate with an FPU (f32 image) | [`Compensator::new`], [`Compensator::update_temperature`], [`Compensator::compensate_sample`] |
 //! | compensate without an FPU (Q image, bit-exact on host) | [`FixedCompensator`] (same three calls, i32 in and out) |
 //! | know whether a sample is trustworthy | [`Status`] beside every value |
@@ -168,12 +169,13 @@
 //! Measured with the firmware example's benchmark (QEMU, executed
 //! instructions per call beyond an empty call, opt-level 3, fat LTO; the
 //! well-level demo image that `semidrift table` builds for the firmware
-//! example: linear, 151 stored numbers):
+//! example: linear, 151 stored numbers; firmware built without the `cubic`
+//! feature):
 //!
 //! | call | Cortex-M4F (f32) | Cortex-M0 (integer) |
 //! |---|---:|---:|
 //! | `compensate_sample` | 14 | 59 |
-//! | `update_temperature` (thermometer + 3 channels) | 134 | 342 |
+//! | `update_temperature` (thermometer + 3 channels) | 134 | 347 |
 //!
 //! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
 //! On the M0 about 80 of the update's instructions are byte-wise loads of
@@ -184,6 +186,11 @@
 //! - `micromath`: fast approximations; used only when `libm` is off.
 //!   With both on, libm wins; with neither, [`model`] is not compiled.
 //! - `defmt`: `defmt::Format` on public types.
+//! - `cubic` (default): images may ask for monotone cubic interpolation.
+//!   Without it the parser rejects them with
+//!   [`ImageError::InterpolationNotCompiled`] and the compensators link
+//!   only the linear kernel (the [`table`] and [`interp`] kernels stay
+//!   available either way).
 #![cfg_attr(not(test), no_std)]
 #![forbid(unsafe_code)]
 #![deny(missing_docs)]

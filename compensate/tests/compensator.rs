@@ -232,6 +232,7 @@ fn fixed_statuses_and_saturation() {
 }
 
 #[test]
+#[cfg(feature = "cubic")]
 fn monotone_cubic_images_work_in_both_paths() {
     let fb = compensate::ImageBuilder {
         interpolation: Interpolation::MonotoneCubic,

@@ -29,7 +29,7 @@ proptest! {
         let q: Vec<f32> = seed[2 * n_t..3 * n_t].iter().map(|g| g * 1e-12).collect();
         let grid: Vec<f32> = n_raw.map(|r| seed.iter().cycle().take(r * n_t).copied().collect()).unwrap_or_default();
         let b = ImageBuilder {
-            interpolation: if cubic { Interpolation::MonotoneCubic } else { Interpolation::Linear },
+            interpolation: if cubic && cfg!(feature = "cubic") { Interpolation::MonotoneCubic } else { Interpolation::Linear },
             q_format: QFormat::F32,
             signal_kind: if therm.is_some() { SignalKind::Ohm } else { SignalKind::Celsius },
             unit: Unit::Millitesla,

@@ -4,7 +4,8 @@ mod common;
 
 use common::*;
 use compensate::TableView;
-use compensate::image::{EncodeError, ImageError, Section, layout::off};
+use compensate::image::{EncodeError, ImageError, NumberFormat, Section, layout::off};
+use compensate::interp::Interpolation;
 
 #[test]
 fn valid_images_round_trip() {
@@ -337,4 +338,122 @@ fn encoder_reports_errors_and_leaves_nothing_behind() {
         buf[need..].iter().all(|&b| b == 0xAA),
         "bytes past the image touched"
     );
+}
+
+#[test]
+fn parse_q_accepts_what_parse_accepts_in_q() {
+    for grid in [false, true] {
+        let img = encode(&q_builder(grid));
+        assert_eq!(
+            TableView::parse_q(&img),
+            TableView::parse(&img),
+            "grid={grid}"
+        );
+        assert!(TableView::parse_q(&img).is_ok(), "grid={grid}");
+    }
+}
+
+#[test]
+fn parse_q_rejects_f32_images_with_a_typed_error() {
+    for b in [f32_builder(), f32_grid_builder()] {
+        let img = encode(&b);
+        assert_eq!(
+            TableView::parse_q(&img),
+            Err(ImageError::FormatNotAccepted {
+                expected: NumberFormat::Q,
+                found: NumberFormat::F32,
+            })
+        );
+    }
+}
+
+#[test]
+fn parse_q_rejects_every_truncation_and_single_bit_flip() {
+    // Same exhaustive check as for `parse`, through the Q-only entry point
+    // (it skips the f32 branches, so it gets its own run).
+    let img = encode(&q_builder(true));
+    for len in 0..img.len() {
+        let got = TableView::parse_q(&img[..len]);
+        assert!(
+            matches!(got, Err(ImageError::Truncated { .. })),
+            "prefix of {len} bytes: {got:?}"
+        );
+    }
+    let mut bad = img.clone();
+    for byte in 0..img.len() {
+        for bit in 0..8 {
+            bad[byte] ^= 1 << bit;
+            let got = TableView::parse_q(&bad);
+            assert!(got.is_err(), "flip of byte {byte} bit {bit} accepted");
+            bad[byte] ^= 1 << bit;
+        }
+    }
+    assert_eq!(bad, img);
+}
+
+#[test]
+fn full_scale_must_be_positive_and_finite() {
+    // The parser tests the bits, not an f32 compare: check the edges a
+    // float compare would decide (subnormal accepted, zeros, negatives,
+    // infinity and NaN rejected), in both entry points.
+    let cases = [
+        (f32::from_bits(1), true),
+        (f32::MIN_POSITIVE, true),
+        (f32::MAX, true),
+        (0.0, false),
+        (-0.0, false),
+        (-1.0, false),
+        (f32::INFINITY, false),
+        (f32::NEG_INFINITY, false),
+        (f32::NAN, false),
+        (-f32::NAN, false),
+    ];
+    for (q, b) in [
+        (false, encode(&f32_builder())),
+        (true, encode(&q_builder(false))),
+    ] {
+        for (v, ok) in cases {
+            let mut img = b.clone();
+            img[off::FULL_SCALE..off::FULL_SCALE + 4].copy_from_slice(&v.to_le_bytes());
+            fix_crc(&mut img);
+            let got = if q {
+                TableView::parse_q(&img)
+            } else {
+                TableView::parse(&img)
+            };
+            let want_err = Err(ImageError::BadLimits {
+                field: "full_scale",
+            });
+            assert_eq!(
+                got.is_ok(),
+                ok,
+                "full scale {v:e} (q={q}): got {got:?}, expected {}",
+                if ok { "Ok" } else { "BadLimits full_scale" }
+            );
+            if !ok {
+                assert_eq!(got, want_err, "full scale {v:e} (q={q})");
+            }
+        }
+    }
+}
+
+#[test]
+fn cubic_images_follow_the_cubic_feature() {
+    // With the `cubic` feature (default) a cubic image parses; without it
+    // the parser names the missing kernel instead of running it. The image
+    // is a linear one with its interpolation code edited (the encoder
+    // itself refuses what the parser would reject).
+    for mut img in [encode(&f32_builder()), encode(&q_builder(false))] {
+        img[off::INTERP] = Interpolation::MonotoneCubic.code();
+        fix_crc(&mut img);
+        let got = TableView::parse(&img).map(|v| v.interpolation());
+        let want = if cfg!(feature = "cubic") {
+            Ok(Interpolation::MonotoneCubic)
+        } else {
+            Err(ImageError::InterpolationNotCompiled(
+                Interpolation::MonotoneCubic,
+            ))
+        };
+        assert_eq!(got, want, "format code {}", img[off::FORMAT]);
+    }
 }

@@ -74,7 +74,7 @@ pub struct FixedCompensator<'a> {
 /// more interpolations per temperature update).
 #[inline(always)]
 fn interp<N: Nodes<Value = i32>>(method: Interpolation, nodes: &N, p: PositionQ) -> i32 {
-    if method == Interpolation::Linear {
+    if method.runs_linear() {
         linear_q(nodes, p)
     } else {
         interp_cubic(nodes, p)
@@ -96,7 +96,7 @@ fn at_temperature_q(
     t_q: i32,
 ) -> (PositionQ, (i32, i32, i32)) {
     let p = tables.temperature.locate(t_q);
-    let c = if method == Interpolation::Linear {
+    let c = if method.runs_linear() {
         channels_linear_q(tables, p)
     } else {
         channels_cubic_q(tables, p)

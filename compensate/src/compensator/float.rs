@@ -50,7 +50,7 @@ pub struct Compensator<'a> {
 /// cubic one out of line.
 #[inline(always)]
 fn interp<N: Nodes<Value = f32>>(method: Interpolation, nodes: &N, p: Position) -> f32 {
-    if method == Interpolation::Linear {
+    if method.runs_linear() {
         linear(nodes, p)
     } else {
         interp_cubic(nodes, p)
@@ -72,7 +72,7 @@ fn at_temperature(
     t_c: f32,
 ) -> (Position, (f32, f32, f32)) {
     let p = tables.temperature.locate_nonempty(t_c);
-    let c = if method == Interpolation::Linear {
+    let c = if method.runs_linear() {
         channels_linear(tables, p)
     } else {
         channels_cubic(tables, p)

@@ -2,6 +2,9 @@
 
 use core::fmt;
 
+use super::layout::NumberFormat;
+use crate::interp::Interpolation;
+
 /// Part of an image an error refers to.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -112,6 +115,17 @@ pub enum ImageError {
         /// Index of the number within the section's values.
         index: usize,
     },
+    /// A valid image in a number format the chosen parse entry point does
+    /// not accept ([`super::TableView::parse_q`] takes Q images only).
+    FormatNotAccepted {
+        /// Format the entry point accepts.
+        expected: NumberFormat,
+        /// Format of the image.
+        found: NumberFormat,
+    },
+    /// The image asks for an interpolation method this build of the crate
+    /// leaves out (monotone cubic without the `cubic` cargo feature).
+    InterpolationNotCompiled(Interpolation),
 }
 
 impl fmt::Display for ImageError {
@@ -157,6 +171,19 @@ impl fmt::Display for ImageError {
             }
             Self::NonFinite { section, index } => {
                 write!(f, "value {index} of the {section} is NaN or infinite")
+            }
+            Self::FormatNotAccepted { expected, found } => {
+                write!(
+                    f,
+                    "image number format is {found:?}, this parser accepts {expected:?} only"
+                )
+            }
+            Self::InterpolationNotCompiled(m) => {
+                write!(
+                    f,
+                    "image asks for {m:?} interpolation, left out of this build \
+                     (cargo feature `cubic`)"
+                )
             }
         }
     }

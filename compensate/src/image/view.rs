@@ -12,6 +12,9 @@ use super::validate::{check_frac, f32_axis_ok};
 use crate::crc::crc32;
 use crate::interp::{Axis, AxisQ, Interpolation};
 
+/// Exponent bits of an f32: a value with all of them set is infinite or NaN.
+const F32_EXP_MASK: u32 = 0x7F80_0000;
+
 /// A validated table image borrowed from flash or RAM.
 ///
 /// Only [`TableView::parse`] creates one, and it checks everything first:
@@ -91,8 +94,28 @@ impl<'a> TableView<'a> {
     /// section lengths, limits, axes, finiteness of every number.
     ///
     /// # Errors
-    /// One [`ImageError`] variant per kind of defect; never panics.
+    /// One [`ImageError`] variant per kind of defect; never panics. Built
+    /// without the `cubic` feature, a cubic image gives
+    /// [`ImageError::InterpolationNotCompiled`].
     pub fn parse(bytes: &'a [u8]) -> Result<Self, ImageError> {
+        Self::parse_as::<false>(bytes)
+    }
+
+    /// [`Self::parse`] for firmware that runs Q images only (a part without
+    /// FPU): the same checks, but an f32 image is rejected right after its
+    /// CRC, so the f32 validation (soft-float routines on such a part) is
+    /// not linked.
+    ///
+    /// # Errors
+    /// [`ImageError::FormatNotAccepted`] for a valid-so-far f32 image;
+    /// otherwise as [`Self::parse`].
+    pub fn parse_q(bytes: &'a [u8]) -> Result<Self, ImageError> {
+        Self::parse_as::<true>(bytes)
+    }
+
+    /// [`Self::parse`] with `Q_ONLY`: the format is a constant after its
+    /// check, so the optimiser drops every f32 branch.
+    fn parse_as<const Q_ONLY: bool>(bytes: &'a [u8]) -> Result<Self, ImageError> {
         let total = Self::declared_len(bytes)?;
         let header_len = u16_at(bytes, off::HEADER_LEN);
         if usize::from(header_len) != HEADER_LEN {
@@ -127,9 +150,23 @@ impl<'a> TableView<'a> {
         let format_code = u8_at(bytes, off::FORMAT);
         let format =
             NumberFormat::from_code(format_code).ok_or(ImageError::UnknownFormat(format_code))?;
+        let format = if Q_ONLY {
+            if format != NumberFormat::Q {
+                return Err(ImageError::FormatNotAccepted {
+                    expected: NumberFormat::Q,
+                    found: format,
+                });
+            }
+            NumberFormat::Q
+        } else {
+            format
+        };
         let interp_code = u8_at(bytes, off::INTERP);
         let interpolation = Interpolation::from_code(interp_code)
             .ok_or(ImageError::UnknownInterpolation(interp_code))?;
+        if !cfg!(feature = "cubic") && interpolation != Interpolation::Linear {
+            return Err(ImageError::InterpolationNotCompiled(interpolation));
+        }
         let kind_code = u8_at(bytes, off::SIGNAL_KIND);
         let signal_kind =
             SignalKind::from_code(kind_code).ok_or(ImageError::UnknownSignalKind(kind_code))?;
@@ -199,8 +236,11 @@ impl<'a> TableView<'a> {
         };
         check_frac(format, q, n_ch, limits)?;
 
-        let full_scale = f32_at(bytes, off::FULL_SCALE);
-        if !(full_scale.is_finite() && full_scale > 0.0) {
+        // Positive and finite, tested on the bits (no float compare, which
+        // is a library call on a part without FPU): sign 0, exponent below
+        // all-ones, not +0. Subnormals count as positive, as `> 0.0` would.
+        let full_scale_bits = u32_at(bytes, off::FULL_SCALE);
+        if !(full_scale_bits > 0 && full_scale_bits < F32_EXP_MASK) {
             return Err(ImageError::BadLimits {
                 field: "full_scale",
             });
@@ -230,19 +270,21 @@ impl<'a> TableView<'a> {
             unit,
             ratiometric: flags & FLAG_RATIOMETRIC != 0,
             q,
-            full_scale,
+            full_scale: f32::from_bits(full_scale_bits),
             limits,
             n_t,
             n_ch,
             n_sig,
             n_raw,
         };
-        view.check_sections()?;
+        view.check_sections::<Q_ONLY>()?;
         Ok(view)
     }
 
-    /// Axes strictly increasing and every number finite.
-    fn check_sections(&self) -> Result<(), ImageError> {
+    /// Axes strictly increasing and every number finite (`Q_ONLY`: the
+    /// view is known to hold a Q image).
+    fn check_sections<const Q_ONLY: bool>(&self) -> Result<(), ImageError> {
+        let format = if Q_ONLY { NumberFormat::Q } else { self.format };
         let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
         let mut sections: [(Section, usize, usize, usize); 3] = [
             (Section::Thermometer, o.therm, self.n_sig, self.n_sig),
@@ -266,7 +308,7 @@ impl<'a> TableView<'a> {
             if *nodes == 0 {
                 continue;
             }
-            let ok = match self.format {
+            let ok = match format {
                 NumberFormat::F32 => f32_axis_ok(
                     f32_at(self.bytes, *at),
                     f32_at(self.bytes, *at + WORD),
@@ -282,7 +324,7 @@ impl<'a> TableView<'a> {
             if !ok {
                 return Err(ImageError::BadAxis { section: *section });
             }
-            if self.format == NumberFormat::F32 {
+            if format == NumberFormat::F32 {
                 let data = *at + AXIS_LEN;
                 for index in 0..*values {
                     if !f32_at(self.bytes, data.saturating_add(index.saturating_mul(WORD)))

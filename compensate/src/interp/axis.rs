@@ -113,6 +113,29 @@ pub struct AxisQ {
     inv_low: u32,
 }
 
+/// `ceil(2^48 / step)` for `step` in `1..2^31`, by restoring binary long
+/// division (one quotient bit per step, 49 steps): the remainder stays
+/// below `step < 2^31`, so doubling it fits in a u32 and no 64-bit division
+/// (about 1 KiB of library code on ARMv6-M) is linked. Runs once per axis
+/// at parse time, never per sample.
+const fn ceil_2pow48_div(step: u32) -> u64 {
+    let mut q: u64 = 0;
+    let mut r: u32 = 0;
+    let mut i = 0;
+    while i < 49 {
+        // The dividend 2^48 has a single one bit, the first one brought down.
+        r = (r << 1) | (i == 0) as u32;
+        q <<= 1;
+        if r >= step {
+            r = r.wrapping_sub(step);
+            q |= 1;
+        }
+        i += 1;
+    }
+    // q <= 2^48, so the rounding increment cannot overflow.
+    if r != 0 { q.wrapping_add(1) } else { q }
+}
+
 /// Where a point lies on a Q-format axis.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -141,7 +164,7 @@ impl AxisQ {
         }
         let span = (end - start as i64) as u32;
         let step = step as u32;
-        let inv = (1u64 << 48).div_ceil(step as u64);
+        let inv = ceil_2pow48_div(step);
         Some(Self {
             start,
             step,
@@ -239,6 +262,41 @@ impl AxisQ {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn long_division_matches_div_ceil() {
+        // Independent reference: u64::div_ceil. Edge steps, every step below
+        // 2^12, powers of two and their neighbours, and a seeded sweep.
+        let mut steps: Vec<u32> = (1..4096).collect();
+        for k in 0..31 {
+            let p = 1u32 << k;
+            steps.extend([p.saturating_sub(1).max(1), p, p + 1]);
+        }
+        steps.extend([
+            i32::MAX as u32,
+            i32::MAX as u32 - 1,
+            3 << 29,
+            65_535 * 32_767,
+        ]);
+        let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
+        for _ in 0..20_000 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            steps.push(((x >> 33) as u32).max(1));
+        }
+        for step in steps {
+            let got = ceil_2pow48_div(step);
+            let want = (1u64 << 48).div_ceil(u64::from(step));
+            assert_eq!(got, want, "step={step}: got {got}, expected {want}");
+        }
+    }
+
+    #[test]
+    fn long_division_check_can_fail() {
+        // The comparison above would see an off-by-one quotient.
+        assert_ne!(ceil_2pow48_div(3), (1u64 << 48) / 3);
+    }
 
     #[test]
     fn f32_locate_table() {

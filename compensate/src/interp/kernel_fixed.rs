@@ -82,10 +82,38 @@ fn tangent_q<N: Nodes<Value = i32>>(nodes: &N, k: usize) -> i64 {
     if a == 0 || b == 0 || (a < 0) != (b < 0) {
         return 0;
     }
-    // 2 a b / (a + b) = 2 a * (b / (a + b)); b/(a+b) in [0, 1] as Q0.16
-    // (|b| < 2^32, so b << 16 < 2^48), then |2 a r| < 2^33 * 2^16.
-    let r = (b << 16).checked_div(a.wrapping_add(b)).unwrap_or(0);
-    a.wrapping_mul(2).wrapping_mul(r) >> 16
+    // 2 a b / (a + b) = 2 a * (b / (a + b)); b/(a+b) in [0, 1) as Q0.16
+    // (a, b of one sign, so the ratio of magnitudes is the same), then
+    // |2 a r| < 2^33 * 2^16.
+    let r = ratio_q16(
+        b.unsigned_abs(),
+        a.unsigned_abs().wrapping_add(b.unsigned_abs()),
+    );
+    a.wrapping_mul(2).wrapping_mul(i64::from(r)) >> 16
+}
+
+/// `floor(num 2^16 / den)` for `0 < num < den < 2^33`, by 16 steps of
+/// restoring binary long division (the quotient is below 2^16 because
+/// `num < den`, and the remainder stays below `den`, so doubling it fits
+/// in a u64): ARMv6-M needs no 64-bit division routine (about 1 KiB).
+/// Equals the truncating i64 division `(b << 16) / (a + b)` for `a`, `b`
+/// of one sign with `|a|`, `|b|` as `den - num`, `num`.
+#[inline(always)]
+fn ratio_q16(num: u64, den: u64) -> u32 {
+    let mut rem = num;
+    // A sentinel bit above the quotient ends the loop after 16 steps; with
+    // a plain counted loop LLVM unrolls all 16 (about 1.2 KiB on ARMv6-M).
+    let mut q: u32 = 1;
+    while q < 1 << 16 {
+        // rem < den < 2^33: no overflow in the shift.
+        rem <<= 1;
+        let bit = rem >= den;
+        if bit {
+            rem = rem.wrapping_sub(den);
+        }
+        q = (q << 1) | u32::from(bit);
+    }
+    q & 0xFFFF
 }
 
 /// Monotone piecewise-cubic Hermite interpolation at `p` in Q arithmetic;
@@ -147,6 +175,48 @@ pub fn bilinear_q<N: Nodes<Value = i32>>(
 mod tests {
     use super::super::{Axis, AxisQ, cubic_monotone, linear};
     use super::*;
+
+    #[test]
+    fn ratio_q16_matches_i64_division() {
+        // Independent reference: the truncating i64 division the tangent
+        // used before, on same-sign slopes up to the i32 node range
+        // (|a|, |b| < 2^32): edges and a seeded xorshift sweep.
+        let edge: [i64; 8] = [
+            1,
+            2,
+            3,
+            0xFFFF,
+            0x1_0000,
+            0x7FFF_FFFF,
+            0xFFFF_FFFF,
+            12_345_678,
+        ];
+        let mut pairs: Vec<(i64, i64)> = Vec::new();
+        for &a in &edge {
+            for &b in &edge {
+                pairs.push((a, b));
+                pairs.push((-a, -b));
+            }
+        }
+        let mut x: u64 = 0xD1B5_4A32_D192_ED03;
+        for _ in 0..50_000 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            let a = ((x & 0xFFFF_FFFF) as i64).max(1) >> (x >> 59);
+            let b = ((x >> 32) as i64).max(1) >> ((x >> 54) & 31);
+            let (a, b) = (a.max(1), b.max(1));
+            pairs.push(if x & 1 == 0 { (a, b) } else { (-a, -b) });
+        }
+        for (a, b) in pairs {
+            let want = (b << 16) / (a + b);
+            let got = i64::from(ratio_q16(
+                b.unsigned_abs(),
+                a.unsigned_abs() + b.unsigned_abs(),
+            ));
+            assert_eq!(got, want, "a={a} b={b}: got {got}, expected {want}");
+        }
+    }
 
     #[test]
     fn split_scale_matches_wide_product() {

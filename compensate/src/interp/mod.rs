@@ -37,6 +37,15 @@ impl Interpolation {
         }
     }
 
+    /// `true` when the compensators run the linear kernel for this method:
+    /// it is linear, or the crate is built without the `cubic` feature
+    /// (then the parser has rejected every cubic image, and the constant
+    /// `true` lets the optimiser drop the cubic kernel).
+    #[inline(always)]
+    pub(crate) fn runs_linear(self) -> bool {
+        !cfg!(feature = "cubic") || matches!(self, Self::Linear)
+    }
+
     /// The method for an image code, `None` for an unknown code.
     #[must_use]
     pub const fn from_code(code: u8) -> Option<Self> {

@@ -8,7 +8,9 @@
 
 pub mod count;
 pub mod poly;
+pub mod poly_checked;
 pub mod probe;
+pub mod report;
 pub mod rt;
 pub mod stack;
 pub mod stream;

@@ -51,11 +51,24 @@ impl<const M: usize, const X: usize, const K: usize> PolyF32<M, X, K> {
     /// Evaluates the thermometer and every `p_i(T)` and caches them.
     #[inline(always)]
     pub fn update_temperature(&mut self, signal: f32) -> f32 {
-        let t = horner_f32(&self.therm, signal - self.therm_centre);
+        let t = self.thermometer(signal);
+        self.cache_at(t);
+        t
+    }
+
+    /// The thermometer polynomial: the temperature variable of `coeffs`
+    /// for a temperature signal.
+    #[inline(always)]
+    pub fn thermometer(&self, signal: f32) -> f32 {
+        horner_f32(&self.therm, signal - self.therm_centre)
+    }
+
+    /// Evaluates every `p_i(t)` and caches them.
+    #[inline(always)]
+    pub fn cache_at(&mut self, t: f32) {
         for (p, c) in self.cached.iter_mut().zip(self.coeffs.iter()) {
             *p = horner_f32(c, t);
         }
-        t
     }
 
     /// Corrects one raw sample with the cached coefficients.
@@ -172,6 +185,12 @@ pub type PolyQBench = PolyQ<3, 3, 4, 20, 20>;
 /// at 25 C): the thermometer polynomial is evaluated in
 /// `code - SIGNAL_CENTRE`, as a well-conditioned fit would be.
 pub const SIGNAL_CENTRE: i32 = 4_194_304;
+
+/// The demo polynomials' temperature variable `tn = (T - 25 C) / 64 C`
+/// for a temperature in degrees Celsius (see [`demo_f32`]).
+pub fn normalised_temperature(t_c: f32) -> f32 {
+    (t_c - 25.0) / 64.0
+}
 
 /// Baseline coefficients of the magnitudes a fit to the demo part of
 /// examples/make_firmware_image.rs gives, in normalised temperature

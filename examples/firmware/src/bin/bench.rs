@@ -82,6 +82,26 @@ fn net_insn<S, A: Copy, R>(
     counter.centi_insn_per_call(u64::from(work.saturating_sub(base)), u64::from(calls))
 }
 
+/// A timed function and the empty function of the same signature it is
+/// measured against.
+pub struct Timed<S, A, R> {
+    f: fn(&mut S, A) -> R,
+    empty: fn(&mut S, A) -> R,
+}
+
+/// Prints metric `name`: instructions per call of `t.f` beyond `t.empty`,
+/// over `CALLS` calls.
+fn report_insn<S, A: Copy, R>(
+    counter: &Counter,
+    name: &str,
+    state: &mut S,
+    inputs: &[A],
+    t: Timed<S, A, R>,
+) {
+    let insn = net_insn(counter, CALLS, state, inputs, t.f, t.empty);
+    metric_centi(name, insn, "insn");
+}
+
 // ---- the integer path (both targets) --------------------------------------
 
 #[inline(never)]
@@ -129,10 +149,28 @@ fn poly_q_sample_empty(_p: &mut PolyQBench, raw: i32) -> i32 {
     raw
 }
 
+const Q_TEMP_UPDATE: Timed<FixedCompensator<'static>, i32, Status> = Timed {
+    f: q_temp_update,
+    empty: q_temp_update_empty,
+};
+const Q_SAMPLE: Timed<FixedCompensator<'static>, i32, ReadingQ> = Timed {
+    f: q_sample,
+    empty: q_sample_empty,
+};
+const POLY_Q_TEMP_UPDATE: Timed<PolyQBench, i32, i32> = Timed {
+    f: poly_q_temp_update,
+    empty: poly_q_temp_update_empty,
+};
+const POLY_Q_SAMPLE: Timed<PolyQBench, i32, i32> = Timed {
+    f: poly_q_sample,
+    empty: poly_q_sample_empty,
+};
+
 // ---- the f32 path (FPU targets) -------------------------------------------
 
 #[cfg(fpu)]
 mod fpu {
+    use super::Timed;
     use compensate::{Compensator, Reading, Status};
 
     #[inline(never)]
@@ -158,7 +196,55 @@ mod fpu {
         }
     }
 
+    use semidrift_firmware::poly::normalised_temperature;
     pub use semidrift_firmware::poly::{PolyF32Bench as PolyBench, demo_f32 as poly};
+    use semidrift_firmware::poly_checked::PolyF32Checked;
+
+    /// The benchmark's polynomial with the checks of our f32 path.
+    pub type PolyCheckedBench = PolyF32Checked<3, 3, 4>;
+
+    /// [`poly`] with the limits of the f32 image `view`: its raw limits,
+    /// plausible signal range and temperature axis (the span the table
+    /// was calibrated over), so both sides check the same inputs.
+    pub fn poly_checked(view: &compensate::TableView<'_>) -> Option<PolyCheckedBench> {
+        let t = view.tables_f32()?;
+        let l = view.raw_limits();
+        Some(PolyF32Checked {
+            poly: poly(),
+            raw_lo: l.raw_lo as f32,
+            raw_hi: l.raw_hi as f32,
+            rail_lo: l.rail_lo as f32,
+            rail_hi: l.rail_hi as f32,
+            signal_lo: t.signal_lo,
+            signal_hi: t.signal_hi,
+            t_lo: normalised_temperature(t.temperature.start),
+            t_hi: normalised_temperature(t.temperature.end()),
+            temp_status: Status::NO_TEMPERATURE,
+        })
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_temp_update(p: &mut PolyCheckedBench, signal: f32) -> Status {
+        p.update_temperature(signal)
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_sample(p: &mut PolyCheckedBench, raw: f32) -> Reading {
+        p.sample(raw)
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_temp_update_empty(_p: &mut PolyCheckedBench, _signal: f32) -> Status {
+        Status::OK
+    }
+
+    #[inline(never)]
+    pub fn poly_checked_sample_empty(_p: &mut PolyCheckedBench, raw: f32) -> Reading {
+        Reading {
+            value: raw,
+            status: Status::OK,
+        }
+    }
 
     /// Runtime-model parameters of the demo scenarios: the well-level
     /// logger's p-type piezoresistor (boron 2e18 cm^-3) and the current
@@ -203,6 +289,9 @@ mod fpu {
         pub fn empty<B: Backend>(_m: &mut Model<B>, t_k: f32) -> f32 {
             t_k
         }
+
+        /// The signature of the timed model functions.
+        pub type ModelFn<B> = fn(&mut Model<B>, f32) -> f32;
     }
 
     #[inline(never)]
@@ -224,6 +313,31 @@ mod fpu {
     pub fn poly_sample_empty(_p: &mut PolyBench, raw: f32) -> f32 {
         raw
     }
+
+    pub const TEMP_UPDATE: Timed<Compensator<'static>, f32, Status> = Timed {
+        f: temp_update,
+        empty: temp_update_empty,
+    };
+    pub const SAMPLE: Timed<Compensator<'static>, f32, Reading> = Timed {
+        f: sample,
+        empty: sample_empty,
+    };
+    pub const POLY_TEMP_UPDATE: Timed<PolyBench, f32, f32> = Timed {
+        f: poly_temp_update,
+        empty: poly_temp_update_empty,
+    };
+    pub const POLY_SAMPLE: Timed<PolyBench, f32, f32> = Timed {
+        f: poly_sample,
+        empty: poly_sample_empty,
+    };
+    pub const POLY_CHECKED_TEMP_UPDATE: Timed<PolyCheckedBench, f32, Status> = Timed {
+        f: poly_checked_temp_update,
+        empty: poly_checked_temp_update_empty,
+    };
+    pub const POLY_CHECKED_SAMPLE: Timed<PolyCheckedBench, f32, Reading> = Timed {
+        f: poly_checked_sample,
+        empty: poly_checked_sample_empty,
+    };
 }
 
 /// Runtime-model figures with backend `B`, named after the backend.
@@ -232,51 +346,25 @@ fn model_figures<B: compensate::math::Backend>(counter: &Counter, t_k: &[f32]) {
     use fpu::model;
     let mut bridge = model::bridge::<B>();
     let mut hall = model::hall::<B>();
-    let t = net_insn(
-        counter,
-        MODEL_CALLS,
-        &mut bridge,
-        t_k,
-        model::conductivity,
-        model::empty,
-    );
-    hprintln!(
-        "metric runtime_model_{}_insn {}.{:02} insn target={}",
-        B::NAME,
-        t / 100,
-        t % 100,
-        TARGET
-    );
-    let t = net_insn(
-        counter,
-        MODEL_CALLS,
-        &mut hall,
-        t_k,
-        model::hall_ratio,
-        model::empty,
-    );
-    hprintln!(
-        "metric runtime_model_hall_ratio_{}_insn {}.{:02} insn target={}",
-        B::NAME,
-        t / 100,
-        t % 100,
-        TARGET
-    );
-    let t = net_insn(
-        counter,
-        MODEL_CALLS,
-        &mut bridge,
-        t_k,
-        model::piezo_ratio,
-        model::empty,
-    );
-    hprintln!(
-        "metric runtime_model_piezo_ratio_{}_insn {}.{:02} insn target={}",
-        B::NAME,
-        t / 100,
-        t % 100,
-        TARGET
-    );
+    // (metric name before the backend name, on the Hall plate's model?,
+    // function)
+    let figures: [(&str, bool, model::ModelFn<B>); 3] = [
+        ("runtime_model_", false, model::conductivity),
+        ("runtime_model_hall_ratio_", true, model::hall_ratio),
+        ("runtime_model_piezo_ratio_", false, model::piezo_ratio),
+    ];
+    for (head, on_hall, f) in figures {
+        let m = if on_hall { &mut hall } else { &mut bridge };
+        let t = net_insn(counter, MODEL_CALLS, m, t_k, f, model::empty);
+        hprintln!(
+            "metric {}{}_insn {}.{:02} insn target={}",
+            head,
+            B::NAME,
+            t / 100,
+            t % 100,
+            TARGET
+        );
+    }
     let first = t_k.first().copied().unwrap_or(298.15);
     let stack = measure_call_bytes(&mut bridge, first, model::conductivity)
         .max(measure_call_bytes(&mut hall, first, model::hall_ratio))
@@ -331,7 +419,7 @@ fn main() -> ! {
     let raw_q: [i32; INPUTS] = samples.map(|s| s.raw_code);
     let temp_q: [i32; INPUTS] = samples.map(|s| s.temp_code);
 
-    let Ok(view_q) = TableView::parse(IMAGE_Q) else {
+    let Ok(view_q) = TableView::parse_q(IMAGE_Q) else {
         hprintln!("error: well_level_q.bin does not parse");
         rt::exit_failure()
     };
@@ -376,42 +464,48 @@ fn main() -> ! {
         let _ = float.update_temperature(temp_f[0]);
         let _ = fpu::poly_temp_update(&mut poly, temp_f[0]);
 
-        let t = net_insn(
+        report_insn(
             &counter,
-            CALLS,
+            "temp_update_insn",
             &mut float,
             &temp_f,
-            fpu::temp_update,
-            fpu::temp_update_empty,
+            fpu::TEMP_UPDATE,
         );
-        metric_centi("temp_update_insn", t, "insn");
-        let t = net_insn(
+        report_insn(&counter, "sample_insn", &mut float, &raw_f, fpu::SAMPLE);
+        report_insn(
             &counter,
-            CALLS,
-            &mut float,
-            &raw_f,
-            fpu::sample,
-            fpu::sample_empty,
-        );
-        metric_centi("sample_insn", t, "insn");
-        let t = net_insn(
-            &counter,
-            CALLS,
+            "poly_temp_update_insn",
             &mut poly,
             &temp_f,
-            fpu::poly_temp_update,
-            fpu::poly_temp_update_empty,
+            fpu::POLY_TEMP_UPDATE,
         );
-        metric_centi("poly_temp_update_insn", t, "insn");
-        let t = net_insn(
+        report_insn(
             &counter,
-            CALLS,
+            "poly_sample_insn",
             &mut poly,
             &raw_f,
-            fpu::poly_sample,
-            fpu::poly_sample_empty,
+            fpu::POLY_SAMPLE,
         );
-        metric_centi("poly_sample_insn", t, "insn");
+
+        let Some(mut checked) = fpu::poly_checked(&view) else {
+            hprintln!("error: well_level_f32.bin has no f32 tables");
+            rt::exit_failure()
+        };
+        let _ = checked.update_temperature(temp_f[0]);
+        report_insn(
+            &counter,
+            "poly_checked_temp_update_insn",
+            &mut checked,
+            &temp_f,
+            fpu::POLY_CHECKED_TEMP_UPDATE,
+        );
+        report_insn(
+            &counter,
+            "poly_checked_sample_insn",
+            &mut checked,
+            &raw_f,
+            fpu::POLY_CHECKED_SAMPLE,
+        );
 
         let stack = measure_call_bytes(&mut float, temp_f[0], fpu::temp_update)
             .max(measure_call_bytes(&mut float, raw_f[0], fpu::sample));
@@ -434,42 +528,16 @@ fn main() -> ! {
         model_figures::<compensate::math::Micromath>(&counter, &t_k);
     }
 
-    let t = net_insn(
+    report_insn(&counter, q_names[0], &mut fixed, &temp_q, Q_TEMP_UPDATE);
+    report_insn(&counter, q_names[1], &mut fixed, &raw_q, Q_SAMPLE);
+    report_insn(
         &counter,
-        CALLS,
-        &mut fixed,
-        &temp_q,
-        q_temp_update,
-        q_temp_update_empty,
-    );
-    metric_centi(q_names[0], t, "insn");
-    let t = net_insn(
-        &counter,
-        CALLS,
-        &mut fixed,
-        &raw_q,
-        q_sample,
-        q_sample_empty,
-    );
-    metric_centi(q_names[1], t, "insn");
-    let t = net_insn(
-        &counter,
-        CALLS,
+        q_names[2],
         &mut poly_q,
         &temp_q,
-        poly_q_temp_update,
-        poly_q_temp_update_empty,
+        POLY_Q_TEMP_UPDATE,
     );
-    metric_centi(q_names[2], t, "insn");
-    let t = net_insn(
-        &counter,
-        CALLS,
-        &mut poly_q,
-        &raw_q,
-        poly_q_sample,
-        poly_q_sample_empty,
-    );
-    metric_centi(q_names[3], t, "insn");
+    report_insn(&counter, q_names[3], &mut poly_q, &raw_q, POLY_Q_SAMPLE);
 
     let stack_q = measure_call_bytes(&mut fixed, temp_q[0], q_temp_update)
         .max(measure_call_bytes(&mut fixed, raw_q[0], q_sample));

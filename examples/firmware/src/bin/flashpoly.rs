@@ -6,41 +6,24 @@
 #![no_main]
 
 use core::hint::black_box;
-use cortex_m_rt::entry;
-use semidrift_firmware::rt;
+use semidrift_firmware::probe::Inputs;
 
-#[cfg(fpu)]
-static IMAGE: &[u8] = include_bytes!("../../data/well_level_f32.bin");
-#[cfg(not(fpu))]
-static IMAGE: &[u8] = include_bytes!("../../data/well_level_q.bin");
+semidrift_firmware::flash_probe!(probe);
 
-#[entry]
-fn main() -> ! {
-    let bytes = black_box(IMAGE);
-    let signal = black_box(4_194_304i32);
-    let raw = black_box(2_000_000i32);
-    // Keeps the image in flash, as in `flashref`.
-    black_box(bytes.first().copied());
+fn probe(i: &Inputs) -> bool {
+    // Reads the image as `flashref` does.
+    black_box(i.first);
     #[cfg(fpu)]
     {
         let mut p = semidrift_firmware::poly::DEMO_F32;
-        p.update_temperature(signal as f32);
-        black_box(p.sample(raw as f32));
+        p.update_temperature(i.signal as f32);
+        black_box(p.sample(i.raw as f32));
     }
     #[cfg(not(fpu))]
     {
         let mut p = semidrift_firmware::poly::DEMO_Q;
-        p.update_temperature(signal);
-        black_box(p.sample(raw));
+        p.update_temperature(i.signal);
+        black_box(p.sample(i.raw));
     }
-    if black_box(true) {
-        rt::exit_success()
-    } else {
-        rt::exit_failure()
-    }
-}
-
-#[panic_handler]
-fn panic(_: &core::panic::PanicInfo) -> ! {
-    rt::exit_failure()
+    black_box(true)
 }

@@ -5,34 +5,11 @@
 #![no_main]
 
 use core::hint::black_box;
-use cortex_m_rt::entry;
-use semidrift_firmware::rt;
+use semidrift_firmware::probe::{Inputs, reference};
 
-#[cfg(fpu)]
-static IMAGE: &[u8] = include_bytes!("../../data/well_level_f32.bin");
-#[cfg(not(fpu))]
-static IMAGE: &[u8] = include_bytes!("../../data/well_level_q.bin");
+semidrift_firmware::flash_probe!(probe);
 
-#[entry]
-fn main() -> ! {
-    let bytes = black_box(IMAGE);
-    let signal = black_box(4_194_304i32);
-    let raw = black_box(2_000_000i32);
-    // Keeps the image in flash, as in `flashuse`.
-    let first = bytes.first().copied().unwrap_or(0);
-    #[cfg(fpu)]
-    let value = (raw as f32 - signal as f32) * f32::from(first);
-    #[cfg(not(fpu))]
-    let value = raw.wrapping_sub(signal).wrapping_mul(i32::from(first));
-    black_box(value);
-    if black_box(true) {
-        rt::exit_success()
-    } else {
-        rt::exit_failure()
-    }
-}
-
-#[panic_handler]
-fn panic(_: &core::panic::PanicInfo) -> ! {
-    rt::exit_failure()
+fn probe(i: &Inputs) -> bool {
+    reference(i);
+    black_box(true)
 }

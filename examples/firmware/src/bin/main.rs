@@ -10,9 +10,10 @@
 #![no_std]
 #![no_main]
 
-use compensate::{FixedCompensator, Status, TableView};
+use compensate::{FixedCompensator, ImageError, Status, TableView};
 use cortex_m_rt::entry;
 use cortex_m_semihosting::hprintln;
+use semidrift_firmware::report::{FloatResult, SampleLine};
 use semidrift_firmware::{rt, stream};
 
 semidrift_firmware::printing_fault_handlers!();
@@ -25,9 +26,13 @@ static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
 /// The recorded raw and temperature-signal codes.
 static STREAM: &str = include_str!("../../data/well_level_stream.csv");
 
+/// How an image is parsed: [`TableView::parse_q`] for the Q images (the
+/// Cortex-M0 then links no f32 validation), [`TableView::parse`] otherwise.
+type Parser<'a> = fn(&'a [u8]) -> Result<TableView<'a>, ImageError>;
+
 /// Parses an image and prints what was found; `None` means refused.
-fn validate<'a>(name: &str, bytes: &'a [u8]) -> Option<TableView<'a>> {
-    match TableView::parse(bytes) {
+fn validate<'a>(name: &str, bytes: &'a [u8], parse: Parser<'a>) -> Option<TableView<'a>> {
+    match parse(bytes) {
         Ok(view) => {
             hprintln!(
                 "image {} ok bytes={} t_nodes={} sig_nodes={} channels={}",
@@ -73,7 +78,7 @@ fn corrupt_copy_is_refused(image: &[u8]) -> bool {
     if let Some(b) = copy.get_mut(at) {
         *b ^= 0x10;
     }
-    let view = validate("corrupted", copy);
+    let view = validate("corrupted", copy, TableView::parse_q);
     let refused = view.is_none();
     let mut comp = fixed_compensator(view.as_ref());
     comp.update_temperature(4_194_304);
@@ -89,13 +94,13 @@ fn corrupt_copy_is_refused(image: &[u8]) -> bool {
 #[entry]
 fn main() -> ! {
     let mut ok = true;
-    let view_q = validate("q", IMAGE_Q);
+    let view_q = validate("q", IMAGE_Q, TableView::parse_q);
     ok &= view_q.is_some();
     let mut fixed = fixed_compensator(view_q.as_ref());
 
     #[cfg(fpu)]
     let mut float = {
-        let view = validate("f32", IMAGE_F32);
+        let view = validate("f32", IMAGE_F32, TableView::parse);
         ok &= view.is_some();
         view.and_then(|v| compensate::Compensator::new(&v).ok())
             .unwrap_or(compensate::Compensator::unconfigured())
@@ -122,36 +127,15 @@ fn main() -> ! {
         let q = fixed.compensate_sample(s.raw_code);
 
         #[cfg(fpu)]
-        {
+        let float_result = {
             let tf = float.update_temperature(s.temp_code as f32);
             let f = float.compensate_sample(s.raw_code as f32);
-            hprintln!(
-                "sample {} raw={} temp={} t_c={:#010x} t_q={} f32={:#010x} {} f32_status={} f32_temp_status={} q={} q_status={} q_temp_status={}",
-                i,
-                s.raw_code,
-                s.temp_code,
-                float.temperature_c().to_bits(),
-                fixed.temperature_q(),
-                f.value.to_bits(),
-                f.value,
-                f.status.bits(),
-                tf.bits(),
-                q.value,
-                q.status.bits(),
-                tq.bits()
-            );
-        }
+            Some(FloatResult::new(&float, f, tf))
+        };
         #[cfg(not(fpu))]
-        hprintln!(
-            "sample {} raw={} temp={} t_q={} q={} q_status={} q_temp_status={}",
-            i,
-            s.raw_code,
-            s.temp_code,
-            fixed.temperature_q(),
-            q.value,
-            q.status.bits(),
-            tq.bits()
-        );
+        let float_result: Option<FloatResult> = None;
+        let line = SampleLine::new(i, s, float_result, &fixed, q, tq);
+        hprintln!("{}", line);
         n += 1;
     }
     hprintln!("done samples={} ok={}", n, ok);

@@ -24,7 +24,7 @@ static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
 #[entry]
 fn main() -> ! {
     let mut ok = true;
-    let mut fixed = match TableView::parse(black_box(IMAGE_Q)) {
+    let mut fixed = match TableView::parse_q(black_box(IMAGE_Q)) {
         Ok(view) => FixedCompensator::new(&view).unwrap_or(FixedCompensator::unconfigured()),
         Err(_) => {
             ok = false;

@@ -1,0 +1,105 @@
+//! The polynomial baseline with the input checks and status of the
+//! compensate crate's f32 path, so the benchmark can show what those
+//! checks cost on their own.
+//!
+//! [`crate::poly::PolyF32`] checks nothing and returns a bare number. A
+//! compensate `Compensator` also tests every sample against the calibrated
+//! range, the rails and NaN, and every temperature update against NaN, the
+//! plausible signal range and the calibrated temperature span, and returns
+//! a `Status`. [`PolyF32Checked`] adds exactly those tests, written the
+//! same way (one pair of compares on the common path, everything else out
+//! of line), around the same polynomial.
+
+use compensate::{Reading, Status};
+
+use crate::poly::PolyF32;
+
+/// [`PolyF32`] with input checks and a status on every call.
+#[derive(Clone, Debug)]
+pub struct PolyF32Checked<const M: usize, const X: usize, const K: usize> {
+    /// The bare polynomial.
+    pub poly: PolyF32<M, X, K>,
+    /// Lowest and highest calibrated raw code.
+    pub raw_lo: f32,
+    /// See `raw_lo`.
+    pub raw_hi: f32,
+    /// Rail codes: a raw value at or beyond one is a sensor fault.
+    pub rail_lo: f32,
+    /// See `rail_lo`.
+    pub rail_hi: f32,
+    /// Plausible temperature-signal range; outside it is a sensor fault.
+    pub signal_lo: f32,
+    /// See `signal_lo`.
+    pub signal_hi: f32,
+    /// Calibrated span of the polynomial's temperature variable; outside
+    /// it the temperature is clamped (a fit is not trusted beyond its data).
+    pub t_lo: f32,
+    /// See `t_lo`.
+    pub t_hi: f32,
+    /// Status of the last temperature update, carried by every sample.
+    pub temp_status: Status,
+}
+
+impl<const M: usize, const X: usize, const K: usize> PolyF32Checked<M, X, K> {
+    /// Checks the signal, evaluates the thermometer, clamps the temperature
+    /// to the calibrated span and caches the coefficients; as
+    /// `Compensator::update_temperature`, a NaN or infinite signal keeps the
+    /// old coefficients and sets [`Status::NAN_INPUT`].
+    #[inline(always)]
+    pub fn update_temperature(&mut self, signal: f32) -> Status {
+        if !signal.is_finite() {
+            self.temp_status = Status::NAN_INPUT;
+            return self.temp_status;
+        }
+        let mut status = Status::OK;
+        if signal < self.signal_lo || signal > self.signal_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        let mut t = self.poly.thermometer(signal);
+        if t < self.t_lo {
+            t = self.t_lo;
+            status |= Status::TEMPERATURE_CLAMPED;
+        } else if t > self.t_hi {
+            t = self.t_hi;
+            status |= Status::TEMPERATURE_CLAMPED;
+        }
+        self.poly.cache_at(t);
+        self.temp_status = status;
+        status
+    }
+
+    /// Corrects one raw sample; inside the calibrated range one pair of
+    /// compares and the polynomial, else the out-of-line general path.
+    #[inline(always)]
+    pub fn sample(&self, raw: f32) -> Reading {
+        // False for NaN, so NaN takes the general path.
+        if raw >= self.raw_lo && raw <= self.raw_hi {
+            return Reading {
+                value: self.poly.sample(raw),
+                status: self.temp_status,
+            };
+        }
+        self.sample_general(raw)
+    }
+
+    /// Out-of-range, rail and NaN inputs, with the statuses
+    /// `Compensator::compensate_sample` gives them.
+    #[inline(never)]
+    #[cold]
+    fn sample_general(&self, raw: f32) -> Reading {
+        if !raw.is_finite() {
+            return Reading {
+                value: 0.0,
+                status: self.temp_status | Status::NAN_INPUT,
+            };
+        }
+        let mut status = self.temp_status | Status::INPUT_OUT_OF_RANGE;
+        if raw <= self.rail_lo || raw >= self.rail_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        Reading {
+            value: self.poly.sample(raw),
+            status,
+        }
+    }
+}
