@@ -175,7 +175,7 @@
 //! | call | Cortex-M4F (f32) | Cortex-M0 (integer) |
 //! |---|---:|---:|
 //! | `compensate_sample` | 14 | 59 |
-//! | `update_temperature` (thermometer + 3 channels) | 134 | 347 |
+//! | `update_temperature` (thermometer + 3 channels) | 123 | 306 |
 //!
 //! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
 //! On the M0 about 80 of the update's instructions are byte-wise loads of
