@@ -192,8 +192,9 @@ pub fn normalised_temperature(t_c: f32) -> f32 {
     (t_c - 25.0) / 64.0
 }
 
-/// Baseline coefficients of the magnitudes a fit to the demo part of
-/// examples/make_firmware_image.rs gives, in normalised temperature
+/// Baseline coefficients of the magnitudes of a well-level bridge part (taken
+/// from the invented drift model the firmware embedded before its images came
+/// from the station chain; the count does not depend on them), in normalised temperature
 /// `tn = (T - 25 C) / 64 C` (|tn| < 1 over -20..85 C keeps Horner's rule
 /// well conditioned; a product's fit would do the same): thermometer
 /// 6711 codes/C with its curvature, offset -1.29e4 Pa drifting 34 Pa/C,
