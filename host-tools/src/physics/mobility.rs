@@ -516,24 +516,7 @@ fn build_fit_table(set: FitSet) -> FitTable {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// Relative deviation check that names input, got and expected on failure.
-    fn check_rel(what: &str, got: f64, expected: f64, tol: f64) -> Result<(), String> {
-        let rel = (got - expected).abs() / expected.abs();
-        if rel <= tol {
-            Ok(())
-        } else {
-            Err(format!(
-                "{what}: got {got}, expected {expected}, rel {rel:.4} > {tol}"
-            ))
-        }
-    }
-
-    #[test]
-    fn check_rel_can_fail() {
-        assert!(check_rel("x", 1.1, 1.0, 0.05).is_err());
-        assert!(check_rel("x", 1.01, 1.0, 0.05).is_ok());
-    }
+    use crate::physics::check::check_rel;
 
     /// Lightly doped Si at 300 K gives the models' own mu_max (Masetti 1983,
     /// Table I: 1414 and 470.5 cm^2/Vs). At 1e12 cm^-3 the impurity terms

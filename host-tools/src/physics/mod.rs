@@ -7,6 +7,8 @@
 //! [`model::ModelPoint`].
 
 pub mod carriers;
+#[cfg(test)]
+mod check;
 pub mod constants;
 pub mod dopant;
 pub mod error;

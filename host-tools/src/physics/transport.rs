@@ -291,23 +291,8 @@ pub fn transport(material: Material, state: &CarrierState, mobility: &Mobility) 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::physics::check::check_rel;
     use std::f64::consts::PI;
-
-    fn check_rel(what: &str, got: f64, expected: f64, tol: f64) -> Result<(), String> {
-        let rel = (got - expected).abs() / expected.abs();
-        if rel <= tol {
-            Ok(())
-        } else {
-            Err(format!(
-                "{what}: got {got}, expected {expected}, rel {rel:.3e} > {tol}"
-            ))
-        }
-    }
-
-    #[test]
-    fn check_rel_can_fail() {
-        assert!(check_rel("x", 1.0001, 1.0, 1e-6).is_err());
-    }
 
     /// Analytic limits of `<tau^2>/<tau>^2` over a Maxwellian (Look 1989,
     /// ch. 1, table of Hall factors; Seeger, Semiconductor Physics, ch. 4):
