@@ -24,6 +24,7 @@ pub mod part_file;
 pub mod part_model;
 pub mod pipeline;
 pub mod polynomial;
+pub mod remainder;
 pub mod scenario;
 pub mod simulate;
 pub mod spec;

@@ -244,7 +244,7 @@ pub fn build_table_for_allowance_with(
         table_allowance_ppm: allowance_ppm,
         terms: terms.with_table(interp, quant, budget_ppm),
         dense,
-        analytic_bound_ppm: interpolation_bound_ppm(frame, &plan, terms.drift_slope_ppm_per_k),
+        analytic_bound_ppm: interpolation_bound_ppm(frame, &plan),
         image,
     })
 }
@@ -379,7 +379,7 @@ pub fn verify(
         points: dense.points,
         budget_ppm,
         table_allowance_ppm: allowance,
-        analytic_bound_ppm: interpolation_bound_ppm(&frame, &plan, terms.drift_slope_ppm_per_k),
+        analytic_bound_ppm: interpolation_bound_ppm(&frame, &plan),
         terms: terms.with_table(interp, quant, budget_ppm),
         plan,
         bytes: image.len(),

@@ -309,6 +309,52 @@ impl<'a> TableFrame<'a> {
         }
     }
 
+    /// Image units per C and per ohm of a Q image's temperature and signal.
+    fn q_scales(&self, q: &QFormat) -> (f64, f64) {
+        (
+            2f64.powi(i32::from(q.temperature)),
+            // Image signal units (fraction bits included) per ohm.
+            2f64.powi(i32::from(q.signal)) / self.signal_scale(),
+        )
+    }
+
+    /// Integer axes of a Q image, `[t_start, t_step, s_start, s_step]`:
+    /// start rounded down, step rounded up so the last node reaches the
+    /// range end.
+    fn q_axes(&self, q: &QFormat, n_t: usize, n_sig: usize) -> [i32; 4] {
+        let (tq, sq) = self.q_scales(q);
+        let t_start = (self.t_lo_c * tq).floor() as i32;
+        let t_step = (((self.t_hi_c * tq) - f64::from(t_start)) / (n_t - 1) as f64)
+            .ceil()
+            .max(1.0) as i32;
+        let s_start = (self.sig_lo * sq).floor() as i32;
+        let s_step = (((self.sig_hi * sq) - f64::from(s_start)) / (n_sig - 1) as f64)
+            .ceil()
+            .max(1.0) as i32;
+        [t_start, t_step, s_start, s_step]
+    }
+
+    /// The node axes [`TableFrame::build`] lays out for `plan`, in C and
+    /// ohm: `[t_start_c, t_step_k, sig_start, sig_step]`.
+    pub fn node_axes(&self, plan: &TablePlan) -> [f64; 4] {
+        let n_t = plan.n_t.max(2);
+        let n_sig = plan.n_sig.max(2);
+        match plan.format {
+            NumFormat::F32 => [
+                self.t_lo_c,
+                (self.t_hi_c - self.t_lo_c) / (n_t - 1) as f64,
+                self.sig_lo,
+                (self.sig_hi - self.sig_lo) / (n_sig - 1) as f64,
+            ],
+            NumFormat::Q => {
+                let q = self.q_format();
+                let (tq, sq) = self.q_scales(&q);
+                let [t0, dt, s0, ds] = self.q_axes(&q, n_t, n_sig).map(f64::from);
+                [t0 / tq, dt / tq, s0 / sq, ds / sq]
+            }
+        }
+    }
+
     /// Builds the image of `plan` for `serial`.
     pub fn build(
         &self,
@@ -384,19 +430,8 @@ impl<'a> TableFrame<'a> {
             }
             NumFormat::Q => {
                 let q = self.q_format();
-                let tq = 2f64.powi(i32::from(q.temperature));
-                // Image signal units (fraction bits included) per ohm.
-                let sq = 2f64.powi(i32::from(q.signal)) / self.signal_scale();
-                // Integer axes: start rounded down, step rounded up so the
-                // last node reaches the range end.
-                let t_start = (self.t_lo_c * tq).floor() as i32;
-                let t_step = (((self.t_hi_c * tq) - f64::from(t_start)) / (n_t - 1) as f64)
-                    .ceil()
-                    .max(1.0) as i32;
-                let s_start = (self.sig_lo * sq).floor() as i32;
-                let s_step = (((self.sig_hi * sq) - f64::from(s_start)) / (n_sig - 1) as f64)
-                    .ceil()
-                    .max(1.0) as i32;
+                let (tq, sq) = self.q_scales(&q);
+                let [t_start, t_step, s_start, s_step] = self.q_axes(&q, n_t, n_sig);
                 let t_node = |k: usize| (f64::from(t_start) + f64::from(t_step) * k as f64) / tq;
                 let s_node = |k: usize| (f64::from(s_start) + f64::from(s_step) * k as f64) / sq;
                 let scale = |x: f64, bits: u8| (x * 2f64.powi(i32::from(bits))).round() as i32;
