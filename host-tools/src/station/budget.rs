@@ -65,13 +65,19 @@ pub struct BudgetTerms {
 }
 
 /// The fit-residual term from the residual at the chamber points, the worst
-/// interior hold-out error and the number of calibration temperatures; also
-/// says whether the hold-out error was counted.
-fn fit_residual(fit_max_ppm: f64, holdout_ppm: f64, temperatures: usize) -> (f64, bool) {
+/// interior hold-out error, the number of calibration temperatures and the
+/// scenario's qualification-lot model error; also says whether the hold-out
+/// error was counted (otherwise the model error, when stated, is).
+fn fit_residual(
+    fit_max_ppm: f64,
+    holdout_ppm: f64,
+    temperatures: usize,
+    model_error_ppm: Option<f64>,
+) -> (f64, bool) {
     if temperatures >= MIN_TEMPERATURES_TO_BUDGET_HOLDOUT {
         (fit_max_ppm.max(holdout_ppm), true)
     } else {
-        (fit_max_ppm, false)
+        (fit_max_ppm.max(model_error_ppm.unwrap_or(0.0)), false)
     }
 }
 
@@ -96,8 +102,12 @@ impl PartTerms {
         // Model error between chamber points (leave-one-temperature-out),
         // budgeted only where the refits keep the shipped model's shape.
         let cross_validation_ppm = part.holdout_max_ppm.unwrap_or(0.0);
-        let (fit_residual_ppm, cross_validation_budgeted) =
-            fit_residual(part.fit_max_ppm, cross_validation_ppm, part.holdouts.len());
+        let (fit_residual_ppm, cross_validation_budgeted) = fit_residual(
+            part.fit_max_ppm,
+            cross_validation_ppm,
+            part.holdouts.len(),
+            part.scenario.model_error_ppm,
+        );
         PartTerms {
             fit_residual_ppm,
             cross_validation_ppm,
@@ -145,19 +155,22 @@ mod tests {
 
     #[test]
     fn hold_out_is_budgeted_from_four_temperatures() {
-        // (fit residual, hold-out, temperatures) -> (term, counted); exact
-        // values: the function only selects, it does not compute.
+        // (fit residual, hold-out, temperatures, qualification model error)
+        // -> (term, hold-out counted); exact values: the function only
+        // selects, it does not compute.
         let table = [
-            ((40.0, 900.0, 3), (40.0, false)),
-            ((40.0, 900.0, 4), (900.0, true)),
-            ((950.0, 900.0, 5), (950.0, true)),
-            ((40.0, 0.0, 0), (40.0, false)),
+            ((40.0, 900.0, 3, None), (40.0, false)),
+            ((40.0, 900.0, 3, Some(300.0)), (300.0, false)),
+            ((400.0, 900.0, 3, Some(300.0)), (400.0, false)),
+            ((40.0, 900.0, 4, Some(300.0)), (900.0, true)),
+            ((950.0, 900.0, 5, None), (950.0, true)),
+            ((40.0, 0.0, 0, None), (40.0, false)),
         ];
-        for ((fit, hold, n), expected) in table {
-            let got = fit_residual(fit, hold, n);
+        for ((fit, hold, n, model), expected) in table {
+            let got = fit_residual(fit, hold, n, model);
             assert_eq!(
                 got, expected,
-                "fit {fit}, hold-out {hold}, {n} temperatures"
+                "fit {fit}, hold-out {hold}, {n} temperatures, model {model:?}"
             );
         }
     }

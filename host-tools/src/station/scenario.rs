@@ -105,6 +105,13 @@ pub struct Scenario {
     /// characterisation (none: the output is linear in the stimulus).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub bow: Option<Bow>,
+    /// Model error between calibration temperatures, ppm of span: the worst
+    /// held-out error inside the calibrated span of a qualification lot
+    /// (parts other than the ones being calibrated), calibrated at the same
+    /// temperatures. Budgeted in the fit residual term where the part's own
+    /// cross-validation is not (fewer than 4 calibration temperatures).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub model_error_ppm: Option<f64>,
 }
 
 impl Scenario {
@@ -165,6 +172,7 @@ impl Scenario {
             },
             budget_ppm: 500.0,
             bow: None,
+            model_error_ppm: None,
         }
     }
 
@@ -218,6 +226,7 @@ impl Scenario {
             },
             budget_ppm: 1000.0,
             bow: None,
+            model_error_ppm: None,
         }
     }
 }
