@@ -169,7 +169,7 @@
 //! Measured with the firmware example's benchmark (QEMU, executed
 //! instructions per call beyond an empty call, opt-level 3, fat LTO; the
 //! well-level demo image that `semidrift table` builds for the firmware
-//! example: linear, 151 stored numbers; firmware built without the `cubic`
+//! example: linear, 39 stored numbers; firmware built without the `cubic`
 //! feature):
 //!
 //! | call | Cortex-M4F (f32) | Cortex-M0 (integer) |
