@@ -89,6 +89,23 @@ pub const QUALIFICATION_SEED: u64 = 7_001;
 /// the same point, and `apply` at held-out temperatures stays the final check.
 pub const QUALIFICATION_PARTS: usize = 50;
 
+/// The calibration plan and the held-out check plan (ascending
+/// temperatures) of a scenario.
+fn chamber_plans(scenario: &Scenario) -> (Plan, Plan) {
+    let mut check_temps = scenario.check_temps_c.clone();
+    check_temps.sort_by(f64::total_cmp);
+    (
+        Plan {
+            temps_c: scenario.cal_temps_c.clone(),
+            stimuli: scenario.stimuli.clone(),
+        },
+        Plan {
+            temps_c: check_temps,
+            stimuli: scenario.stimuli.clone(),
+        },
+    )
+}
+
 /// Characterises the model error between calibration temperatures on a
 /// qualification lot (drawn with [`QUALIFICATION_SEED`], calibrated at the
 /// scenario's temperatures, checked at its held-out temperatures): the
@@ -96,16 +113,7 @@ pub const QUALIFICATION_PARTS: usize = 50;
 /// to a whole ppm.
 pub fn qualify(scenario: &Scenario, curves: &ShapeCurves) -> Result<f64, DemoError> {
     let parts = draw_parts(scenario, QUALIFICATION_PARTS, QUALIFICATION_SEED);
-    let cal_plan = Plan {
-        temps_c: scenario.cal_temps_c.clone(),
-        stimuli: scenario.stimuli.clone(),
-    };
-    let mut check_temps = scenario.check_temps_c.clone();
-    check_temps.sort_by(f64::total_cmp);
-    let check_plan = Plan {
-        temps_c: check_temps,
-        stimuli: scenario.stimuli.clone(),
-    };
+    let (cal_plan, check_plan) = chamber_plans(scenario);
     let rows = |plan: &Plan| {
         step(
             scenario,
@@ -138,16 +146,7 @@ pub fn run_scenario(
     };
     write_atomic(&dir.join("scenario.toml"), to_toml(scenario).as_bytes())?;
     let parts = draw_parts(scenario, parts_n, DEMO_SEED);
-    let cal_plan = Plan {
-        temps_c: scenario.cal_temps_c.clone(),
-        stimuli: scenario.stimuli.clone(),
-    };
-    let mut check_temps = scenario.check_temps_c.clone();
-    check_temps.sort_by(f64::total_cmp);
-    let check_plan = Plan {
-        temps_c: check_temps,
-        stimuli: scenario.stimuli.clone(),
-    };
+    let (cal_plan, check_plan) = chamber_plans(scenario);
     let cal_rows = step(scenario, measure(scenario, &parts, &cal_plan, DEMO_SEED))?;
     let check_rows = step(scenario, measure(scenario, &parts, &check_plan, DEMO_SEED))?;
     write_atomic(
