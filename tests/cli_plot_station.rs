@@ -4,22 +4,11 @@
 
 mod common;
 
-use common::{run_in, stderr, stdout};
+use common::{ok_in, run_in, stderr};
 use std::path::Path;
 
 /// PNG file signature (ISO/IEC 15948:2004, sec. 5.2).
 const PNG_SIGNATURE: &[u8] = b"\x89PNG\r\n\x1a\n";
-
-fn ok_in(dir: &Path, args: &[&str]) -> String {
-    let o = run_in(dir, args);
-    assert!(
-        o.status.success(),
-        "semidrift {args:?}: exit {:?}: {}",
-        o.status.code(),
-        stderr(&o)
-    );
-    stdout(&o)
-}
 
 /// Simulates, calibrates and builds a table for 3 well-logger parts in `dir`.
 fn station(dir: &Path) {

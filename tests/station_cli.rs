@@ -4,19 +4,8 @@
 
 mod common;
 
-use common::{run_in, stderr, stdout};
+use common::{ok_in, run_in, stderr, stdout};
 use std::path::Path;
-
-fn ok_in(dir: &Path, args: &[&str]) -> String {
-    let o = run_in(dir, args);
-    assert!(
-        o.status.success(),
-        "semidrift {args:?}: exit {:?}: {}",
-        o.status.code(),
-        stderr(&o)
-    );
-    stdout(&o)
-}
 
 /// Runs the chain for 3 well-logger parts in `dir`; returns the first serial.
 fn chain(dir: &Path) -> String {

@@ -67,6 +67,18 @@ pub fn ok(args: &[&str]) -> String {
     stdout(&o)
 }
 
+/// Asserts success of a run in `dir` and returns stdout.
+pub fn ok_in(dir: &Path, args: &[&str]) -> String {
+    let o = run_in(dir, args);
+    assert!(
+        o.status.success(),
+        "semidrift {args:?}: exit {:?}: {}",
+        o.status.code(),
+        stderr(&o)
+    );
+    stdout(&o)
+}
+
 /// Asserts exit code 2, empty stdout and a single-line error on stderr that
 /// contains every fragment; returns that line.
 pub fn bad_input(args: &[&str], fragments: &[&str]) -> String {
