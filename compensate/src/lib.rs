@@ -25,7 +25,7 @@
 //! Build an image with the encoder, parse it, and compensate a sample:
 //!
 //! ```
-//! use compensate::image::{AxisSpec, QFormat, RawLimits, SignalKind, Unit};
+//! use compensate::image::{AxisSpec, ChannelAxis, QFormat, RawLimits, SignalKind, Unit};
 //! use compensate::interp::Interpolation;
 //! use compensate::{Compensator, ImageBuilder, Status, TableView};
 //!
@@ -44,6 +44,7 @@
 //!     signal_hi: 150.0,
 //!     serial: *b"demo-part-000001",
 //!     thermometer: None,
+//!     channel_axis: ChannelAxis::Temperature,
 //!     temperature_axis: AxisSpec { start: -20.0, step: 40.0 },
 //!     offset: &offset,
 //!     gain: &gain,
@@ -78,7 +79,7 @@
 //! | 12 | 1 | u8 | number format: 0 f32, 1 Q-format i32 |
 //! | 13 | 1 | u8 | interpolation: 0 linear, 1 monotone cubic |
 //! | 14 | 1 | u8 | temperature signal: 0 degrees C, 1 ohm, 2 ADC code |
-//! | 15 | 1 | u8 | flags: bit 0 ratiometric; other bits 0 |
+//! | 15 | 1 | u8 | flags: bit 0 ratiometric; bit 1 channels over the temperature signal ([`image::ChannelAxis::Signal`]: the channel axis is in signal units and the thermometer must have the same axis and `n_sig = n_t`); other bits 0 |
 //! | 16 | 2 | u16 | `n_t`: temperature nodes (>= 2) |
 //! | 18 | 2 | u16 | `n_sig`: thermometer nodes (0 = none, else >= 2; required unless signal is degrees C) |
 //! | 20 | 2 | u16 | `n_raw`: raw-axis nodes of the 2-D correction (0 = none, else >= 2) |
@@ -96,7 +97,7 @@
 //! | 60 | 16 | bytes | serial number / metadata, opaque |
 //! | 76 | 4 | u32 | reserved, 0 |
 //! | 80 | 8 + 4 `n_sig` | num | thermometer (if `n_sig > 0`): signal axis start, step; `n_sig` temperatures |
-//! | ... | 8 + 4 `n_ch n_t` | num | channels: temperature axis start, step; offset column, gain column\[, quadratic column\] (each `n_t` values) |
+//! | ... | 8 + 4 `n_ch n_t` | num | channels: temperature (or, with flag bit 1, signal) axis start, step; offset column, gain column\[, quadratic column\] (each `n_t` values) |
 //! | ... | 8 + 4 `n_raw n_t` | num | 2-D correction (if `n_raw > 0`): raw axis start, step (integer codes in Q images); `n_t` rows of `n_raw` values in output units |
 //! | end - 4 | 4 | u32 | CRC-32 (IEEE 802.3) of every preceding byte |
 //!
@@ -164,7 +165,10 @@
 //! term, the 2-D correction) takes an out-of-line general path with
 //! identical results. A temperature update locates the signal on two axes
 //! (the integer axis with one 32-bit multiply and the high word of a 32x32
-//! product, no division) and interpolates four columns.
+//! product, no division) and interpolates four columns; on an image over
+//! the signal axis ([`image::ChannelAxis::Signal`]) it locates the signal
+//! once and interpolates the channels only, and the thermometer column is
+//! read when [`Compensator::temperature_c`] is called.
 //!
 //! Measured with the firmware example's benchmark (QEMU, executed
 //! instructions per call beyond an empty call, opt-level 3, fat LTO; the

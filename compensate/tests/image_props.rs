@@ -1,7 +1,9 @@
 //! Property tests of the image encoder and parser: every valid description
 //! round-trips, every value reads back bit for bit.
 
-use compensate::image::{AxisSpec, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use compensate::image::{
+    AxisSpec, ChannelAxis, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit,
+};
 use compensate::interp::{Interpolation, Nodes};
 use compensate::{ImageBuilder, TableView};
 use proptest::prelude::*;
@@ -40,6 +42,7 @@ proptest! {
             signal_hi: 1.0e4,
             serial,
             thermometer: therm.as_ref().map(|t| MapSpec { axis: AxisSpec { start: 1000.0, step: 12.5 }, values: t.as_slice() }),
+            channel_axis: ChannelAxis::Temperature,
             temperature_axis: AxisSpec { start: -40.0, step: 7.5 },
             offset: &offset,
             gain: &gain,
@@ -88,6 +91,7 @@ proptest! {
             signal_hi: 200 << 16,
             serial: [7; 16],
             thermometer: None,
+            channel_axis: ChannelAxis::Temperature,
             temperature_axis: AxisSpec { start: t_start, step: t_step },
             offset,
             gain,

@@ -5,7 +5,7 @@
 
 use super::CompensatorError;
 use crate::Status;
-use crate::image::{ColumnQ, NumberFormat, TableView, TablesQ};
+use crate::image::{ChannelAxis, ColumnQ, NumberFormat, TableView, TablesQ};
 use crate::interp::{
     AxisQ, Interpolation, Nodes, PositionQ, bilinear_q, cubic_monotone_q, linear_q,
 };
@@ -67,6 +67,10 @@ pub struct FixedCompensator<'a> {
     row: PositionQ,
     interpolation: Interpolation,
     tables: Option<TablesQ<'a>>,
+    /// With [`ChannelAxis::Signal`], the thermometer values on the
+    /// channels' nodes, read only by [`FixedCompensator::temperature_q`]
+    /// (`tables` then has no thermometer, so an update is one look-up).
+    temperature_map: Option<ColumnQ<'a>>,
 }
 
 /// Interpolates with the image's method: the linear kernel inline, the
@@ -163,6 +167,7 @@ impl<'a> FixedCompensator<'a> {
     pub const fn unconfigured() -> Self {
         Self {
             tables: None,
+            temperature_map: None,
             interpolation: Interpolation::Linear,
             grid: None,
             rail_lo: i32::MIN,
@@ -198,10 +203,16 @@ impl<'a> FixedCompensator<'a> {
     /// # Errors
     /// [`CompensatorError::WrongFormat`] for an f32 image.
     pub fn new(view: &TableView<'a>) -> Result<Self, CompensatorError> {
-        let tables = view.tables_q().ok_or(CompensatorError::WrongFormat {
+        let mut tables = view.tables_q().ok_or(CompensatorError::WrongFormat {
             expected: NumberFormat::Q,
             found: view.format(),
         })?;
+        // Over the signal axis the update locates the signal directly and
+        // the thermometer waits until the temperature is asked for.
+        let temperature_map = match view.channel_axis() {
+            ChannelAxis::Signal => tables.thermometer.take().map(|(_, values)| values),
+            ChannelAxis::Temperature => None,
+        };
         let l = view.raw_limits();
         let q = tables.q;
         // The parser guarantees offset + gain - output and (when the
@@ -233,6 +244,7 @@ impl<'a> FixedCompensator<'a> {
             short_ok: tables.grid.is_none() && (1..=31).contains(&out_shift),
             out_round,
             quad_shift,
+            temperature_map,
             ..Self::unconfigured()
         };
         c.set_temperature_q(&tables, tables.temperature.start());
@@ -305,9 +317,17 @@ impl<'a> FixedCompensator<'a> {
 
     /// Temperature of the cached coefficients in Q(`temperature`) degrees
     /// Celsius (before clamping to the table axis).
+    ///
+    /// On an image over the signal axis ([`ChannelAxis::Signal`]) this
+    /// interpolates the thermometer column at the cached position, the
+    /// temperature clamped to the table's ends; it costs one interpolation
+    /// per call, so call it when the temperature is wanted, not per sample.
     #[must_use]
-    pub const fn temperature_q(&self) -> i32 {
-        self.temperature_q
+    pub fn temperature_q(&self) -> i32 {
+        match &self.temperature_map {
+            Some(values) => interp(self.interpolation, values, self.row),
+            None => self.temperature_q,
+        }
     }
 
     /// Cached `(offset, gain, quadratic)` at the current temperature, each
@@ -448,7 +468,7 @@ impl<'a> FixedCompensator<'a> {
 mod tests {
     use super::*;
     use crate::ImageBuilder;
-    use crate::image::{AxisSpec, QFormat, RawLimits, SignalKind, Unit};
+    use crate::image::{AxisSpec, ChannelAxis, QFormat, RawLimits, SignalKind, Unit};
 
     #[test]
     fn soft_multiply_is_exact() {
@@ -533,6 +553,7 @@ mod tests {
             signal_hi: 200 << 16,
             serial: [0; 16],
             thermometer: None,
+            channel_axis: ChannelAxis::Temperature,
             temperature_axis: AxisSpec {
                 start: 0,
                 step: 100 << 16,

@@ -2,7 +2,7 @@
 
 use super::CompensatorError;
 use crate::Status;
-use crate::image::{ColumnF32, NumberFormat, TableView, TablesF32};
+use crate::image::{ChannelAxis, ColumnF32, NumberFormat, TableView, TablesF32};
 use crate::interp::{Axis, Interpolation, Nodes, Position, bilinear, cubic_monotone, linear};
 
 /// One compensated sample in engineering units.
@@ -44,6 +44,10 @@ pub struct Compensator<'a> {
     quadratic: f32,
     row: Position,
     temp_status: Status,
+    /// With [`ChannelAxis::Signal`], the thermometer values on the
+    /// channels' nodes, read only by [`Compensator::temperature_c`]
+    /// (`tables` then has no thermometer, so an update is one look-up).
+    temperature_map: Option<ColumnF32<'a>>,
 }
 
 /// Interpolates with the image's method: the linear kernel inline, the
@@ -141,6 +145,7 @@ impl<'a> Compensator<'a> {
                 clamped: false,
             },
             temp_status: Status::TABLE_INVALID,
+            temperature_map: None,
         }
     }
 
@@ -151,10 +156,16 @@ impl<'a> Compensator<'a> {
     /// # Errors
     /// [`CompensatorError::WrongFormat`] for a Q-format image.
     pub fn new(view: &TableView<'a>) -> Result<Self, CompensatorError> {
-        let tables = view.tables_f32().ok_or(CompensatorError::WrongFormat {
+        let mut tables = view.tables_f32().ok_or(CompensatorError::WrongFormat {
             expected: NumberFormat::F32,
             found: view.format(),
         })?;
+        // Over the signal axis the update locates the signal directly and
+        // the thermometer waits until the temperature is asked for.
+        let temperature_map = match view.channel_axis() {
+            ChannelAxis::Signal => tables.thermometer.take().map(|(_, values)| values),
+            ChannelAxis::Temperature => None,
+        };
         let l = view.raw_limits();
         let mut c = Self {
             tables: Some(tables),
@@ -174,6 +185,7 @@ impl<'a> Compensator<'a> {
             } else {
                 f32::NEG_INFINITY
             },
+            temperature_map,
             ..Self::unconfigured()
         };
         c.set_temperature_c(&tables, tables.temperature.start);
@@ -241,9 +253,17 @@ impl<'a> Compensator<'a> {
 
     /// Temperature of the cached coefficients, degrees Celsius (after the
     /// thermometer map, before clamping to the table axis).
+    ///
+    /// On an image over the signal axis ([`ChannelAxis::Signal`]) this
+    /// interpolates the thermometer column at the cached position, the
+    /// temperature clamped to the table's ends; it costs one interpolation
+    /// per call, so call it when the temperature is wanted, not per sample.
     #[must_use]
-    pub const fn temperature_c(&self) -> f32 {
-        self.temperature_c
+    pub fn temperature_c(&self) -> f32 {
+        match &self.temperature_map {
+            Some(values) => interp(self.interpolation, values, self.row),
+            None => self.temperature_c,
+        }
     }
 
     /// Cached `(offset, gain, quadratic)` at the current temperature.

@@ -6,8 +6,8 @@
 
 use super::error::{EncodeError, ImageError};
 use super::layout::{
-    self, FLAG_RATIOMETRIC, HEADER_LEN, MAGIC, NumberFormat, QFormat, RawLimits, SERIAL_LEN,
-    SignalKind, Unit, VERSION,
+    self, ChannelAxis, FLAG_RATIOMETRIC, FLAG_SIGNAL_AXIS, HEADER_LEN, MAGIC, NumberFormat,
+    QFormat, RawLimits, SERIAL_LEN, SignalKind, Unit, VERSION,
 };
 use super::view::TableView;
 use crate::crc::crc32;
@@ -104,7 +104,13 @@ pub struct ImageBuilder<'a, V> {
     /// Optional map from temperature signal to degrees Celsius (required
     /// unless `signal_kind` is [`SignalKind::Celsius`]).
     pub thermometer: Option<MapSpec<'a, V>>,
-    /// Temperature axis of the correction channels, degrees Celsius.
+    /// What the correction channels are tabulated over: degrees Celsius,
+    /// or the temperature signal itself ([`ChannelAxis::Signal`]; the
+    /// thermometer must then have exactly `temperature_axis` and one value
+    /// per channel node).
+    pub channel_axis: ChannelAxis,
+    /// Axis of the correction channels: degrees Celsius, or the
+    /// temperature signal's unit with [`ChannelAxis::Signal`].
     pub temperature_axis: AxisSpec<V>,
     /// Offset channel (raw codes), one value per temperature node.
     pub offset: &'a [V],
@@ -230,10 +236,13 @@ impl<V: Number> ImageBuilder<'_, V> {
             V::FORMAT.code(),
             self.interpolation.code(),
             self.signal_kind.code(),
-            if self.ratiometric {
+            (if self.ratiometric {
                 FLAG_RATIOMETRIC
             } else {
                 0
+            }) | match self.channel_axis {
+                ChannelAxis::Temperature => 0,
+                ChannelAxis::Signal => FLAG_SIGNAL_AXIS,
             },
         ]);
         // Counts were checked against u16::MAX / 3 above.

@@ -31,6 +31,12 @@ pub const MAX_COEFF_FRAC_BITS: u8 = 62;
 pub const MAX_SHIFT: u8 = 62;
 /// Flag bit 0: the raw signal is ratiometric to the excitation.
 pub const FLAG_RATIOMETRIC: u8 = 1 << 0;
+/// Flag bit 1: the channels' axis is the temperature signal itself
+/// ([`ChannelAxis::Signal`]); the thermometer section then has the same
+/// axis and node count as the channels.
+pub const FLAG_SIGNAL_AXIS: u8 = 1 << 1;
+/// Every flag bit this layout version defines; the others must be zero.
+pub const FLAGS_KNOWN: u8 = FLAG_RATIOMETRIC | FLAG_SIGNAL_AXIS;
 
 /// Header field offsets.
 pub mod off {
@@ -115,6 +121,26 @@ impl NumberFormat {
             _ => None,
         }
     }
+}
+
+/// What the correction channels (offset, gain, quadratic, 2-D rows) are
+/// tabulated over.
+///
+/// With [`ChannelAxis::Temperature`] a temperature update runs the
+/// thermometer map (signal to degrees Celsius) and then looks the
+/// temperature up on the channels' axis: two look-ups. With
+/// [`ChannelAxis::Signal`] the station has composed the two, tabulating
+/// each channel directly over the temperature signal, so an update is one
+/// look-up; the thermometer column, on the same nodes, is then read only
+/// when the firmware asks for the temperature.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum ChannelAxis {
+    /// Channels over degrees Celsius (after the thermometer map).
+    #[default]
+    Temperature,
+    /// Channels over the temperature signal (flag [`FLAG_SIGNAL_AXIS`]).
+    Signal,
 }
 
 /// What the temperature signal fed to `update_temperature` is.

@@ -14,6 +14,6 @@ mod view;
 pub use column::{ColumnF32, ColumnQ};
 pub use encode::{AxisSpec, GridSpec, ImageBuilder, MapSpec, Number};
 pub use error::{EncodeError, ImageError, Section};
-pub use layout::{NumberFormat, QFormat, RawLimits, SignalKind, Unit};
+pub use layout::{ChannelAxis, NumberFormat, QFormat, RawLimits, SignalKind, Unit};
 pub use tables::{TablesF32, TablesQ};
 pub use view::TableView;

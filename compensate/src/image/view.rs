@@ -4,8 +4,9 @@ use super::bytes::{f32_at, i32_at, u8_at, u16_at, u32_at, word};
 use super::column::{ColumnF32, ColumnQ};
 use super::error::{ImageError, Section};
 use super::layout::{
-    self, AXIS_LEN, CRC_LEN, FLAG_RATIOMETRIC, HEADER_LEN, MAGIC, NumberFormat, QFormat, RawLimits,
-    SERIAL_LEN, SignalKind, Unit, VERSION, WORD, off,
+    self, AXIS_LEN, CRC_LEN, ChannelAxis, FLAG_RATIOMETRIC, FLAG_SIGNAL_AXIS, FLAGS_KNOWN,
+    HEADER_LEN, MAGIC, NumberFormat, QFormat, RawLimits, SERIAL_LEN, SignalKind, Unit, VERSION,
+    WORD, off,
 };
 use super::tables::{TablesF32, TablesQ};
 use super::validate::{check_frac, f32_axis_ok};
@@ -28,6 +29,7 @@ pub struct TableView<'a> {
     signal_kind: SignalKind,
     unit: Unit,
     ratiometric: bool,
+    channel_axis: ChannelAxis,
     q: QFormat,
     full_scale: f32,
     limits: RawLimits,
@@ -173,7 +175,7 @@ impl<'a> TableView<'a> {
         let unit_code = u8_at(bytes, off::UNIT);
         let unit = Unit::from_code(unit_code).ok_or(ImageError::UnknownUnit(unit_code))?;
         let flags = u8_at(bytes, off::FLAGS);
-        if flags & !FLAG_RATIOMETRIC != 0 {
+        if flags & !FLAGS_KNOWN != 0 {
             return Err(ImageError::ReservedNotZero { offset: off::FLAGS });
         }
         if u16_at(bytes, off::RESERVED_A) != 0 {
@@ -198,6 +200,19 @@ impl<'a> TableView<'a> {
             });
         }
         if n_sig == 1 || (n_sig == 0 && signal_kind != SignalKind::Celsius) {
+            return Err(ImageError::BadCount {
+                field: "n_sig",
+                value: n_sig,
+            });
+        }
+        let channel_axis = if flags & FLAG_SIGNAL_AXIS != 0 {
+            ChannelAxis::Signal
+        } else {
+            ChannelAxis::Temperature
+        };
+        // Over the signal, the thermometer column sits on the channels'
+        // nodes (its axis is compared below, once the length is known).
+        if channel_axis == ChannelAxis::Signal && n_sig != n_t {
             return Err(ImageError::BadCount {
                 field: "n_sig",
                 value: n_sig,
@@ -269,6 +284,7 @@ impl<'a> TableView<'a> {
             signal_kind,
             unit,
             ratiometric: flags & FLAG_RATIOMETRIC != 0,
+            channel_axis,
             q,
             full_scale: f32::from_bits(full_scale_bits),
             limits,
@@ -278,6 +294,14 @@ impl<'a> TableView<'a> {
             n_raw,
         };
         view.check_sections::<Q_ONLY>()?;
+        if channel_axis == ChannelAxis::Signal {
+            let o = Offsets::new(n_t, n_ch, n_sig);
+            if bytes.get(o.therm..o.therm + AXIS_LEN) != bytes.get(o.chan..o.chan + AXIS_LEN) {
+                return Err(ImageError::BadAxis {
+                    section: Section::Thermometer,
+                });
+            }
+        }
         Ok(view)
     }
 
@@ -369,6 +393,12 @@ impl<'a> TableView<'a> {
     #[must_use]
     pub const fn ratiometric(&self) -> bool {
         self.ratiometric
+    }
+
+    /// What the correction channels are tabulated over.
+    #[must_use]
+    pub const fn channel_axis(&self) -> ChannelAxis {
+        self.channel_axis
     }
 
     /// Fractional bits of each quantity (all zero for f32 images).

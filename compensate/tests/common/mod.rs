@@ -1,7 +1,9 @@
 //! Small example images shared by the integration tests (invented values).
 #![allow(dead_code)]
 
-use compensate::image::{AxisSpec, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use compensate::image::{
+    AxisSpec, ChannelAxis, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit,
+};
 use compensate::interp::Interpolation;
 use compensate::{ImageBuilder, TableView};
 
@@ -46,6 +48,7 @@ pub fn f32_builder() -> ImageBuilder<'static, f32> {
             },
             values: &THERM_T,
         }),
+        channel_axis: ChannelAxis::Temperature,
         temperature_axis: AxisSpec {
             start: T_START_C,
             step: T_STEP_C,
@@ -156,6 +159,7 @@ pub fn q_builder(grid: bool) -> ImageBuilder<'static, i32> {
             },
             values: &d.therm,
         }),
+        channel_axis: ChannelAxis::Temperature,
         temperature_axis: AxisSpec {
             start: to_q(T_START_C, QF.temperature),
             step: to_q(T_STEP_C, QF.temperature),

@@ -10,7 +10,9 @@ use super::bow::Bow;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
 use compensate::ImageBuilder;
-use compensate::image::{AxisSpec, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use compensate::image::{
+    AxisSpec, ChannelAxis, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit,
+};
 use compensate::interp::Interpolation;
 
 /// Number format of an image.
@@ -410,6 +412,7 @@ impl<'a> TableFrame<'a> {
                         },
                         values: &therm,
                     }),
+                    channel_axis: ChannelAxis::Temperature,
                     temperature_axis: AxisSpec {
                         start: self.t_lo_c as f32,
                         step: t_step as f32,
@@ -468,6 +471,7 @@ impl<'a> TableFrame<'a> {
                         },
                         values: &therm,
                     }),
+                    channel_axis: ChannelAxis::Temperature,
                     temperature_axis: AxisSpec {
                         start: t_start,
                         step: t_step,
