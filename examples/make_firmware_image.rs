@@ -6,9 +6,11 @@
 //! semidrift simulate well-logger --parts 1 --seed 42 --out cal.csv --write-spec well.toml
 //! semidrift calibrate well.toml cal.csv --out-dir parts --quiet
 //! semidrift table parts/WELL-0001.part.json --format bin --budget 100 \
-//!     --number-format f32 --interpolation linear --signal-unit adc-code --out f32.bin
+//!     --number-format f32 --interpolation linear --signal-unit adc-code \
+//!     --channel-axis signal --out f32.bin
 //! semidrift table parts/WELL-0001.part.json --format bin --budget 100 \
-//!     --number-format q --interpolation linear --signal-unit adc-code --out q.bin
+//!     --number-format q --interpolation linear --signal-unit adc-code \
+//!     --channel-axis signal --out q.bin
 //! ```
 //!
 //! (run in-process through `host_tools::cli`, in a temporary folder), then
@@ -28,7 +30,11 @@
 //! the chooser's least-flash pick for this part is a 3-node monotone cubic
 //! table, whose temperature update costs about twice the instructions of
 //! the linear kernel (issue 6's per-update targets); linear needs a few more
-//! nodes and bytes.
+//! nodes and bytes. The channels are tabulated over the temperature signal
+//! (`--channel-axis signal`): the chooser's least-flash pick would be a
+//! thermometer map followed by channels over temperature (256 bytes against
+//! 364), but over the signal a temperature update is one look-up instead of
+//! two, which is what a firmware updating the temperature often wants.
 //!
 //! `cargo run --example make_firmware_image` rewrites the files (atomically);
 //! `cargo run --example make_firmware_image -- --check` fails if they differ
@@ -178,6 +184,8 @@ pub fn build() -> FirmwareData {
             "linear",
             "--signal-unit",
             "adc-code",
+            "--channel-axis",
+            "signal",
             "--out",
             &p(&format!("{format}.bin")),
         ]);

@@ -5,7 +5,7 @@ use super::CliError;
 use crate::station::choose::Restrict;
 use crate::station::export::{ExportFormat, export};
 use crate::station::part_file::PartFile;
-use crate::station::table::{InterpKind, NumFormat, SignalUnit};
+use crate::station::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
 use crate::station::{output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -46,6 +46,12 @@ pub struct TableArgs {
     /// temperature-signal ADC, as firmware reads them).
     #[arg(long, value_enum, default_value_t = SignalUnit::Ohm, value_name = "UNIT")]
     pub signal_unit: SignalUnit,
+    /// Tabulate the correction over this axis only: `temperature` (a
+    /// thermometer map, then the channels over degrees Celsius) or `signal`
+    /// (the channels directly over the temperature signal: one look-up per
+    /// temperature update on the part) [default: the least flash of both].
+    #[arg(long, value_enum, value_name = "AXIS")]
+    pub channel_axis: Option<AxisKind>,
 }
 
 /// Parses a decimal or 0x-prefixed hexadecimal address.
@@ -77,6 +83,7 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let restrict = Restrict {
         interpolation: args.interpolation,
         format: args.number_format,
+        axis: args.channel_axis,
     };
     let outcome = pipeline::build_table_with(&part, &curves, budget, restrict, args.signal_unit)
         .map_err(|e| match e {
@@ -106,14 +113,22 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
             String::new()
         }
     };
+    let nodes = match p.axis {
+        AxisKind::Temperature => {
+            format!("{} temperature nodes, {} thermometer nodes", p.n_t, p.n_sig)
+        }
+        AxisKind::Signal => format!(
+            "{} temperature-signal nodes (channels and thermometer)",
+            p.n_t
+        ),
+    };
     writeln!(
         out,
-        "part {}: {:?} {:?}, {} temperature nodes, {} thermometer nodes{}, {} bytes -> {}",
+        "part {}: {:?} {:?}, {}{}, {} bytes -> {}",
         outcome.serial,
         p.interpolation,
         p.format,
-        p.n_t,
-        p.n_sig,
+        nodes,
         raw_nodes(p.n_raw),
         outcome.bytes,
         path.display()
@@ -175,10 +190,14 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
         } else {
             String::new()
         };
+        let nodes = match c.plan.axis {
+            AxisKind::Temperature => format!("n_t={} n_sig={}", c.plan.n_t, c.plan.n_sig),
+            AxisKind::Signal => format!("over signal n={}", c.plan.n_t),
+        };
         writeln!(
             out,
-            "  {:?} {:?} n_t={} n_sig={}{raw}: {} bytes, {:.2} ppm",
-            c.plan.interpolation, c.plan.format, c.plan.n_t, c.plan.n_sig, c.bytes, c.max_error_ppm
+            "  {:?} {:?} {nodes}{raw}: {} bytes, {:.2} ppm",
+            c.plan.interpolation, c.plan.format, c.bytes, c.max_error_ppm
         )?;
     }
     Ok(())

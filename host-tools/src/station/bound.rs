@@ -24,7 +24,7 @@
 //! quotient.
 
 use super::remainder::{Column, central_differences, inverse_derivatives};
-use super::table::{SignalUnit, TableFrame, TablePlan};
+use super::table::{AxisKind, SignalUnit, TableFrame, TablePlan};
 
 /// Factor on the whole bound. It covers what the first-order composition and
 /// the sampled kernels leave out: the kernel maximum between its 64 sample
@@ -95,6 +95,9 @@ fn column(p: &Param<'_>, x0: f64, h: f64, n: usize) -> Column {
 
 /// The bound in ppm of span.
 pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
+    if plan.axis == AxisKind::Signal {
+        return signal_axis_bound_ppm(frame, plan);
+    }
     let fs = frame.fs_hi - frame.fs_lo;
     let m = frame.model;
     // Fourth differences on the shapes' own knot spacing: they see the
@@ -176,6 +179,79 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
 }
 
+/// The bound of a plan over the signal axis ([`AxisKind::Signal`]): the
+/// offset and gain columns are functions of the signal, read where the
+/// signal is, so no thermometer error enters them; only half a code of
+/// input rounding (signal in ADC codes) moves the look-up, which is counted
+/// both in the columns' window and, through the drift slope, as the
+/// temperature error it amounts to.
+///
+/// The smooth-case cubic term needs the columns' fourth derivative in the
+/// signal, which only differencing through the inverted thermometer would
+/// give; it is left infinite, so the kernel bound (valid without it)
+/// decides for cubic plans too.
+fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
+    let fs = frame.fs_hi - frame.fs_lo;
+    let m = frame.model;
+    let [_, _, s0, h_s] = frame.node_axes(plan);
+    let n = plan.nodes_sig();
+    let signal = |t: f64| m.signal(t);
+    let t_of_s = |s: f64| m.temperature(s);
+    let unknown = |_: f64| f64::INFINITY;
+    let off = column(
+        &Param {
+            x: &signal,
+            y: &|t| frame.offset_codes(t),
+            t_of_x: &t_of_s,
+            d4: &unknown,
+        },
+        s0,
+        h_s,
+        n,
+    );
+    let gain = column(
+        &Param {
+            x: &signal,
+            y: &|t| frame.gain_per_code(t),
+            t_of_x: &t_of_s,
+            d4: &unknown,
+        },
+        s0,
+        h_s,
+        n,
+    );
+    let e_off = off.interval_bounds(plan.interpolation);
+    let e_gain = gain.interval_bounds(plan.interpolation);
+    let rounding_ohm = match frame.signal_unit {
+        SignalUnit::Ohm => 0.0,
+        SignalUnit::AdcCode => 0.5 * frame.signal_lsb,
+    };
+    let worst_in = |e: &[f64], lo: f64, hi: f64| -> f64 {
+        let k = e.len() - 1;
+        let first = lo.floor().clamp(0.0, k as f64) as usize;
+        let last = hi.floor().clamp(0.0, k as f64) as usize;
+        e[first..=last.max(first)]
+            .iter()
+            .fold(0.0, |x: f64, &y| x.max(y))
+    };
+    let limits = frame.raw_limits();
+    let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
+    let samples = MIN_CELLS.max(4 * n);
+    let dt = (frame.t_hi_c - frame.t_lo_c) / samples as f64;
+    let mut worst: f64 = 0.0;
+    for k in 0..=samples {
+        let t = frame.t_lo_c + dt * k as f64;
+        let s = m.signal(t);
+        let (lo, hi) = ((s - rounding_ohm - s0) / h_s, (s + rounding_ohm - s0) / h_s);
+        let o = frame.offset_codes(t);
+        let columns = worst_in(&e_off, lo, hi) * frame.gain_per_code(t).abs()
+            + worst_in(&e_gain, lo, hi) * (r_lo - o).abs().max((r_hi - o).abs());
+        let e_t = rounding_ohm / m.signal_slope(t).abs();
+        worst = worst.max(columns + e_t * drift_slope(frame, t));
+    }
+    SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+}
+
 /// Reading error per kelvin of temperature error at a fixed raw output at
 /// `t_c` (stimulus units per K), worst of the full-scale ends: the same
 /// quotient as the budget's drift slope.
@@ -221,7 +297,18 @@ fn correction_bound(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
     if plan.n_raw == 0 {
         return g_max;
     }
-    let h_t = (t_hi - t_lo) / (plan.n_t.max(2) - 1) as f64;
+    let h_t = match plan.axis {
+        AxisKind::Temperature => (t_hi - t_lo) / (plan.n_t.max(2) - 1) as f64,
+        // Rows at the signal nodes: uneven in temperature, so the widest
+        // gap between neighbouring rows.
+        AxisKind::Signal => {
+            let [_, _, s0, h_s] = frame.node_axes(plan);
+            let t_at = |k: usize| frame.model.temperature(s0 + h_s * k as f64);
+            (1..plan.n_t.max(2))
+                .map(|k| (t_at(k) - t_at(k - 1)).abs())
+                .fold(0.0, f64::max)
+        }
+    };
     let (_, step_codes) = frame.raw_axis(plan.n_raw);
     let h_r = f64::from(step_codes);
     h_t * h_t * g_tt / 8.0 + h_r * h_r * g_rr / 8.0
@@ -239,7 +326,7 @@ mod tests {
     use super::super::pipeline::dense_counts;
     use super::super::scenario::Scenario;
     use super::super::simulate::{Plan, draw_parts, measure};
-    use super::super::table::{InterpKind, NumFormat, SignalUnit};
+    use super::super::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
     use super::*;
 
     /// Parts of `scenario` calibrated at its usual three chamber temperatures.
@@ -284,11 +371,16 @@ mod tests {
             mid_rel_per_k: -4e-6,
         });
         let plan = |interpolation, format, n_t, n_sig, n_raw| TablePlan {
+            axis: AxisKind::Temperature,
             interpolation,
             format,
             n_t,
             n_sig,
             n_raw,
+        };
+        let over_signal = |interpolation, format, n, n_raw| TablePlan {
+            axis: AxisKind::Signal,
+            ..plan(interpolation, format, n, n, n_raw)
         };
         use InterpKind::{Bilinear2d as B2, Linear as L, MonotoneCubic as C};
         use NumFormat::{F32, Q};
@@ -310,6 +402,12 @@ mod tests {
             (&halls[0], plan(C, F32, 4, 12, 0), ohm, tight),
             (&halls[0], plan(C, Q, 9, 40, 0), code, tight),
             (&bowed, plan(B2, F32, 6, 20, 5), ohm, tight),
+            // Over the signal axis; the first is the firmware example's.
+            (&wells[0], over_signal(L, F32, 22, 0), code, tight),
+            (&wells[0], over_signal(L, Q, 22, 0), code, tight),
+            (&wells[1], over_signal(C, F32, 9, 0), ohm, tight),
+            (&halls[0], over_signal(L, Q, 12, 0), code, tight),
+            (&bowed, over_signal(B2, F32, 12, 5), ohm, tight),
         ];
         for (part, p, unit, max_ratio) in table {
             assert!(part.is_ok(), "{}: {}", part.serial, part.status);

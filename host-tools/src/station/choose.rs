@@ -5,7 +5,7 @@
 //! within the allowance; then the smallest image wins.
 
 use super::image_eval::{ErrorStats, EvalError, evaluate, linspace};
-use super::table::{InterpKind, NumFormat, TableError, TableFrame, TablePlan};
+use super::table::{AxisKind, InterpKind, NumFormat, TableError, TableFrame, TablePlan};
 
 /// Most nodes tried per axis before giving up.
 pub const MAX_NODES: usize = 4096;
@@ -114,6 +114,7 @@ pub fn smallest_plan(
     frame: &TableFrame<'_>,
     interpolation: InterpKind,
     format: NumFormat,
+    axis: AxisKind,
     allowance_ppm: f64,
     serial: &str,
     unit: &str,
@@ -125,47 +126,58 @@ pub fn smallest_plan(
         interpolation,
         format,
         n_t: n[0],
-        n_sig: n[1],
+        // Over the signal axis the thermometer shares the channels' nodes.
+        n_sig: match axis {
+            AxisKind::Temperature => n[1],
+            AxisKind::Signal => n[0],
+        },
         n_raw: n[2],
+        axis,
     };
     let eval = |p: TablePlan| try_plan(frame, &p, serial, unit, &grid).map(|r| r.1.max_error_ppm);
     let unreachable = |best| ChooseError::Unreachable {
         allowance_ppm,
         best_ppm: best,
     };
-    let (axes, fine, max) = if two_d {
+    let (fine, max) = if two_d {
         (
-            3,
             [FINE_NODES, FINE_NODES, MAX_RAW_NODES],
             [MAX_NODES, MAX_NODES, MAX_RAW_NODES],
         )
     } else {
-        (2, [FINE_NODES, FINE_NODES, 0], [MAX_NODES, MAX_NODES, 0])
+        ([FINE_NODES, FINE_NODES, 0], [MAX_NODES, MAX_NODES, 0])
     };
+    // The node counts searched: temperature, thermometer (not over the
+    // signal axis, where it is the channels' count), raw signal (2-D only).
+    let searched: Vec<usize> = [0, 1, 2]
+        .into_iter()
+        .filter(|&k| max[k] > 0 && !(k == 1 && axis == AxisKind::Signal))
+        .collect();
+    let axes = searched.len();
     let mut n = [0usize; 3];
-    for axis in 0..axes {
-        let found = smallest(target / axes as f64, max[axis], &mut |k| {
+    for &k in &searched {
+        let found = smallest(target / axes as f64, max[k], &mut |j| {
             let mut m = fine;
-            m[axis] = k;
+            m[k] = j;
             eval(plan(m))
         })?;
-        n[axis] = found.ok_or_else(|| unreachable(f64::NAN))?;
+        n[k] = found.ok_or_else(|| unreachable(f64::NAN))?;
     }
     // The errors add at worst; usually they partly cancel, so shrink all
     // together while the plan still meets the target, then grow if not.
     let mut e = eval(plan(n))?;
     while e > target {
-        if (0..axes).all(|k| n[k] >= max[k]) {
+        if searched.iter().all(|&k| n[k] >= max[k]) {
             return Err(unreachable(e));
         }
-        for k in 0..axes {
+        for &k in &searched {
             n[k] = (n[k] + n[k].div_ceil(10)).min(max[k]);
         }
         e = eval(plan(n))?;
     }
     loop {
         let mut m = n;
-        for k in 0..axes {
+        for &k in &searched {
             m[k] = (n[k] * 9 / 10).max(2);
         }
         if m == n {
@@ -197,6 +209,8 @@ pub struct Restrict {
     pub interpolation: Option<InterpKind>,
     /// Only this number format.
     pub format: Option<NumFormat>,
+    /// Only this channel axis.
+    pub axis: Option<AxisKind>,
 }
 
 /// Every interpolation and format allowed by `restrict`, each at its
@@ -230,11 +244,25 @@ pub fn candidates(
         Some(f) => vec![f],
         None => vec![NumFormat::Q, NumFormat::F32],
     };
+    let axes: Vec<AxisKind> = match restrict.axis {
+        Some(a) => vec![a],
+        None => vec![AxisKind::Temperature, AxisKind::Signal],
+    };
     for &interpolation in &kinds {
         for &format in &formats {
-            match smallest_plan(frame, interpolation, format, allowance_ppm, serial, unit) {
-                Ok(c) => out.push(c),
-                Err(e) => last_err = Some(e),
+            for &axis in &axes {
+                match smallest_plan(
+                    frame,
+                    interpolation,
+                    format,
+                    axis,
+                    allowance_ppm,
+                    serial,
+                    unit,
+                ) {
+                    Ok(c) => out.push(c),
+                    Err(e) => last_err = Some(e),
+                }
             }
         }
     }
@@ -248,6 +276,10 @@ pub fn candidates(
         x.bytes
             .cmp(&y.bytes)
             .then((x.plan.format == NumFormat::F32).cmp(&(y.plan.format == NumFormat::F32)))
+            // Then the signal axis: one look-up per temperature update.
+            .then(
+                (x.plan.axis == AxisKind::Temperature).cmp(&(y.plan.axis == AxisKind::Temperature)),
+            )
             .then(x.max_error_ppm.total_cmp(&y.max_error_ppm))
     });
     Ok(out)

@@ -9,8 +9,11 @@ use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperatu
 use super::model_shapes::shapes_for;
 use super::part_file::PartFile;
 use super::part_model::PartModel;
-use super::table::{InterpKind, NumFormat, SignalUnit, TableError, TableFrame, TablePlan};
+use super::table::{
+    AxisKind, InterpKind, NumFormat, SignalUnit, TableError, TableFrame, TablePlan,
+};
 use compensate::TableView;
+use compensate::image::ChannelAxis;
 use compensate::image::NumberFormat;
 use compensate::interp::Interpolation;
 
@@ -313,6 +316,10 @@ pub fn plan_of(view: &TableView<'_>) -> TablePlan {
         n_t,
         n_sig,
         n_raw,
+        axis: match view.channel_axis() {
+            ChannelAxis::Signal => AxisKind::Signal,
+            _ => AxisKind::Temperature,
+        },
     }
 }
 

@@ -76,6 +76,42 @@ pub enum SignalUnit {
     AdcCode,
 }
 
+/// What a table's correction channels are tabulated over.
+#[derive(
+    Debug,
+    Clone,
+    Copy,
+    PartialEq,
+    Eq,
+    Default,
+    serde::Serialize,
+    serde::Deserialize,
+    clap::ValueEnum,
+)]
+#[serde(rename_all = "snake_case")]
+pub enum AxisKind {
+    /// Over temperature, after a thermometer map of its own: two look-ups
+    /// per temperature update, and the thermometer and the channels are
+    /// sized apart.
+    #[default]
+    Temperature,
+    /// Over the temperature signal itself: the station composes the
+    /// thermometer into every channel, so a temperature update is one
+    /// look-up; the thermometer column shares the channels' nodes and is
+    /// read only when the firmware asks for the temperature.
+    Signal,
+}
+
+impl AxisKind {
+    /// The runtime crate's code for it.
+    pub fn runtime(self) -> ChannelAxis {
+        match self {
+            AxisKind::Temperature => ChannelAxis::Temperature,
+            AxisKind::Signal => ChannelAxis::Signal,
+        }
+    }
+}
+
 /// The choices that decide a table's size and error.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 pub struct TablePlan {
@@ -91,6 +127,25 @@ pub struct TablePlan {
     /// [`InterpKind::Bilinear2d`] has one).
     #[serde(default, skip_serializing_if = "is_zero")]
     pub n_raw: usize,
+    /// What the channels are tabulated over; with [`AxisKind::Signal`],
+    /// `n_sig` equals `n_t` (one set of nodes).
+    #[serde(default, skip_serializing_if = "is_temperature_axis")]
+    pub axis: AxisKind,
+}
+
+fn is_temperature_axis(a: &AxisKind) -> bool {
+    *a == AxisKind::Temperature
+}
+
+impl TablePlan {
+    /// Nodes of the thermometer: its own count, or the channels' over the
+    /// signal axis.
+    pub fn nodes_sig(&self) -> usize {
+        match self.axis {
+            AxisKind::Temperature => self.n_sig.max(2),
+            AxisKind::Signal => self.n_t.max(2),
+        }
+    }
 }
 
 fn is_zero(n: &usize) -> bool {
@@ -340,7 +395,7 @@ impl<'a> TableFrame<'a> {
     /// ohm: `[t_start_c, t_step_k, sig_start, sig_step]`.
     pub fn node_axes(&self, plan: &TablePlan) -> [f64; 4] {
         let n_t = plan.n_t.max(2);
-        let n_sig = plan.n_sig.max(2);
+        let n_sig = plan.nodes_sig();
         match plan.format {
             NumFormat::F32 => [
                 self.t_lo_c,
@@ -366,7 +421,8 @@ impl<'a> TableFrame<'a> {
         fs: f64,
     ) -> Result<Vec<u8>, TableError> {
         let n_t = plan.n_t.max(2);
-        let n_sig = plan.n_sig.max(2);
+        let n_sig = plan.nodes_sig();
+        let over_signal = plan.axis == AxisKind::Signal;
         let mut serial_bytes = [0u8; 16];
         for (d, s) in serial_bytes.iter_mut().zip(serial.bytes()) {
             *d = s;
@@ -377,7 +433,15 @@ impl<'a> TableFrame<'a> {
             NumFormat::F32 => {
                 let t_step = (self.t_hi_c - self.t_lo_c) / (n_t - 1) as f64;
                 let s_step = (self.sig_hi - self.sig_lo) / (n_sig - 1) as f64;
-                let t_nodes = |k: usize| self.t_lo_c + t_step * k as f64;
+                // Over the signal axis channel node k sits at signal node
+                // k, at the temperature the fitted thermometer gives there.
+                let t_nodes = |k: usize| {
+                    if over_signal {
+                        self.model.temperature(self.sig_lo + s_step * k as f64)
+                    } else {
+                        self.t_lo_c + t_step * k as f64
+                    }
+                };
                 let offset: Vec<f32> = (0..n_t)
                     .map(|k| self.offset_codes(t_nodes(k)) as f32)
                     .collect();
@@ -394,6 +458,10 @@ impl<'a> TableFrame<'a> {
                     .map(|&v| v as f32)
                     .collect();
                 let u = self.signal_scale();
+                let thermometer_axis = AxisSpec {
+                    start: (self.sig_lo / u) as f32,
+                    step: (s_step / u) as f32,
+                };
                 let builder = ImageBuilder::<f32> {
                     interpolation: plan.interpolation.runtime(),
                     q_format: QFormat::F32,
@@ -406,16 +474,17 @@ impl<'a> TableFrame<'a> {
                     signal_hi: ((self.sig_hi + sig_margin) / u) as f32,
                     serial: serial_bytes,
                     thermometer: Some(MapSpec {
-                        axis: AxisSpec {
-                            start: (self.sig_lo / u) as f32,
-                            step: (s_step / u) as f32,
-                        },
+                        axis: thermometer_axis,
                         values: &therm,
                     }),
-                    channel_axis: ChannelAxis::Temperature,
-                    temperature_axis: AxisSpec {
-                        start: self.t_lo_c as f32,
-                        step: t_step as f32,
+                    channel_axis: plan.axis.runtime(),
+                    temperature_axis: if over_signal {
+                        thermometer_axis
+                    } else {
+                        AxisSpec {
+                            start: self.t_lo_c as f32,
+                            step: t_step as f32,
+                        }
                     },
                     offset: &offset,
                     gain: &gain,
@@ -435,8 +504,14 @@ impl<'a> TableFrame<'a> {
                 let q = self.q_format();
                 let (tq, sq) = self.q_scales(&q);
                 let [t_start, t_step, s_start, s_step] = self.q_axes(&q, n_t, n_sig);
-                let t_node = |k: usize| (f64::from(t_start) + f64::from(t_step) * k as f64) / tq;
                 let s_node = |k: usize| (f64::from(s_start) + f64::from(s_step) * k as f64) / sq;
+                let t_node = |k: usize| {
+                    if over_signal {
+                        self.model.temperature(s_node(k))
+                    } else {
+                        (f64::from(t_start) + f64::from(t_step) * k as f64) / tq
+                    }
+                };
                 let scale = |x: f64, bits: u8| (x * 2f64.powi(i32::from(bits))).round() as i32;
                 let offset: Vec<i32> = (0..n_t)
                     .map(|k| scale(self.offset_codes(t_node(k)), q.offset))
@@ -471,10 +546,17 @@ impl<'a> TableFrame<'a> {
                         },
                         values: &therm,
                     }),
-                    channel_axis: ChannelAxis::Temperature,
-                    temperature_axis: AxisSpec {
-                        start: t_start,
-                        step: t_step,
+                    channel_axis: plan.axis.runtime(),
+                    temperature_axis: if over_signal {
+                        AxisSpec {
+                            start: s_start,
+                            step: s_step,
+                        }
+                    } else {
+                        AxisSpec {
+                            start: t_start,
+                            step: t_step,
+                        }
                     },
                     offset: &offset,
                     gain: &gain,
