@@ -93,6 +93,69 @@ fn column(p: &Param<'_>, x0: f64, h: f64, n: usize) -> Column {
     }
 }
 
+/// Remainder bounds per node interval of the offset and gain columns.
+struct ChannelBounds {
+    off: Vec<f64>,
+    gain: Vec<f64>,
+}
+
+impl ChannelBounds {
+    /// Both columns over nodes `x0 + k h`, k < n, with node argument `x(T)`
+    /// (inverted by `t_of_x`) and the given fourth derivatives of each.
+    #[allow(clippy::too_many_arguments)]
+    fn new(
+        frame: &TableFrame<'_>,
+        plan: &TablePlan,
+        x: &dyn Fn(f64) -> f64,
+        t_of_x: &dyn Fn(f64) -> f64,
+        d4: [&dyn Fn(f64) -> f64; 2],
+        x0: f64,
+        h: f64,
+        n: usize,
+    ) -> ChannelBounds {
+        let offset = |t: f64| frame.offset_codes(t);
+        let gain = |t: f64| frame.gain_per_code(t);
+        let bounds = |y: &dyn Fn(f64) -> f64, d4: &dyn Fn(f64) -> f64| {
+            column(&Param { x, y, t_of_x, d4 }, x0, h, n).interval_bounds(plan.interpolation)
+        };
+        ChannelBounds {
+            off: bounds(&offset, d4[0]),
+            gain: bounds(&gain, d4[1]),
+        }
+    }
+
+    /// Reading error (stimulus units) at `t_c` from the columns, read
+    /// anywhere in node coordinates `lo..=hi`, worst of the calibrated raw
+    /// range's ends.
+    fn reading_error(&self, frame: &TableFrame<'_>, t_c: f64, lo: f64, hi: f64) -> f64 {
+        let limits = frame.raw_limits();
+        let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
+        let o = frame.offset_codes(t_c);
+        worst_in(&self.off, lo, hi) * frame.gain_per_code(t_c).abs()
+            + worst_in(&self.gain, lo, hi) * (r_lo - o).abs().max((r_hi - o).abs())
+    }
+}
+
+/// Largest of the interval bounds `e` over the intervals that node
+/// coordinates `lo..=hi` touch (clamped to the table).
+fn worst_in(e: &[f64], lo: f64, hi: f64) -> f64 {
+    let k = e.len() - 1;
+    let first = lo.floor().clamp(0.0, k as f64) as usize;
+    let last = hi.floor().clamp(0.0, k as f64) as usize;
+    e[first..=last.max(first)]
+        .iter()
+        .fold(0.0, |x: f64, &y| x.max(y))
+}
+
+/// Half a code of temperature-signal input when the image takes ADC codes,
+/// in ohm; 0 for an image that takes ohm.
+fn input_rounding_ohm(frame: &TableFrame<'_>) -> f64 {
+    match frame.signal_unit {
+        SignalUnit::Ohm => 0.0,
+        SignalUnit::AdcCode => 0.5 * frame.signal_lsb,
+    }
+}
+
 /// The bound in ppm of span.
 pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
     if plan.axis == AxisKind::Signal {
@@ -109,24 +172,15 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     let [t0, h_t, s0, h_s] = frame.node_axes(plan);
     let (n_t, n_sig) = (plan.n_t.max(2), plan.n_sig.max(2));
     let id = |t: f64| t;
-    let off = column(
-        &Param {
-            x: &id,
-            y: &|t| frame.offset_codes(t),
-            t_of_x: &id,
-            d4: &|t| central_differences(&|x| frame.offset_codes(x), centre(t), step)[3],
-        },
-        t0,
-        h_t,
-        n_t,
-    );
-    let gain = column(
-        &Param {
-            x: &id,
-            y: &|t| frame.gain_per_code(t),
-            t_of_x: &id,
-            d4: &|t| central_differences(&|x| frame.gain_per_code(x), centre(t), step)[3],
-        },
+    let channels = ChannelBounds::new(
+        frame,
+        plan,
+        &id,
+        &id,
+        [
+            &|t| central_differences(&|x| frame.offset_codes(x), centre(t), step)[3],
+            &|t| central_differences(&|x| frame.gain_per_code(x), centre(t), step)[3],
+        ],
         t0,
         h_t,
         n_t,
@@ -142,25 +196,9 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
         h_s,
         n_sig,
     );
-    let e_off = off.interval_bounds(plan.interpolation);
-    let e_gain = gain.interval_bounds(plan.interpolation);
     let e_therm = therm.interval_bounds(plan.interpolation);
     let e_t_max = e_therm.iter().fold(0.0, |x: f64, &y| x.max(y));
-    // Half a code of thermometer input when the image takes ADC codes.
-    let rounding_ohm = match frame.signal_unit {
-        SignalUnit::Ohm => 0.0,
-        SignalUnit::AdcCode => 0.5 * frame.signal_lsb,
-    };
-    let worst_in = |e: &[f64], lo: f64, hi: f64| -> f64 {
-        let k = e.len() - 1;
-        let first = lo.floor().clamp(0.0, k as f64) as usize;
-        let last = hi.floor().clamp(0.0, k as f64) as usize;
-        e[first..=last.max(first)]
-            .iter()
-            .fold(0.0, |x: f64, &y| x.max(y))
-    };
-    let limits = frame.raw_limits();
-    let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
+    let rounding_ohm = input_rounding_ohm(frame);
     let samples = MIN_CELLS.max(4 * n_t);
     let dt = (frame.t_hi_c - frame.t_lo_c) / samples as f64;
     let mut worst: f64 = 0.0;
@@ -169,9 +207,7 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
         // The columns are read at the thermometer's output, within e_t_max
         // of t: the worse interval if that straddles a node.
         let (lo, hi) = ((t - e_t_max - t0) / h_t, (t + e_t_max - t0) / h_t);
-        let o = frame.offset_codes(t);
-        let columns = worst_in(&e_off, lo, hi) * frame.gain_per_code(t).abs()
-            + worst_in(&e_gain, lo, hi) * (r_lo - o).abs().max((r_hi - o).abs());
+        let columns = channels.reading_error(frame, t, lo, hi);
         let s = (m.signal(t) - s0) / h_s;
         let e_t = worst_in(&e_therm, s, s) + rounding_ohm / m.signal_slope(t).abs();
         worst = worst.max(columns + e_t * drift_slope(frame, t));
@@ -195,47 +231,18 @@ fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
     let m = frame.model;
     let [_, _, s0, h_s] = frame.node_axes(plan);
     let n = plan.nodes_sig();
-    let signal = |t: f64| m.signal(t);
-    let t_of_s = |s: f64| m.temperature(s);
     let unknown = |_: f64| f64::INFINITY;
-    let off = column(
-        &Param {
-            x: &signal,
-            y: &|t| frame.offset_codes(t),
-            t_of_x: &t_of_s,
-            d4: &unknown,
-        },
+    let channels = ChannelBounds::new(
+        frame,
+        plan,
+        &|t| m.signal(t),
+        &|s| m.temperature(s),
+        [&unknown, &unknown],
         s0,
         h_s,
         n,
     );
-    let gain = column(
-        &Param {
-            x: &signal,
-            y: &|t| frame.gain_per_code(t),
-            t_of_x: &t_of_s,
-            d4: &unknown,
-        },
-        s0,
-        h_s,
-        n,
-    );
-    let e_off = off.interval_bounds(plan.interpolation);
-    let e_gain = gain.interval_bounds(plan.interpolation);
-    let rounding_ohm = match frame.signal_unit {
-        SignalUnit::Ohm => 0.0,
-        SignalUnit::AdcCode => 0.5 * frame.signal_lsb,
-    };
-    let worst_in = |e: &[f64], lo: f64, hi: f64| -> f64 {
-        let k = e.len() - 1;
-        let first = lo.floor().clamp(0.0, k as f64) as usize;
-        let last = hi.floor().clamp(0.0, k as f64) as usize;
-        e[first..=last.max(first)]
-            .iter()
-            .fold(0.0, |x: f64, &y| x.max(y))
-    };
-    let limits = frame.raw_limits();
-    let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
+    let rounding_ohm = input_rounding_ohm(frame);
     let samples = MIN_CELLS.max(4 * n);
     let dt = (frame.t_hi_c - frame.t_lo_c) / samples as f64;
     let mut worst: f64 = 0.0;
@@ -243,9 +250,7 @@ fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
         let t = frame.t_lo_c + dt * k as f64;
         let s = m.signal(t);
         let (lo, hi) = ((s - rounding_ohm - s0) / h_s, (s + rounding_ohm - s0) / h_s);
-        let o = frame.offset_codes(t);
-        let columns = worst_in(&e_off, lo, hi) * frame.gain_per_code(t).abs()
-            + worst_in(&e_gain, lo, hi) * (r_lo - o).abs().max((r_hi - o).abs());
+        let columns = channels.reading_error(frame, t, lo, hi);
         let e_t = rounding_ohm / m.signal_slope(t).abs();
         worst = worst.max(columns + e_t * drift_slope(frame, t));
     }
