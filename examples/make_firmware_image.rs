@@ -78,6 +78,8 @@ pub struct FirmwareData {
     pub poly_rs: String,
     /// The calibrated part the images and the polynomial are made from.
     pub part: PartFile,
+    /// The polynomial baseline `poly_rs` holds.
+    pub poly: Baseline,
 }
 
 /// Powers of the raw code in the polynomial baseline: the part has no bow
@@ -101,8 +103,8 @@ fn centi(ppm: f64) -> u64 {
 }
 
 /// The polynomial baseline fitted to `part` at the accuracy of its images,
-/// as the Rust source the firmware compiles in.
-fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> String {
+/// and it as the Rust source the firmware compiles in.
+fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, String) {
     let table_f32 = verify_image(f32_image, part).max_error_ppm;
     let table_q = verify_image(q_image, part).max_error_ppm;
     let curves = part_curves(part).expect("the part's scenario has model shapes");
@@ -138,7 +140,7 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> String {
         })
         .collect();
     let (fe, qe) = (b.f32_error.max_error_ppm, b.q_error.max_error_ppm);
-    format!(
+    let source = format!(
         "//! The benchmark's polynomial baseline for the well-level demo part ({serial}, seed {SEED}):\n\
          //! `reading = p0(u) + p1(u) raw`, each `p_i` of degree {degree} in\n\
          //! `u = (temperature-signal code - CENTRE_CODE) / 2^U_SHIFT`, least-squares fitted\n\
@@ -195,7 +197,8 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> String {
         qe_c = centi(qe),
         tf_c = centi(table_f32),
         tq_c = centi(table_q),
-    )
+    );
+    (b, source)
 }
 
 /// Runs one `semidrift` command in-process; panics with its message on failure.
@@ -318,13 +321,14 @@ pub fn build() -> FirmwareData {
     let (f32_image, q_image) = (read("f32.bin"), read("q.bin"));
     let stream_csv = stream(&Scenario::well_logger(), &q_image);
     let part = PartFile::read(Path::new(&part)).unwrap_or_else(|e| panic!("{e}"));
-    let poly_rs = poly_source(&part, &f32_image, &q_image);
+    let (poly, poly_rs) = poly_source(&part, &f32_image, &q_image);
     FirmwareData {
         f32_image,
         q_image,
         stream_csv,
         poly_rs,
         part,
+        poly,
     }
 }
 
