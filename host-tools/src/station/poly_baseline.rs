@@ -113,8 +113,16 @@ pub struct PolyFit {
 impl PolyFit {
     /// Least-squares fit of degree `degree` in `u` and `raw_terms` powers of
     /// the raw code (SVD, relative singular-value cutoff 1e-12, common
-    /// practice), to `points`.
+    /// practice), to `points`; with no points every coefficient is NaN
+    /// (which [`PolyFit::q_form`] refuses and any error measure reports).
     pub fn fit(points: &[Point], degree: usize, raw_terms: usize) -> PolyFit {
+        if points.is_empty() {
+            return PolyFit {
+                centre_code: 0,
+                u_shift: 0,
+                rows: vec![vec![f64::NAN; degree + 1]; raw_terms],
+            };
+        }
         let (lo, hi) = points.iter().fold((i32::MAX, i32::MIN), |(lo, hi), p| {
             (lo.min(p.code), hi.max(p.code))
         });
@@ -475,6 +483,16 @@ mod tests {
         // The largest shift with row 1's coefficient sum 1.232e-6 below 2^30
         // in Q(24 + s): 2^49 x 1.232e-6 = 6.9e8 < 2^30 = 1.07e9 < 2^50 x 1.232e-6.
         assert_eq!(q.x_shift, 25);
+    }
+
+    #[test]
+    fn no_points_give_a_refused_fit() {
+        let fit = PolyFit::fit(&[], 2, 2);
+        assert!(fit.rows.iter().flatten().all(|c| c.is_nan()), "{fit:?}");
+        assert!(matches!(
+            fit.q_form(24),
+            Err(PolyBaselineError::Headroom { row: 0, .. })
+        ));
     }
 
     #[test]
