@@ -19,7 +19,11 @@
 //!
 //! - `examples/firmware/data/well_level_f32.bin`: f32 table image (Cortex-M4F path),
 //! - `examples/firmware/data/well_level_q.bin`: Q-format table image (integer path),
-//! - `examples/firmware/data/well_level_stream.csv`: 120 recorded samples.
+//! - `examples/firmware/data/well_level_stream.csv`: 120 recorded samples,
+//! - `examples/firmware/data/well_level_poly.rs`: the benchmark's polynomial
+//!   baseline, fitted to the same calibrated part at the lowest degree whose
+//!   dense error is at or below the table images' own
+//!   (`host_tools::station::poly_baseline`).
 //!
 //! Scenario (invented data, DESIGN.md): a well-level logger's 0-10 bar gauge
 //! silicon die, p-type piezoresistive bridge read by a 24-bit ADC, the
@@ -46,6 +50,12 @@ use host_tools::station::scenario::Scenario;
 use host_tools::station::simulate::{Plan, draw_parts, measure};
 use std::path::{Path, PathBuf};
 
+use host_tools::station::part_file::PartFile;
+use host_tools::station::part_model::PartModel;
+use host_tools::station::pipeline::{VerifyReport, dense_counts, part_curves, plan_of, verify};
+use host_tools::station::poly_baseline::{Baseline, equal_accuracy};
+use host_tools::station::table::{SignalUnit, TableFrame};
+
 /// Seed of the simulated lot (`simulate --seed`).
 pub const SEED: u64 = 42;
 /// Seed of the recorded stream's noise and die-temperature error.
@@ -70,6 +80,131 @@ pub struct FirmwareData {
     pub q_image: Vec<u8>,
     /// Recorded stream, CSV text.
     pub stream_csv: String,
+    /// The polynomial baseline as Rust source (`well_level_poly.rs`).
+    pub poly_rs: String,
+    /// The calibrated part the images and the polynomial are made from.
+    pub part: PartFile,
+    /// The polynomial baseline `poly_rs` holds.
+    pub poly: Baseline,
+}
+
+/// Powers of the raw code in the polynomial baseline: the part has no bow
+/// and its table corrects offset and gain only, so the like-for-like
+/// polynomial is linear in the raw code (a quadratic term would add cost and
+/// no accuracy).
+pub const POLY_RAW_TERMS: usize = 2;
+
+/// Dense verification of `image` against `part` (`semidrift verify`).
+pub fn verify_image(image: &[u8], part: &PartFile) -> VerifyReport {
+    let curves = part_curves(part).expect("the part's scenario has model shapes");
+    let view = compensate::TableView::parse(image).expect("the station's image parses");
+    let (n_t, n_s) = dense_counts(&plan_of(&view));
+    let budget: f64 = TABLE_BUDGET_PPM.parse().expect("budget is a number");
+    verify(image, part, &curves, budget, n_t, n_s).expect("the station's image verifies")
+}
+
+/// Hundredths of a ppm, rounded (the firmware prints them without floats).
+fn centi(ppm: f64) -> u64 {
+    (ppm * 100.0).round() as u64
+}
+
+/// The polynomial baseline fitted to `part` at the accuracy of its images,
+/// and it as the Rust source the firmware compiles in.
+fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, String) {
+    let table_f32 = verify_image(f32_image, part).max_error_ppm;
+    let table_q = verify_image(q_image, part).max_error_ppm;
+    let curves = part_curves(part).expect("the part's scenario has model shapes");
+    let model = PartModel {
+        curves: &curves,
+        params: part.params,
+    };
+    let frame = TableFrame::new(part, model)
+        .expect("the part's thermometer is monotone")
+        .with_signal_unit(SignalUnit::AdcCode);
+    let (b, below): (Baseline, Option<Baseline>) =
+        equal_accuracy(&frame, table_f32, table_q, POLY_RAW_TERMS)
+            .unwrap_or_else(|e| panic!("polynomial baseline of {}: {e}", part.serial));
+    let degree = b.fit.degree();
+    let (below_f32, below_q) = below.as_ref().map_or((f64::NAN, f64::NAN), |l| {
+        (l.f32_error.max_error_ppm, l.q_error.max_error_ppm)
+    });
+    let (f, q) = (&b.f32_form, &b.q_form);
+    let rows_f32: Vec<String> = f
+        .rows
+        .iter()
+        .map(|r| {
+            let v: Vec<String> = r.iter().map(|c| format!("{c:?}")).collect();
+            format!("    [{}],\n", v.join(", "))
+        })
+        .collect();
+    let rows_q: Vec<String> = q
+        .rows
+        .iter()
+        .map(|r| {
+            let v: Vec<String> = r.iter().map(|c| c.to_string()).collect();
+            format!("    [{}],\n", v.join(", "))
+        })
+        .collect();
+    let (fe, qe) = (b.f32_error.max_error_ppm, b.q_error.max_error_ppm);
+    let source = format!(
+        "//! The benchmark's polynomial baseline for the well-level demo part ({serial}, seed {SEED}):\n\
+         //! `reading = p0(u) + p1(u) raw`, each `p_i` of degree {degree} in\n\
+         //! `u = (temperature-signal code - CENTRE_CODE) / 2^U_SHIFT`, least-squares fitted\n\
+         //! to the same calibrated part model as the table images; the lowest degree whose\n\
+         //! dense maximum error (the grid and metric of `semidrift verify`: 20001\n\
+         //! temperatures x 6 stimuli, ppm of span) is at or below the table's:\n\
+         //!\n\
+         //! | form | polynomial, degree {degree} | table image | polynomial, degree {below_degree} |\n\
+         //! |---|---|---|---|\n\
+         //! | f32 | {fe:.2} ppm | {table_f32:.2} ppm | {below_f32:.2} ppm |\n\
+         //! | Q | {qe:.2} ppm | {table_q:.2} ppm | {below_q:.2} ppm |\n\
+         //!\n\
+         //! Generated by examples/make_firmware_image.rs (host_tools::station::poly_baseline);\n\
+         //! do not edit. Regenerate from the repository root with\n\
+         //! `cargo run --example make_firmware_image`.\n\
+         \n\
+         /// Degree of each `p_i` in `u`.\n\
+         pub const DEGREE: usize = {degree};\n\
+         /// Coefficients per `p_i` (`DEGREE + 1`).\n\
+         pub const TERMS: usize = {terms};\n\
+         /// Powers of the raw code (`p0`, `p1`).\n\
+         pub const RAW_TERMS: usize = {raw_terms};\n\
+         /// Temperature-signal code at `u = 0`.\n\
+         pub const CENTRE_CODE: i32 = {centre};\n\
+         /// `u = (code - CENTRE_CODE) / 2^U_SHIFT`, |u| <= 1 over -20..85 C.\n\
+         pub const U_SHIFT: u32 = {u_shift};\n\
+         /// Shift of the integer form's Horner step in the raw code.\n\
+         pub const X_SHIFT: u32 = {x_shift};\n\
+         /// Fraction bits of the integer form's reading (bar).\n\
+         pub const OUT_BITS: u32 = {out_bits};\n\
+         /// `COEFFS_F32[i][j]`: coefficient of `u^j raw^i`, bar per code^i.\n\
+         pub const COEFFS_F32: [[f32; TERMS]; RAW_TERMS] = [\n{rows_f32}];\n\
+         /// `COEFFS_Q[i][j]`: the same in Q(`OUT_BITS + i X_SHIFT`).\n\
+         pub const COEFFS_Q: [[i32; TERMS]; RAW_TERMS] = [\n{rows_q}];\n\
+         /// Dense maximum error of the f32 form, hundredths of a ppm of span.\n\
+         pub const POLY_ERROR_F32_CENTI_PPM: u64 = {fe_c};\n\
+         /// Dense maximum error of the integer form, hundredths of a ppm of span.\n\
+         pub const POLY_ERROR_Q_CENTI_PPM: u64 = {qe_c};\n\
+         /// Dense maximum error of the f32 table image, hundredths of a ppm of span.\n\
+         pub const TABLE_ERROR_F32_CENTI_PPM: u64 = {tf_c};\n\
+         /// Dense maximum error of the Q table image, hundredths of a ppm of span.\n\
+         pub const TABLE_ERROR_Q_CENTI_PPM: u64 = {tq_c};\n",
+        serial = part.serial,
+        below_degree = degree.saturating_sub(1),
+        terms = degree + 1,
+        raw_terms = POLY_RAW_TERMS,
+        centre = q.centre,
+        u_shift = q.u_shift,
+        x_shift = q.x_shift,
+        out_bits = q.out_bits,
+        rows_f32 = rows_f32.concat(),
+        rows_q = rows_q.concat(),
+        fe_c = centi(fe),
+        qe_c = centi(qe),
+        tf_c = centi(table_f32),
+        tq_c = centi(table_q),
+    );
+    (b, source)
 }
 
 /// Runs one `semidrift` command in-process; panics with its message on failure.
@@ -193,10 +328,15 @@ pub fn build() -> FirmwareData {
     let read = |name: &str| std::fs::read(p(name)).unwrap_or_else(|e| panic!("{name}: {e}"));
     let (f32_image, q_image) = (read("f32.bin"), read("q.bin"));
     let stream_csv = stream(&Scenario::well_logger(), &q_image);
+    let part = PartFile::read(Path::new(&part)).unwrap_or_else(|e| panic!("{e}"));
+    let (poly, poly_rs) = poly_source(&part, &f32_image, &q_image);
     FirmwareData {
         f32_image,
         q_image,
         stream_csv,
+        poly_rs,
+        part,
+        poly,
     }
 }
 
@@ -206,11 +346,12 @@ pub fn data_dir() -> PathBuf {
 }
 
 /// File names and contents, in a fixed order.
-pub fn files(data: &FirmwareData) -> [(&'static str, &[u8]); 3] {
+pub fn files(data: &FirmwareData) -> [(&'static str, &[u8]); 4] {
     [
         ("well_level_f32.bin", &data.f32_image),
         ("well_level_q.bin", &data.q_image),
         ("well_level_stream.csv", data.stream_csv.as_bytes()),
+        ("well_level_poly.rs", data.poly_rs.as_bytes()),
     ]
 }
 

@@ -174,7 +174,7 @@ mod report;
 #[path = "../examples/firmware/src/stream.rs"]
 mod stream;
 
-use report::{FloatResult, SampleLine};
+use report::{FloatResult, PolyLine, SampleLine};
 
 use compensate::{Compensator, FixedCompensator, TableView};
 
@@ -252,6 +252,15 @@ fn expected_output(target: &str, data: &make_firmware_image::FirmwareData) -> Ve
             FloatResult::new(&float, f, tf)
         });
         let line = SampleLine::new(i, s, float_result, &fixed, q, tq);
+        lines.push(line.to_string());
+        // The polynomial baseline, through host_tools::station::poly_baseline
+        // (the code its accuracy was measured with).
+        let p = &data.poly;
+        let line = PolyLine {
+            index: i,
+            f32_value: fpu.then(|| p.f32_form.reading(s.temp_code as f32, s.raw_code as f32)),
+            q: p.q_form.reading_q(s.temp_code, s.raw_code),
+        };
         lines.push(line.to_string());
         n += 1;
     }

@@ -8,7 +8,10 @@
 //! plausible signal range and the calibrated temperature span, and returns
 //! a `Status`. [`PolyF32Checked`] adds exactly those tests, written the
 //! same way (one pair of compares on the common path, everything else out
-//! of line), around the same polynomial.
+//! of line), around the same polynomial. The compensator clamps the signal
+//! to its thermometer axis and the temperature to its temperature axis, both
+//! the calibrated span; the polynomial's variable is the signal itself, so
+//! its one clamp, of the signal to the same thermometer axis, is both.
 
 use compensate::{Reading, Status};
 
@@ -16,9 +19,9 @@ use crate::poly::PolyF32;
 
 /// [`PolyF32`] with input checks and a status on every call.
 #[derive(Clone, Debug)]
-pub struct PolyF32Checked<const M: usize, const X: usize, const K: usize> {
+pub struct PolyF32Checked<const X: usize, const K: usize> {
     /// The bare polynomial.
-    pub poly: PolyF32<M, X, K>,
+    pub poly: PolyF32<X, K>,
     /// Lowest and highest calibrated raw code.
     pub raw_lo: f32,
     /// See `raw_lo`.
@@ -31,18 +34,19 @@ pub struct PolyF32Checked<const M: usize, const X: usize, const K: usize> {
     pub signal_lo: f32,
     /// See `signal_lo`.
     pub signal_hi: f32,
-    /// Calibrated span of the polynomial's temperature variable; outside
-    /// it the temperature is clamped (a fit is not trusted beyond its data).
-    pub t_lo: f32,
-    /// See `t_lo`.
-    pub t_hi: f32,
+    /// Calibrated span of the temperature signal (the image's thermometer
+    /// axis); outside it the signal is clamped (a fit is not trusted beyond
+    /// its data).
+    pub clamp_lo: f32,
+    /// See `clamp_lo`.
+    pub clamp_hi: f32,
     /// Status of the last temperature update, carried by every sample.
     pub temp_status: Status,
 }
 
-impl<const M: usize, const X: usize, const K: usize> PolyF32Checked<M, X, K> {
-    /// Checks the signal, evaluates the thermometer, clamps the temperature
-    /// to the calibrated span and caches the coefficients; as
+impl<const X: usize, const K: usize> PolyF32Checked<X, K> {
+    /// Checks the signal, clamps it to the calibrated span and caches the
+    /// coefficients; as
     /// `Compensator::update_temperature`, a NaN or infinite signal keeps the
     /// old coefficients and sets [`Status::NAN_INPUT`].
     #[inline(always)]
@@ -55,15 +59,15 @@ impl<const M: usize, const X: usize, const K: usize> PolyF32Checked<M, X, K> {
         if signal < self.signal_lo || signal > self.signal_hi {
             status |= Status::SENSOR_FAULT;
         }
-        let mut t = self.poly.thermometer(signal);
-        if t < self.t_lo {
-            t = self.t_lo;
+        let mut s = signal;
+        if s < self.clamp_lo {
+            s = self.clamp_lo;
             status |= Status::TEMPERATURE_CLAMPED;
-        } else if t > self.t_hi {
-            t = self.t_hi;
+        } else if s > self.clamp_hi {
+            s = self.clamp_hi;
             status |= Status::TEMPERATURE_CLAMPED;
         }
-        self.poly.cache_at(t);
+        self.poly.update_temperature(s);
         self.temp_status = status;
         status
     }

@@ -1,4 +1,5 @@
-//! The line the `main` firmware prints for each replayed sample. The host
+//! The lines the `main` firmware prints for each replayed sample (the
+//! compensators' results, then the polynomial baseline's). The host
 //! test (tests/firmware_qemu.rs, which includes this file) formats its own
 //! results with the same type, so the comparison is of values computed on
 //! each side, never of two hand-kept format strings.
@@ -108,5 +109,28 @@ impl fmt::Display for SampleLine {
             " q={} q_status={} q_temp_status={}",
             self.q, self.q_status, self.q_temp_status
         )
+    }
+}
+
+/// The polynomial baseline's reading of one replayed sample (`poly.rs`,
+/// temperature update then sample), so the host test can check the
+/// firmware computes what the host's accuracy figures were measured with.
+#[derive(Clone, Copy, Debug)]
+pub struct PolyLine {
+    /// Index in the recorded stream.
+    pub index: usize,
+    /// The f32 form's reading (bar), `None` on a part without FPU.
+    pub f32_value: Option<f32>,
+    /// The integer form's reading in Q(`poly::fitted::OUT_BITS`) bar.
+    pub q: i32,
+}
+
+impl fmt::Display for PolyLine {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "poly {}", self.index)?;
+        if let Some(v) = self.f32_value {
+            write!(f, " f32={:#010x} {}", v.to_bits(), v)?;
+        }
+        write!(f, " q={}", self.q)
     }
 }

@@ -23,6 +23,7 @@ pub mod output;
 pub mod part_file;
 pub mod part_model;
 pub mod pipeline;
+pub mod poly_baseline;
 pub mod polynomial;
 pub mod remainder;
 pub mod scenario;

@@ -127,7 +127,7 @@ fn q_sample_empty(_c: &mut FixedCompensator<'static>, raw: i32) -> ReadingQ {
     }
 }
 
-use semidrift_firmware::poly::{PolyQBench, demo_q as poly_q};
+use semidrift_firmware::poly::{PolyQBench, fitted, fitted_q as poly_q};
 
 #[inline(never)]
 fn poly_q_temp_update(p: &mut PolyQBench, signal: i32) -> i32 {
@@ -196,18 +196,19 @@ mod fpu {
         }
     }
 
-    use semidrift_firmware::poly::normalised_temperature;
-    pub use semidrift_firmware::poly::{PolyF32Bench as PolyBench, demo_f32 as poly};
+    use semidrift_firmware::poly::fitted::{RAW_TERMS, TERMS};
+    pub use semidrift_firmware::poly::{PolyF32Bench as PolyBench, fitted_f32 as poly};
     use semidrift_firmware::poly_checked::PolyF32Checked;
 
     /// The benchmark's polynomial with the checks of our f32 path.
-    pub type PolyCheckedBench = PolyF32Checked<3, 3, 4>;
+    pub type PolyCheckedBench = PolyF32Checked<RAW_TERMS, TERMS>;
 
     /// [`poly`] with the limits of the f32 image `view`: its raw limits,
-    /// plausible signal range and temperature axis (the span the table
-    /// was calibrated over), so both sides check the same inputs.
+    /// plausible signal range and thermometer axis (the signal span the
+    /// table was calibrated over), so both sides check the same inputs.
     pub fn poly_checked(view: &compensate::TableView<'_>) -> Option<PolyCheckedBench> {
         let t = view.tables_f32()?;
+        let (axis, _) = t.thermometer?;
         let l = view.raw_limits();
         Some(PolyF32Checked {
             poly: poly(),
@@ -217,8 +218,8 @@ mod fpu {
             rail_hi: l.rail_hi as f32,
             signal_lo: t.signal_lo,
             signal_hi: t.signal_hi,
-            t_lo: normalised_temperature(t.temperature.start),
-            t_hi: normalised_temperature(t.temperature.end()),
+            clamp_lo: axis.start,
+            clamp_hi: axis.end(),
             temp_status: Status::NO_TEMPERATURE,
         })
     }
@@ -566,6 +567,24 @@ fn main() -> ! {
         "count",
     );
     metric("poly_coefficients", PolyQBench::STORED, "count");
+    // Accuracy of the compared corrections, measured on the host by
+    // examples/make_firmware_image.rs (data/well_level_poly.rs): dense
+    // maximum error against the calibrated part model, as `semidrift verify`.
+    metric("poly_degree", fitted::DEGREE, "count");
+    let (f32_names, q_names) = if cfg!(fpu) {
+        (
+            Some(["poly_error_ppm", "table_error_ppm"]),
+            ["poly_error_q_ppm", "table_error_q_ppm"],
+        )
+    } else {
+        (None, ["poly_error_ppm", "table_error_ppm"])
+    };
+    if let Some([poly, table]) = f32_names {
+        metric_centi(poly, fitted::POLY_ERROR_F32_CENTI_PPM, "ppm");
+        metric_centi(table, fitted::TABLE_ERROR_F32_CENTI_PPM, "ppm");
+    }
+    metric_centi(q_names[0], fitted::POLY_ERROR_Q_CENTI_PPM, "ppm");
+    metric_centi(q_names[1], fitted::TABLE_ERROR_Q_CENTI_PPM, "ppm");
     // No global allocator is defined and no crate links `alloc`: any heap
     // use would fail to link. tests/firmware_qemu.rs checks the ELF files
     // for allocator symbols.

@@ -15,13 +15,13 @@ fn probe(i: &Inputs) -> bool {
     black_box(i.first);
     #[cfg(fpu)]
     {
-        let mut p = semidrift_firmware::poly::DEMO_F32;
+        let mut p = semidrift_firmware::poly::FITTED_F32;
         p.update_temperature(i.signal as f32);
         black_box(p.sample(i.raw as f32));
     }
     #[cfg(not(fpu))]
     {
-        let mut p = semidrift_firmware::poly::DEMO_Q;
+        let mut p = semidrift_firmware::poly::FITTED_Q;
         p.update_temperature(i.signal);
         black_box(p.sample(i.raw));
     }

@@ -2,7 +2,8 @@
 //! boot, shows that a corrupted image is refused, replays the recorded
 //! sample stream through the compensators and prints one line per sample
 //! (the f32 result as its exact bit pattern and in decimal, the integer
-//! result as the raw i32), for `tests/firmware_qemu.rs` to recompute on the
+//! result as the raw i32) and one line with the polynomial baseline's
+//! readings (`poly.rs`), for `tests/firmware_qemu.rs` to recompute on the
 //! host. Exits 0 when every check passed, 1 otherwise.
 //!
 //! On the Cortex-M4F both paths run; on the Cortex-M0 (no FPU) only the
@@ -13,7 +14,8 @@
 use compensate::{FixedCompensator, ImageError, Status, TableView};
 use cortex_m_rt::entry;
 use cortex_m_semihosting::hprintln;
-use semidrift_firmware::report::{FloatResult, SampleLine};
+use semidrift_firmware::poly;
+use semidrift_firmware::report::{FloatResult, PolyLine, SampleLine};
 use semidrift_firmware::{rt, stream};
 
 semidrift_firmware::printing_fault_handlers!();
@@ -111,6 +113,10 @@ fn main() -> ! {
         ok = false;
     }
 
+    let mut poly_q = poly::fitted_q();
+    #[cfg(fpu)]
+    let mut poly_f32 = poly::fitted_f32();
+
     let mut n = 0usize;
     for (i, sample) in stream::samples(STREAM).enumerate() {
         let s = match sample {
@@ -135,6 +141,21 @@ fn main() -> ! {
         #[cfg(not(fpu))]
         let float_result: Option<FloatResult> = None;
         let line = SampleLine::new(i, s, float_result, &fixed, q, tq);
+        hprintln!("{}", line);
+
+        poly_q.update_temperature(s.temp_code);
+        #[cfg(fpu)]
+        let f32_value = {
+            poly_f32.update_temperature(s.temp_code as f32);
+            Some(poly_f32.sample(s.raw_code as f32))
+        };
+        #[cfg(not(fpu))]
+        let f32_value = None;
+        let line = PolyLine {
+            index: i,
+            f32_value,
+            q: poly_q.sample(s.raw_code),
+        };
         hprintln!("{}", line);
         n += 1;
     }
