@@ -202,3 +202,42 @@ fn signal_axis_images_need_the_thermometer_on_the_channel_nodes() {
         Err(ImageError::ReservedNotZero { offset: off::FLAGS })
     );
 }
+
+proptest::proptest! {
+    /// The f32 update's short path (signal inside the axis and the
+    /// plausible range) and its general path compute exactly what the
+    /// public kernels give: `Axis::locate` then `linear` on each column,
+    /// bit for bit, for signals inside, on and beyond the axis; the status
+    /// follows the clamping and the plausible range.
+    #[test]
+    fn f32_update_matches_the_kernels(signal in 2000.0f32..8000.0, node in 0usize..T_NODES) {
+        let img = encode(&f32_signal_builder());
+        let view = parse(&img);
+        let tables = view.tables_f32().unwrap();
+        let mut c = Compensator::new(&view).unwrap();
+        // Random signals, and every node exactly.
+        for s in [signal, S_START + S_STEP * node as f32] {
+            let st = c.update_temperature(s);
+            let p = tables.temperature.locate(s);
+            let want = (
+                compensate::interp::linear(&tables.offset, p),
+                compensate::interp::linear(&tables.gain, p),
+                compensate::interp::linear(&tables.quadratic.unwrap(), p),
+            );
+            let got = c.coefficients();
+            proptest::prop_assert_eq!(
+                (got.0.to_bits(), got.1.to_bits(), got.2.to_bits()),
+                (want.0.to_bits(), want.1.to_bits(), want.2.to_bits()),
+                "signal {}: got {:?}, want {:?}", s, got, want
+            );
+            let mut status = Status::OK;
+            if p.clamped {
+                status |= Status::TEMPERATURE_CLAMPED;
+            }
+            if !(3000.0..=7000.0).contains(&s) {
+                status |= Status::SENSOR_FAULT;
+            }
+            proptest::prop_assert_eq!(st, status, "signal {}", s);
+        }
+    }
+}

@@ -48,6 +48,68 @@ pub struct Compensator<'a> {
     /// channels' nodes, read only by [`Compensator::temperature_c`]
     /// (`tables` then has no thermometer, so an update is one look-up).
     temperature_map: Option<ColumnF32<'a>>,
+    /// The short temperature update (see [`ShortUpdate`]).
+    short: ShortUpdate<'a>,
+}
+
+/// What the short temperature update needs, copied out of the tables when
+/// the compensator is made: the channels' axis and node words.
+///
+/// The short update applies to a linear image whose update is one look-up
+/// (channels over the signal axis, or a degrees-Celsius signal without a
+/// thermometer) and to a signal inside both the plausible range and the
+/// channels' axis (`lo <= signal < hi`), where no status is raised and no
+/// clamping happens; it computes exactly what the general update computes
+/// there, with one pair of compares in front and one bounds check per
+/// channel. Every other case takes [`Compensator::update_general`].
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct ShortUpdate<'a> {
+    /// Lowest signal of the short update; `+inf` when it never applies.
+    lo: f32,
+    /// The short update applies below this signal; `-inf` when it never
+    /// applies.
+    hi: f32,
+    /// First node of the channels' axis.
+    start: f32,
+    /// Node spacing of the channels' axis.
+    step: f32,
+    offset: &'a [[u8; 4]],
+    gain: &'a [[u8; 4]],
+    /// Empty without a quadratic channel.
+    quadratic: &'a [[u8; 4]],
+}
+
+impl ShortUpdate<'_> {
+    /// An update that never applies.
+    const NEVER: Self = Self {
+        lo: f32::INFINITY,
+        hi: f32::NEG_INFINITY,
+        start: 0.0,
+        step: 1.0,
+        offset: &[],
+        gain: &[],
+        quadratic: &[],
+    };
+}
+
+/// Words `index` and `index + 1`, or none when they are not both there.
+#[inline(always)]
+fn pair(w: &[[u8; 4]], index: usize) -> &[[u8; 4]] {
+    w.get(index..index.wrapping_add(2)).unwrap_or(&[])
+}
+
+/// `v0 + frac (v1 - v0)` on two little-endian words ([`linear`]'s
+/// formula); `None` unless there are exactly two.
+#[inline(always)]
+fn lerp_words(w: &[[u8; 4]], frac: f32) -> Option<f32> {
+    match w {
+        &[a, b] => {
+            let (v0, v1) = (f32::from_le_bytes(a), f32::from_le_bytes(b));
+            Some(v0 + frac * (v1 - v0))
+        }
+        _ => None,
+    }
 }
 
 /// Interpolates with the image's method: the linear kernel inline, the
@@ -119,6 +181,33 @@ fn channels_cubic(t: &TablesF32<'_>, p: Position) -> (f32, f32, f32) {
     (interp_cubic(&t.offset, p), interp_cubic(&t.gain, p), q)
 }
 
+/// The short update of `tables` (see [`ShortUpdate`]), or one that never
+/// applies.
+fn short_update<'a>(tables: &TablesF32<'a>, method: Interpolation) -> ShortUpdate<'a> {
+    if tables.thermometer.is_some() || !method.runs_linear() {
+        return ShortUpdate::NEVER;
+    }
+    let axis = tables.temperature;
+    let (lo, hi) = (
+        axis.start.max(tables.signal_lo),
+        axis.end().min(tables.signal_hi),
+    );
+    // Also true for a NaN limit, which the parser never lets through.
+    #[allow(clippy::neg_cmp_op_on_partial_ord)]
+    if !(lo < hi) {
+        return ShortUpdate::NEVER;
+    }
+    ShortUpdate {
+        lo,
+        hi,
+        start: axis.start,
+        step: axis.step,
+        offset: tables.offset.words(),
+        gain: tables.gain.words(),
+        quadratic: tables.quadratic.map_or(&[], |q| q.words()),
+    }
+}
+
 impl<'a> Compensator<'a> {
     /// A compensator without a table: every sample reads 0 with
     /// [`Status::TABLE_INVALID`]. Use it when an image fails to parse so the
@@ -146,6 +235,7 @@ impl<'a> Compensator<'a> {
             },
             temp_status: Status::TABLE_INVALID,
             temperature_map: None,
+            short: ShortUpdate::NEVER,
         }
     }
 
@@ -186,6 +276,7 @@ impl<'a> Compensator<'a> {
                 f32::NEG_INFINITY
             },
             temperature_map,
+            short: short_update(&tables, view.interpolation()),
             ..Self::unconfigured()
         };
         c.set_temperature_c(&tables, tables.temperature.start);
@@ -217,6 +308,41 @@ impl<'a> Compensator<'a> {
     /// [`Status::SENSOR_FAULT`] (and is clamped).
     #[inline]
     pub fn update_temperature(&mut self, signal: f32) -> Status {
+        let s = &self.short;
+        // False for NaN and whenever the short update does not apply.
+        if signal >= s.lo && signal < s.hi {
+            // signal >= start, so pos >= 0 and the cast is a floor, as in
+            // `Axis::locate`; a pos rounded up to the last node fails the
+            // bounds checks below and takes the general update.
+            let pos = (signal - s.start) / s.step;
+            let index = pos as usize;
+            let frac = pos - index as f32;
+            if let (Some(offset), Some(gain)) = (
+                lerp_words(pair(s.offset, index), frac),
+                lerp_words(pair(s.gain, index), frac),
+            ) {
+                // At a node (frac == 0) `v0 + 0 (v1 - v0)` is v0 exactly,
+                // as the general update's node read (the parser accepts
+                // finite values only, and their difference is finite
+                // unless both are beyond 1.7e38).
+                let quadratic = lerp_words(pair(s.quadratic, index), frac).unwrap_or(0.0);
+                self.temperature_c = signal;
+                self.row = Position {
+                    index,
+                    frac,
+                    clamped: false,
+                };
+                (self.offset, self.gain, self.quadratic) = (offset, gain, quadratic);
+                self.temp_status = Status::OK;
+                return Status::OK;
+            }
+        }
+        self.update_general(signal)
+    }
+
+    /// Every case of [`Self::update_temperature`].
+    #[inline(never)]
+    fn update_general(&mut self, signal: f32) -> Status {
         // Borrowed, not copied: the whole update reads the tables in place
         // and writes the cache once at the end (fewer registers to spill).
         let Some(tables) = &self.tables else {
