@@ -184,7 +184,7 @@
 //! |---|---:|---:|
 //! | `compensate_sample` | 14 | 59 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
-//! | `update_temperature`, channels over the signal (3 channels) | 87 | 223 |
+//! | `update_temperature`, channels over the signal (3 channels) | 59 | 223 |
 //!
 //! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
 //! On the M0 about 80 of the update's instructions are byte-wise loads of
