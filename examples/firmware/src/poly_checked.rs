@@ -7,8 +7,9 @@
 //! range, the rails and NaN, and every temperature update against NaN, the
 //! plausible signal range and the calibrated temperature span, and returns
 //! a `Status`. [`PolyF32Checked`] adds exactly those tests, written the
-//! same way (one pair of compares on the common path, everything else out
-//! of line), around the same polynomial. The compensator clamps the signal
+//! same way (one pair of compares on the common path of a sample and of a
+//! temperature update, everything else out of line), around the same
+//! polynomial. The compensator clamps the signal
 //! to its thermometer axis and the temperature to its temperature axis, both
 //! the calibrated span; the polynomial's variable is the signal itself, so
 //! its one clamp, of the signal to the same thermometer axis, is both.
@@ -40,6 +41,13 @@ pub struct PolyF32Checked<const X: usize, const K: usize> {
     pub clamp_lo: f32,
     /// See `clamp_lo`.
     pub clamp_hi: f32,
+    /// The short update applies from this signal on: the larger of
+    /// `signal_lo` and `clamp_lo` (inside both ranges no status is raised
+    /// and nothing is clamped), as compensate's short f32 update.
+    pub short_lo: f32,
+    /// The short update applies up to this signal: the smaller of
+    /// `signal_hi` and `clamp_hi`.
+    pub short_hi: f32,
     /// Status of the last temperature update, carried by every sample.
     pub temp_status: Status,
 }
@@ -49,8 +57,24 @@ impl<const X: usize, const K: usize> PolyF32Checked<X, K> {
     /// coefficients; as
     /// `Compensator::update_temperature`, a NaN or infinite signal keeps the
     /// old coefficients and sets [`Status::NAN_INPUT`].
+    ///
+    /// Inside both the plausible range and the calibrated span (the common
+    /// case) one pair of compares and the polynomial, as compensate's short
+    /// f32 update; everything else out of line.
     #[inline(always)]
     pub fn update_temperature(&mut self, signal: f32) -> Status {
+        // False for NaN.
+        if signal >= self.short_lo && signal <= self.short_hi {
+            self.poly.update_temperature(signal);
+            self.temp_status = Status::OK;
+            return Status::OK;
+        }
+        self.update_general(signal)
+    }
+
+    /// Every case of [`Self::update_temperature`].
+    #[inline(never)]
+    fn update_general(&mut self, signal: f32) -> Status {
         if !signal.is_finite() {
             self.temp_status = Status::NAN_INPUT;
             return self.temp_status;

@@ -220,6 +220,8 @@ mod fpu {
             signal_hi: t.signal_hi,
             clamp_lo: axis.start,
             clamp_hi: axis.end(),
+            short_lo: t.signal_lo.max(axis.start),
+            short_hi: t.signal_hi.min(axis.end()),
             temp_status: Status::NO_TEMPERATURE,
         })
     }
