@@ -14,9 +14,9 @@
 //! the calibrated span; the polynomial's variable is the signal itself, so
 //! its one clamp, of the signal to the same thermometer axis, is both.
 
-use compensate::{Reading, Status};
+use compensate::{Reading, ReadingQ, Status};
 
-use crate::poly::PolyF32;
+use crate::poly::{PolyF32, PolyQ};
 
 /// [`PolyF32`] with input checks and a status on every call.
 #[derive(Clone, Debug)]
@@ -126,6 +126,100 @@ impl<const X: usize, const K: usize> PolyF32Checked<X, K> {
             status |= Status::SENSOR_FAULT;
         }
         Reading {
+            value: self.poly.sample(raw),
+            status,
+        }
+    }
+}
+
+/// [`PolyQ`] with the input checks and status of compensate's integer
+/// path (`FixedCompensator`), written the same way: one pair of compares
+/// on the common path of a sample and of a temperature update, everything
+/// else out of line.
+#[derive(Clone, Debug)]
+pub struct PolyQChecked<const X: usize, const K: usize, const US: u32, const XS: u32> {
+    /// The bare polynomial.
+    pub poly: PolyQ<X, K, US, XS>,
+    /// Lowest and highest calibrated raw code.
+    pub raw_lo: i32,
+    /// See `raw_lo`.
+    pub raw_hi: i32,
+    /// Rail codes: a raw value at or beyond one is a sensor fault.
+    pub rail_lo: i32,
+    /// See `rail_lo`.
+    pub rail_hi: i32,
+    /// Plausible temperature-signal range (codes); outside it is a sensor
+    /// fault.
+    pub signal_lo: i32,
+    /// See `signal_lo`.
+    pub signal_hi: i32,
+    /// Calibrated span of the temperature signal (the Q image's
+    /// thermometer axis); outside it the signal is clamped.
+    pub clamp_lo: i32,
+    /// See `clamp_lo`.
+    pub clamp_hi: i32,
+    /// The larger of `signal_lo` and `clamp_lo`: from here on an update
+    /// raises no status and clamps nothing.
+    pub short_lo: i32,
+    /// The smaller of `signal_hi` and `clamp_hi`.
+    pub short_hi: i32,
+    /// Status of the last temperature update, carried by every sample.
+    pub temp_status: Status,
+}
+
+impl<const X: usize, const K: usize, const US: u32, const XS: u32> PolyQChecked<X, K, US, XS> {
+    /// Checks the signal, clamps it to the calibrated span and caches the
+    /// coefficients, with `FixedCompensator::update_temperature`'s
+    /// statuses.
+    #[inline(always)]
+    pub fn update_temperature(&mut self, signal: i32) -> Status {
+        if signal >= self.short_lo && signal <= self.short_hi {
+            self.poly.update_temperature(signal);
+            self.temp_status = Status::OK;
+            return Status::OK;
+        }
+        self.update_general(signal)
+    }
+
+    /// Every case of [`Self::update_temperature`].
+    #[inline(never)]
+    fn update_general(&mut self, signal: i32) -> Status {
+        let mut status = Status::OK;
+        if signal < self.signal_lo || signal > self.signal_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        let s = signal.clamp(self.clamp_lo, self.clamp_hi.max(self.clamp_lo));
+        if s != signal {
+            status |= Status::TEMPERATURE_CLAMPED;
+        }
+        self.poly.update_temperature(s);
+        self.temp_status = status;
+        status
+    }
+
+    /// Corrects one raw code; inside the calibrated range one pair of
+    /// compares and the polynomial, else the out-of-line general path.
+    #[inline(always)]
+    pub fn sample(&self, raw: i32) -> ReadingQ {
+        if raw >= self.raw_lo && raw <= self.raw_hi {
+            return ReadingQ {
+                value: self.poly.sample(raw),
+                status: self.temp_status,
+            };
+        }
+        self.sample_general(raw)
+    }
+
+    /// Out-of-range and rail codes, with the statuses
+    /// `FixedCompensator::compensate_sample` gives them.
+    #[inline(never)]
+    #[cold]
+    fn sample_general(&self, raw: i32) -> ReadingQ {
+        let mut status = self.temp_status | Status::INPUT_OUT_OF_RANGE;
+        if raw <= self.rail_lo || raw >= self.rail_hi {
+            status |= Status::SENSOR_FAULT;
+        }
+        ReadingQ {
             value: self.poly.sample(raw),
             status,
         }

@@ -166,6 +166,72 @@ const POLY_Q_SAMPLE: Timed<PolyQBench, i32, i32> = Timed {
     empty: poly_q_sample_empty,
 };
 
+/// The integer polynomial with the checks of our integer path.
+type PolyQCheckedBench = semidrift_firmware::poly_checked::PolyQChecked<
+    { semidrift_firmware::poly::fitted::RAW_TERMS },
+    { semidrift_firmware::poly::fitted::TERMS },
+    { semidrift_firmware::poly::fitted::U_SHIFT },
+    { semidrift_firmware::poly::fitted::X_SHIFT },
+>;
+
+/// [`poly_q`] with the limits of the Q image `view`: its raw limits,
+/// plausible signal range and thermometer axis (whole codes: the images
+/// take the signal in ADC codes).
+fn poly_q_checked(view: &TableView<'_>) -> Option<PolyQCheckedBench> {
+    let t = view.tables_q()?;
+    let (axis, _) = t.thermometer?;
+    let l = view.raw_limits();
+    let clamp_hi = axis
+        .start()
+        .saturating_add(axis.step().saturating_mul(axis.len() as i32 - 1));
+    Some(PolyQCheckedBench {
+        poly: poly_q(),
+        raw_lo: l.raw_lo,
+        raw_hi: l.raw_hi,
+        rail_lo: l.rail_lo,
+        rail_hi: l.rail_hi,
+        signal_lo: t.signal_lo,
+        signal_hi: t.signal_hi,
+        clamp_lo: axis.start(),
+        clamp_hi,
+        short_lo: t.signal_lo.max(axis.start()),
+        short_hi: t.signal_hi.min(clamp_hi),
+        temp_status: Status::NO_TEMPERATURE,
+    })
+}
+
+#[inline(never)]
+fn poly_q_checked_temp_update(p: &mut PolyQCheckedBench, signal: i32) -> Status {
+    p.update_temperature(signal)
+}
+
+#[inline(never)]
+fn poly_q_checked_temp_update_empty(_p: &mut PolyQCheckedBench, _signal: i32) -> Status {
+    Status::OK
+}
+
+#[inline(never)]
+fn poly_q_checked_sample(p: &mut PolyQCheckedBench, raw: i32) -> ReadingQ {
+    p.sample(raw)
+}
+
+#[inline(never)]
+fn poly_q_checked_sample_empty(_p: &mut PolyQCheckedBench, raw: i32) -> ReadingQ {
+    ReadingQ {
+        value: raw,
+        status: Status::OK,
+    }
+}
+
+const POLY_Q_CHECKED_TEMP_UPDATE: Timed<PolyQCheckedBench, i32, Status> = Timed {
+    f: poly_q_checked_temp_update,
+    empty: poly_q_checked_temp_update_empty,
+};
+const POLY_Q_CHECKED_SAMPLE: Timed<PolyQCheckedBench, i32, ReadingQ> = Timed {
+    f: poly_q_checked_sample,
+    empty: poly_q_checked_sample_empty,
+};
+
 // ---- the f32 path (FPU targets) -------------------------------------------
 
 #[cfg(fpu)]
@@ -541,6 +607,33 @@ fn main() -> ! {
         POLY_Q_TEMP_UPDATE,
     );
     report_insn(&counter, q_names[3], &mut poly_q, &raw_q, POLY_Q_SAMPLE);
+    let Some(mut checked_q) = poly_q_checked(&view_q) else {
+        hprintln!("error: well_level_q.bin has no thermometer");
+        rt::exit_failure()
+    };
+    let _ = checked_q.update_temperature(temp_q[0]);
+    let (update_name, sample_name) = if cfg!(fpu) {
+        (
+            "poly_checked_temp_update_q_insn",
+            "poly_checked_sample_q_insn",
+        )
+    } else {
+        ("poly_checked_temp_update_insn", "poly_checked_sample_insn")
+    };
+    report_insn(
+        &counter,
+        update_name,
+        &mut checked_q,
+        &temp_q,
+        POLY_Q_CHECKED_TEMP_UPDATE,
+    );
+    report_insn(
+        &counter,
+        sample_name,
+        &mut checked_q,
+        &raw_q,
+        POLY_Q_CHECKED_SAMPLE,
+    );
 
     let stack_q = measure_call_bytes(&mut fixed, temp_q[0], q_temp_update)
         .max(measure_call_bytes(&mut fixed, raw_q[0], q_sample));
