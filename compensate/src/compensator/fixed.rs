@@ -39,20 +39,22 @@ pub struct FixedCompensator<'a> {
     fast_hi: i32,
     offset: i32,
     gain: i32,
-    quadratic: i32,
     /// `2^offset_bits`: raw codes times this are in the offset's Q format
     /// (a multiply needs no shift-amount mask on ARMv6-M).
     offset_scale: i32,
-    /// Fractional bits of the offset channel: raw codes are shifted by this.
-    offset_shift: u32,
     /// `offset + gain - output` fractional bits, at most 62.
     out_shift: u32,
     /// `32 - out_shift`, used by the short path only (which runs only when
     /// `out_shift` is in 1..=31).
     out_shift_c: u32,
+    /// Within the first 32 bytes, where ARMv6-M's byte load reaches
+    /// without a separate offset register.
+    temp_status: Status,
     /// Half an LSB of the output before the shift (round half up).
     out_round: i64,
-    temp_status: Status,
+    quadratic: i32,
+    /// Fractional bits of the offset channel: raw codes are shifted by this.
+    offset_shift: u32,
     grid: Option<(AxisQ, ColumnQ<'a>)>,
     raw_lo: i32,
     raw_hi: i32,
