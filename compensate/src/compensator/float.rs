@@ -32,9 +32,9 @@ pub struct Compensator<'a> {
     rail_hi: f32,
     raw_lo: f32,
     raw_hi: f32,
-    /// Lower end of the short sample path's range: `raw_lo` without a 2-D
-    /// correction, else `+inf` (an empty range), so one pair of compares
-    /// decides.
+    /// Lower end of the short sample path's range: `raw_lo` for an image
+    /// without quadratic channel and 2-D correction, else `+inf` (an empty
+    /// range), so one pair of compares decides.
     fast_lo: f32,
     /// Upper end of the short sample path's range (see `fast_lo`).
     fast_hi: f32,
@@ -257,6 +257,9 @@ impl<'a> Compensator<'a> {
             ChannelAxis::Temperature => None,
         };
         let l = view.raw_limits();
+        // The short sample path leaves out the quadratic term and the 2-D
+        // correction, so only images without either take it.
+        let short_sample = tables.grid.is_none() && tables.quadratic.is_none();
         let mut c = Self {
             tables: Some(tables),
             interpolation: view.interpolation(),
@@ -265,12 +268,12 @@ impl<'a> Compensator<'a> {
             rail_hi: l.rail_hi as f32,
             raw_lo: l.raw_lo as f32,
             raw_hi: l.raw_hi as f32,
-            fast_lo: if tables.grid.is_none() {
+            fast_lo: if short_sample {
                 l.raw_lo as f32
             } else {
                 f32::INFINITY
             },
-            fast_hi: if tables.grid.is_none() {
+            fast_hi: if short_sample {
                 l.raw_hi as f32
             } else {
                 f32::NEG_INFINITY
@@ -406,18 +409,20 @@ impl<'a> Compensator<'a> {
     /// [`Status::SENSOR_FAULT`]; outside the calibrated range,
     /// [`Status::INPUT_OUT_OF_RANGE`] (the value is extrapolated).
     ///
-    /// The common case (input in the calibrated range, no 2-D correction)
-    /// is a short path with no stack frame: two compares and three
-    /// multiply-adds; everything else goes to an out-of-line function.
+    /// The common case (input in the calibrated range, an image without
+    /// quadratic channel and 2-D correction) is a short path with no stack
+    /// frame: two compares, a subtraction and a multiplication, identical
+    /// to the general formula with `quadratic = 0`; everything else goes to
+    /// an out-of-line function.
     #[inline]
     pub fn compensate_sample(&self, raw: f32) -> Reading {
         // False for NaN, so NaN takes the general path.
-        // `fast_lo..=fast_hi` is the calibrated range without a 2-D
-        // correction, else empty.
+        // `fast_lo..=fast_hi` is the calibrated range of an image without
+        // quadratic channel and 2-D correction, else empty.
         if raw >= self.fast_lo && raw <= self.fast_hi {
             let d = raw - self.offset;
             return Reading {
-                value: d * (self.gain + self.quadratic * d),
+                value: d * self.gain,
                 status: self.temp_status,
             };
         }
