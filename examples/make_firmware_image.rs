@@ -52,8 +52,12 @@ use std::path::{Path, PathBuf};
 
 use host_tools::station::part_file::PartFile;
 use host_tools::station::part_model::PartModel;
+use host_tools::station::pipeline::{DENSE_STIMULI, DENSE_TEMPS};
 use host_tools::station::pipeline::{VerifyReport, dense_counts, part_curves, plan_of, verify};
-use host_tools::station::poly_baseline::{Baseline, equal_accuracy};
+use host_tools::station::poly_baseline::{
+    Baseline, FIT_TEMPS, MAX_CONDITION, equal_accuracy, grid_points,
+};
+use host_tools::station::poly_sweep::{SweepDegree, SweepEnd, degree_sweep};
 use host_tools::station::table::{SignalUnit, TableFrame};
 
 /// Seed of the simulated lot (`simulate --seed`).
@@ -93,6 +97,13 @@ pub struct FirmwareData {
 /// polynomial is linear in the raw code (a quadratic term would add cost and
 /// no accuracy).
 pub const POLY_RAW_TERMS: usize = 2;
+
+/// Highest degree of the accuracy sweep written beside the baseline
+/// (`SWEEP_*` in `well_level_poly.rs`): three times the chosen degree, far
+/// enough for the polynomial's update to cost more than the table's on the
+/// Cortex-M4F (the benchmark's crossover), still well conditioned (the
+/// sweep stops earlier if not, see `poly_sweep`).
+pub const SWEEP_MAX_DEGREE: usize = 12;
 
 /// Dense verification of `image` against `part` (`semidrift verify`).
 pub fn verify_image(image: &[u8], part: &PartFile) -> VerifyReport {
@@ -146,6 +157,15 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, 
         })
         .collect();
     let (fe, qe) = (b.f32_error.max_error_ppm, b.q_error.max_error_ppm);
+    let fit_points = grid_points(&frame, FIT_TEMPS, DENSE_STIMULI);
+    let dense = grid_points(&frame, DENSE_TEMPS, DENSE_STIMULI);
+    let (sweep, end) = degree_sweep(
+        &frame,
+        &fit_points,
+        &dense,
+        SWEEP_MAX_DEGREE,
+        POLY_RAW_TERMS,
+    );
     let source = format!(
         "//! The benchmark's polynomial baseline for the well-level demo part ({serial}, seed {SEED}):\n\
          //! `reading = p0(u) + p1(u) raw`, each `p_i` of degree {degree} in\n\
@@ -203,8 +223,105 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, 
         qe_c = centi(qe),
         tf_c = centi(table_f32),
         tq_c = centi(table_q),
-    );
+    ) + &sweep_source(&sweep, end);
     (b, source)
+}
+
+/// Hundredths of a ppm of a Q error, `u64::MAX` without a Q form.
+fn centi_q(d: &SweepDegree) -> u64 {
+    d.q_error
+        .as_ref()
+        .map_or(u64::MAX, |e| centi(e.max_error_ppm))
+}
+
+/// The `SWEEP_*` constants of `well_level_poly.rs`: every degree's dense
+/// error and coefficients.
+fn sweep_source(sweep: &[SweepDegree], end: SweepEnd) -> String {
+    let end_text = match end {
+        SweepEnd::MaxDegree => format!("it reaches degree {SWEEP_MAX_DEGREE}"),
+        SweepEnd::IllConditioned { degree, condition } => {
+            format!("degree {degree} has condition {condition:.1e}")
+        }
+    };
+    let ppm = |e: Option<f64>| e.map_or("-".to_string(), |e| format!("{e:.2} ppm"));
+    let table: String = sweep
+        .iter()
+        .map(|d| {
+            format!(
+                "/// | {} | {} | {} | {} | {:.1e} |\n",
+                d.degree,
+                ppm(Some(d.f32_error.max_error_ppm)),
+                ppm(d.q_error.as_ref().map(|e| e.max_error_ppm)),
+                ppm(Some(d.f64_error.max_error_ppm)),
+                d.condition
+            )
+        })
+        .collect();
+    let list = |v: Vec<String>| v.join(", ");
+    let f32_errors = list(
+        sweep
+            .iter()
+            .map(|d| centi(d.f32_error.max_error_ppm).to_string())
+            .collect(),
+    );
+    let q_errors = list(sweep.iter().map(|d| centi_q(d).to_string()).collect());
+    let mut out = format!(
+        "/// Degrees of the accuracy sweep: 1..=SWEEP_DEGREES, each fitted and measured as\n\
+         /// `DEGREE` is (least squares to the part model; dense maximum error on the grid and\n\
+         /// metric of `semidrift verify`). It stops before a degree whose scaled design matrix\n\
+         /// has a condition number above {MAX_CONDITION:.0e} (the fit's SVD cutoff would drop a\n\
+         /// singular value) or at degree {SWEEP_MAX_DEGREE}; {end_text}.\n\
+         pub const SWEEP_DEGREES: usize = {n};\n\
+         /// `SWEEP_ERROR_F32_CENTI_PPM[d - 1]`: dense maximum error of the degree-`d` f32 form,\n\
+         /// hundredths of a ppm of span. Per degree (f64 fit: the fit's own error, without f32\n\
+         /// rounding; condition: of the fit's scaled design matrix):\n\
+         ///\n\
+         /// | degree | f32 | Q | f64 fit | condition |\n\
+         /// |---|---|---|---|---|\n\
+         {table}\
+         pub const SWEEP_ERROR_F32_CENTI_PPM: [u64; SWEEP_DEGREES] = [{f32_errors}];\n\
+         /// The same for the integer form (`u64::MAX`: no Q form fits i32).\n\
+         pub const SWEEP_ERROR_Q_CENTI_PPM: [u64; SWEEP_DEGREES] = [{q_errors}];\n",
+        n = sweep.len(),
+    );
+    for d in sweep {
+        let k = d.degree + 1;
+        let rows_f32: Vec<String> = d
+            .f32_form
+            .rows
+            .iter()
+            .map(|r| {
+                let v: Vec<String> = r.iter().map(|c| format!("{c:?}")).collect();
+                format!("    [{}],\n", v.join(", "))
+            })
+            .collect();
+        out += &format!(
+            "/// Degree-{deg} coefficients, f32, as `COEFFS_F32`.\n\
+             pub const SWEEP_COEFFS_F32_{deg}: [[f32; {k}]; RAW_TERMS] = [\n{rows}];\n",
+            deg = d.degree,
+            rows = rows_f32.concat(),
+        );
+        if let Some(q) = &d.q_form {
+            let rows_q: Vec<String> = q
+                .rows
+                .iter()
+                .map(|r| {
+                    let v: Vec<String> = r.iter().map(|c| c.to_string()).collect();
+                    format!("    [{}],\n", v.join(", "))
+                })
+                .collect();
+            out += &format!(
+                "/// Degree-{deg} coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_{deg}`.\n\
+                 pub const SWEEP_COEFFS_Q_{deg}: [[i32; {k}]; RAW_TERMS] = [\n{rows}];\n\
+                 /// Shift of the degree-{deg} integer form's Horner step in the raw code.\n\
+                 pub const SWEEP_X_SHIFT_{deg}: u32 = {xs};\n",
+                deg = d.degree,
+                rows = rows_q.concat(),
+                xs = q.x_shift,
+            );
+        }
+    }
+    out
 }
 
 /// Runs one `semidrift` command in-process; panics with its message on failure.

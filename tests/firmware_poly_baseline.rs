@@ -11,11 +11,23 @@
 //!   or below the committed table images' (`semidrift verify`'s grid and
 //!   metric), and one degree less is not.
 //! - The ARMv6-M widening multiply is exact.
+//! - The accuracy sweep (`SWEEP_*`: every degree's coefficients and dense
+//!   error) is what `host_tools::station::poly_sweep` computes afresh, and
+//!   the firmware's code with those coefficients has exactly those errors.
 
 // `armv6m` is a cfg of the firmware's build script, unset on the host.
 #[allow(unexpected_cfgs)]
 #[path = "../examples/firmware/src/poly.rs"]
 mod poly;
+
+// The firmware's sweep constructors and crossover rule (and the checked
+// wrappers they return), run on the host; the image limits are not used.
+#[allow(dead_code)]
+#[path = "../examples/firmware/src/poly_checked.rs"]
+mod poly_checked;
+#[allow(dead_code)]
+#[path = "../examples/firmware/src/sweep.rs"]
+mod sweep;
 
 #[allow(dead_code)]
 #[path = "../examples/make_firmware_image.rs"]
@@ -27,6 +39,7 @@ use host_tools::station::pipeline::{DENSE_STIMULI, DENSE_TEMPS, part_curves};
 use host_tools::station::poly_baseline::{
     FIT_TEMPS, Point, PolyF32Form, PolyQForm, baseline_of_degree, error_stats, grid_points,
 };
+use host_tools::station::poly_sweep::degree_sweep;
 use host_tools::station::table::{SignalUnit, TableFrame};
 use poly::{fitted, mul_wide_soft};
 
@@ -256,4 +269,184 @@ fn committed_polynomial_is_as_accurate_as_the_table_and_no_larger() {
         table_q.max_error_ppm,
         fitted::DEGREE
     );
+}
+
+/// One committed degree of the sweep, run by the firmware's own code.
+struct Committed {
+    f32_rows: Vec<Vec<f32>>,
+    q_rows: Vec<Vec<i32>>,
+    x_shift: u32,
+    f32_error: ErrorStats,
+    q_error: ErrorStats,
+}
+
+/// The committed degree-`K - 1` coefficients, and their dense errors
+/// through `sweep::poly_f32` / `sweep::poly_q` (the constructors the
+/// benchmark times) and `poly.rs`'s update and sample.
+fn committed<const K: usize, const XS: u32>(
+    f: [[f32; K]; fitted::RAW_TERMS],
+    q: [[i32; K]; fitted::RAW_TERMS],
+    dense: &[Point],
+    span: f64,
+) -> Committed {
+    let f32_error = error_stats(dense, span, |p| {
+        let mut m = sweep::poly_f32(f);
+        m.update_temperature(p.code as f32);
+        f64::from(m.sample(p.raw as f32))
+    });
+    let q_error = error_stats(dense, span, |p| {
+        let mut m = sweep::poly_q::<K, XS>(q);
+        m.update_temperature(p.code);
+        q_to_f64(m.sample(p.raw))
+    });
+    Committed {
+        f32_rows: f.iter().map(|r| r.to_vec()).collect(),
+        q_rows: q.iter().map(|r| r.to_vec()).collect(),
+        x_shift: XS,
+        f32_error,
+        q_error,
+    }
+}
+
+/// Tolerances: none. The sweep is a deterministic computation (same fit
+/// grid, SVD and dense grid as the generator), the coefficients are
+/// compared bit for bit and the errors to the hundredth of a ppm they are
+/// written with; the firmware's arithmetic is the host module's step for
+/// step (see `firmware_source_computes_what_the_host_module_computes`).
+#[test]
+fn committed_sweep_is_what_the_host_computes() {
+    use fitted::*;
+    let s = setup();
+    let frame = s.frame();
+    let fit_points = grid_points(&frame, FIT_TEMPS, DENSE_STIMULI);
+    let dense = grid_points(&frame, DENSE_TEMPS, DENSE_STIMULI);
+    let span = frame.fs_hi - frame.fs_lo;
+    let (fresh, end) = degree_sweep(
+        &frame,
+        &fit_points,
+        &dense,
+        make_firmware_image::SWEEP_MAX_DEGREE,
+        RAW_TERMS,
+    );
+    // The list below names each committed degree; the benchmark's too.
+    assert_eq!(
+        (fresh.len(), SWEEP_DEGREES),
+        (12, 12),
+        "the host's sweep ({end:?}) and well_level_poly.rs must both reach degree 12; \
+         run `cargo run --example make_firmware_image` and update the lists"
+    );
+    let d = &dense;
+    let committed = [
+        committed::<2, SWEEP_X_SHIFT_1>(SWEEP_COEFFS_F32_1, SWEEP_COEFFS_Q_1, d, span),
+        committed::<3, SWEEP_X_SHIFT_2>(SWEEP_COEFFS_F32_2, SWEEP_COEFFS_Q_2, d, span),
+        committed::<4, SWEEP_X_SHIFT_3>(SWEEP_COEFFS_F32_3, SWEEP_COEFFS_Q_3, d, span),
+        committed::<5, SWEEP_X_SHIFT_4>(SWEEP_COEFFS_F32_4, SWEEP_COEFFS_Q_4, d, span),
+        committed::<6, SWEEP_X_SHIFT_5>(SWEEP_COEFFS_F32_5, SWEEP_COEFFS_Q_5, d, span),
+        committed::<7, SWEEP_X_SHIFT_6>(SWEEP_COEFFS_F32_6, SWEEP_COEFFS_Q_6, d, span),
+        committed::<8, SWEEP_X_SHIFT_7>(SWEEP_COEFFS_F32_7, SWEEP_COEFFS_Q_7, d, span),
+        committed::<9, SWEEP_X_SHIFT_8>(SWEEP_COEFFS_F32_8, SWEEP_COEFFS_Q_8, d, span),
+        committed::<10, SWEEP_X_SHIFT_9>(SWEEP_COEFFS_F32_9, SWEEP_COEFFS_Q_9, d, span),
+        committed::<11, SWEEP_X_SHIFT_10>(SWEEP_COEFFS_F32_10, SWEEP_COEFFS_Q_10, d, span),
+        committed::<12, SWEEP_X_SHIFT_11>(SWEEP_COEFFS_F32_11, SWEEP_COEFFS_Q_11, d, span),
+        committed::<13, SWEEP_X_SHIFT_12>(SWEEP_COEFFS_F32_12, SWEEP_COEFFS_Q_12, d, span),
+    ];
+    let rerun = "run `cargo run --example make_firmware_image`";
+    for (i, (c, f)) in committed.iter().zip(&fresh).enumerate() {
+        let degree = i + 1;
+        assert_eq!(f.degree, degree);
+        assert_eq!(
+            (f.fit.centre_code, f.fit.u_shift),
+            (CENTRE_CODE, U_SHIFT),
+            "degree {degree}: the sweep's normalisation differs from the baseline's"
+        );
+        let bits = |rows: &[Vec<f32>]| -> Vec<Vec<u32>> {
+            rows.iter()
+                .map(|r| r.iter().map(|c| c.to_bits()).collect())
+                .collect()
+        };
+        assert_eq!(
+            bits(&c.f32_rows),
+            bits(&f.f32_form.rows),
+            "degree {degree}: committed f32 coefficients {:?}, host {:?}; {rerun}",
+            c.f32_rows,
+            f.f32_form.rows
+        );
+        let q = f
+            .q_form
+            .as_ref()
+            .expect("every committed degree has a Q form");
+        assert_eq!(
+            (&c.q_rows, c.x_shift),
+            (&q.rows, q.x_shift),
+            "degree {degree}: committed Q coefficients and shift differ from the host's; {rerun}"
+        );
+        let fresh_q = f.q_error.as_ref().expect("a Q form has a Q error");
+        for (form, stated, firmware, host) in [
+            (
+                "f32",
+                SWEEP_ERROR_F32_CENTI_PPM[i],
+                centi(&c.f32_error),
+                centi(&f.f32_error),
+            ),
+            (
+                "Q",
+                SWEEP_ERROR_Q_CENTI_PPM[i],
+                centi(&c.q_error),
+                centi(fresh_q),
+            ),
+        ] {
+            assert_eq!(
+                (stated, firmware),
+                (host, host),
+                "degree {degree} {form}: stated {stated} centi-ppm, firmware code measures \
+                 {firmware}, host sweep {host}; {rerun}"
+            );
+        }
+    }
+    // The chosen degree is the sweep's entry of that degree.
+    let chosen = &committed[DEGREE - 1];
+    assert_eq!(
+        chosen.f32_rows,
+        COEFFS_F32.iter().map(|r| r.to_vec()).collect::<Vec<_>>()
+    );
+    assert_eq!(
+        chosen.q_rows,
+        COEFFS_Q.iter().map(|r| r.to_vec()).collect::<Vec<_>>()
+    );
+    assert_eq!(
+        (
+            SWEEP_ERROR_F32_CENTI_PPM[DEGREE - 1],
+            SWEEP_ERROR_Q_CENTI_PPM[DEGREE - 1]
+        ),
+        (POLY_ERROR_F32_CENTI_PPM, POLY_ERROR_Q_CENTI_PPM)
+    );
+}
+
+/// (per-degree costs, ours, expected crossover degree): the benchmark's
+/// rule is "the lowest degree that costs strictly more than ours".
+#[test]
+fn crossover_is_the_first_degree_dearer_than_ours() {
+    let cases: [(&[u64], u64, Option<usize>); 6] = [
+        // The M4F f32 figures of the README, hundredths: degree 11.
+        (
+            &[
+                2217, 2617, 3017, 3417, 3817, 4217, 4617, 5017, 5417, 5817, 6217, 6617,
+            ],
+            5911,
+            Some(11),
+        ),
+        (&[100, 200, 300], 200, Some(3)),
+        (&[100, 200, 300], 50, Some(1)),
+        (&[100, 200, 300], 300, None),
+        (&[], 10, None),
+        // Not monotone: the first dearer degree, not the last cheaper one.
+        (&[100, 400, 150, 500], 300, Some(2)),
+    ];
+    for (costs, ours, want) in cases {
+        let got = sweep::crossover_degree(costs, ours);
+        assert_eq!(
+            got, want,
+            "costs {costs:?}, ours {ours}: got {got:?}, expected {want:?}"
+        );
+    }
 }

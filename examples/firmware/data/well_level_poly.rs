@@ -46,3 +46,174 @@ pub const POLY_ERROR_Q_CENTI_PPM: u64 = 3161;
 pub const TABLE_ERROR_F32_CENTI_PPM: u64 = 7244;
 /// Dense maximum error of the Q table image, hundredths of a ppm of span.
 pub const TABLE_ERROR_Q_CENTI_PPM: u64 = 7266;
+/// Degrees of the accuracy sweep: 1..=SWEEP_DEGREES, each fitted and measured as
+/// `DEGREE` is (least squares to the part model; dense maximum error on the grid and
+/// metric of `semidrift verify`). It stops before a degree whose scaled design matrix
+/// has a condition number above 1e12 (the fit's SVD cutoff would drop a
+/// singular value) or at degree 12; it reaches degree 12.
+pub const SWEEP_DEGREES: usize = 12;
+/// `SWEEP_ERROR_F32_CENTI_PPM[d - 1]`: dense maximum error of the degree-`d` f32 form,
+/// hundredths of a ppm of span. Per degree (f64 fit: the fit's own error, without f32
+/// rounding; condition: of the fit's scaled design matrix):
+///
+/// | degree | f32 | Q | f64 fit | condition |
+/// |---|---|---|---|---|
+/// | 1 | 9749.10 ppm | 9749.08 ppm | 9749.07 ppm | 1.3e1 |
+/// | 2 | 1052.07 ppm | 1052.05 ppm | 1052.05 ppm | 4.6e1 |
+/// | 3 | 148.08 ppm | 148.04 ppm | 148.04 ppm | 1.7e2 |
+/// | 4 | 31.69 ppm | 31.61 ppm | 31.60 ppm | 6.1e2 |
+/// | 5 | 14.33 ppm | 14.37 ppm | 14.38 ppm | 2.2e3 |
+/// | 6 | 11.81 ppm | 11.78 ppm | 11.79 ppm | 8.3e3 |
+/// | 7 | 11.77 ppm | 11.71 ppm | 11.71 ppm | 3.1e4 |
+/// | 8 | 12.07 ppm | 12.04 ppm | 12.04 ppm | 1.2e5 |
+/// | 9 | 12.17 ppm | 12.17 ppm | 12.16 ppm | 4.3e5 |
+/// | 10 | 11.86 ppm | 11.83 ppm | 11.83 ppm | 1.6e6 |
+/// | 11 | 11.64 ppm | 11.61 ppm | 11.61 ppm | 6.1e6 |
+/// | 12 | 11.31 ppm | 11.20 ppm | 11.19 ppm | 2.3e7 |
+pub const SWEEP_ERROR_F32_CENTI_PPM: [u64; SWEEP_DEGREES] = [974910, 105207, 14808, 3169, 1433, 1181, 1177, 1207, 1217, 1186, 1164, 1131];
+/// The same for the integer form (`u64::MAX`: no Q form fits i32).
+pub const SWEEP_ERROR_Q_CENTI_PPM: [u64; SWEEP_DEGREES] = [974908, 105205, 14804, 3161, 1437, 1178, 1171, 1204, 1217, 1183, 1161, 1120];
+/// Degree-1 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_1: [[f32; 2]; RAW_TERMS] = [
+    [0.006670866, -0.031283032],
+    [1.6555508e-6, 5.039433e-7],
+];
+/// Degree-1 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_1`.
+pub const SWEEP_COEFFS_Q_1: [[i32; 2]; RAW_TERMS] = [
+    [111919, -524842],
+    [465996118, 141847421],
+];
+/// Shift of the degree-1 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_1: u32 = 24;
+/// Degree-2 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_2: [[f32; 3]; RAW_TERMS] = [
+    [0.0075438963, -0.013463015, -0.005912924],
+    [1.6630365e-6, 4.943652e-7, -7.61141e-8],
+];
+/// Degree-2 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_2`.
+pub const SWEEP_COEFFS_Q_2: [[i32; 3]; RAW_TERMS] = [
+    [126566, -225872, -99202],
+    [468103163, 139151445, -21424213],
+];
+/// Shift of the degree-2 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_2: u32 = 24;
+/// Degree-3 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_3: [[f32; 4]; RAW_TERMS] = [
+    [0.008108344, -0.0133216735, -0.011437901, -0.0011300024],
+    [1.6627343e-6, 4.8988716e-7, -7.31538e-8, 2.479274e-8],
+];
+/// Degree-3 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_3`.
+pub const SWEEP_COEFFS_Q_3: [[i32; 4]; RAW_TERMS] = [
+    [136035, -223501, -191896, -18958],
+    [468018098, 137890976, -20590964, 6978536],
+];
+/// Shift of the degree-3 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_3: u32 = 24;
+/// Degree-4 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_4: [[f32; 5]; RAW_TERMS] = [
+    [0.008117293, -0.013737303, -0.011789284, 0.0011350841, 0.001438741],
+    [1.6626537e-6, 4.9010936e-7, -7.045613e-8, 2.3581919e-8, -1.0403238e-8],
+];
+/// Degree-4 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_4`.
+pub const SWEEP_COEFFS_Q_4: [[i32; 5]; RAW_TERMS] = [
+    [136186, -230474, -197791, 19044, 24138],
+    [467995413, 137953518, -19831638, 6637720, -2928251],
+];
+/// Shift of the degree-4 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_4: u32 = 24;
+/// Degree-5 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_5: [[f32; 6]; RAW_TERMS] = [
+    [0.008108419, -0.013755169, -0.011499343, 0.0014297096, 0.0003320521, -0.0009036585],
+    [1.6626584e-6, 4.9022117e-7, -7.0610966e-8, 2.1851724e-8, -9.812405e-9, 5.1353806e-9],
+];
+/// Degree-5 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_5`.
+pub const SWEEP_COEFFS_Q_5: [[i32; 6]; RAW_TERMS] = [
+    [136037, -230773, -192927, 23987, 5571, -15161],
+    [467996746, 137984985, -19875219, 6150714, -2761946, 1445481],
+];
+/// Shift of the degree-5 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_5: u32 = 24;
+/// Degree-6 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_6: [[f32; 7]; RAW_TERMS] = [
+    [0.008107523, -0.013740902, -0.011435951, 0.0012119557, -0.00030078512, -0.00026233913, 0.0015351184],
+    [1.6626603e-6, 4.9021355e-7, -7.0740754e-8, 2.196725e-8, -8.526657e-9, 4.7952433e-9, -3.104132e-9],
+];
+/// Degree-6 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_6`.
+pub const SWEEP_COEFFS_Q_6: [[i32; 7]; RAW_TERMS] = [
+    [136022, -230534, -191863, 20333, -5046, -4401, 25755],
+    [467997270, 137982854, -19911752, 6183231, -2400040, 1349741, -873736],
+];
+/// Shift of the degree-6 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_6: u32 = 24;
+/// Degree-7 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_7: [[f32; 8]; RAW_TERMS] = [
+    [0.008108396, -0.013734131, -0.0114958715, 0.0010079535, 0.0002873739, 0.0012278728, 0.00012344106, -0.0030497236],
+    [1.6626599e-6, 4.901981e-7, -7.070895e-8, 2.242824e-8, -8.838792e-9, 1.4522978e-9, -2.3552322e-9, 6.807785e-9],
+];
+/// Degree-7 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_7`.
+pub const SWEEP_COEFFS_Q_7: [[i32; 8]; RAW_TERMS] = [
+    [136036, -230420, -192869, 16911, 4821, 20600, 2071, -51166],
+    [467997139, 137978496, -19902799, 6312988, -2487899, 408785, -662939, 1916221],
+];
+/// Shift of the degree-7 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_7: u32 = 24;
+/// Degree-8 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_8: [[f32; 9]; RAW_TERMS] = [
+    [0.00810952, -0.013742081, -0.011629102, 0.0012419857, 0.0026961402, -0.0004567739, -0.013586, 0.00036307445, 0.024099149],
+    [1.662659e-6, 4.9020224e-7, -7.06074e-8, 2.2306324e-8, -1.0678962e-8, 2.3297146e-9, 8.134563e-9, 5.0306914e-9, -1.8460806e-8],
+];
+/// Degree-8 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_8`.
+pub const SWEEP_COEFFS_Q_8: [[i32; 9]; RAW_TERMS] = [
+    [136055, -230554, -195104, 20837, 45234, -7663, -227935, 6091, 404317],
+    [467996899, 137979662, -19874216, 6278672, -3005861, 655756, 2289676, 1416014, -5196255],
+];
+/// Shift of the degree-8 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_8: u32 = 24;
+/// Degree-9 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_9: [[f32; 10]; RAW_TERMS] = [
+    [0.008108348, -0.013756267, -0.011491008, 0.0019336831, 0.00021087029, -0.009382604, 0.0005134033, 0.042435538, -0.00062629866, -0.06543441],
+    [1.6626597e-6, 4.902289e-7, -7.068051e-8, 2.101549e-8, -9.363606e-9, 1.891514e-8, 6.753343e-10, -7.2905074e-8, -5.385753e-9, 1.2093477e-7],
+];
+/// Degree-9 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_9`.
+pub const SWEEP_COEFFS_Q_9: [[i32; 10]; RAW_TERMS] = [
+    [136035, -230792, -192787, 32442, 3538, -157414, 8613, 711950, -10508, -1097807],
+    [467997074, 137987162, -19894795, 5915335, -2635621, 5324138, 190090, -20520954, -1515955, 34040113],
+];
+/// Shift of the degree-9 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_9: u32 = 24;
+/// Degree-10 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_10: [[f32; 11]; RAW_TERMS] = [
+    [0.008107068, -0.013739857, -0.0112587195, 0.0011462651, -0.0064180675, 0.0006665982, 0.065902, -0.004549426, -0.26145482, 0.0071884072, 0.36153594],
+    [1.6626609e-6, 4.9022026e-7, -7.092145e-8, 2.1428745e-8, -2.4837774e-9, 1.3642697e-8, -6.721812e-8, -4.826225e-8, 2.6552974e-7, 8.2859195e-8, -3.7562756e-7],
+];
+/// Degree-10 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_10`.
+pub const SWEEP_COEFFS_Q_10: [[i32; 11]; RAW_TERMS] = [
+    [136014, -230517, -188890, 19231, -107677, 11184, 1105652, -76327, -4386484, 120601, 6065567],
+    [467997447, 137984737, -19962613, 6031656, -699121, 3840078, -18920219, -13584616, 74739974, 23322790, -105729757],
+];
+/// Shift of the degree-10 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_10: u32 = 24;
+/// Degree-11 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_11: [[f32; 12]; RAW_TERMS] = [
+    [0.008108435, -0.013718105, -0.011504772, -0.0004157449, 0.00056038384, 0.031627227, -0.0026213753, -0.2524197, 0.010922581, 0.8684777, -0.014960071, -1.0814543],
+    [1.6626602e-6, 4.9018246e-7, -7.0791295e-8, 2.4130236e-8, -6.1739067e-9, -3.9732107e-8, -3.09975e-8, 3.7803653e-7, 1.2161631e-7, -1.3957213e-6, -1.767941e-7, 1.8538874e-6],
+];
+/// Degree-11 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_11`.
+pub const SWEEP_COEFFS_Q_11: [[i32; 12]; RAW_TERMS] = [
+    [136037, -230152, -193018, -6975, 9402, 530617, -43979, -4234900, 183250, 14570638, -250988, -18143792],
+    [233998622, 68987050, -9962989, 3396029, -868900, -5591797, -4362511, 53203912, 17115975, -196430297, -24881559, 260911452],
+];
+/// Shift of the degree-11 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_11: u32 = 23;
+/// Degree-12 coefficients, f32, as `COEFFS_F32`.
+pub const SWEEP_COEFFS_F32_12: [[f32; 13]; RAW_TERMS] = [
+    [0.0081092855, -0.013742441, -0.011724923, 0.0013096967, 0.009664239, -0.0022570181, -0.13882262, 0.016952632, 0.9244348, -0.062369008, -2.8207397, 0.08215576, 3.2148528],
+    [1.6626586e-6, 4.9019536e-7, -7.039477e-8, 2.3217607e-8, -2.2505834e-8, -2.1815412e-8, 2.1260922e-7, 2.3565426e-7, -1.5085012e-6, -9.0390205e-7, 4.8208894e-6, 1.2393549e-6, -5.7180123e-6],
+];
+/// Degree-12 coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_12`.
+pub const SWEEP_COEFFS_Q_12: [[i32; 13]; RAW_TERMS] = [
+    [136051, -230560, -196712, 21973, 162139, -37866, -2329057, 284418, 15509442, -1046378, -47324158, 1378345, 53936280],
+    [58499601, 17247216, -2476796, 816897, -791854, -767562, 7480522, 8291347, -53075667, -31803226, 169619966, 43605925, -201184671],
+];
+/// Shift of the degree-12 integer form's Horner step in the raw code.
+pub const SWEEP_X_SHIFT_12: u32 = 21;

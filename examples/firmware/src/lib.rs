@@ -1,7 +1,8 @@
 //! Shared pieces of the semidrift firmware binaries (`main`, `bench`,
 //! `nopanic` and the flash probes): semihosting exit and fault handlers,
 //! the SysTick instruction counter, stack painting, the recorded sample
-//! stream and the polynomial baseline the benchmark compares against.
+//! stream and the polynomial baseline the benchmark compares against (at
+//! the chosen degree and at every degree of the accuracy sweep).
 //!
 //! Runs on QEMU's `mps2-an386` (Cortex-M4F) and `microbit` (Cortex-M0).
 #![no_std]
@@ -14,3 +15,4 @@ pub mod report;
 pub mod rt;
 pub mod stack;
 pub mod stream;
+pub mod sweep;

@@ -24,6 +24,7 @@ pub mod part_file;
 pub mod part_model;
 pub mod pipeline;
 pub mod poly_baseline;
+pub mod poly_sweep;
 pub mod polynomial;
 pub mod remainder;
 pub mod scenario;

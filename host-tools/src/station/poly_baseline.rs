@@ -33,6 +33,10 @@ use rayon::prelude::*;
 pub const FIT_TEMPS: usize = 1051;
 /// Highest degree in `u` [`equal_accuracy`] tries.
 pub const MAX_DEGREE: usize = 8;
+/// Reciprocal of the SVD solve's relative singular-value cutoff (1e-12,
+/// common practice for f64 least squares): a design matrix with a larger
+/// condition number loses a singular value to the cutoff.
+pub const MAX_CONDITION: f64 = 1e12;
 
 /// One point of a grid: what the firmware receives and what it should output.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -116,12 +120,22 @@ impl PolyFit {
     /// practice), to `points`; with no points every coefficient is NaN
     /// (which [`PolyFit::q_form`] refuses and any error measure reports).
     pub fn fit(points: &[Point], degree: usize, raw_terms: usize) -> PolyFit {
+        Self::fit_with_condition(points, degree, raw_terms).0
+    }
+
+    /// [`PolyFit::fit`] and the condition number of its scaled design
+    /// matrix (largest over smallest singular value; infinite with no
+    /// points or a zero singular value). Above [`MAX_CONDITION`] the solve's
+    /// cutoff drops a singular value, so the result is no longer the
+    /// least-squares fit of that degree.
+    pub fn fit_with_condition(points: &[Point], degree: usize, raw_terms: usize) -> (PolyFit, f64) {
         if points.is_empty() {
-            return PolyFit {
+            let fit = PolyFit {
                 centre_code: 0,
                 u_shift: 0,
                 rows: vec![vec![f64::NAN; degree + 1]; raw_terms],
             };
+            return (fit, f64::INFINITY);
         }
         let (lo, hi) = points.iter().fold((i32::MAX, i32::MIN), |(lo, hi), p| {
             (lo.min(p.code), hi.max(p.code))
@@ -150,6 +164,7 @@ impl PolyFit {
             b[n] = p.reference;
         }
         let svd = a.svd(true, true);
+        let condition = svd.singular_values.max() / svd.singular_values.min();
         let cutoff = 1e-12 * svd.singular_values.max();
         let c = svd
             .solve(&b, cutoff)
@@ -161,11 +176,12 @@ impl PolyFit {
                     .collect()
             })
             .collect();
-        PolyFit {
+        let fit = PolyFit {
             centre_code,
             u_shift,
             rows,
-        }
+        };
+        (fit, condition)
     }
 
     /// Degree in `u`.
@@ -483,6 +499,29 @@ mod tests {
         // The largest shift with row 1's coefficient sum 1.232e-6 below 2^30
         // in Q(24 + s): 2^49 x 1.232e-6 = 6.9e8 < 2^30 = 1.07e9 < 2^50 x 1.232e-6.
         assert_eq!(q.x_shift, 25);
+    }
+
+    /// The condition number grows with the degree, and a degree the data
+    /// cannot determine (more coefficients in `u` than distinct codes) is
+    /// above `MAX_CONDITION`, which the sweep stops at.
+    #[test]
+    fn condition_flags_an_undetermined_fit() {
+        let pts = synthetic();
+        let (_, c2) = PolyFit::fit_with_condition(&pts, 2, 2);
+        let (_, c4) = PolyFit::fit_with_condition(&pts, 4, 2);
+        // Degree 2 on 41 codes over |u| <= 0.67: well conditioned.
+        assert!(c2 > 1.0 && c2 < 1e4, "degree 2: condition {c2:e}");
+        assert!(c4 > c2, "degree 4 {c4:e} should exceed degree 2 {c2:e}");
+        // Three distinct codes cannot determine five coefficients per row:
+        // the smallest singular values are rounding, ~1e-16 of the largest.
+        let three: Vec<Point> = pts.iter().filter(|p| p.t_c <= 2.0).copied().collect();
+        let (_, c) = PolyFit::fit_with_condition(&three, 4, 2);
+        assert!(
+            c.is_nan() || c > MAX_CONDITION,
+            "3 codes, degree 4: condition {c:e}"
+        );
+        let (_, c) = PolyFit::fit_with_condition(&[], 1, 2);
+        assert_eq!(c, f64::INFINITY);
     }
 
     #[test]

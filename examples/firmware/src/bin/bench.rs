@@ -90,16 +90,17 @@ pub struct Timed<S, A, R> {
 }
 
 /// Prints metric `name`: instructions per call of `t.f` beyond `t.empty`,
-/// over `CALLS` calls.
+/// over `CALLS` calls; returns it in hundredths.
 fn report_insn<S, A: Copy, R>(
     counter: &Counter,
     name: &str,
     state: &mut S,
     inputs: &[A],
     t: Timed<S, A, R>,
-) {
+) -> u64 {
     let insn = net_insn(counter, CALLS, state, inputs, t.f, t.empty);
     metric_centi(name, insn, "insn");
+    insn
 }
 
 // ---- the integer path (both targets) --------------------------------------
@@ -446,6 +447,184 @@ fn model_figures<B: compensate::math::Backend>(counter: &Counter, t_k: &[f32]) {
     );
 }
 
+// ---- the accuracy sweep: the checked polynomial at every degree ----------
+
+/// Prints `metric <head><degree><tail> <centi/100> <unit>`.
+fn metric_degree(head: &str, degree: usize, tail: &str, centi: u64, unit: &str) {
+    hprintln!(
+        "metric {}{}{} {}.{:02} {} target={}",
+        head,
+        degree,
+        tail,
+        centi / 100,
+        centi % 100,
+        unit,
+        TARGET
+    );
+}
+
+/// Prints the per-degree errors `errors_centi` (hundredths of a ppm, from
+/// the host's sweep) and, from the measured per-degree update costs
+/// `costs_centi` and ours `ours_centi`, the crossover: the lowest degree
+/// whose checked update costs more than our temperature update, and its
+/// error.
+fn report_sweep(costs_centi: &[u64], ours_centi: u64, errors_centi: &[u64]) {
+    for (i, &e) in errors_centi.iter().enumerate() {
+        metric_degree("poly_error_deg", i + 1, "_ppm", e, "ppm");
+    }
+    let crossover = semidrift_firmware::sweep::crossover_degree(costs_centi, ours_centi);
+    match crossover.and_then(|d| Some((d, *errors_centi.get(d - 1)?))) {
+        Some((degree, error)) => {
+            metric("poly_crossover_degree", degree, "count");
+            metric_centi("poly_crossover_error_ppm", error, "ppm");
+        }
+        None => hprintln!(
+            "# no degree up to {} costs more than our temperature update",
+            costs_centi.len()
+        ),
+    }
+}
+
+/// Per-degree figures of the f32 polynomial with our f32 path's checks.
+#[cfg(fpu)]
+mod sweep_f32 {
+    use super::{CALLS, Counter, metric_degree, net_insn};
+    use compensate::{Status, TableView};
+    use semidrift_firmware::poly::fitted::{self, RAW_TERMS};
+    use semidrift_firmware::poly_checked::PolyF32Checked;
+    use semidrift_firmware::rt;
+    use semidrift_firmware::sweep::{checked_f32, poly_f32};
+
+    #[inline(never)]
+    fn update<const K: usize>(p: &mut PolyF32Checked<RAW_TERMS, K>, signal: f32) -> Status {
+        p.update_temperature(signal)
+    }
+
+    #[inline(never)]
+    fn update_empty<const K: usize>(_p: &mut PolyF32Checked<RAW_TERMS, K>, _s: f32) -> Status {
+        Status::OK
+    }
+
+    /// Prints and returns (hundredths) the instructions of one checked
+    /// temperature update of the polynomial with `coeffs` (degree `K - 1`).
+    fn degree<const K: usize>(
+        counter: &Counter,
+        view: &TableView<'_>,
+        temps: &[f32],
+        coeffs: [[f32; K]; RAW_TERMS],
+    ) -> u64 {
+        let Some(mut p) = checked_f32(view, poly_f32(coeffs)) else {
+            cortex_m_semihosting::hprintln!("error: well_level_f32.bin has no f32 thermometer");
+            rt::exit_failure()
+        };
+        if let Some(&first) = temps.first() {
+            let _ = p.update_temperature(first);
+        }
+        let c = net_insn(
+            counter,
+            CALLS,
+            &mut p,
+            temps,
+            update::<K>,
+            update_empty::<K>,
+        );
+        metric_degree("poly_checked_temp_update_deg", K - 1, "_insn", c, "insn");
+        c
+    }
+
+    /// Every degree of the sweep, lowest first.
+    pub fn all(counter: &Counter, view: &TableView<'_>, t: &[f32]) -> [u64; fitted::SWEEP_DEGREES] {
+        // The list below names each degree's constants.
+        const { assert!(fitted::SWEEP_DEGREES == 12) };
+        [
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_1),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_2),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_3),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_4),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_5),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_6),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_7),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_8),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_9),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_10),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_11),
+            degree(counter, view, t, fitted::SWEEP_COEFFS_F32_12),
+        ]
+    }
+}
+
+/// Per-degree figures of the integer polynomial with our integer path's
+/// checks (the Cortex-M0's own arithmetic).
+#[cfg(not(fpu))]
+mod sweep_q {
+    use super::{CALLS, Counter, metric_degree, net_insn};
+    use compensate::{Status, TableView};
+    use semidrift_firmware::poly::fitted::{self, RAW_TERMS, U_SHIFT};
+    use semidrift_firmware::poly_checked::PolyQChecked;
+    use semidrift_firmware::rt;
+    use semidrift_firmware::sweep::{checked_q, poly_q};
+
+    type Checked<const K: usize, const XS: u32> = PolyQChecked<RAW_TERMS, K, U_SHIFT, XS>;
+
+    #[inline(never)]
+    fn update<const K: usize, const XS: u32>(p: &mut Checked<K, XS>, signal: i32) -> Status {
+        p.update_temperature(signal)
+    }
+
+    #[inline(never)]
+    fn update_empty<const K: usize, const XS: u32>(_p: &mut Checked<K, XS>, _s: i32) -> Status {
+        Status::OK
+    }
+
+    /// Prints and returns (hundredths) the instructions of one checked
+    /// temperature update of the polynomial with `coeffs` (degree `K - 1`).
+    fn degree<const K: usize, const XS: u32>(
+        counter: &Counter,
+        view: &TableView<'_>,
+        temps: &[i32],
+        coeffs: [[i32; K]; RAW_TERMS],
+    ) -> u64 {
+        let Some(mut p) = checked_q(view, poly_q::<K, XS>(coeffs)) else {
+            cortex_m_semihosting::hprintln!("error: well_level_q.bin has no thermometer");
+            rt::exit_failure()
+        };
+        if let Some(&first) = temps.first() {
+            let _ = p.update_temperature(first);
+        }
+        let c = net_insn(
+            counter,
+            CALLS,
+            &mut p,
+            temps,
+            update::<K, XS>,
+            update_empty::<K, XS>,
+        );
+        metric_degree("poly_checked_temp_update_deg", K - 1, "_insn", c, "insn");
+        c
+    }
+
+    /// Every degree of the sweep, lowest first.
+    pub fn all(counter: &Counter, view: &TableView<'_>, t: &[i32]) -> [u64; fitted::SWEEP_DEGREES] {
+        use fitted::*;
+        // The list below names each degree's constants.
+        const { assert!(SWEEP_DEGREES == 12) };
+        [
+            degree::<2, SWEEP_X_SHIFT_1>(counter, view, t, SWEEP_COEFFS_Q_1),
+            degree::<3, SWEEP_X_SHIFT_2>(counter, view, t, SWEEP_COEFFS_Q_2),
+            degree::<4, SWEEP_X_SHIFT_3>(counter, view, t, SWEEP_COEFFS_Q_3),
+            degree::<5, SWEEP_X_SHIFT_4>(counter, view, t, SWEEP_COEFFS_Q_4),
+            degree::<6, SWEEP_X_SHIFT_5>(counter, view, t, SWEEP_COEFFS_Q_5),
+            degree::<7, SWEEP_X_SHIFT_6>(counter, view, t, SWEEP_COEFFS_Q_6),
+            degree::<8, SWEEP_X_SHIFT_7>(counter, view, t, SWEEP_COEFFS_Q_7),
+            degree::<9, SWEEP_X_SHIFT_8>(counter, view, t, SWEEP_COEFFS_Q_8),
+            degree::<10, SWEEP_X_SHIFT_9>(counter, view, t, SWEEP_COEFFS_Q_9),
+            degree::<11, SWEEP_X_SHIFT_10>(counter, view, t, SWEEP_COEFFS_Q_10),
+            degree::<12, SWEEP_X_SHIFT_11>(counter, view, t, SWEEP_COEFFS_Q_11),
+            degree::<13, SWEEP_X_SHIFT_12>(counter, view, t, SWEEP_COEFFS_Q_12),
+        ]
+    }
+}
+
 /// Parses the recorded stream into the input arrays.
 fn inputs() -> [Sample; INPUTS] {
     let mut samples = [Sample {
@@ -533,7 +712,7 @@ fn main() -> ! {
         let _ = float.update_temperature(temp_f[0]);
         let _ = fpu::poly_temp_update(&mut poly, temp_f[0]);
 
-        report_insn(
+        let ours = report_insn(
             &counter,
             "temp_update_insn",
             &mut float,
@@ -575,6 +754,8 @@ fn main() -> ! {
             &raw_f,
             fpu::POLY_CHECKED_SAMPLE,
         );
+        let costs = sweep_f32::all(&counter, &view, &temp_f);
+        report_sweep(&costs, ours, &fitted::SWEEP_ERROR_F32_CENTI_PPM);
 
         let stack = measure_call_bytes(&mut float, temp_f[0], fpu::temp_update)
             .max(measure_call_bytes(&mut float, raw_f[0], fpu::sample));
@@ -597,7 +778,7 @@ fn main() -> ! {
         model_figures::<compensate::math::Micromath>(&counter, &t_k);
     }
 
-    report_insn(&counter, q_names[0], &mut fixed, &temp_q, Q_TEMP_UPDATE);
+    let ours_q = report_insn(&counter, q_names[0], &mut fixed, &temp_q, Q_TEMP_UPDATE);
     report_insn(&counter, q_names[1], &mut fixed, &raw_q, Q_SAMPLE);
     report_insn(
         &counter,
@@ -634,6 +815,15 @@ fn main() -> ! {
         &raw_q,
         POLY_Q_CHECKED_SAMPLE,
     );
+    // The integer sweep on the M0 only (on the M4F the f32 sweep above is
+    // what such a part runs).
+    #[cfg(not(fpu))]
+    {
+        let costs = sweep_q::all(&counter, &view_q, &temp_q);
+        report_sweep(&costs, ours_q, &fitted::SWEEP_ERROR_Q_CENTI_PPM);
+    }
+    #[cfg(fpu)]
+    let _ = ours_q;
 
     let stack_q = measure_call_bytes(&mut fixed, temp_q[0], q_temp_update)
         .max(measure_call_bytes(&mut fixed, raw_q[0], q_sample));
