@@ -11,6 +11,9 @@
 //! semidrift table parts/WELL-0001.part.json --format bin --budget 100 \
 //!     --number-format q --interpolation linear --signal-unit adc-code \
 //!     --channel-axis signal --out q.bin
+//! semidrift table parts/WELL-0001.part.json --format bin --budget 30 \
+//!     --number-format f32 --interpolation linear --signal-unit adc-code \
+//!     --channel-axis signal --out f32_fine.bin
 //! ```
 //!
 //! (run in-process through `host_tools::cli`, in a temporary folder), then
@@ -23,7 +26,12 @@
 //! - `examples/firmware/data/well_level_poly.rs`: the benchmark's polynomial
 //!   baseline, fitted to the same calibrated part at the lowest degree whose
 //!   dense error is at or below the table images' own
-//!   (`host_tools::station::poly_baseline`).
+//!   (`host_tools::station::poly_baseline`), and every degree up to
+//!   [`SWEEP_MAX_DEGREE`] with its error (`host_tools::station::poly_sweep`),
+//! - `examples/firmware/data/well_level_f32_fine.bin`: a finer f32 image
+//!   (`--budget 30`, as accurate as the polynomial at the crossover degree),
+//!   so the benchmark shows that the update's cost does not grow with the
+//!   node count.
 //!
 //! Scenario (invented data, DESIGN.md): a well-level logger's 0-10 bar gauge
 //! silicon die, p-type piezoresistive bridge read by a 24-bit ADC, the
@@ -73,6 +81,18 @@ pub const FULL_SCALE_BAR: f64 = 10.0;
 /// error against the part (the full 500 ppm gives a 2-node table that uses
 /// up the budget by itself).
 pub const TABLE_BUDGET_PPM: &str = "100";
+/// Budget of the finer f32 image the benchmark times beside the demo image
+/// (`well_level_f32_fine.bin`), ppm of span: the largest whole budget whose
+/// table's dense error is at or below the f32 polynomial's at the Cortex-M4F
+/// crossover (degree [`FINE_MATCH_DEGREE`], 11.64 ppm; budget 31 gives
+/// 12.48 ppm). The budget also covers the fit residual (12.05 ppm) and the
+/// temperature-signal term (5.08 ppm), which the dense check against the
+/// fitted model does not see, so the table gets about 11.3 ppm of it.
+pub const FINE_TABLE_BUDGET_PPM: &str = "30";
+/// The lowest degree whose checked f32 temperature update the benchmark
+/// measures above our look-up's on the Cortex-M4F (`poly_crossover_degree`);
+/// the finer image must be at least as accurate as this degree.
+pub const FINE_MATCH_DEGREE: usize = 11;
 /// Operating range of the scenario, C.
 const RANGE_C: (f64, f64) = (-20.0, 85.0);
 
@@ -82,6 +102,8 @@ pub struct FirmwareData {
     pub f32_image: Vec<u8>,
     /// Q-format table image.
     pub q_image: Vec<u8>,
+    /// The finer f32 table image ([`FINE_TABLE_BUDGET_PPM`]).
+    pub f32_fine_image: Vec<u8>,
     /// Recorded stream, CSV text.
     pub stream_csv: String,
     /// The polynomial baseline as Rust source (`well_level_poly.rs`).
@@ -225,6 +247,20 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, 
         tq_c = centi(table_q),
     ) + &sweep_source(&sweep, end);
     (b, source)
+}
+
+/// The finer image's constants of `well_level_poly.rs`: its dense error
+/// (`semidrift verify`) and the degree it is sized against.
+fn fine_source(part: &PartFile, fine: &[u8]) -> String {
+    let e = verify_image(fine, part).max_error_ppm;
+    format!(
+        "/// Dense maximum error of the finer f32 table image (`well_level_f32_fine.bin`, budget\n\
+         /// {FINE_TABLE_BUDGET_PPM}), hundredths of a ppm of span: {e:.2} ppm.\n\
+         pub const TABLE_FINE_ERROR_F32_CENTI_PPM: u64 = {c};\n\
+         /// The degree whose f32 error the finer image matches (the Cortex-M4F crossover).\n\
+         pub const FINE_MATCH_DEGREE: usize = {FINE_MATCH_DEGREE};\n",
+        c = centi(e),
+    )
 }
 
 /// Hundredths of a ppm of a Q error, `u64::MAX` without a Q form.
@@ -422,14 +458,18 @@ pub fn build() -> FirmwareData {
         "--quiet",
     ]);
     let part = p("parts/WELL-0001.part.json");
-    for format in ["f32", "q"] {
+    for (format, budget, name) in [
+        ("f32", TABLE_BUDGET_PPM, "f32"),
+        ("q", TABLE_BUDGET_PPM, "q"),
+        ("f32", FINE_TABLE_BUDGET_PPM, "f32_fine"),
+    ] {
         semidrift(&[
             "table",
             &part,
             "--format",
             "bin",
             "--budget",
-            TABLE_BUDGET_PPM,
+            budget,
             "--number-format",
             format,
             "--interpolation",
@@ -439,17 +479,20 @@ pub fn build() -> FirmwareData {
             "--channel-axis",
             "signal",
             "--out",
-            &p(&format!("{format}.bin")),
+            &p(&format!("{name}.bin")),
         ]);
     }
     let read = |name: &str| std::fs::read(p(name)).unwrap_or_else(|e| panic!("{name}: {e}"));
     let (f32_image, q_image) = (read("f32.bin"), read("q.bin"));
+    let f32_fine_image = read("f32_fine.bin");
     let stream_csv = stream(&Scenario::well_logger(), &q_image);
     let part = PartFile::read(Path::new(&part)).unwrap_or_else(|e| panic!("{e}"));
-    let (poly, poly_rs) = poly_source(&part, &f32_image, &q_image);
+    let (poly, mut poly_rs) = poly_source(&part, &f32_image, &q_image);
+    poly_rs += &fine_source(&part, &f32_fine_image);
     FirmwareData {
         f32_image,
         q_image,
+        f32_fine_image,
         stream_csv,
         poly_rs,
         part,
@@ -463,10 +506,11 @@ pub fn data_dir() -> PathBuf {
 }
 
 /// File names and contents, in a fixed order.
-pub fn files(data: &FirmwareData) -> [(&'static str, &[u8]); 4] {
+pub fn files(data: &FirmwareData) -> [(&'static str, &[u8]); 5] {
     [
         ("well_level_f32.bin", &data.f32_image),
         ("well_level_q.bin", &data.q_image),
+        ("well_level_f32_fine.bin", &data.f32_fine_image),
         ("well_level_stream.csv", data.stream_csv.as_bytes()),
         ("well_level_poly.rs", data.poly_rs.as_bytes()),
     ]

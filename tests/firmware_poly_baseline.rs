@@ -450,3 +450,33 @@ fn crossover_is_the_first_degree_dearer_than_ours() {
         );
     }
 }
+
+/// The finer image the benchmark times (`well_level_f32_fine.bin`) is as
+/// accurate as the polynomial of the degree it is sized against, and its
+/// stated error is what `semidrift verify` measures. Tolerances: none
+/// (deterministic dense checks on the same grid, compared to the
+/// hundredth of a ppm the file states).
+#[test]
+fn fine_image_matches_the_crossover_degree() {
+    let s = setup();
+    let dir = make_firmware_image::data_dir();
+    let path = dir.join("well_level_f32_fine.bin");
+    let image = std::fs::read(&path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+    let fine = make_firmware_image::verify_image(&image, &s.part).max_error_ppm;
+    let stated = fitted::TABLE_FINE_ERROR_F32_CENTI_PPM;
+    assert_eq!(
+        stated,
+        (fine * 100.0).round() as u64,
+        "well_level_poly.rs states {stated} centi-ppm for the fine image, verify measures {fine:.2} ppm"
+    );
+    assert_eq!(
+        fitted::FINE_MATCH_DEGREE,
+        make_firmware_image::FINE_MATCH_DEGREE
+    );
+    let poly = fitted::SWEEP_ERROR_F32_CENTI_PPM[fitted::FINE_MATCH_DEGREE - 1];
+    assert!(
+        stated <= poly,
+        "fine image {stated} centi-ppm is less accurate than the degree-{} polynomial's {poly}",
+        fitted::FINE_MATCH_DEGREE
+    );
+}

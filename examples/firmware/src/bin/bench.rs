@@ -28,6 +28,11 @@ semidrift_firmware::printing_fault_handlers!();
 static IMAGE_Q: &[u8] = include_bytes!("../../data/well_level_q.bin");
 #[cfg(fpu)]
 static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
+/// A finer f32 image of the same part (59 nodes instead of 22, as accurate
+/// as the polynomial at the crossover degree), to show that the update's
+/// cost does not depend on the node count.
+#[cfg(fpu)]
+static IMAGE_F32_FINE: &[u8] = include_bytes!("../../data/well_level_f32_fine.bin");
 static STREAM: &str = include_str!("../../data/well_level_stream.csv");
 
 /// Inputs: the temperature ramp of the recorded stream (its last four
@@ -756,6 +761,28 @@ fn main() -> ! {
         );
         let costs = sweep_f32::all(&counter, &view, &temp_f);
         report_sweep(&costs, ours, &fitted::SWEEP_ERROR_F32_CENTI_PPM);
+        let Ok(view_fine) = TableView::parse(IMAGE_F32_FINE) else {
+            hprintln!("error: well_level_f32_fine.bin does not parse");
+            rt::exit_failure()
+        };
+        let Ok(mut fine) = compensate::Compensator::new(&view_fine) else {
+            hprintln!("error: well_level_f32_fine.bin is not an f32 image");
+            rt::exit_failure()
+        };
+        let _ = fine.update_temperature(temp_f[0]);
+        report_insn(
+            &counter,
+            "temp_update_fine_insn",
+            &mut fine,
+            &temp_f,
+            fpu::TEMP_UPDATE,
+        );
+        metric("table_fine_nodes", view_fine.temperature_nodes(), "count");
+        metric_centi(
+            "table_fine_error_ppm",
+            fitted::TABLE_FINE_ERROR_F32_CENTI_PPM,
+            "ppm",
+        );
 
         let stack = measure_call_bytes(&mut float, temp_f[0], fpu::temp_update)
             .max(measure_call_bytes(&mut float, raw_f[0], fpu::sample));
