@@ -493,8 +493,12 @@ fn report_sweep(costs_centi: &[u64], ours_centi: u64, errors_centi: &[u64]) {
 /// Per-degree figures of the f32 polynomial with our f32 path's checks.
 #[cfg(fpu)]
 mod sweep_f32 {
-    use super::{CALLS, Counter, metric_degree, net_insn};
-    use compensate::{Status, TableView};
+    use super::{
+        CALLS, Counter, IMAGE_F32_FINE, fpu, metric, metric_centi, metric_degree, net_insn,
+        report_insn, report_sweep,
+    };
+    use compensate::{Compensator, Status, TableView};
+    use cortex_m_semihosting::hprintln;
     use semidrift_firmware::poly::fitted::{self, RAW_TERMS};
     use semidrift_firmware::poly_checked::PolyF32Checked;
     use semidrift_firmware::rt;
@@ -512,6 +516,8 @@ mod sweep_f32 {
 
     /// Prints and returns (hundredths) the instructions of one checked
     /// temperature update of the polynomial with `coeffs` (degree `K - 1`).
+    /// Out of line, so only one degree's state is on the stack at a time.
+    #[inline(never)]
     fn degree<const K: usize>(
         counter: &Counter,
         view: &TableView<'_>,
@@ -519,7 +525,7 @@ mod sweep_f32 {
         coeffs: [[f32; K]; RAW_TERMS],
     ) -> u64 {
         let Some(mut p) = checked_f32(view, poly_f32(coeffs)) else {
-            cortex_m_semihosting::hprintln!("error: well_level_f32.bin has no f32 thermometer");
+            hprintln!("error: well_level_f32.bin has no f32 thermometer");
             rt::exit_failure()
         };
         if let Some(&first) = temps.first() {
@@ -538,7 +544,7 @@ mod sweep_f32 {
     }
 
     /// Every degree of the sweep, lowest first.
-    pub fn all(counter: &Counter, view: &TableView<'_>, t: &[f32]) -> [u64; fitted::SWEEP_DEGREES] {
+    fn all(counter: &Counter, view: &TableView<'_>, t: &[f32]) -> [u64; fitted::SWEEP_DEGREES] {
         // The list below names each degree's constants.
         const { assert!(fitted::SWEEP_DEGREES == 12) };
         [
@@ -555,6 +561,54 @@ mod sweep_f32 {
             degree(counter, view, t, fitted::SWEEP_COEFFS_F32_11),
             degree(counter, view, t, fitted::SWEEP_COEFFS_F32_12),
         ]
+    }
+
+    /// The sweep's figures and the crossover against our update with
+    /// `float` (timed again here, the same deterministic figure as
+    /// `temp_update_insn`), then our update from the finer image; out of
+    /// line so their state is on the stack only meanwhile.
+    #[inline(never)]
+    pub fn with_fine_image(
+        counter: &Counter,
+        view: &TableView<'_>,
+        temp_f: &[f32],
+        float: &mut Compensator<'static>,
+    ) {
+        let t = fpu::TEMP_UPDATE;
+        let ours = net_insn(counter, CALLS, float, temp_f, t.f, t.empty);
+        let Some(&first) = temp_f.first() else {
+            return;
+        };
+        let costs = all(counter, view, temp_f);
+        report_sweep(&costs, ours, &fitted::SWEEP_ERROR_F32_CENTI_PPM);
+        fine_image(counter, temp_f, first);
+    }
+
+    /// Our update from the finer image (out of line, like the caller).
+    #[inline(never)]
+    fn fine_image(counter: &Counter, temp_f: &[f32], first: f32) {
+        let Ok(view_fine) = TableView::parse(IMAGE_F32_FINE) else {
+            hprintln!("error: well_level_f32_fine.bin does not parse");
+            rt::exit_failure()
+        };
+        let Ok(mut fine) = compensate::Compensator::new(&view_fine) else {
+            hprintln!("error: well_level_f32_fine.bin is not an f32 image");
+            rt::exit_failure()
+        };
+        let _ = fine.update_temperature(first);
+        report_insn(
+            counter,
+            "temp_update_fine_insn",
+            &mut fine,
+            temp_f,
+            fpu::TEMP_UPDATE,
+        );
+        metric("table_fine_nodes", view_fine.temperature_nodes(), "count");
+        metric_centi(
+            "table_fine_error_ppm",
+            fitted::TABLE_FINE_ERROR_F32_CENTI_PPM,
+            "ppm",
+        );
     }
 }
 
@@ -583,6 +637,8 @@ mod sweep_q {
 
     /// Prints and returns (hundredths) the instructions of one checked
     /// temperature update of the polynomial with `coeffs` (degree `K - 1`).
+    /// Out of line, so only one degree's state is on the stack at a time.
+    #[inline(never)]
     fn degree<const K: usize, const XS: u32>(
         counter: &Counter,
         view: &TableView<'_>,
@@ -717,7 +773,7 @@ fn main() -> ! {
         let _ = float.update_temperature(temp_f[0]);
         let _ = fpu::poly_temp_update(&mut poly, temp_f[0]);
 
-        let ours = report_insn(
+        report_insn(
             &counter,
             "temp_update_insn",
             &mut float,
@@ -759,30 +815,7 @@ fn main() -> ! {
             &raw_f,
             fpu::POLY_CHECKED_SAMPLE,
         );
-        let costs = sweep_f32::all(&counter, &view, &temp_f);
-        report_sweep(&costs, ours, &fitted::SWEEP_ERROR_F32_CENTI_PPM);
-        let Ok(view_fine) = TableView::parse(IMAGE_F32_FINE) else {
-            hprintln!("error: well_level_f32_fine.bin does not parse");
-            rt::exit_failure()
-        };
-        let Ok(mut fine) = compensate::Compensator::new(&view_fine) else {
-            hprintln!("error: well_level_f32_fine.bin is not an f32 image");
-            rt::exit_failure()
-        };
-        let _ = fine.update_temperature(temp_f[0]);
-        report_insn(
-            &counter,
-            "temp_update_fine_insn",
-            &mut fine,
-            &temp_f,
-            fpu::TEMP_UPDATE,
-        );
-        metric("table_fine_nodes", view_fine.temperature_nodes(), "count");
-        metric_centi(
-            "table_fine_error_ppm",
-            fitted::TABLE_FINE_ERROR_F32_CENTI_PPM,
-            "ppm",
-        );
+        sweep_f32::with_fine_image(&counter, &view, &temp_f, &mut float);
 
         let stack = measure_call_bytes(&mut float, temp_f[0], fpu::temp_update)
             .max(measure_call_bytes(&mut float, raw_f[0], fpu::sample));
