@@ -162,22 +162,8 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, 
         (l.f32_error.max_error_ppm, l.q_error.max_error_ppm)
     });
     let (f, q) = (&b.f32_form, &b.q_form);
-    let rows_f32: Vec<String> = f
-        .rows
-        .iter()
-        .map(|r| {
-            let v: Vec<String> = r.iter().map(|c| format!("{c:?}")).collect();
-            format!("    [{}],\n", v.join(", "))
-        })
-        .collect();
-    let rows_q: Vec<String> = q
-        .rows
-        .iter()
-        .map(|r| {
-            let v: Vec<String> = r.iter().map(|c| c.to_string()).collect();
-            format!("    [{}],\n", v.join(", "))
-        })
-        .collect();
+    let rows_f32 = rust_rows(&f.rows, |c| format!("{c:?}"));
+    let rows_q = rust_rows(&q.rows, |c| c.to_string());
     let (fe, qe) = (b.f32_error.max_error_ppm, b.q_error.max_error_ppm);
     let fit_points = grid_points(&frame, FIT_TEMPS, DENSE_STIMULI);
     let dense = grid_points(&frame, DENSE_TEMPS, DENSE_STIMULI);
@@ -322,15 +308,7 @@ fn sweep_source(sweep: &[SweepDegree], end: SweepEnd) -> String {
     );
     for d in sweep {
         let k = d.degree + 1;
-        let rows_f32: Vec<String> = d
-            .f32_form
-            .rows
-            .iter()
-            .map(|r| {
-                let v: Vec<String> = r.iter().map(|c| format!("{c:?}")).collect();
-                format!("    [{}],\n", v.join(", "))
-            })
-            .collect();
+        let rows_f32 = rust_rows(&d.f32_form.rows, |c| format!("{c:?}"));
         out += &format!(
             "/// Degree-{deg} coefficients, f32, as `COEFFS_F32`.\n\
              pub const SWEEP_COEFFS_F32_{deg}: [[f32; {k}]; RAW_TERMS] = [\n{rows}];\n",
@@ -338,14 +316,7 @@ fn sweep_source(sweep: &[SweepDegree], end: SweepEnd) -> String {
             rows = rows_f32.concat(),
         );
         if let Some(q) = &d.q_form {
-            let rows_q: Vec<String> = q
-                .rows
-                .iter()
-                .map(|r| {
-                    let v: Vec<String> = r.iter().map(|c| c.to_string()).collect();
-                    format!("    [{}],\n", v.join(", "))
-                })
-                .collect();
+            let rows_q = rust_rows(&q.rows, |c| c.to_string());
             out += &format!(
                 "/// Degree-{deg} coefficients, integer, as `COEFFS_Q` with shift `SWEEP_X_SHIFT_{deg}`.\n\
                  pub const SWEEP_COEFFS_Q_{deg}: [[i32; {k}]; RAW_TERMS] = [\n{rows}];\n\
@@ -554,4 +525,15 @@ fn main() {
         }
         println!("wrote {} ({} bytes)", path.display(), bytes.len());
     }
+}
+
+/// Rows of a coefficient matrix as lines of a Rust array literal, each
+/// number written by `fmt`.
+fn rust_rows<T>(rows: &[Vec<T>], fmt: impl Fn(&T) -> String) -> Vec<String> {
+    rows.iter()
+        .map(|r| {
+            let v: Vec<String> = r.iter().map(&fmt).collect();
+            format!("    [{}],\n", v.join(", "))
+        })
+        .collect()
 }
