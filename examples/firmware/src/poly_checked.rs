@@ -14,7 +14,7 @@
 //! the calibrated span; the polynomial's variable is the signal itself, so
 //! its one clamp, of the signal to the same thermometer axis, is both.
 
-use compensate::{Reading, ReadingQ, Status};
+use compensate::{Reading, ReadingQ, Status, TableView};
 
 use crate::poly::{PolyF32, PolyQ};
 
@@ -224,4 +224,59 @@ impl<const X: usize, const K: usize, const US: u32, const XS: u32> PolyQChecked<
             status,
         }
     }
+}
+
+/// `poly` with the limits of the f32 image `view`: its raw limits,
+/// plausible signal range and thermometer axis (the signal span the table
+/// was calibrated over), so both sides check the same inputs; `None` if the
+/// image has no f32 thermometer.
+pub fn checked_f32<const X: usize, const K: usize>(
+    view: &TableView<'_>,
+    poly: PolyF32<X, K>,
+) -> Option<PolyF32Checked<X, K>> {
+    let t = view.tables_f32()?;
+    let (axis, _) = t.thermometer?;
+    let l = view.raw_limits();
+    Some(PolyF32Checked {
+        poly,
+        raw_lo: l.raw_lo as f32,
+        raw_hi: l.raw_hi as f32,
+        rail_lo: l.rail_lo as f32,
+        rail_hi: l.rail_hi as f32,
+        signal_lo: t.signal_lo,
+        signal_hi: t.signal_hi,
+        clamp_lo: axis.start,
+        clamp_hi: axis.end(),
+        short_lo: t.signal_lo.max(axis.start),
+        short_hi: t.signal_hi.min(axis.end()),
+        temp_status: Status::NO_TEMPERATURE,
+    })
+}
+
+/// `poly` with the limits of the Q image `view` (whole codes: the images
+/// take the signal in ADC codes); `None` if it has no Q thermometer.
+pub fn checked_q<const X: usize, const K: usize, const US: u32, const XS: u32>(
+    view: &TableView<'_>,
+    poly: PolyQ<X, K, US, XS>,
+) -> Option<PolyQChecked<X, K, US, XS>> {
+    let t = view.tables_q()?;
+    let (axis, _) = t.thermometer?;
+    let l = view.raw_limits();
+    let clamp_hi = axis
+        .start()
+        .saturating_add(axis.step().saturating_mul(axis.len() as i32 - 1));
+    Some(PolyQChecked {
+        poly,
+        raw_lo: l.raw_lo,
+        raw_hi: l.raw_hi,
+        rail_lo: l.rail_lo,
+        rail_hi: l.rail_hi,
+        signal_lo: t.signal_lo,
+        signal_hi: t.signal_hi,
+        clamp_lo: axis.start(),
+        clamp_hi,
+        short_lo: t.signal_lo.max(axis.start()),
+        short_hi: t.signal_hi.min(clamp_hi),
+        temp_status: Status::NO_TEMPERATURE,
+    })
 }

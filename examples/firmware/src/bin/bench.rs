@@ -179,30 +179,10 @@ type PolyQCheckedBench = semidrift_firmware::poly_checked::PolyQChecked<
     { semidrift_firmware::poly::fitted::X_SHIFT },
 >;
 
-/// [`poly_q`] with the limits of the Q image `view`: its raw limits,
-/// plausible signal range and thermometer axis (whole codes: the images
-/// take the signal in ADC codes).
+/// [`poly_q`] with the limits of the Q image `view`, so both sides check
+/// the same inputs.
 fn poly_q_checked(view: &TableView<'_>) -> Option<PolyQCheckedBench> {
-    let t = view.tables_q()?;
-    let (axis, _) = t.thermometer?;
-    let l = view.raw_limits();
-    let clamp_hi = axis
-        .start()
-        .saturating_add(axis.step().saturating_mul(axis.len() as i32 - 1));
-    Some(PolyQCheckedBench {
-        poly: poly_q(),
-        raw_lo: l.raw_lo,
-        raw_hi: l.raw_hi,
-        rail_lo: l.rail_lo,
-        rail_hi: l.rail_hi,
-        signal_lo: t.signal_lo,
-        signal_hi: t.signal_hi,
-        clamp_lo: axis.start(),
-        clamp_hi,
-        short_lo: t.signal_lo.max(axis.start()),
-        short_hi: t.signal_hi.min(clamp_hi),
-        temp_status: Status::NO_TEMPERATURE,
-    })
+    semidrift_firmware::poly_checked::checked_q(view, poly_q())
 }
 
 #[inline(never)]
@@ -274,27 +254,10 @@ mod fpu {
     /// The benchmark's polynomial with the checks of our f32 path.
     pub type PolyCheckedBench = PolyF32Checked<RAW_TERMS, TERMS>;
 
-    /// [`poly`] with the limits of the f32 image `view`: its raw limits,
-    /// plausible signal range and thermometer axis (the signal span the
-    /// table was calibrated over), so both sides check the same inputs.
+    /// [`poly`] with the limits of the f32 image `view`, so both sides
+    /// check the same inputs.
     pub fn poly_checked(view: &compensate::TableView<'_>) -> Option<PolyCheckedBench> {
-        let t = view.tables_f32()?;
-        let (axis, _) = t.thermometer?;
-        let l = view.raw_limits();
-        Some(PolyF32Checked {
-            poly: poly(),
-            raw_lo: l.raw_lo as f32,
-            raw_hi: l.raw_hi as f32,
-            rail_lo: l.rail_lo as f32,
-            rail_hi: l.rail_hi as f32,
-            signal_lo: t.signal_lo,
-            signal_hi: t.signal_hi,
-            clamp_lo: axis.start,
-            clamp_hi: axis.end(),
-            short_lo: t.signal_lo.max(axis.start),
-            short_hi: t.signal_hi.min(axis.end()),
-            temp_status: Status::NO_TEMPERATURE,
-        })
+        semidrift_firmware::poly_checked::checked_f32(view, poly())
     }
 
     #[inline(never)]
