@@ -12,7 +12,6 @@
 
 use crate::poly::fitted::{CENTRE_CODE, RAW_TERMS, U_SHIFT};
 use crate::poly::{PolyF32, PolyQ};
-pub use crate::poly_checked::{checked_f32, checked_q};
 
 /// The f32 polynomial with coefficients `coeffs` (`K` per power of the
 /// raw code, degree `K - 1`), the fitted baseline's centre and scale.

@@ -68,10 +68,10 @@ pub fn read_part(path: &std::path::Path) -> Result<PartFile, CliError> {
     PartFile::read(path).map_err(|e| CliError::Input(e.to_string()))
 }
 
-/// Runs `semidrift table`.
-pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let part = read_part(&args.part)?;
-    let budget = args.budget.unwrap_or(part.scenario.budget_ppm);
+/// The total budget of `--budget`, or the part's scenario's; ppm of span,
+/// positive.
+pub fn budget_ppm(arg: Option<f64>, part: &PartFile) -> Result<f64, CliError> {
+    let budget = arg.unwrap_or(part.scenario.budget_ppm);
     if budget.is_nan() || budget <= 0.0 {
         return Err(CliError::option(
             "--budget",
@@ -79,6 +79,13 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
             "must be a positive number of ppm",
         ));
     }
+    Ok(budget)
+}
+
+/// Runs `semidrift table`.
+pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
+    let part = read_part(&args.part)?;
+    let budget = budget_ppm(args.budget, &part)?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let restrict = Restrict {
         interpolation: args.interpolation,

@@ -463,8 +463,9 @@ mod sweep_f32 {
     use cortex_m_semihosting::hprintln;
     use semidrift_firmware::poly::fitted::{self, RAW_TERMS};
     use semidrift_firmware::poly_checked::PolyF32Checked;
+    use semidrift_firmware::poly_checked::checked_f32;
     use semidrift_firmware::rt;
-    use semidrift_firmware::sweep::{checked_f32, poly_f32};
+    use semidrift_firmware::sweep::poly_f32;
 
     #[inline(never)]
     fn update<const K: usize>(p: &mut PolyF32Checked<RAW_TERMS, K>, signal: f32) -> Status {
@@ -582,8 +583,9 @@ mod sweep_q {
     use compensate::{FixedCompensator, Status, TableView};
     use semidrift_firmware::poly::fitted::{self, RAW_TERMS, U_SHIFT};
     use semidrift_firmware::poly_checked::PolyQChecked;
+    use semidrift_firmware::poly_checked::checked_q;
     use semidrift_firmware::rt;
-    use semidrift_firmware::sweep::{checked_q, poly_q};
+    use semidrift_firmware::sweep::poly_q;
 
     type Checked<const K: usize, const XS: u32> = PolyQChecked<RAW_TERMS, K, U_SHIFT, XS>;
 

@@ -3,7 +3,7 @@
 //! allowance its budget leaves, as an SVG (or PNG) file.
 
 use crate::cli::CliError;
-use crate::cli::table::read_part;
+use crate::cli::table::{budget_ppm, read_part};
 use crate::plot::station::{table_series, write_error_plot};
 use crate::station::pipeline;
 use clap::Args;
@@ -31,14 +31,7 @@ pub fn run(args: PlotTableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part(&args.against)?;
     let image = std::fs::read(&args.image)
         .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", args.image.display())))?;
-    let budget = args.budget.unwrap_or(part.scenario.budget_ppm);
-    if budget.is_nan() || budget <= 0.0 {
-        return Err(CliError::option(
-            "--budget",
-            &budget.to_string(),
-            "must be a positive number of ppm",
-        ));
-    }
+    let budget = budget_ppm(args.budget, &part)?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let image_err =
         |e: pipeline::StepError| CliError::Input(format!("{}: {e}", args.image.display()));
