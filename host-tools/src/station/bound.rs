@@ -199,20 +199,25 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     let e_therm = therm.interval_bounds(plan.interpolation);
     let e_t_max = e_therm.iter().fold(0.0, |x: f64, &y| x.max(y));
     let rounding_ohm = input_rounding_ohm(frame);
-    let samples = MIN_CELLS.max(4 * n_t);
-    let dt = (frame.t_hi_c - frame.t_lo_c) / samples as f64;
-    let mut worst: f64 = 0.0;
-    for k in 0..=samples {
-        let t = frame.t_lo_c + dt * k as f64;
+    let worst = max_over_range(frame, MIN_CELLS.max(4 * n_t), |t| {
         // The columns are read at the thermometer's output, within e_t_max
         // of t: the worse interval if that straddles a node.
         let (lo, hi) = ((t - e_t_max - t0) / h_t, (t + e_t_max - t0) / h_t);
         let columns = channels.reading_error(frame, t, lo, hi);
         let s = (m.signal(t) - s0) / h_s;
         let e_t = worst_in(&e_therm, s, s) + rounding_ohm / m.signal_slope(t).abs();
-        worst = worst.max(columns + e_t * drift_slope(frame, t));
-    }
+        columns + e_t * drift_slope(frame, t)
+    });
     SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+}
+
+/// Largest `f(t)` over `samples + 1` evenly spaced temperatures of the
+/// frame's range, ends included.
+fn max_over_range(frame: &TableFrame<'_>, samples: usize, f: impl Fn(f64) -> f64) -> f64 {
+    let dt = (frame.t_hi_c - frame.t_lo_c) / samples as f64;
+    (0..=samples)
+        .map(|k| f(frame.t_lo_c + dt * k as f64))
+        .fold(0.0, f64::max)
 }
 
 /// The bound of a plan over the signal axis ([`AxisKind::Signal`]): the
@@ -243,17 +248,13 @@ fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
         n,
     );
     let rounding_ohm = input_rounding_ohm(frame);
-    let samples = MIN_CELLS.max(4 * n);
-    let dt = (frame.t_hi_c - frame.t_lo_c) / samples as f64;
-    let mut worst: f64 = 0.0;
-    for k in 0..=samples {
-        let t = frame.t_lo_c + dt * k as f64;
+    let worst = max_over_range(frame, MIN_CELLS.max(4 * n), |t| {
         let s = m.signal(t);
         let (lo, hi) = ((s - rounding_ohm - s0) / h_s, (s + rounding_ohm - s0) / h_s);
         let columns = channels.reading_error(frame, t, lo, hi);
         let e_t = rounding_ohm / m.signal_slope(t).abs();
-        worst = worst.max(columns + e_t * drift_slope(frame, t));
-    }
+        columns + e_t * drift_slope(frame, t)
+    });
     SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
 }
 
