@@ -205,15 +205,26 @@ fn signal_axis_images_need_the_thermometer_on_the_channel_nodes() {
 
 proptest::proptest! {
     /// The f32 update's short path (signal inside the axis and the
-    /// plausible range) and its general path compute exactly what the
-    /// public kernels give: `Axis::locate` then `linear` on each column,
-    /// bit for bit, for signals inside, on and beyond the axis; the status
-    /// follows the clamping and the plausible range.
+    /// plausible range, an image without quadratic channel) and its general
+    /// path (every other signal, and any signal on an image with a
+    /// quadratic channel) compute exactly what the public kernels give:
+    /// `Axis::locate` then `linear` on each column, bit for bit, for
+    /// signals inside, on and beyond the axis; so does the temperature read
+    /// afterwards; the status follows the clamping and the plausible range.
     #[test]
-    fn f32_update_matches_the_kernels(signal in 2000.0f32..8000.0, node in 0usize..T_NODES) {
-        let img = encode(&f32_signal_builder());
+    fn f32_update_matches_the_kernels(
+        signal in 2000.0f32..8000.0,
+        node in 0usize..T_NODES,
+        with_quadratic: bool,
+    ) {
+        let mut builder = f32_signal_builder();
+        if !with_quadratic {
+            builder.quadratic = None;
+        }
+        let img = encode(&builder);
         let view = parse(&img);
         let tables = view.tables_f32().unwrap();
+        let (_, therm) = tables.thermometer.unwrap();
         let mut c = Compensator::new(&view).unwrap();
         // Random signals, and every node exactly.
         for s in [signal, S_START + S_STEP * node as f32] {
@@ -222,13 +233,19 @@ proptest::proptest! {
             let want = (
                 compensate::interp::linear(&tables.offset, p),
                 compensate::interp::linear(&tables.gain, p),
-                compensate::interp::linear(&tables.quadratic.unwrap(), p),
+                tables.quadratic.map_or(0.0, |q| compensate::interp::linear(&q, p)),
             );
             let got = c.coefficients();
             proptest::prop_assert_eq!(
                 (got.0.to_bits(), got.1.to_bits(), got.2.to_bits()),
                 (want.0.to_bits(), want.1.to_bits(), want.2.to_bits()),
                 "signal {}: got {:?}, want {:?}", s, got, want
+            );
+            let t_c = compensate::interp::linear(&therm, p);
+            proptest::prop_assert_eq!(
+                c.temperature_c().to_bits(),
+                t_c.to_bits(),
+                "signal {}: temperature {} want {}", s, c.temperature_c(), t_c
             );
             let mut status = Status::OK;
             if p.clamped {

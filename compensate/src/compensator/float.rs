@@ -38,10 +38,14 @@ pub struct Compensator<'a> {
     fast_lo: f32,
     /// Upper end of the short sample path's range (see `fast_lo`).
     fast_hi: f32,
+    /// Degrees Celsius after the thermometer map; on an image over the
+    /// signal axis, the signal itself (see [`Compensator::temperature_c`]).
     temperature_c: f32,
     offset: f32,
     gain: f32,
     quadratic: f32,
+    /// Row position of the 2-D correction, written by the general update
+    /// (the short update serves images without one and leaves it alone).
     row: Position,
     temp_status: Status,
     /// With [`ChannelAxis::Signal`], the thermometer values on the
@@ -52,16 +56,20 @@ pub struct Compensator<'a> {
     short: ShortUpdate<'a>,
 }
 
-/// What the short temperature update needs, copied out of the tables when
+/// What the short temperature update needs, copied out of the image when
 /// the compensator is made: the channels' axis and node words.
 ///
 /// The short update applies to a linear image whose update is one look-up
 /// (channels over the signal axis, or a degrees-Celsius signal without a
-/// thermometer) and to a signal inside both the plausible range and the
-/// channels' axis (`lo <= signal < hi`), where no status is raised and no
-/// clamping happens; it computes exactly what the general update computes
-/// there, with one pair of compares in front and one bounds check per
-/// channel. Every other case takes [`Compensator::update_general`].
+/// thermometer) and has neither a quadratic channel nor a 2-D correction,
+/// and to a signal inside both the plausible range and the channels' axis
+/// (`lo <= signal < hi`), where no status is raised and no clamping
+/// happens. There it computes exactly what the general update computes and
+/// caches only what such an image reads later: the signal, offset, gain
+/// and status (the quadratic coefficient of such an image stays 0; the
+/// temperature is interpolated from the signal when asked for). One pair
+/// of compares is in front and one bounds check covers all four reads.
+/// Every other case takes [`Compensator::update_general`].
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct ShortUpdate<'a> {
@@ -74,10 +82,12 @@ struct ShortUpdate<'a> {
     start: f32,
     /// Node spacing of the channels' axis.
     step: f32,
-    offset: &'a [[u8; 4]],
-    gain: &'a [[u8; 4]],
-    /// Empty without a quadratic channel.
-    quadratic: &'a [[u8; 4]],
+    /// Nodes per channel, `n`. A `u16`, so `n + 2` cannot wrap and the
+    /// compiler sees that the window of `n + 2` words holds words `n` and
+    /// `n + 1`.
+    nodes: u16,
+    /// The offset column followed by the gain column, `2 n` words.
+    channels: &'a [[u8; 4]],
 }
 
 impl ShortUpdate<'_> {
@@ -87,29 +97,17 @@ impl ShortUpdate<'_> {
         hi: f32::NEG_INFINITY,
         start: 0.0,
         step: 1.0,
-        offset: &[],
-        gain: &[],
-        quadratic: &[],
+        nodes: 0,
+        channels: &[],
     };
 }
 
-/// Words `index` and `index + 1`, or none when they are not both there.
-#[inline(always)]
-fn pair(w: &[[u8; 4]], index: usize) -> &[[u8; 4]] {
-    w.get(index..index.wrapping_add(2)).unwrap_or(&[])
-}
-
 /// `v0 + frac (v1 - v0)` on two little-endian words ([`linear`]'s
-/// formula); `None` unless there are exactly two.
+/// formula).
 #[inline(always)]
-fn lerp_words(w: &[[u8; 4]], frac: f32) -> Option<f32> {
-    match w {
-        &[a, b] => {
-            let (v0, v1) = (f32::from_le_bytes(a), f32::from_le_bytes(b));
-            Some(v0 + frac * (v1 - v0))
-        }
-        _ => None,
-    }
+fn lerp_words(w0: [u8; 4], w1: [u8; 4], frac: f32) -> f32 {
+    let (v0, v1) = (f32::from_le_bytes(w0), f32::from_le_bytes(w1));
+    v0 + frac * (v1 - v0)
 }
 
 /// Interpolates with the image's method: the linear kernel inline, the
@@ -181,13 +179,23 @@ fn channels_cubic(t: &TablesF32<'_>, p: Position) -> (f32, f32, f32) {
     (interp_cubic(&t.offset, p), interp_cubic(&t.gain, p), q)
 }
 
-/// The short update of `tables` (see [`ShortUpdate`]), or one that never
-/// applies.
-fn short_update<'a>(tables: &TablesF32<'a>, method: Interpolation) -> ShortUpdate<'a> {
-    if tables.thermometer.is_some() || !method.runs_linear() {
+/// The short update of `tables` (from `view`, without the thermometer
+/// when the channels lie over the signal axis; see [`ShortUpdate`]), or
+/// one that never applies.
+fn short_update<'a>(view: &TableView<'a>, tables: &TablesF32<'a>) -> ShortUpdate<'a> {
+    let axis = tables.temperature;
+    let channels = view.offset_gain_words();
+    let Ok(nodes) = u16::try_from(axis.len) else {
+        return ShortUpdate::NEVER;
+    };
+    if tables.thermometer.is_some()
+        || tables.quadratic.is_some()
+        || tables.grid.is_some()
+        || !view.interpolation().runs_linear()
+        || channels.len() != 2 * axis.len
+    {
         return ShortUpdate::NEVER;
     }
-    let axis = tables.temperature;
     let (lo, hi) = (
         axis.start.max(tables.signal_lo),
         axis.end().min(tables.signal_hi),
@@ -202,9 +210,8 @@ fn short_update<'a>(tables: &TablesF32<'a>, method: Interpolation) -> ShortUpdat
         hi,
         start: axis.start,
         step: axis.step,
-        offset: tables.offset.words(),
-        gain: tables.gain.words(),
-        quadratic: tables.quadratic.map_or(&[], |q| q.words()),
+        nodes,
+        channels,
     }
 }
 
@@ -279,7 +286,7 @@ impl<'a> Compensator<'a> {
                 f32::NEG_INFINITY
             },
             temperature_map,
-            short: short_update(&tables, view.interpolation()),
+            short: short_update(view, &tables),
             ..Self::unconfigured()
         };
         c.set_temperature_c(&tables, tables.temperature.start);
@@ -316,26 +323,25 @@ impl<'a> Compensator<'a> {
         if signal >= s.lo && signal < s.hi {
             // signal >= start, so pos >= 0 and the cast is a floor, as in
             // `Axis::locate`; a pos rounded up to the last node fails the
-            // bounds checks below and takes the general update.
+            // bounds check below and takes the general update.
             let pos = (signal - s.start) / s.step;
             let index = pos as usize;
             let frac = pos - index as f32;
-            if let (Some(offset), Some(gain)) = (
-                lerp_words(pair(s.offset, index), frac),
-                lerp_words(pair(s.gain, index), frac),
-            ) {
+            let n = usize::from(s.nodes);
+            // Offset words `index`, `index + 1` and gain words `n + index`,
+            // `n + index + 1`: inside the block exactly when
+            // `index + n + 2 <= 2 n`, which this one check tests.
+            if let Some(w) = s.channels.get(index..index.wrapping_add(n + 2))
+                && let (Some(&o0), Some(&o1), Some(&g0), Some(&g1)) =
+                    (w.first(), w.get(1), w.get(n), w.get(n + 1))
+            {
                 // At a node (frac == 0) `v0 + 0 (v1 - v0)` is v0 exactly,
                 // as the general update's node read (the parser accepts
                 // finite values only, and their difference is finite
                 // unless both are beyond 1.7e38).
-                let quadratic = lerp_words(pair(s.quadratic, index), frac).unwrap_or(0.0);
                 self.temperature_c = signal;
-                self.row = Position {
-                    index,
-                    frac,
-                    clamped: false,
-                };
-                (self.offset, self.gain, self.quadratic) = (offset, gain, quadratic);
+                self.offset = lerp_words(o0, o1, frac);
+                self.gain = lerp_words(g0, g1, frac);
                 self.temp_status = Status::OK;
                 return Status::OK;
             }
@@ -384,14 +390,18 @@ impl<'a> Compensator<'a> {
     /// thermometer map, before clamping to the table axis).
     ///
     /// On an image over the signal axis ([`ChannelAxis::Signal`]) this
-    /// interpolates the thermometer column at the cached position, the
-    /// temperature clamped to the table's ends; it costs one interpolation
-    /// per call, so call it when the temperature is wanted, not per sample.
+    /// locates the cached signal and interpolates the thermometer column
+    /// there, the temperature clamped to the table's ends; it costs one
+    /// look-up per call, so call it when the temperature is wanted, not per
+    /// sample.
     #[must_use]
     pub fn temperature_c(&self) -> f32 {
-        match &self.temperature_map {
-            Some(values) => interp(self.interpolation, values, self.row),
-            None => self.temperature_c,
+        match (&self.temperature_map, &self.tables) {
+            (Some(values), Some(t)) => {
+                let p = t.temperature.locate_nonempty(self.temperature_c);
+                interp(self.interpolation, values, p)
+            }
+            _ => self.temperature_c,
         }
     }
 

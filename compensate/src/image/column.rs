@@ -25,11 +25,6 @@ impl<'a> ColumnF32<'a> {
             words: bytes.as_chunks::<4>().0,
         }
     }
-
-    /// The column's little-endian words.
-    pub(crate) const fn words(&self) -> &'a [[u8; 4]] {
-        self.words
-    }
 }
 
 impl<'a> ColumnQ<'a> {

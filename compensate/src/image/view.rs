@@ -471,6 +471,17 @@ impl<'a> TableView<'a> {
         self.bytes.get(start..end).unwrap_or(&[])
     }
 
+    /// The offset column followed by the gain column, `2 n_t` words (the
+    /// two are adjacent in every image), for the compensators' short
+    /// temperature updates: one bounds check on this block covers the
+    /// reads of both channels.
+    pub(crate) fn offset_gain_words(&self) -> &'a [[u8; 4]] {
+        let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
+        self.words(o.chan + AXIS_LEN, 2 * self.n_t)
+            .as_chunks::<4>()
+            .0
+    }
+
     /// The tables of an f32 image; `None` for a Q image.
     #[must_use]
     pub fn tables_f32(&self) -> Option<TablesF32<'a>> {
