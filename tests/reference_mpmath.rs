@@ -13,7 +13,7 @@ use std::process::{Command, Stdio};
 use host_tools::physics::constants::K_B_EV_PER_K;
 use host_tools::physics::dopant::{DopantKind, dopant_level};
 use host_tools::physics::fermi::{F_HALF_REL_ERROR, F_MINUS_HALF_REL_ERROR, f_half, f_minus_half};
-use host_tools::physics::{CarrierState, Dopant, Material, Sample, Species, solve};
+use host_tools::physics::{CarrierState, Material, Sample, Species, solve};
 use serde_json::{Value, json};
 
 /// Runs the reference script with `request` on stdin and parses its JSON answer.
@@ -86,19 +86,7 @@ fn fermi_integrals_match_mpmath() {
 }
 
 fn sample(m: Material, donors: &[(Species, f64)], acceptors: &[(Species, f64)]) -> Sample {
-    let conv = |l: &[(Species, f64)]| {
-        l.iter()
-            .map(|&(species, density_cm3)| Dopant {
-                species,
-                density_cm3,
-            })
-            .collect()
-    };
-    Sample {
-        material: m,
-        donors: conv(donors),
-        acceptors: conv(acceptors),
-    }
+    Sample::new(m, donors, acceptors)
 }
 
 /// The neutrality inputs of `s` at `t_k`, expressed through the public

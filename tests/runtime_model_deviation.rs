@@ -12,7 +12,7 @@
 
 use compensate::math::Backend;
 use compensate::model::{Model, ModelParams, bounds};
-use host_tools::physics::{Dopant, Material, ModelPoint, Sample, Species, evaluate};
+use host_tools::physics::{Material, ModelPoint, Sample, Species, evaluate};
 
 const T_REF_K: f64 = 298.15;
 
@@ -28,19 +28,11 @@ struct Case {
 
 impl Case {
     fn sample(&self) -> Sample {
-        let mk = |d: Option<(Species, f64)>| {
-            d.map(|(species, density_cm3)| Dopant {
-                species,
-                density_cm3,
-            })
-            .into_iter()
-            .collect::<Vec<_>>()
-        };
-        Sample {
-            material: Material::Si,
-            donors: mk(self.donor),
-            acceptors: mk(self.acceptor),
-        }
+        Sample::new(
+            Material::Si,
+            self.donor.as_slice(),
+            self.acceptor.as_slice(),
+        )
     }
     fn n_d(&self) -> f32 {
         self.donor.map_or(0.0, |d| d.1 as f32)

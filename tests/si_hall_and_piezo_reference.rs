@@ -1,22 +1,10 @@
 //! Hall coefficient and Kanda piezoresistance factor of the full model,
 //! checked against published behaviour (sources beside each check).
 
-use host_tools::physics::{Dopant, Material, Sample, Species, evaluate};
+use host_tools::physics::{Material, Sample, Species, evaluate};
 
 fn si(donors: &[(Species, f64)], acceptors: &[(Species, f64)]) -> Sample {
-    let list = |v: &[(Species, f64)]| {
-        v.iter()
-            .map(|&(species, density_cm3)| Dopant {
-                species,
-                density_cm3,
-            })
-            .collect()
-    };
-    Sample {
-        material: Material::Si,
-        donors: list(donors),
-        acceptors: list(acceptors),
-    }
+    Sample::new(Material::Si, donors, acceptors)
 }
 
 /// p-type Si turns n-type in Hall sign on intrinsic takeover, and does so

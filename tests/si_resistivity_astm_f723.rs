@@ -14,7 +14,7 @@
 //! were counted twice, the resistivity at 1e17..3e18 cm^-3 would come out
 //! 20..25 % too high.
 
-use host_tools::physics::{Dopant, Material, Sample, Species, evaluate};
+use host_tools::physics::{Material, Sample, Species, evaluate};
 
 /// 23 C, the temperature of the standard (ASTM F723, section 1.1).
 const T_23C_K: f64 = 296.15;
@@ -34,21 +34,9 @@ fn astm_rho_phosphorus(n_cm3: f64) -> f64 {
 }
 
 fn sample(species: Species, n_cm3: f64) -> Sample {
-    let dopant = Dopant {
-        species,
-        density_cm3: n_cm3,
-    };
     match species {
-        Species::B => Sample {
-            material: Material::Si,
-            donors: vec![],
-            acceptors: vec![dopant],
-        },
-        _ => Sample {
-            material: Material::Si,
-            donors: vec![dopant],
-            acceptors: vec![],
-        },
+        Species::B => Sample::new(Material::Si, &[], &[(species, n_cm3)]),
+        _ => Sample::new(Material::Si, &[(species, n_cm3)], &[]),
     }
 }
 

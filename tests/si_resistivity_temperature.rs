@@ -36,7 +36,7 @@
 //! 1 210 ppm/K, and fails.
 
 use host_tools::physics::constants::Q_C;
-use host_tools::physics::{Dopant, Material, Sample, Species, evaluate};
+use host_tools::physics::{Material, Sample, Species, evaluate};
 
 /// Allowed ratio between the model's TCR and Arora's, either way (module docs).
 const TCR_FACTOR: f64 = 2.5;
@@ -58,22 +58,10 @@ fn arora_rho(holes: bool, n_cm3: f64, t_k: f64) -> f64 {
 }
 
 fn sample(species: Species, n_cm3: f64) -> Sample {
-    let dopant = vec![Dopant {
-        species,
-        density_cm3: n_cm3,
-    }];
     if species == Species::B {
-        Sample {
-            material: Material::Si,
-            donors: vec![],
-            acceptors: dopant,
-        }
+        Sample::new(Material::Si, &[], &[(species, n_cm3)])
     } else {
-        Sample {
-            material: Material::Si,
-            donors: dopant,
-            acceptors: vec![],
-        }
+        Sample::new(Material::Si, &[(species, n_cm3)], &[])
     }
 }
 

@@ -9,22 +9,15 @@
 use std::hint::black_box;
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
-use host_tools::physics::{Dopant, Material, Sample, Species, solve};
-
-fn dopant(species: Species, density_cm3: f64) -> Dopant {
-    Dopant {
-        species,
-        density_cm3,
-    }
-}
+use host_tools::physics::{Material, Sample, Species, solve};
 
 fn bench_solve(c: &mut Criterion) {
     let temps: Vec<f64> = (20..=1000).map(f64::from).collect();
-    let si3 = Sample {
-        material: Material::Si,
-        donors: vec![dopant(Species::P, 2e15), dopant(Species::As, 5e14)],
-        acceptors: vec![dopant(Species::B, 3e14)],
-    };
+    let si3 = Sample::new(
+        Material::Si,
+        &[(Species::P, 2e15), (Species::As, 5e14)],
+        &[(Species::B, 3e14)],
+    );
     let mut group = c.benchmark_group("solve_sweep_20_1000k");
     group.throughput(Throughput::Elements(temps.len() as u64));
     group.bench_function("si_P_As_B", |b| {
@@ -49,11 +42,7 @@ fn bench_solve(c: &mut Criterion) {
         (Material::Sic4H, Species::N, Species::Al),
     ];
     for (m, d, a) in samples {
-        let s = Sample {
-            material: m,
-            donors: vec![dopant(d, 1e17)],
-            acceptors: vec![dopant(a, 1e16)],
-        };
+        let s = Sample::new(m, &[(d, 1e17)], &[(a, 1e16)]);
         group.bench_function(m.name(), |b| {
             b.iter(|| solve(black_box(&s), black_box(300.0)).map_or(f64::NAN, |s| s.n_cm3));
         });

@@ -17,7 +17,7 @@ use criterion::{
     BenchmarkGroup, Criterion, SamplingMode, Throughput, criterion_group, criterion_main,
 };
 use host_tools::physics::model::evaluate_state;
-use host_tools::physics::{Dopant, Material, Sample, Species, evaluate, solve};
+use host_tools::physics::{Material, Sample, Species, evaluate, solve};
 
 /// Temperatures of one sweep: 20..=1000 K in 1 K steps (981 points).
 fn sweep_k() -> Vec<f64> {
@@ -26,44 +26,20 @@ fn sweep_k() -> Vec<f64> {
 
 /// A compensated n-type Si sample with three species (two donors, one acceptor).
 fn three_species_si() -> Sample {
-    Sample {
-        material: Material::Si,
-        donors: vec![
-            Dopant {
-                species: Species::P,
-                density_cm3: 2e15,
-            },
-            Dopant {
-                species: Species::As,
-                density_cm3: 5e14,
-            },
-        ],
-        acceptors: vec![Dopant {
-            species: Species::B,
-            density_cm3: 3e14,
-        }],
-    }
+    Sample::new(
+        Material::Si,
+        &[(Species::P, 2e15), (Species::As, 5e14)],
+        &[(Species::B, 3e14)],
+    )
 }
 
 /// The heavily doped p-type piezoresistor of the well-level scenario (B 2e18).
 fn piezoresistor_si() -> Sample {
-    Sample {
-        material: Material::Si,
-        donors: vec![Dopant {
-            species: Species::P,
-            density_cm3: 1e15,
-        }],
-        acceptors: vec![
-            Dopant {
-                species: Species::B,
-                density_cm3: 2e18,
-            },
-            Dopant {
-                species: Species::Al,
-                density_cm3: 1e14,
-            },
-        ],
-    }
+    Sample::new(
+        Material::Si,
+        &[(Species::P, 1e15)],
+        &[(Species::B, 2e18), (Species::Al, 1e14)],
+    )
 }
 
 fn bench_sweeps<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {

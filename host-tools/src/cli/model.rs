@@ -337,14 +337,7 @@ mod tests {
     }
 
     fn sample() -> Sample {
-        Sample {
-            material: Material::Si,
-            donors: vec![Dopant {
-                species: Species::P,
-                density_cm3: 1e15,
-            }],
-            acceptors: vec![],
-        }
+        Sample::new(Material::Si, &[(Species::P, 1e15)], &[])
     }
 
     #[test]

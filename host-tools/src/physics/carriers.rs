@@ -582,22 +582,10 @@ fn all_finite(s: &CarrierState) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::physics::dopant::{Dopant, Species};
+    use crate::physics::dopant::Species;
 
     fn sample(m: Material, donors: &[(Species, f64)], acceptors: &[(Species, f64)]) -> Sample {
-        let conv = |l: &[(Species, f64)]| {
-            l.iter()
-                .map(|&(species, density_cm3)| Dopant {
-                    species,
-                    density_cm3,
-                })
-                .collect()
-        };
-        Sample {
-            material: m,
-            donors: conv(donors),
-            acceptors: conv(acceptors),
-        }
+        Sample::new(m, donors, acceptors)
     }
 
     fn rel(a: f64, b: f64) -> f64 {
@@ -790,29 +778,17 @@ mod tests {
 #[cfg(test)]
 mod eval_count {
     use super::*;
-    use crate::physics::dopant::{Dopant, Species};
+    use crate::physics::dopant::Species;
 
     /// Average number of neutrality evaluations per solve over a sweep: the
     /// cost model of the solver (each evaluation is ~20 transcendental calls).
     #[test]
     fn evaluations_per_solve() {
-        let s = Sample {
-            material: Material::Si,
-            donors: vec![
-                Dopant {
-                    species: Species::P,
-                    density_cm3: 2e15,
-                },
-                Dopant {
-                    species: Species::As,
-                    density_cm3: 5e14,
-                },
-            ],
-            acceptors: vec![Dopant {
-                species: Species::B,
-                density_cm3: 3e14,
-            }],
-        };
+        let s = Sample::new(
+            Material::Si,
+            &[(Species::P, 2e15), (Species::As, 5e14)],
+            &[(Species::B, 3e14)],
+        );
         EVALS.with(|c| c.set(0));
         let mut worst = 0;
         for t in 20..=1000 {

@@ -8,7 +8,7 @@
 //! carrier for Si ([`super::piezo`]).
 
 use super::carriers::{self, CarrierState};
-use super::dopant::Dopant;
+use super::dopant::{Dopant, Species};
 use super::error::ModelError;
 use super::material::Material;
 use super::mobility::{self, Mobility};
@@ -24,6 +24,31 @@ pub struct Sample {
     pub donors: Vec<Dopant>,
     /// Acceptor species and densities.
     pub acceptors: Vec<Dopant>,
+}
+
+impl Sample {
+    /// A sample of `material` with donors and acceptors given as
+    /// `(species, density_cm3)` pairs.
+    #[must_use]
+    pub fn new(
+        material: Material,
+        donors: &[(Species, f64)],
+        acceptors: &[(Species, f64)],
+    ) -> Self {
+        let list = |l: &[(Species, f64)]| {
+            l.iter()
+                .map(|&(species, density_cm3)| Dopant {
+                    species,
+                    density_cm3,
+                })
+                .collect()
+        };
+        Self {
+            material,
+            donors: list(donors),
+            acceptors: list(acceptors),
+        }
+    }
 }
 
 /// Every quantity the full model gives at one temperature (the `semidrift model` row).
@@ -126,25 +151,12 @@ pub fn evaluate_state(material: Material, state: &CarrierState) -> ModelPoint {
 mod tests {
     use super::*;
     use crate::physics::constants::Q_C;
-    use crate::physics::dopant::Species;
     use crate::physics::mobility::{SI_ELECTRONS_P, SI_HOLES_B, masetti_arora};
 
     fn single(species: Species, n_cm3: f64) -> Sample {
-        let d = vec![Dopant {
-            species,
-            density_cm3: n_cm3,
-        }];
         match species {
-            Species::B => Sample {
-                material: Material::Si,
-                donors: vec![],
-                acceptors: d,
-            },
-            _ => Sample {
-                material: Material::Si,
-                donors: d,
-                acceptors: vec![],
-            },
+            Species::B => Sample::new(Material::Si, &[], &[(species, n_cm3)]),
+            _ => Sample::new(Material::Si, &[(species, n_cm3)], &[]),
         }
     }
 

@@ -358,17 +358,10 @@ fn arrhenius_panel<DB: DrawingBackend>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::physics::{Dopant, Material, Species};
+    use crate::physics::{Material, Species};
 
     fn sample() -> Sample {
-        Sample {
-            material: Material::Si,
-            donors: vec![Dopant {
-                species: Species::P,
-                density_cm3: 1e15,
-            }],
-            acceptors: vec![],
-        }
+        Sample::new(Material::Si, &[(Species::P, 1e15)], &[])
     }
 
     /// A synthetic row with the given electron and hole densities.
