@@ -170,10 +170,12 @@
 //! the signal axis ([`image::ChannelAxis::Signal`]) it locates the signal
 //! once and interpolates the channels only, and the thermometer column is
 //! read when [`Compensator::temperature_c`] is called. On such an image
-//! (or a degrees-Celsius one without thermometer) the f32 update has a
-//! short path for a signal inside the plausible range and the axis: one
-//! pair of compares, the look-up and one bounds check per channel, with
-//! the same results as the general path.
+//! (or a degrees-Celsius one without thermometer), linear and without
+//! quadratic channel or 2-D section, the f32 update has a short path for a
+//! signal inside the plausible range and the axis: one pair of compares,
+//! the look-up, one bounds check for the four words read and a cache of
+//! signal, offset, gain and status, with the same results as the general
+//! path.
 //!
 //! Measured with the firmware example's benchmark (QEMU, executed
 //! instructions per call beyond an empty call, opt-level 3, fat LTO; the
@@ -185,7 +187,7 @@
 //! |---|---:|---:|
 //! | `compensate_sample` | 12 | 58 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
-//! | `update_temperature`, channels over the signal (3 channels) | 59 | 212 |
+//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand) | 44 | 212 |
 //!
 //! (The over-temperature row was measured before the latest sample-path
 //! changes, on the image the firmware embedded then.)

@@ -221,4 +221,4 @@ pub const SWEEP_X_SHIFT_12: u32 = 21;
 /// 30), hundredths of a ppm of span: 11.55 ppm.
 pub const TABLE_FINE_ERROR_F32_CENTI_PPM: u64 = 1155;
 /// The degree whose f32 error the finer image matches (the Cortex-M4F crossover).
-pub const FINE_MATCH_DEGREE: usize = 11;
+pub const FINE_MATCH_DEGREE: usize = 7;
