@@ -55,22 +55,32 @@ pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
 /// `frac_q16 < 2^16`: `v0 + round(frac (v1 - v0))`, rounded half up.
 ///
 /// `lerp_q(v0, v1, 0)` is `v0` exactly (the scaled step is
-/// `floor(2^15 / 2^16) = 0` on both paths below), so a caller that has
-/// both words at hand need not test for a node first and still matches
+/// `floor(2^15 / 2^16) = 0` on both paths), so a caller that has both
+/// words at hand need not test for a node first and still matches
 /// [`linear_q`]'s node read bit for bit.
 #[inline]
 pub(crate) fn lerp_q(v0: i32, v1: i32, frac_q16: u32) -> i32 {
-    if let Some(d) = v1.checked_sub(v0) {
-        // 32-bit path when the node difference fits in i32 (always for
-        // neighbouring nodes of a smooth column). With f = frac < 2^16,
-        // s = floor((d f + 2^15) / 2^16) lies between 0 and d: for d > 0,
-        // d f + 2^15 <= d (2^16 - 1) + 2^15 < (d + 1) 2^16 gives s <= d;
-        // for d < 0, d f + 2^15 >= d (2^16 - 1) + 2^15 > d 2^16 gives
-        // s >= d. So v0 + s lies between v0 and v1: it fits in i32, needs
-        // no saturation, and equals the i64 path below bit for bit.
-        return v0.wrapping_add(scale_q16_i32(d, frac_q16));
+    match lerp_q_narrow(v0, v1, frac_q16) {
+        Some(v) => v,
+        None => lerp_q_wide(v0, v1, frac_q16),
     }
-    lerp_q_wide(v0, v1, frac_q16)
+}
+
+/// [`lerp_q`] when the node difference `v1 - v0` fits in i32 (always for
+/// neighbouring nodes of a smooth column), in 32-bit arithmetic; `None`
+/// otherwise. A caller that has another way for that case (the integer
+/// compensator's short update falls back to its general one) needs no
+/// call to [`lerp_q_wide`] and keeps its registers.
+#[inline]
+pub(crate) fn lerp_q_narrow(v0: i32, v1: i32, frac_q16: u32) -> Option<i32> {
+    let d = v1.checked_sub(v0)?;
+    // With f = frac < 2^16, s = floor((d f + 2^15) / 2^16) lies between 0
+    // and d: for d > 0, d f + 2^15 <= d (2^16 - 1) + 2^15 < (d + 1) 2^16
+    // gives s <= d; for d < 0, d f + 2^15 >= d (2^16 - 1) + 2^15 > d 2^16
+    // gives s >= d. So v0 + s lies between v0 and v1: it fits in i32,
+    // needs no saturation, and equals the i64 result of `lerp_q_wide` bit
+    // for bit.
+    Some(v0.wrapping_add(scale_q16_i32(d, frac_q16)))
 }
 
 /// [`lerp_q`] for node differences beyond the i32 range, in i64: out of
@@ -237,6 +247,55 @@ mod tests {
                 a.unsigned_abs() + b.unsigned_abs(),
             ));
             assert_eq!(got, want, "a={a} b={b}: got {got}, expected {want}");
+        }
+    }
+
+    #[test]
+    fn lerp_q_matches_the_i64_formula() {
+        // Independent reference: v0 + floor((d f + 2^15) / 2^16) in i128,
+        // saturated. Node values at the i32 edges (differences beyond the
+        // i32 range: the wide case), fractions 0 (a node: the first value
+        // exactly), 1 LSB, 1/2, 1 LSB below 1, and a seeded sweep.
+        let edge = [i32::MIN, i32::MIN + 1, -65_536, -1, 0, 1, 65_535, i32::MAX];
+        let mut cases: Vec<(i32, i32, u32)> = Vec::new();
+        for &v0 in &edge {
+            for &v1 in &edge {
+                for f in [0, 1, 0x8000, 0xFFFF] {
+                    cases.push((v0, v1, f));
+                }
+            }
+        }
+        let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
+        for _ in 0..20_000 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            cases.push((
+                x as i32,
+                (x >> 32) as i32 >> (x % 24),
+                (x >> 40) as u32 & 0xFFFF,
+            ));
+        }
+        for (v0, v1, f) in cases {
+            let d = i128::from(v1) - i128::from(v0);
+            let want = (i128::from(v0) + ((d * i128::from(f) + (1 << 15)) >> 16))
+                .clamp(i128::from(i32::MIN), i128::from(i32::MAX)) as i32;
+            let got = lerp_q(v0, v1, f);
+            assert_eq!(
+                got, want,
+                "lerp_q({v0}, {v1}, {f}) = {got}, expected {want}"
+            );
+            if f == 0 {
+                assert_eq!(got, v0, "lerp_q({v0}, {v1}, 0) is not the node value");
+            }
+            // The 32-bit form answers exactly when the difference fits.
+            let narrow = lerp_q_narrow(v0, v1, f);
+            let fits = i32::try_from(d).is_ok();
+            assert_eq!(
+                narrow,
+                fits.then_some(want),
+                "lerp_q_narrow({v0}, {v1}, {f}) = {narrow:?}"
+            );
         }
     }
 
