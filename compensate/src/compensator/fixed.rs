@@ -98,11 +98,11 @@ pub struct FixedCompensator<'a> {
 /// ([`InsideQ::locate`], which [`AxisQ::locate`] runs inside the axis) and
 /// the same rounding ([`lerp_q_narrow`], which [`linear_q`] runs between
 /// nodes whose difference fits in i32; wider ones take the general
-/// update), and caches only what such an image reads later: the signal, offset,
-/// gain and status (the quadratic coefficient of such an image stays 0
-/// and with it the short sample range; the row position serves only a
-/// 2-D correction; the temperature is interpolated from the signal when
-/// asked for). One pair of compares is in front and one bounds check
+/// update), and caches only what such an image reads later: the signal,
+/// offset, gain and status (the quadratic coefficient of such an image
+/// stays 0 and with it the short sample range; the row position serves
+/// only a 2-D correction; the temperature is interpolated from the signal
+/// when asked for). One pair of compares is in front and one bounds check
 /// covers all four reads. Every other case takes
 /// [`FixedCompensator::update_general`].
 // `repr(C)`: the halfword `nodes` within ARMv6-M's halfword-load reach of
@@ -404,6 +404,7 @@ impl<'a> FixedCompensator<'a> {
             // `n + index + 1`: inside the block exactly when
             // `index + n + 2 <= 2 n`, which this one check tests. index and
             // n are below 2^16: no sum wraps.
+            //
             // At a node (frac == 0) `lerp_q_narrow` gives v0 exactly, as
             // the general update's node read. A node difference beyond the
             // i32 range (`None`) takes the general update, which runs
