@@ -262,8 +262,8 @@ mod tests {
         Table1d::new(-40.0, 40.0, [1.0, 2.0, 4.0, 8.0], Interpolation::Linear);
 
     #[test]
-    fn const_tables_evaluate() {
-        let t = T.unwrap();
+    fn const_tables_evaluate() -> Result<(), &'static str> {
+        let t = T.ok_or("valid const table")?;
         // (t, expected value, expected status)
         let cases = [
             (-40.0, 1.0, Status::OK),
@@ -283,17 +283,18 @@ mod tests {
         assert!(Table1d::new(0.0, 0.0, [1.0, 2.0], Interpolation::Linear).is_none());
         assert!(Table1d::new(0.0, f32::MAX, [1.0, 2.0, 3.0], Interpolation::Linear).is_none());
         assert!(Table1dQ::new(0, -1, [1, 2], Interpolation::Linear).is_none());
+        Ok(())
     }
 
     #[test]
-    fn q_table_and_2d_tables() {
+    fn q_table_and_2d_tables() -> Result<(), &'static str> {
         let q = Table1dQ::new(
             -40 << 16,
             40 << 16,
             [100, 200, 400, 800],
             Interpolation::Linear,
         )
-        .unwrap();
+        .ok_or("valid Q table")?;
         assert_eq!(q.eval(-20 << 16), (150, Status::OK));
         assert_eq!(q.eval(i32::MAX), (800, Status::TEMPERATURE_CLAMPED));
         let g = Table2d::new(
@@ -301,7 +302,7 @@ mod tests {
             (0.0, 100.0),
             [[0.0, 1.0, 2.0], [10.0, 11.0, 12.0]],
         )
-        .unwrap();
+        .ok_or("valid 2-D table")?;
         assert_eq!(g.eval(5.0, 150.0), (6.5, Status::OK));
         assert_eq!(
             g.eval(20.0, -1.0),
@@ -310,8 +311,10 @@ mod tests {
                 Status::TEMPERATURE_CLAMPED | Status::INPUT_OUT_OF_RANGE
             )
         );
-        let gq = Table2dQ::new((0, 10), (0, 100), [[0, 100, 200], [1000, 1100, 1200]]).unwrap();
+        let gq = Table2dQ::new((0, 10), (0, 100), [[0, 100, 200], [1000, 1100, 1200]])
+            .ok_or("valid 2-D Q table")?;
         assert_eq!(gq.eval(5, 150), (650, Status::OK));
         assert_eq!(gq.eval(10, 200), (1200, Status::OK));
+        Ok(())
     }
 }

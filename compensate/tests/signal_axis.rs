@@ -9,7 +9,7 @@ use compensate::image::layout::off;
 use compensate::image::{
     AxisSpec, ChannelAxis, EncodeError, ImageError, MapSpec, QFormat, Section, SignalKind, Unit,
 };
-use compensate::interp::Interpolation;
+use compensate::interp::{Interpolation, linear_q};
 use compensate::{Compensator, FixedCompensator, ImageBuilder, Status, TableView};
 
 /// Signal nodes 4000..=5600 ohm every 200 ohm, the channels' nodes.
@@ -252,6 +252,58 @@ proptest::proptest! {
                 status |= Status::TEMPERATURE_CLAMPED;
             }
             if !(3000.0..=7000.0).contains(&s) {
+                status |= Status::SENSOR_FAULT;
+            }
+            proptest::prop_assert_eq!(st, status, "signal {}", s);
+        }
+    }
+}
+
+proptest::proptest! {
+    /// The integer update's short path (signal inside the axis and the
+    /// plausible range, an image without quadratic channel) and its
+    /// general path (every other signal, and any signal on an image with a
+    /// quadratic channel) compute exactly what the public kernels give:
+    /// `AxisQ::locate` then `linear_q` on each column, bit for bit, for
+    /// signals inside, on, next to and beyond the axis and its nodes; so
+    /// does the temperature read afterwards; the status follows the
+    /// clamping and the plausible range.
+    #[test]
+    fn q_update_matches_the_kernels(
+        signal in to_q(2000.0, QF.signal)..to_q(8000.0, QF.signal),
+        node in 0usize..T_NODES,
+        next_to_node in -2i32..=2,
+        with_quadratic: bool,
+    ) {
+        let mut builder = q_signal_builder();
+        if !with_quadratic {
+            builder.quadratic = None;
+            builder.q_format.quadratic = 0;
+        }
+        let img = encode(&builder);
+        let view = parse(&img);
+        let tables = view.tables_q().unwrap();
+        let (_, therm) = tables.thermometer.unwrap();
+        let mut c = FixedCompensator::new(&view).unwrap();
+        let on_node = to_q(S_START + S_STEP * node as f32, QF.signal);
+        // Random signals, every node exactly and the LSBs next to it (the
+        // first and last node included: the short path's range ends there).
+        for s in [signal, on_node + next_to_node] {
+            let st = c.update_temperature(s);
+            let p = tables.temperature.locate(s);
+            let want = (
+                linear_q(&tables.offset, p),
+                linear_q(&tables.gain, p),
+                tables.quadratic.map_or(0, |q| linear_q(&q, p)),
+            );
+            proptest::prop_assert_eq!(c.coefficients(), want, "signal {}", s);
+            let t_q = linear_q(&therm, p);
+            proptest::prop_assert_eq!(c.temperature_q(), t_q, "signal {}: temperature", s);
+            let mut status = Status::OK;
+            if p.clamped {
+                status |= Status::TEMPERATURE_CLAMPED;
+            }
+            if !(to_q(3000.0, QF.signal)..=to_q(7000.0, QF.signal)).contains(&s) {
                 status |= Status::SENSOR_FAULT;
             }
             proptest::prop_assert_eq!(st, status, "signal {}", s);

@@ -99,11 +99,25 @@ impl Axis {
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct AxisQ {
-    start: i32,
+    /// First node and reciprocal step: what locating a point inside the
+    /// axis takes.
+    inside: InsideQ,
     step: u32,
     len: usize,
     /// `(len - 1) * step`, below 2^32 because the last node fits in i32.
     span: u32,
+}
+
+/// The part of an [`AxisQ`] that locates a point inside the axis (from
+/// the first node up to, not including, the last): the first node and the
+/// reciprocal of the step. [`AxisQ::locate`] runs [`InsideQ::locate`]
+/// after its clamping tests; a caller that has already tested the range
+/// (the integer compensator's short temperature update) keeps a copy of
+/// this part alone and runs the same arithmetic.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(crate) struct InsideQ {
+    start: i32,
     /// `inv = ceil(2^48 / step)` split as `inv_hi 2^32 + inv_mid 2^16 +
     /// inv_low` (`inv_hi <= 2^16`; the other two 16-bit halves, stored
     /// apart so that ARMv6-M code forms the high word of `u inv_lo` from
@@ -166,20 +180,36 @@ impl AxisQ {
         let step = step as u32;
         let inv = ceil_2pow48_div(step);
         Some(Self {
-            start,
+            inside: InsideQ {
+                start,
+                inv_hi: (inv >> 32) as u32,
+                inv_mid: ((inv >> 16) & 0xFFFF) as u32,
+                inv_low: (inv & 0xFFFF) as u32,
+            },
             step,
             len,
             span,
-            inv_hi: (inv >> 32) as u32,
-            inv_mid: ((inv >> 16) & 0xFFFF) as u32,
-            inv_low: (inv & 0xFFFF) as u32,
         })
     }
 
     /// First node abscissa.
     #[must_use]
     pub const fn start(&self) -> i32 {
-        self.start
+        self.inside.start
+    }
+
+    /// Abscissa of the last node.
+    #[must_use]
+    pub(crate) const fn end(&self) -> i32 {
+        // The last node fits in i32 (see `new`), so the wrapping u32 sum
+        // of the first node and the span is exact.
+        (self.inside.start as u32).wrapping_add(self.span) as i32
+    }
+
+    /// What locating a point inside the axis takes (see [`InsideQ`]).
+    #[must_use]
+    pub(crate) const fn inside(&self) -> InsideQ {
+        self.inside
     }
 
     /// Node spacing.
@@ -208,16 +238,17 @@ impl AxisQ {
         // Integer arithmetic here is bounded by construction (see `new`);
         // wrapping operations state that no overflow is possible.
         let last = self.len.wrapping_sub(1);
-        if x <= self.start {
+        let start = self.inside.start;
+        if x <= start {
             return PositionQ {
                 index: 0,
                 frac_q16: 0,
-                clamped: x < self.start,
+                clamped: x < start,
             };
         }
         // x > start, so the exact difference is in 1..2^32 and the wrapping
         // u32 difference equals it.
-        let u = (x as u32).wrapping_sub(self.start as u32);
+        let u = (x as u32).wrapping_sub(start as u32);
         if u >= self.span {
             return PositionQ {
                 index: last,
@@ -225,24 +256,7 @@ impl AxisQ {
                 clamped: u > self.span,
             };
         }
-        // 0 < u < span <= u32::MAX (the end fits in i32). Division-free:
-        // with inv = ceil(2^48 / step) = inv_hi 2^32 + inv_lo (inv_hi <= 2^16),
-        // t = floor(u inv / 2^32) = u inv_hi + floor(u inv_lo / 2^32) is the
-        // position in Q.16. The rounded-up reciprocal overshoots by
-        // u (inv - 2^48/step) / 2^32 < 1 LSB, and not at all in whole LSBs
-        // at a node (u = k step makes the overshoot k step (inv - 2^48/step)
-        // < 2^32, i.e. below one LSB, and the exact value an integer):
-        // |t - exact| < 1 LSB, nodes exact. Since u < (len - 1) step,
-        // t < (len - 1) 2^16 + 1 <= 2^32 - 2^17 + 1: t and both terms fit in
-        // u32, so 32-bit wrapping arithmetic computes them exactly (one
-        // 32-bit multiply and one high word of a 32x32 product, instead of
-        // two 64-bit products on ARMv6-M).
-        let t = u.wrapping_mul(self.inv_hi).wrapping_add(mul_hi_u32_halves(
-            u,
-            self.inv_mid,
-            self.inv_low,
-        ));
-        let index = (t >> 16) as usize;
+        let (index, frac_q16) = self.inside.locate(x);
         if index >= last {
             // Only within one LSB of the last node.
             return PositionQ {
@@ -253,9 +267,51 @@ impl AxisQ {
         }
         PositionQ {
             index,
-            frac_q16: t & 0xFFFF,
+            frac_q16,
             clamped: false,
         }
+    }
+}
+
+impl InsideQ {
+    /// A placeholder: first node 0, step 1 (for a short update that never
+    /// runs).
+    pub(crate) const UNIT_STEP: Self = Self {
+        start: 0,
+        inv_hi: 1 << 16,
+        inv_mid: 0,
+        inv_low: 0,
+    };
+
+    /// Node index and Q0.16 fraction of `x`, for `x` from the first node
+    /// up to, not including, the last; the index may then equal the last
+    /// node's (within one LSB of it, with any fraction), which
+    /// [`AxisQ::locate`] maps to the last node. At the first node both are
+    /// 0, as [`AxisQ::locate`] gives there.
+    #[inline(always)]
+    #[must_use]
+    pub(crate) fn locate(&self, x: i32) -> (usize, u32) {
+        // start <= x < end, so the exact difference is in 0..span and the
+        // wrapping u32 difference equals it.
+        let u = (x as u32).wrapping_sub(self.start as u32);
+        // Division-free: with inv = ceil(2^48 / step) = inv_hi 2^32 + inv_lo
+        // (inv_hi <= 2^16), t = floor(u inv / 2^32) = u inv_hi +
+        // floor(u inv_lo / 2^32) is the position in Q.16. The rounded-up
+        // reciprocal overshoots by u (inv - 2^48/step) / 2^32 < 1 LSB, and
+        // not at all in whole LSBs at a node (u = k step makes the
+        // overshoot k step (inv - 2^48/step) < 2^32, i.e. below one LSB,
+        // and the exact value an integer): |t - exact| < 1 LSB, nodes
+        // exact. Since u < (len - 1) step, t < (len - 1) 2^16 + 1 <=
+        // 2^32 - 2^17 + 1: t and both terms fit in u32, so 32-bit wrapping
+        // arithmetic computes them exactly (one 32-bit multiply and one
+        // high word of a 32x32 product, instead of two 64-bit products on
+        // ARMv6-M). u = 0 gives t = 0.
+        let t = u.wrapping_mul(self.inv_hi).wrapping_add(mul_hi_u32_halves(
+            u,
+            self.inv_mid,
+            self.inv_low,
+        ));
+        ((t >> 16) as usize, t & 0xFFFF)
     }
 }
 
@@ -328,10 +384,10 @@ mod tests {
     }
 
     #[test]
-    fn q_locate_table() {
+    fn q_locate_table() -> Result<(), &'static str> {
         // Q16.16 degrees: -40 C start, 5 C step.
         let one = 1 << 16;
-        let axis = AxisQ::new(-40 * one, 5 * one, 34).unwrap();
+        let axis = AxisQ::new(-40 * one, 5 * one, 34).ok_or("valid geometry")?;
         let cases = [
             (-40 * one, 0, 0, false),
             (-41 * one, 0, 0, true),
@@ -350,6 +406,7 @@ mod tests {
             };
             assert_eq!(got, want, "locate({x}): got {got:?}, expected {want:?}");
         }
+        Ok(())
     }
 
     #[test]
@@ -362,11 +419,11 @@ mod tests {
     }
 
     #[test]
-    fn q_fraction_error_within_documented_bound() {
+    fn q_fraction_error_within_documented_bound() -> Result<(), &'static str> {
         // Awkward steps (primes, one above 2^16 and one near 2^31/8) to
         // exercise the truncated reciprocal; bound from `PositionQ::frac_q16`.
         for step in [1i32, 3, 65_536, 7919, 327_673, 268_435_399] {
-            let axis = AxisQ::new(-1000, step, 8).unwrap();
+            let axis = AxisQ::new(-1000, step, 8).ok_or("valid geometry")?;
             for k in 0..20_000i64 {
                 let u = (k * i64::from(step) * 7 / 20_000) as i32;
                 let p = axis.locate(-1000 + u);
@@ -385,5 +442,6 @@ mod tests {
                 }
             }
         }
+        Ok(())
     }
 }

@@ -48,20 +48,52 @@ pub fn linear_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
         return nodes.node(p.index);
     }
     let (v0, v1) = nodes.pair(p.index);
-    if let Some(d) = v1.checked_sub(v0) {
-        // 32-bit path when the node difference fits in i32 (always for
-        // neighbouring nodes of a smooth column). With f = frac < 2^16,
-        // s = floor((d f + 2^15) / 2^16) lies between 0 and d: for d > 0,
-        // d f + 2^15 <= d (2^16 - 1) + 2^15 < (d + 1) 2^16 gives s <= d;
-        // for d < 0, d f + 2^15 >= d (2^16 - 1) + 2^15 > d 2^16 gives
-        // s >= d. So v0 + s lies between v0 and v1: it fits in i32, needs
-        // no saturation, and equals the i64 path below bit for bit.
-        return v0.wrapping_add(scale_q16_i32(d, p.frac_q16));
+    lerp_q(v0, v1, p.frac_q16)
+}
+
+/// [`linear_q`] between two node values `v0`, `v1` at fraction
+/// `frac_q16 < 2^16`: `v0 + round(frac (v1 - v0))`, rounded half up.
+///
+/// `lerp_q(v0, v1, 0)` is `v0` exactly (the scaled step is
+/// `floor(2^15 / 2^16) = 0` on both paths), so a caller that has both
+/// words at hand need not test for a node first and still matches
+/// [`linear_q`]'s node read bit for bit.
+#[inline]
+pub(crate) fn lerp_q(v0: i32, v1: i32, frac_q16: u32) -> i32 {
+    match lerp_q_narrow(v0, v1, frac_q16) {
+        Some(v) => v,
+        None => lerp_q_wide(v0, v1, frac_q16),
     }
+}
+
+/// [`lerp_q`] when the node difference `v1 - v0` fits in i32 (always for
+/// neighbouring nodes of a smooth column), in 32-bit arithmetic; `None`
+/// otherwise. A caller that has another way for that case (the integer
+/// compensator's short update falls back to its general one) needs no
+/// call to [`lerp_q_wide`] and keeps its registers.
+#[inline]
+pub(crate) fn lerp_q_narrow(v0: i32, v1: i32, frac_q16: u32) -> Option<i32> {
+    let d = v1.checked_sub(v0)?;
+    // With f = frac < 2^16, s = floor((d f + 2^15) / 2^16) lies between 0
+    // and d: for d > 0, d f + 2^15 <= d (2^16 - 1) + 2^15 < (d + 1) 2^16
+    // gives s <= d; for d < 0, d f + 2^15 >= d (2^16 - 1) + 2^15 > d 2^16
+    // gives s >= d. So v0 + s lies between v0 and v1: it fits in i32,
+    // needs no saturation, and equals the i64 result of `lerp_q_wide` bit
+    // for bit.
+    Some(v0.wrapping_add(scale_q16_i32(d, frac_q16)))
+}
+
+/// [`lerp_q`] for node differences beyond the i32 range, in i64: out of
+/// line and cold, so that every inlined [`linear_q`] carries a call
+/// instead of its own copy (with a 64-bit library multiply on ARMv6-M)
+/// of a case that smooth columns never reach.
+#[cold]
+#[inline(never)]
+fn lerp_q_wide(v0: i32, v1: i32, frac_q16: u32) -> i32 {
     // |v1 - v0| < 2^32, so the scaled step fits and v0 + step lies between
     // v0 and v1 (rounding cannot pass v1 because frac < 2^16).
     let d = i64::from(v1).wrapping_sub(i64::from(v0));
-    saturate(i64::from(v0).wrapping_add(scale_q16(d, p.frac_q16)))
+    saturate(i64::from(v0).wrapping_add(scale_q16(d, frac_q16)))
 }
 
 /// Fritsch–Carlson tangent at node `k` in LSB per node step (see the f32
@@ -219,6 +251,55 @@ mod tests {
     }
 
     #[test]
+    fn lerp_q_matches_the_i64_formula() {
+        // Independent reference: v0 + floor((d f + 2^15) / 2^16) in i128,
+        // saturated. Node values at the i32 edges (differences beyond the
+        // i32 range: the wide case), fractions 0 (a node: the first value
+        // exactly), 1 LSB, 1/2, 1 LSB below 1, and a seeded sweep.
+        let edge = [i32::MIN, i32::MIN + 1, -65_536, -1, 0, 1, 65_535, i32::MAX];
+        let mut cases: Vec<(i32, i32, u32)> = Vec::new();
+        for &v0 in &edge {
+            for &v1 in &edge {
+                for f in [0, 1, 0x8000, 0xFFFF] {
+                    cases.push((v0, v1, f));
+                }
+            }
+        }
+        let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
+        for _ in 0..20_000 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            cases.push((
+                x as i32,
+                (x >> 32) as i32 >> (x % 24),
+                (x >> 40) as u32 & 0xFFFF,
+            ));
+        }
+        for (v0, v1, f) in cases {
+            let d = i128::from(v1) - i128::from(v0);
+            let want = (i128::from(v0) + ((d * i128::from(f) + (1 << 15)) >> 16))
+                .clamp(i128::from(i32::MIN), i128::from(i32::MAX)) as i32;
+            let got = lerp_q(v0, v1, f);
+            assert_eq!(
+                got, want,
+                "lerp_q({v0}, {v1}, {f}) = {got}, expected {want}"
+            );
+            if f == 0 {
+                assert_eq!(got, v0, "lerp_q({v0}, {v1}, 0) is not the node value");
+            }
+            // The 32-bit form answers exactly when the difference fits.
+            let narrow = lerp_q_narrow(v0, v1, f);
+            let fits = i32::try_from(d).is_ok();
+            assert_eq!(
+                narrow,
+                fits.then_some(want),
+                "lerp_q_narrow({v0}, {v1}, {f}) = {narrow:?}"
+            );
+        }
+    }
+
+    #[test]
     fn split_scale_matches_wide_product() {
         let mut x: u64 = 0x2545_F491_4F6C_DD1D;
         for i in 0..50_000u32 {
@@ -237,9 +318,9 @@ mod tests {
     }
 
     #[test]
-    fn linear_q_table() {
+    fn linear_q_table() -> Result<(), &'static str> {
         let v = [0i32, 1000, 3000, i32::MAX, i32::MIN];
-        let axis = AxisQ::new(0, 1 << 16, 5).unwrap();
+        let axis = AxisQ::new(0, 1 << 16, 5).ok_or("valid geometry")?;
         // (x in Q16.16, expected)
         let cases = [
             (0, 0),
@@ -256,10 +337,11 @@ mod tests {
             let got = linear_q(&v, axis.locate(x));
             assert_eq!(got, want, "linear_q({x}) = {got}, expected {want}");
         }
+        Ok(())
     }
 
     #[test]
-    fn cubic_q_tracks_f32_kernel() {
+    fn cubic_q_tracks_f32_kernel() -> Result<(), &'static str> {
         let vf = [0.0f32, 100.0, 1500.0, 1600.0, 9000.0, 9000.0, -30000.0];
         let vq = vf.map(|v| v as i32);
         let axis = Axis {
@@ -267,7 +349,7 @@ mod tests {
             step: 1.0,
             len: 7,
         };
-        let axis_q = AxisQ::new(0, 1 << 16, 7).unwrap();
+        let axis_q = AxisQ::new(0, 1 << 16, 7).ok_or("valid geometry")?;
         for i in 0..=(6 << 8) {
             let xq = i << 8;
             let got = cubic_monotone_q(&vq, axis_q.locate(xq));
@@ -288,14 +370,15 @@ mod tests {
                 "x={xq}: q {lin} f32 {lin_f}"
             );
         }
+        Ok(())
     }
 
     #[test]
-    fn bilinear_q_exact_on_plane() {
+    fn bilinear_q_exact_on_plane() -> Result<(), &'static str> {
         // f(r, c) = 1000 r + 10 c on a 3 x 4 grid of Q16.16 axes.
         let g: [i32; 12] = core::array::from_fn(|i| 1000 * (i / 4) as i32 + 10 * (i % 4) as i32);
-        let ra = AxisQ::new(0, 1 << 16, 3).unwrap();
-        let ca = AxisQ::new(0, 1 << 16, 4).unwrap();
+        let ra = AxisQ::new(0, 1 << 16, 3).ok_or("valid row geometry")?;
+        let ca = AxisQ::new(0, 1 << 16, 4).ok_or("valid column geometry")?;
         for (r, c) in [
             (0, 0),
             (2 << 16, 3 << 16),
@@ -310,5 +393,6 @@ mod tests {
                 "({r},{c}): got {got}, expected {want}"
             );
         }
+        Ok(())
     }
 }
