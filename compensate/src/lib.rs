@@ -171,7 +171,7 @@
 //! once and interpolates the channels only, and the thermometer column is
 //! read when [`Compensator::temperature_c`] is called. On such an image
 //! (or a degrees-Celsius one without thermometer), linear and without
-//! quadratic channel or 2-D section, the f32 update has a short path for a
+//! quadratic channel or 2-D section, both updates have a short path for a
 //! signal inside the plausible range and the axis: one pair of compares,
 //! the look-up, one bounds check for the four words read and a cache of
 //! signal, offset, gain and status, with the same results as the general
@@ -187,14 +187,14 @@
 //! |---|---:|---:|
 //! | `compensate_sample` | 12 | 58 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
-//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand) | 44 | 212 |
+//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand) | 44 | 133 |
 //!
 //! (The over-temperature row was measured before the latest sample-path
 //! changes, on the image the firmware embedded then.)
 //!
 //! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
-//! On the M0 about 80 of the update's instructions are byte-wise loads of
-//! the image's words (an image needs no alignment).
+//! On the M0 about 40 of the short update's instructions are byte-wise
+//! loads of the image's four words (an image needs no alignment).
 //!
 //! # Cargo features
 //! - `libm` (default): accurate f32 math backend for [`model`].
