@@ -158,7 +158,6 @@ mod tests {
     use embedded_hal::i2c::ErrorKind;
     use embedded_hal_mock::eh1::delay::{CheckedDelay, NoopDelay, Transaction as DelayTx};
     use embedded_hal_mock::eh1::i2c::{Mock as I2cMock, Transaction as I2cTx};
-    use std::vec;
 
     const ADDR: u8 = 0x48;
 
