@@ -452,12 +452,31 @@ fn report_sweep(costs_centi: &[u64], ours_centi: u64, errors_centi: &[u64]) {
     }
 }
 
+/// Times one sweep degree's checked temperature update on `p` (after one
+/// untimed update at the first input), prints
+/// `poly_checked_temp_update_deg<degree>_insn` and returns it (hundredths).
+fn time_degree<S, A: Copy>(
+    counter: &Counter,
+    degree: usize,
+    p: &mut S,
+    temps: &[A],
+    update: fn(&mut S, A) -> Status,
+    empty: fn(&mut S, A) -> Status,
+) -> u64 {
+    if let Some(&first) = temps.first() {
+        let _ = update(p, first);
+    }
+    let c = net_insn(counter, CALLS, p, temps, update, empty);
+    metric_degree("poly_checked_temp_update_deg", degree, "_insn", c, "insn");
+    c
+}
+
 /// Per-degree figures of the f32 polynomial with our f32 path's checks.
 #[cfg(fpu)]
 mod sweep_f32 {
     use super::{
-        CALLS, Counter, IMAGE_F32_FINE, fpu, metric, metric_centi, metric_degree, net_insn,
-        report_insn, report_sweep,
+        CALLS, Counter, IMAGE_F32_FINE, fpu, metric, metric_centi, net_insn, report_insn,
+        report_sweep, time_degree,
     };
     use compensate::{Compensator, Status, TableView};
     use cortex_m_semihosting::hprintln;
@@ -491,19 +510,14 @@ mod sweep_f32 {
             hprintln!("error: well_level_f32.bin has no f32 thermometer");
             rt::exit_failure()
         };
-        if let Some(&first) = temps.first() {
-            let _ = p.update_temperature(first);
-        }
-        let c = net_insn(
+        time_degree(
             counter,
-            CALLS,
+            K - 1,
             &mut p,
             temps,
             update::<K>,
             update_empty::<K>,
-        );
-        metric_degree("poly_checked_temp_update_deg", K - 1, "_insn", c, "insn");
-        c
+        )
     }
 
     /// Every degree of the sweep, lowest first.
@@ -579,7 +593,7 @@ mod sweep_f32 {
 /// checks (the Cortex-M0's own arithmetic).
 #[cfg(not(fpu))]
 mod sweep_q {
-    use super::{CALLS, Counter, metric_degree, net_insn};
+    use super::{CALLS, Counter, net_insn, time_degree};
     use compensate::{FixedCompensator, Status, TableView};
     use semidrift_firmware::poly::fitted::{self, RAW_TERMS, U_SHIFT};
     use semidrift_firmware::poly_checked::PolyQChecked;
@@ -613,19 +627,14 @@ mod sweep_q {
             cortex_m_semihosting::hprintln!("error: well_level_q.bin has no thermometer");
             rt::exit_failure()
         };
-        if let Some(&first) = temps.first() {
-            let _ = p.update_temperature(first);
-        }
-        let c = net_insn(
+        time_degree(
             counter,
-            CALLS,
+            K - 1,
             &mut p,
             temps,
             update::<K, XS>,
             update_empty::<K, XS>,
-        );
-        metric_degree("poly_checked_temp_update_deg", K - 1, "_insn", c, "insn");
-        c
+        )
     }
 
     /// The sweep's figures and the crossover against our update with
