@@ -8,7 +8,7 @@ use crate::Status;
 use crate::image::{ChannelAxis, ColumnQ, NumberFormat, TableView, TablesQ};
 use crate::interp::{
     AxisQ, InsideQ, Interpolation, Nodes, PositionQ, bilinear_q, cubic_monotone_q, lerp_q,
-    lerp_q_narrow, linear_q,
+    lerp_q_diff, linear_q,
 };
 use crate::widemul::mul_wide;
 
@@ -58,6 +58,9 @@ pub struct FixedCompensator<'a> {
     /// Q(`temperature`) degrees Celsius; on an image over the signal axis,
     /// the signal itself (see [`FixedCompensator::temperature_q`]).
     temperature_q: i32,
+    /// The node interval of the last short temperature update (see
+    /// [`CellQ`]).
+    cell: CellQ,
     /// The short temperature update (see [`ShortUpdateQ`]).
     short: ShortUpdateQ<'a>,
     quadratic: i32,
@@ -96,7 +99,7 @@ pub struct FixedCompensator<'a> {
 /// status is raised and no clamping happens. There it computes exactly
 /// what the general update computes, with the same position arithmetic
 /// ([`InsideQ::locate`], which [`AxisQ::locate`] runs inside the axis) and
-/// the same rounding ([`lerp_q_narrow`], which [`linear_q`] runs between
+/// the same rounding (`lerp_q_narrow`, which [`linear_q`] runs between
 /// nodes whose difference fits in i32; wider ones take the general
 /// update), and caches only what such an image reads later: the signal,
 /// offset, gain and status (the quadratic coefficient of such an image
@@ -105,6 +108,12 @@ pub struct FixedCompensator<'a> {
 /// when asked for). One pair of compares is in front and one bounds check
 /// covers all four reads. Every other case takes
 /// [`FixedCompensator::update_general`].
+///
+/// A short update also keeps what it read in a [`CellQ`]; a later signal
+/// that locates to the same node interval (the temperature moves slowly
+/// against the update rate) interpolates from the cached node values and
+/// differences with the same arithmetic, without the bounds check and the
+/// image reads.
 // `repr(C)`: the halfword `nodes` within ARMv6-M's halfword-load reach of
 // the compensator's base (see there).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -125,6 +134,53 @@ struct ShortUpdateQ<'a> {
     inside: InsideQ,
     /// The offset column followed by the gain column, `2 n` words.
     channels: &'a [[u8; 4]],
+}
+
+/// The interval cache of the short temperature update: the node interval
+/// `index` of the channels' axis where the last short update looked up
+/// the node words, with the first node values and node differences of the
+/// offset and gain channels there.
+///
+/// The short update locates every signal in its range anyway (it needs
+/// the fraction); when the located index equals the cell's, the words it
+/// would read are those the cell holds: their bounds check passed and both
+/// differences fit in i32 (the case `lerp_q_narrow` serves) when the
+/// cell was filled, so [`lerp_q_diff`] on the cached values gives the
+/// short update's result bit for bit. The words depend only on the image
+/// and the index, never on the history of updates, and no located index
+/// equals that of the empty cell.
+///
+/// A filled cell also means that the temperature status is OK: filling it
+/// writes that status, and the only other writers empty it
+/// ([`FixedCompensator::update_general`]) or start empty
+/// ([`FixedCompensator::new`]), so a cached update writes no status.
+// `repr(C)`: within ARMv6-M's word-load reach of the compensator's base.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[repr(C)]
+struct CellQ {
+    /// Node interval of the cached words; `usize::MAX` when empty (a
+    /// located index inside the short update's range is below 2^16).
+    index: usize,
+    /// Offset on the interval's first node.
+    offset0: i32,
+    /// Offset difference to the next node.
+    offset_diff: i32,
+    /// Gain on the interval's first node.
+    gain0: i32,
+    /// Gain difference to the next node.
+    gain_diff: i32,
+}
+
+impl CellQ {
+    /// A cell that serves no signal.
+    const EMPTY: Self = Self {
+        index: usize::MAX,
+        offset0: 0,
+        offset_diff: 0,
+        gain0: 0,
+        gain_diff: 0,
+    };
 }
 
 impl ShortUpdateQ<'_> {
@@ -283,6 +339,7 @@ impl<'a> FixedCompensator<'a> {
             quad_shift: 0,
             temperature_q: 0,
             short: ShortUpdateQ::NEVER,
+            cell: CellQ::EMPTY,
             short_ok: false,
             offset: 0,
             gain: 0,
@@ -396,35 +453,58 @@ impl<'a> FixedCompensator<'a> {
         if signal_q >= s.lo && signal_q <= s.hi {
             // start <= signal < end: `AxisQ::locate`'s arithmetic without
             // its clamping tests. An index on the last node (within one
-            // LSB of it) fails the bounds check below and takes the
-            // general update, as do all clamped signals.
+            // LSB of it) fails the bounds check in `fill_cell` and takes
+            // the general update, as do all clamped signals.
             let (index, frac_q16) = s.inside.locate(signal_q);
-            let n = usize::from(s.nodes);
-            // Offset words `index`, `index + 1` and gain words `n + index`,
-            // `n + index + 1`: inside the block exactly when
-            // `index + n + 2 <= 2 n`, which this one check tests. index and
-            // n are below 2^16: no sum wraps.
-            //
-            // At a node (frac == 0) `lerp_q_narrow` gives v0 exactly, as
-            // the general update's node read. A node difference beyond the
-            // i32 range (`None`) takes the general update, which runs
-            // `lerp_q`'s i64 case: no call here, so no register to save.
-            if let Some(w) = s.channels.get(index..index.wrapping_add(n.wrapping_add(2)))
-                && let (Some(&o0), Some(&o1), Some(&g0), Some(&g1)) =
-                    (w.first(), w.get(1), w.get(n), w.get(n.wrapping_add(1)))
-                && let (Some(offset), Some(gain)) = (
-                    lerp_q_narrow(i32::from_le_bytes(o0), i32::from_le_bytes(o1), frac_q16),
-                    lerp_q_narrow(i32::from_le_bytes(g0), i32::from_le_bytes(g1), frac_q16),
-                )
-            {
+            // The cell's words are those of `index`, and the status is
+            // already OK (see `CellQ`).
+            if index == self.cell.index || self.fill_cell(index) {
+                let c = &self.cell;
                 self.temperature_q = signal_q;
-                self.offset = offset;
-                self.gain = gain;
-                self.temp_status = Status::OK;
+                self.offset = lerp_q_diff(c.offset0, c.offset_diff, frac_q16);
+                self.gain = lerp_q_diff(c.gain0, c.gain_diff, frac_q16);
                 return Status::OK;
             }
         }
         self.update_general(signal_q)
+    }
+
+    /// Reads the node words of interval `index` into the cell and sets the
+    /// status OK; `false` (nothing written) where the general update must
+    /// run.
+    #[inline]
+    fn fill_cell(&mut self, index: usize) -> bool {
+        let s = &self.short;
+        let n = usize::from(s.nodes);
+        // Offset words `index`, `index + 1` and gain words `n + index`,
+        // `n + index + 1`: inside the block exactly when
+        // `index + n + 2 <= 2 n`, which this one check tests. index and
+        // n are below 2^16: no sum wraps.
+        //
+        // `lerp_q_narrow`'s difference: at a node (frac == 0) the result
+        // is v0 exactly, as the general update's node read. A node
+        // difference beyond the i32 range takes the general update, which
+        // runs `lerp_q`'s i64 case: no call here, so no register to save.
+        if let Some(w) = s.channels.get(index..index.wrapping_add(n.wrapping_add(2)))
+            && let (Some(&o0), Some(&o1), Some(&g0), Some(&g1)) =
+                (w.first(), w.get(1), w.get(n), w.get(n.wrapping_add(1)))
+            && let (offset0, gain0) = (i32::from_le_bytes(o0), i32::from_le_bytes(g0))
+            && let (Some(offset_diff), Some(gain_diff)) = (
+                i32::from_le_bytes(o1).checked_sub(offset0),
+                i32::from_le_bytes(g1).checked_sub(gain0),
+            )
+        {
+            self.cell = CellQ {
+                index,
+                offset0,
+                offset_diff,
+                gain0,
+                gain_diff,
+            };
+            self.temp_status = Status::OK;
+            return true;
+        }
+        false
     }
 
     /// Every case of [`Self::update_temperature`].
@@ -438,6 +518,8 @@ impl<'a> FixedCompensator<'a> {
     fn update_general(&mut self, signal_q: i32) -> Status {
         // Borrowed, not copied: the update reads the tables in place and
         // writes the cache once at the end (fewer registers to spill).
+        // Keeps "a filled cell means status OK" (see `CellQ`).
+        self.cell.index = CellQ::EMPTY.index;
         let Some(tables) = &self.tables else {
             return Status::TABLE_INVALID;
         };
@@ -616,6 +698,9 @@ impl<'a> FixedCompensator<'a> {
         ReadingQ { value, status }
     }
 }
+
+#[cfg(test)]
+mod interval_cache_tests;
 
 #[cfg(test)]
 mod tests {

@@ -80,7 +80,16 @@ pub(crate) fn lerp_q_narrow(v0: i32, v1: i32, frac_q16: u32) -> Option<i32> {
     // gives s >= d. So v0 + s lies between v0 and v1: it fits in i32,
     // needs no saturation, and equals the i64 result of `lerp_q_wide` bit
     // for bit.
-    Some(v0.wrapping_add(scale_q16_i32(d, frac_q16)))
+    Some(lerp_q_diff(v0, d, frac_q16))
+}
+
+/// [`lerp_q_narrow`]'s result from the first node value `v0` and the node
+/// difference `d = v1 - v0` (which must fit in i32): the very arithmetic
+/// `lerp_q_narrow` runs, so a caller that caches `v0` and `d` (the integer
+/// compensator's interval cell) gets its result bit for bit.
+#[inline]
+pub(crate) fn lerp_q_diff(v0: i32, d: i32, frac_q16: u32) -> i32 {
+    v0.wrapping_add(scale_q16_i32(d, frac_q16))
 }
 
 /// [`lerp_q`] for node differences beyond the i32 range, in i64: out of

@@ -13,7 +13,7 @@ pub(crate) use axis::InsideQ;
 pub use axis::{Axis, AxisQ, Position, PositionQ};
 pub use kernel_f32::{bilinear, cubic_monotone, linear};
 pub use kernel_fixed::{bilinear_q, cubic_monotone_q, linear_q};
-pub(crate) use kernel_fixed::{lerp_q, lerp_q_narrow};
+pub(crate) use kernel_fixed::{lerp_q, lerp_q_diff};
 
 /// Interpolation method between table nodes.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
