@@ -83,7 +83,7 @@ pub fn fill<const N: usize>(csv: &str, out: &mut [Sample; N]) -> Result<usize, P
 pub const RAMP: usize = 58;
 
 /// The benchmark's slow drift ([`drift`]) moves between recorded
-/// temperatures `DRIFT_FROM` and `DRIFT_FROM + 1` (mid-range, about 1.4 K
+/// temperatures `DRIFT_FROM` and `DRIFT_FROM + 1` (mid-range, about 1.8 K
 /// apart).
 pub const DRIFT_FROM: usize = 28;
 
@@ -91,8 +91,8 @@ pub const DRIFT_FROM: usize = 28;
 /// to `b` and back in equal steps (a triangle, so the replay loop has no
 /// jump where it wraps around).
 ///
-/// Between two neighbouring recorded temperatures (about 1.4 K apart in
-/// the demo stream) that is a step of about 0.025 K per update: what a
+/// Between two neighbouring recorded temperatures (about 1.8 K apart in
+/// the demo stream) that is a step of about 0.03 K per update: what a
 /// part sees when it updates its temperature often compared with how fast
 /// its package warms (seconds to minutes; common practice).
 #[must_use]
