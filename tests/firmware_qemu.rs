@@ -454,3 +454,51 @@ fn readings_recover_the_demo_pressure() {
     );
     println!("worst error {:.1} ppm FS at sample {}", worst.0, worst.1);
 }
+
+/// The benchmark's extra temperature streams are what their metric names
+/// say, on the committed images: the recorded stream's first
+/// `stream::RAMP` temperatures rise; the drift (`temp_update_drift_insn`)
+/// changes node interval at most twice per pass (crossing one node up and
+/// down), and the jumps (`temp_update_jump_insn`) change interval at every
+/// update, the wrap-around included.
+#[test]
+fn bench_streams_drift_and_jump_as_named() {
+    const N: usize = 116; // the benchmark's INPUTS
+    let csv = include_str!("../examples/firmware/data/well_level_stream.csv");
+    let temps: Vec<i32> = stream::samples(csv)
+        .map(|s| s.expect("committed stream parses").temp_code)
+        .collect();
+    assert_eq!(
+        temps.len(),
+        N + 4,
+        "recorded samples (the last four are faults)"
+    );
+    let ramp = &temps[..stream::RAMP];
+    assert!(ramp.windows(2).all(|w| w[0] < w[1]), "ramp not rising");
+    let drift: [i32; N] = stream::drift(temps[stream::DRIFT_FROM], temps[stream::DRIFT_FROM + 1]);
+    let jumps: [i32; N] = stream::jumps(ramp);
+    // Node-interval changes from each update to the next, wrap included.
+    let changes = |index: &dyn Fn(i32) -> usize, s: &[i32; N]| {
+        (0..N)
+            .filter(|&k| index(s[k]) != index(s[(k + 1) % N]))
+            .count()
+    };
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("examples/firmware/data");
+    for name in ["well_level_f32.bin", "well_level_f32_fine.bin"] {
+        let bytes = std::fs::read(dir.join(name)).expect("committed image");
+        let view = TableView::parse(&bytes).expect("committed image parses");
+        let axis = view.tables_f32().expect("f32 tables").temperature;
+        let index = |c: i32| axis.locate(c as f32).index;
+        assert!(
+            changes(&index, &drift) <= 2,
+            "{name}: drift changes interval"
+        );
+        assert_eq!(changes(&index, &jumps), N, "{name}: a jump stays");
+    }
+    let bytes = std::fs::read(dir.join("well_level_q.bin")).expect("committed image");
+    let view = TableView::parse(&bytes).expect("committed image parses");
+    let axis = view.tables_q().expect("Q tables").temperature;
+    let index = |c: i32| axis.locate(c).index;
+    assert!(changes(&index, &drift) <= 2, "Q: drift changes interval");
+    assert_eq!(changes(&index, &jumps), N, "Q: a jump stays");
+}

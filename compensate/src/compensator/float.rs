@@ -22,6 +22,11 @@ pub struct Reading {
 /// Call [`Compensator::update_temperature`] whenever a new temperature
 /// signal arrives (it caches offset, gain and the 2-D row position), and
 /// [`Compensator::compensate_sample`] for every raw sample.
+///
+/// `PartialEq` compares the whole state, including what the update keeps
+/// for the next one (the node interval of a linear image, the row position
+/// of an image without 2-D correction): two compensators whose every
+/// public read agrees can still differ there.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Compensator<'a> {
@@ -54,6 +59,9 @@ pub struct Compensator<'a> {
     temperature_map: Option<ColumnF32<'a>>,
     /// The short temperature update (see [`ShortUpdate`]).
     short: ShortUpdate<'a>,
+    /// The node interval of the last short update (see [`Interval`]);
+    /// empty whenever `temp_status` is not [`Status::OK`].
+    interval: Interval,
 }
 
 /// What the short temperature update needs, copied out of the image when
@@ -69,7 +77,9 @@ pub struct Compensator<'a> {
 /// and status (the quadratic coefficient of such an image stays 0; the
 /// temperature is interpolated from the signal when asked for). One pair
 /// of compares is in front and one bounds check covers all four reads.
-/// Every other case takes [`Compensator::update_general`].
+/// It also keeps the node interval it landed in ([`Interval`]), so that
+/// the next update in the same interval needs neither. Every other case
+/// takes [`Compensator::update_general`].
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct ShortUpdate<'a> {
@@ -82,6 +92,13 @@ struct ShortUpdate<'a> {
     start: f32,
     /// Node spacing of the channels' axis.
     step: f32,
+    /// A position (`(signal - start) / step`) at or above this one belongs
+    /// to a signal at or above `lo` (see [`position_bounds`]); `+inf` when
+    /// the short update never applies.
+    pos_lo: f32,
+    /// A position below this one belongs to a signal below `hi`; `-inf`
+    /// when the short update never applies.
+    pos_hi: f32,
     /// Nodes per channel, `n`. A `u16`, so `n + 2` cannot wrap and the
     /// compiler sees that the window of `n + 2` words holds words `n` and
     /// `n + 1`.
@@ -97,17 +114,100 @@ impl ShortUpdate<'_> {
         hi: f32::NEG_INFINITY,
         start: 0.0,
         step: 1.0,
+        pos_lo: f32::INFINITY,
+        pos_hi: f32::NEG_INFINITY,
         nodes: 0,
         channels: &[],
     };
+
+    /// Position of `signal` on the channels' axis, in node steps from the
+    /// first node: [`Axis::locate`]'s arithmetic.
+    #[inline(always)]
+    fn position(&self, signal: f32) -> f32 {
+        (signal - self.start) / self.step
+    }
 }
 
-/// `v0 + frac (v1 - v0)` on two little-endian words ([`linear`]'s
-/// formula).
+/// The node interval the last short update landed in, with what a later
+/// update in the same interval needs: the first node's offset and gain
+/// and their steps to the second node.
+///
+/// A temperature signal moves slowly compared with the update rate (a
+/// sensor package's thermal time constant is seconds to minutes; common
+/// practice), so most updates land in the interval of the one before. For
+/// a position `pos` in `lo..hi` the short update would locate node
+/// `index`, read the same four words and compute `v0 + frac (v1 - v0)`
+/// with `frac = pos - index`; this computes the same from the cached `v0`
+/// and `v1 - v0`, bit for bit, without the bounds check and the reads.
+/// `lo..hi` lies inside the short update's signal range (see
+/// [`position_bounds`]), and the interval is emptied by every update that
+/// does not end with [`Status::OK`], so a hit leaves the status alone.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct Interval {
+    /// Lowest position of the interval; `+inf` when empty.
+    lo: f32,
+    /// Positions below this belong to the interval; `-inf` when empty.
+    hi: f32,
+    /// The node index `index` as f32 (exact: fewer than 2^16 nodes).
+    index: f32,
+    /// Offset at node `index`.
+    offset: f32,
+    /// Offset at node `index + 1` minus `offset`.
+    offset_step: f32,
+    /// Gain at node `index`.
+    gain: f32,
+    /// Gain at node `index + 1` minus `gain`.
+    gain_step: f32,
+}
+
+impl Interval {
+    /// No interval: every position misses.
+    const EMPTY: Self = Self {
+        lo: f32::INFINITY,
+        hi: f32::NEG_INFINITY,
+        index: 0.0,
+        offset: 0.0,
+        offset_step: 0.0,
+        gain: 0.0,
+        gain_step: 0.0,
+    };
+}
+
+/// Positions `(pos_lo, pos_hi)` such that a signal whose position
+/// `(signal - start) / step` is at least `pos_lo` is itself at least `lo`,
+/// and one whose position is below `pos_hi` is below `hi`.
+///
+/// Both roundings of the position are monotone (IEEE 754 round to
+/// nearest), so the position never decreases as the signal grows. A signal
+/// below `lo` is at most the float below `lo` and has a position at most
+/// that float's; `pos_lo` is the next float above that position. A signal
+/// at or above `hi` has a position at least `hi`'s, which is `pos_hi`.
+/// Only compares of positions are then needed, although two signals may
+/// share one position.
+fn position_bounds(s: &ShortUpdate<'_>) -> (f32, f32) {
+    (s.position(s.lo.next_down()).next_up(), s.position(s.hi))
+}
+
+/// The larger of two finite values: a compare and a select, where
+/// `f32::max` would be a library call on parts without `VMAXNM`.
 #[inline(always)]
-fn lerp_words(w0: [u8; 4], w1: [u8; 4], frac: f32) -> f32 {
-    let (v0, v1) = (f32::from_le_bytes(w0), f32::from_le_bytes(w1));
-    v0 + frac * (v1 - v0)
+fn larger(a: f32, b: f32) -> f32 {
+    if a > b { a } else { b }
+}
+
+/// The smaller of two finite values (see [`larger`]).
+#[inline(always)]
+fn smaller(a: f32, b: f32) -> f32 {
+    if a < b { a } else { b }
+}
+
+/// `(v0, v1 - v0)` of two little-endian words, for [`linear`]'s formula
+/// `v0 + frac (v1 - v0)`.
+#[inline(always)]
+fn base_and_step(w0: [u8; 4], w1: [u8; 4]) -> (f32, f32) {
+    let v0 = f32::from_le_bytes(w0);
+    (v0, f32::from_le_bytes(w1) - v0)
 }
 
 /// Interpolates with the image's method: the linear kernel inline, the
@@ -197,22 +297,25 @@ fn short_update<'a>(view: &TableView<'a>, tables: &TablesF32<'a>) -> ShortUpdate
         return ShortUpdate::NEVER;
     }
     let (lo, hi) = (
-        axis.start.max(tables.signal_lo),
-        axis.end().min(tables.signal_hi),
+        larger(axis.start, tables.signal_lo),
+        smaller(axis.end(), tables.signal_hi),
     );
     // Also true for a NaN limit, which the parser never lets through.
     #[allow(clippy::neg_cmp_op_on_partial_ord)]
     if !(lo < hi) {
         return ShortUpdate::NEVER;
     }
-    ShortUpdate {
+    let mut short = ShortUpdate {
         lo,
         hi,
         start: axis.start,
         step: axis.step,
         nodes,
         channels,
-    }
+        ..ShortUpdate::NEVER
+    };
+    (short.pos_lo, short.pos_hi) = position_bounds(&short);
+    short
 }
 
 impl<'a> Compensator<'a> {
@@ -243,6 +346,7 @@ impl<'a> Compensator<'a> {
             temp_status: Status::TABLE_INVALID,
             temperature_map: None,
             short: ShortUpdate::NEVER,
+            interval: Interval::EMPTY,
         }
     }
 
@@ -319,14 +423,25 @@ impl<'a> Compensator<'a> {
     #[inline]
     pub fn update_temperature(&mut self, signal: f32) -> Status {
         let s = &self.short;
+        let pos = s.position(signal);
+        // The interval of the last update: false for NaN and when empty.
+        let i = &self.interval;
+        if pos >= i.lo && pos < i.hi {
+            let frac = pos - i.index;
+            self.temperature_c = signal;
+            self.offset = i.offset + frac * i.offset_step;
+            self.gain = i.gain + frac * i.gain_step;
+            // The status is OK already (see `interval`).
+            return Status::OK;
+        }
         // False for NaN and whenever the short update does not apply.
         if signal >= s.lo && signal < s.hi {
             // signal >= start, so pos >= 0 and the cast is a floor, as in
             // `Axis::locate`; a pos rounded up to the last node fails the
             // bounds check below and takes the general update.
-            let pos = (signal - s.start) / s.step;
             let index = pos as usize;
-            let frac = pos - index as f32;
+            let index_f = index as f32;
+            let frac = pos - index_f;
             let n = usize::from(s.nodes);
             // Offset words `index`, `index + 1` and gain words `n + index`,
             // `n + index + 1`: inside the block exactly when
@@ -339,10 +454,23 @@ impl<'a> Compensator<'a> {
                 // as the general update's node read (the parser accepts
                 // finite values only, and their difference is finite
                 // unless both are beyond 1.7e38).
+                let (offset, offset_step) = base_and_step(o0, o1);
+                let (gain, gain_step) = base_and_step(g0, g1);
                 self.temperature_c = signal;
-                self.offset = lerp_words(o0, o1, frac);
-                self.gain = lerp_words(g0, g1, frac);
+                self.offset = offset + frac * offset_step;
+                self.gain = gain + frac * gain_step;
                 self.temp_status = Status::OK;
+                // Positions in `index..index + 1` locate node `index`
+                // (`pos` is below the last node here).
+                self.interval = Interval {
+                    lo: larger(index_f, s.pos_lo),
+                    hi: smaller(index_f + 1.0, s.pos_hi),
+                    index: index_f,
+                    offset,
+                    offset_step,
+                    gain,
+                    gain_step,
+                };
                 return Status::OK;
             }
         }
@@ -352,6 +480,8 @@ impl<'a> Compensator<'a> {
     /// Every case of [`Self::update_temperature`].
     #[inline(never)]
     fn update_general(&mut self, signal: f32) -> Status {
+        // Whatever this update ends with, the next one locates afresh.
+        self.interval = Interval::EMPTY;
         // Borrowed, not copied: the whole update reads the tables in place
         // and writes the cache once at the end (fewer registers to spill).
         let Some(tables) = &self.tables else {

@@ -76,3 +76,51 @@ pub fn fill<const N: usize>(csv: &str, out: &mut [Sample; N]) -> Result<usize, P
     }
     Ok(n)
 }
+
+/// The recorded stream's first `RAMP` temperatures rise monotonically over
+/// the whole range; the benchmark's worst-case stream ([`jumps`]) is drawn
+/// from them.
+pub const RAMP: usize = 58;
+
+/// The benchmark's slow drift ([`drift`]) moves between recorded
+/// temperatures `DRIFT_FROM` and `DRIFT_FROM + 1` (mid-range, about 1.8 K
+/// apart).
+pub const DRIFT_FROM: usize = 28;
+
+/// A slow drift for the temperature-update benchmark: `N` signals from `a`
+/// to `b` and back in equal steps (a triangle, so the replay loop has no
+/// jump where it wraps around).
+///
+/// Between two neighbouring recorded temperatures (about 1.8 K apart in
+/// the demo stream) that is a step of about 0.03 K per update: what a
+/// part sees when it updates its temperature often compared with how fast
+/// its package warms (seconds to minutes; common practice).
+#[must_use]
+pub fn drift<const N: usize>(a: i32, b: i32) -> [i32; N] {
+    let half = (N / 2).max(1) as i64;
+    core::array::from_fn(|k| {
+        let k = k as i64;
+        let up = if k <= half { k } else { 2 * half - k };
+        let (a, b) = (i64::from(a), i64::from(b));
+        // Between a and b (0 <= up <= half), so the cast back is exact.
+        (a + (b - a) * up / half) as i32
+    })
+}
+
+/// The worst case for the temperature-update benchmark: `N` signals taken
+/// from `ramp` (a monotone ramp over the whole range) so that each one is
+/// half the ramp away from the one before, `ramp[j]`, `ramp[j + len / 2]`,
+/// `ramp[j + 1]`, ... (indices modulo `len`): no two consecutive updates
+/// share a node interval on a table with more than two intervals over the
+/// ramp. An empty ramp gives zeros.
+#[must_use]
+pub fn jumps<const N: usize>(ramp: &[i32]) -> [i32; N] {
+    let len = ramp.len();
+    core::array::from_fn(|k| {
+        let (j, far) = (k / 2, k % 2 == 1);
+        let i = if far { j + len / 2 } else { j };
+        ramp.get(i.checked_rem(len).unwrap_or(0))
+            .copied()
+            .unwrap_or(0)
+    })
+}

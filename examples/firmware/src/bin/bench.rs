@@ -20,7 +20,7 @@ use cortex_m_rt::entry;
 use cortex_m_semihosting::hprintln;
 use semidrift_firmware::count::{Counter, time_calls};
 use semidrift_firmware::stack::{measure_call_bytes, program_high_water_bytes};
-use semidrift_firmware::stream::{Sample, fill};
+use semidrift_firmware::stream::{DRIFT_FROM, RAMP, Sample, drift, fill, jumps};
 use semidrift_firmware::{rt, stream};
 
 semidrift_firmware::printing_fault_handlers!();
@@ -548,7 +548,7 @@ mod sweep_f32 {
     pub fn with_fine_image(
         counter: &Counter,
         view: &TableView<'_>,
-        temp_f: &[f32],
+        [temp_f, drift_f, jump_f]: [&[f32]; 3],
         float: &mut Compensator<'static>,
     ) {
         let t = fpu::TEMP_UPDATE;
@@ -558,12 +558,13 @@ mod sweep_f32 {
         };
         let costs = all(counter, view, temp_f);
         report_sweep(&costs, ours, &fitted::SWEEP_ERROR_F32_CENTI_PPM);
-        fine_image(counter, temp_f, first);
+        fine_image(counter, [temp_f, drift_f, jump_f], first);
     }
 
-    /// Our update from the finer image (out of line, like the caller).
+    /// Our update from the finer image on the recorded stream, the drift
+    /// and the jumps (out of line, like the caller).
     #[inline(never)]
-    fn fine_image(counter: &Counter, temp_f: &[f32], first: f32) {
+    fn fine_image(counter: &Counter, streams: [&[f32]; 3], first: f32) {
         let Ok(view_fine) = TableView::parse(IMAGE_F32_FINE) else {
             hprintln!("error: well_level_f32_fine.bin does not parse");
             rt::exit_failure()
@@ -572,14 +573,15 @@ mod sweep_f32 {
             hprintln!("error: well_level_f32_fine.bin is not an f32 image");
             rt::exit_failure()
         };
-        let _ = fine.update_temperature(first);
-        report_insn(
-            counter,
+        let names = [
             "temp_update_fine_insn",
-            &mut fine,
-            temp_f,
-            fpu::TEMP_UPDATE,
-        );
+            "temp_update_fine_drift_insn",
+            "temp_update_fine_jump_insn",
+        ];
+        for (name, stream) in names.into_iter().zip(streams) {
+            let _ = fine.update_temperature(first);
+            report_insn(counter, name, &mut fine, stream, fpu::TEMP_UPDATE);
+        }
         metric("table_fine_nodes", view_fine.temperature_nodes(), "count");
         metric_centi(
             "table_fine_error_ppm",
@@ -717,6 +719,10 @@ fn main() -> ! {
     let samples = inputs();
     let raw_q: [i32; INPUTS] = samples.map(|s| s.raw_code);
     let temp_q: [i32; INPUTS] = samples.map(|s| s.temp_code);
+    // The temperature update also on a slow drift (the usual case) and on
+    // a stream that changes node interval at every update (the worst).
+    let drift_q: [i32; INPUTS] = drift(temp_q[DRIFT_FROM], temp_q[DRIFT_FROM + 1]);
+    let jump_q: [i32; INPUTS] = jumps(&temp_q[..RAMP]);
 
     let Ok(view_q) = TableView::parse_q(IMAGE_Q) else {
         hprintln!("error: well_level_q.bin does not parse");
@@ -751,6 +757,8 @@ fn main() -> ! {
     {
         let raw_f: [f32; INPUTS] = samples.map(|s| s.raw_code as f32);
         let temp_f: [f32; INPUTS] = samples.map(|s| s.temp_code as f32);
+        let drift_f: [f32; INPUTS] = drift_q.map(|c| c as f32);
+        let jump_f: [f32; INPUTS] = jump_q.map(|c| c as f32);
         let Ok(view) = TableView::parse(IMAGE_F32) else {
             hprintln!("error: well_level_f32.bin does not parse");
             rt::exit_failure()
@@ -770,6 +778,21 @@ fn main() -> ! {
             &temp_f,
             fpu::TEMP_UPDATE,
         );
+        report_insn(
+            &counter,
+            "temp_update_drift_insn",
+            &mut float,
+            &drift_f,
+            fpu::TEMP_UPDATE,
+        );
+        report_insn(
+            &counter,
+            "temp_update_jump_insn",
+            &mut float,
+            &jump_f,
+            fpu::TEMP_UPDATE,
+        );
+        let _ = float.update_temperature(temp_f[0]);
         report_insn(&counter, "sample_insn", &mut float, &raw_f, fpu::SAMPLE);
         report_insn(
             &counter,
@@ -798,6 +821,16 @@ fn main() -> ! {
             &temp_f,
             fpu::POLY_CHECKED_TEMP_UPDATE,
         );
+        // The polynomial's cost does not depend on the stream; shown on
+        // the drift too so the two can be compared line by line.
+        report_insn(
+            &counter,
+            "poly_checked_temp_update_drift_insn",
+            &mut checked,
+            &drift_f,
+            fpu::POLY_CHECKED_TEMP_UPDATE,
+        );
+        let _ = checked.update_temperature(temp_f[0]);
         report_insn(
             &counter,
             "poly_checked_sample_insn",
@@ -827,10 +860,20 @@ fn main() -> ! {
         model_figures::<compensate::math::Micromath>(&counter, &t_k);
         // Last in the f32 block, so every figure above runs exactly as
         // before the sweep was added.
-        sweep_f32::with_fine_image(&counter, &view, &temp_f, &mut float);
+        sweep_f32::with_fine_image(&counter, &view, [&temp_f, &drift_f, &jump_f], &mut float);
     }
 
     report_insn(&counter, q_names[0], &mut fixed, &temp_q, Q_TEMP_UPDATE);
+    let (drift_name, jump_name) = if cfg!(fpu) {
+        ("temp_update_drift_q_insn", "temp_update_jump_q_insn")
+    } else {
+        ("temp_update_drift_insn", "temp_update_jump_insn")
+    };
+    report_insn(&counter, drift_name, &mut fixed, &drift_q, Q_TEMP_UPDATE);
+    report_insn(&counter, jump_name, &mut fixed, &jump_q, Q_TEMP_UPDATE);
+    // Samples are timed at the coefficients of the first recorded
+    // temperature, as before the two streams above.
+    let _ = fixed.update_temperature(temp_q[0]);
     report_insn(&counter, q_names[1], &mut fixed, &raw_q, Q_SAMPLE);
     report_insn(
         &counter,
