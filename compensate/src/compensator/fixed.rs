@@ -58,11 +58,12 @@ pub struct FixedCompensator<'a> {
     /// Q(`temperature`) degrees Celsius; on an image over the signal axis,
     /// the signal itself (see [`FixedCompensator::temperature_q`]).
     temperature_q: i32,
-    /// The node interval of the last short temperature update (see
-    /// [`CellQ`]).
-    cell: CellQ,
     /// The short temperature update (see [`ShortUpdateQ`]).
     short: ShortUpdateQ<'a>,
+    /// The node interval of the last short temperature update (see
+    /// [`CellQ`]); after `short`, whose halfword `nodes` must stay within
+    /// 62 bytes of the base.
+    cell: CellQ,
     quadratic: i32,
     /// Fractional bits of the offset channel: raw codes are shifted by this.
     offset_shift: u32,
