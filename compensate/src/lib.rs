@@ -175,9 +175,9 @@
 //! signal inside the plausible range and the axis: one pair of compares,
 //! the look-up, one bounds check for the four words read and a cache of
 //! signal, offset, gain and status, with the same results as the general
-//! path. The f32 one also keeps the node interval it landed in, so that
-//! the next update in the same interval (the usual case: temperature moves
-//! slowly compared with the update rate) reads no image word at all.
+//! path. Both keep the node interval they read, so that the next update
+//! in the same interval (the usual case: temperature moves slowly compared
+//! with the update rate) reads no image word and needs no bounds check.
 //!
 //! Measured with the firmware example's benchmark (QEMU, executed
 //! instructions per call beyond an empty call, opt-level 3, fat LTO; the
@@ -189,15 +189,15 @@
 //! |---|---:|---:|
 //! | `compensate_sample` | 12 | 58 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
-//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep recorded ramp | 43 | 133 |
-//! | the same, a slow drift (the same node interval as the update before) | 25 | 133 |
-//! | the same, every update in a new node interval | 75 | 133 |
+//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep recorded ramp | 37 | 104 |
+//! | the same, a slow drift (the same node interval as the update before) | 27 | 76 |
+//! | the same, every update in a new node interval | 53 | 153 |
 //!
 //! (The over-temperature row was measured before the latest sample-path
 //! changes, on the image the firmware embedded then.)
 //!
 //! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
-//! On the M0 about 40 of the short update's instructions are byte-wise
+//! On the M0 about 40 of an interval change's instructions are byte-wise
 //! loads of the image's four words (an image needs no alignment).
 //!
 //! # Cargo features

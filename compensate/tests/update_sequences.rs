@@ -3,9 +3,9 @@
 //! plausible-range limits and the float next to them, NaN and infinities),
 //! every update gives exactly what the public kernels give for that signal
 //! alone. This covers the cached node interval of the short update (a
-//! later update in the same interval reuses the interval's node values):
-//! a stale interval would show as different bits, a wrong status or a
-//! wrong sample.
+//! later update that locates to the same interval reuses its node values
+//! and leaves the status alone): a stale interval would show as different
+//! bits, a wrong status or a wrong sample.
 
 mod common;
 
@@ -30,8 +30,9 @@ struct Case {
 }
 
 /// The cases: a dyadic signal axis inside a wide plausible range; a
-/// non-dyadic one whose plausible range ends inside node intervals (so the
-/// cached interval must stop at the limits); a degrees-Celsius axis.
+/// non-dyadic one whose plausible range ends inside node intervals (a
+/// signal just beyond a limit locates to a cached interval but must raise
+/// the fault); a degrees-Celsius axis.
 const CASES: [Case; 3] = [
     Case {
         axis: AxisSpec {

@@ -92,13 +92,6 @@ struct ShortUpdate<'a> {
     start: f32,
     /// Node spacing of the channels' axis.
     step: f32,
-    /// A position (`(signal - start) / step`) at or above this one belongs
-    /// to a signal at or above `lo` (see [`position_bounds`]); `+inf` when
-    /// the short update never applies.
-    pos_lo: f32,
-    /// A position below this one belongs to a signal below `hi`; `-inf`
-    /// when the short update never applies.
-    pos_hi: f32,
     /// Nodes per channel, `n`. A `u16`, so `n + 2` cannot wrap and the
     /// compiler sees that the window of `n + 2` words holds words `n` and
     /// `n + 1`.
@@ -114,8 +107,6 @@ impl ShortUpdate<'_> {
         hi: f32::NEG_INFINITY,
         start: 0.0,
         step: 1.0,
-        pos_lo: f32::INFINITY,
-        pos_hi: f32::NEG_INFINITY,
         nodes: 0,
         channels: &[],
     };
@@ -128,29 +119,28 @@ impl ShortUpdate<'_> {
     }
 }
 
-/// The node interval the last short update landed in, with what a later
-/// update in the same interval needs: the first node's offset and gain
-/// and their steps to the second node.
+/// The node interval the last short update read, with its first node's
+/// offset and gain and their steps to the next node.
 ///
 /// A temperature signal moves slowly compared with the update rate (a
 /// sensor package's thermal time constant is seconds to minutes; common
-/// practice), so most updates land in the interval of the one before. For
-/// a position `pos` in `lo..hi` the short update would locate node
-/// `index`, read the same four words and compute `v0 + frac (v1 - v0)`
-/// with `frac = pos - index`; this computes the same from the cached `v0`
-/// and `v1 - v0`, bit for bit, without the bounds check and the reads.
-/// `lo..hi` lies inside the short update's signal range (see
-/// [`position_bounds`]), and the interval is emptied by every update that
-/// does not end with [`Status::OK`], so a hit leaves the status alone.
+/// practice), so most updates land in the interval of the one before. The
+/// short update locates every signal anyway (it needs the fraction); when
+/// the located index is the interval's, the words it would read are those
+/// cached here (they depend on the image and the index only), and
+/// `v0 + frac (v1 - v0)` from the cached `v0` and `v1 - v0` is its result
+/// bit for bit, without the bounds check and the reads.
+///
+/// A filled interval also means that the temperature status is OK:
+/// filling it writes that status, and the only other writer of the status
+/// ([`Compensator::update_general`]) empties it first, as does every
+/// constructor, so an update from the cache writes no status.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 struct Interval {
-    /// Lowest position of the interval; `+inf` when empty.
-    lo: f32,
-    /// Positions below this belong to the interval; `-inf` when empty.
-    hi: f32,
-    /// The node index `index` as f32 (exact: fewer than 2^16 nodes).
-    index: f32,
+    /// Node index of the interval; `usize::MAX` when empty (a located
+    /// index inside the short update's range is below 2^16).
+    index: usize,
     /// Offset at node `index`.
     offset: f32,
     /// Offset at node `index + 1` minus `offset`.
@@ -162,31 +152,14 @@ struct Interval {
 }
 
 impl Interval {
-    /// No interval: every position misses.
+    /// No interval: every located index misses.
     const EMPTY: Self = Self {
-        lo: f32::INFINITY,
-        hi: f32::NEG_INFINITY,
-        index: 0.0,
+        index: usize::MAX,
         offset: 0.0,
         offset_step: 0.0,
         gain: 0.0,
         gain_step: 0.0,
     };
-}
-
-/// Positions `(pos_lo, pos_hi)` such that a signal whose position
-/// `(signal - start) / step` is at least `pos_lo` is itself at least `lo`,
-/// and one whose position is below `pos_hi` is below `hi`.
-///
-/// Both roundings of the position are monotone (IEEE 754 round to
-/// nearest), so the position never decreases as the signal grows. A signal
-/// below `lo` is at most the float below `lo` and has a position at most
-/// that float's; `pos_lo` is the next float above that position. A signal
-/// at or above `hi` has a position at least `hi`'s, which is `pos_hi`.
-/// Only compares of positions are then needed, although two signals may
-/// share one position.
-fn position_bounds(s: &ShortUpdate<'_>) -> (f32, f32) {
-    (s.position(s.lo.next_down()).next_up(), s.position(s.hi))
 }
 
 /// The larger of two finite values: a compare and a select, where
@@ -305,17 +278,14 @@ fn short_update<'a>(view: &TableView<'a>, tables: &TablesF32<'a>) -> ShortUpdate
     if !(lo < hi) {
         return ShortUpdate::NEVER;
     }
-    let mut short = ShortUpdate {
+    ShortUpdate {
         lo,
         hi,
         start: axis.start,
         step: axis.step,
         nodes,
         channels,
-        ..ShortUpdate::NEVER
-    };
-    (short.pos_lo, short.pos_hi) = position_bounds(&short);
-    short
+    }
 }
 
 impl<'a> Compensator<'a> {
@@ -423,65 +393,65 @@ impl<'a> Compensator<'a> {
     #[inline]
     pub fn update_temperature(&mut self, signal: f32) -> Status {
         let s = &self.short;
-        let pos = s.position(signal);
-        // The interval of the last update: false for NaN and when empty.
-        let i = &self.interval;
-        if pos >= i.lo && pos < i.hi {
-            let frac = pos - i.index;
-            self.temperature_c = signal;
-            self.offset = i.offset + frac * i.offset_step;
-            self.gain = i.gain + frac * i.gain_step;
-            // The status is OK already (see `interval`).
-            return Status::OK;
-        }
         // False for NaN and whenever the short update does not apply.
         if signal >= s.lo && signal < s.hi {
             // signal >= start, so pos >= 0 and the cast is a floor, as in
             // `Axis::locate`; a pos rounded up to the last node fails the
-            // bounds check below and takes the general update.
+            // bounds check in `fill_interval` and takes the general update.
+            let pos = s.position(signal);
             let index = pos as usize;
-            let index_f = index as f32;
-            let frac = pos - index_f;
-            let n = usize::from(s.nodes);
-            // Offset words `index`, `index + 1` and gain words `n + index`,
-            // `n + index + 1`: inside the block exactly when
-            // `index + n + 2 <= 2 n`, which this one check tests.
-            if let Some(w) = s.channels.get(index..index.wrapping_add(n + 2))
-                && let (Some(&o0), Some(&o1), Some(&g0), Some(&g1)) =
-                    (w.first(), w.get(1), w.get(n), w.get(n + 1))
-            {
+            let frac = pos - index as f32;
+            // The interval's words are those of `index`, and the status is
+            // already OK (see `Interval`).
+            if index == self.interval.index || self.fill_interval(index) {
+                let i = &self.interval;
                 // At a node (frac == 0) `v0 + 0 (v1 - v0)` is v0 exactly,
                 // as the general update's node read (the parser accepts
                 // finite values only, and their difference is finite
                 // unless both are beyond 1.7e38).
-                let (offset, offset_step) = base_and_step(o0, o1);
-                let (gain, gain_step) = base_and_step(g0, g1);
                 self.temperature_c = signal;
-                self.offset = offset + frac * offset_step;
-                self.gain = gain + frac * gain_step;
-                self.temp_status = Status::OK;
-                // Positions in `index..index + 1` locate node `index`
-                // (`pos` is below the last node here).
-                self.interval = Interval {
-                    lo: larger(index_f, s.pos_lo),
-                    hi: smaller(index_f + 1.0, s.pos_hi),
-                    index: index_f,
-                    offset,
-                    offset_step,
-                    gain,
-                    gain_step,
-                };
+                self.offset = i.offset + frac * i.offset_step;
+                self.gain = i.gain + frac * i.gain_step;
                 return Status::OK;
             }
         }
         self.update_general(signal)
     }
 
+    /// Reads the node words of interval `index` into the cached interval
+    /// and sets the status OK; `false` (nothing written) where the general
+    /// update must run.
+    #[inline]
+    fn fill_interval(&mut self, index: usize) -> bool {
+        let s = &self.short;
+        let n = usize::from(s.nodes);
+        // Offset words `index`, `index + 1` and gain words `n + index`,
+        // `n + index + 1`: inside the block exactly when
+        // `index + n + 2 <= 2 n`, which this one check tests.
+        if let Some(w) = s.channels.get(index..index.wrapping_add(n + 2))
+            && let (Some(&o0), Some(&o1), Some(&g0), Some(&g1)) =
+                (w.first(), w.get(1), w.get(n), w.get(n + 1))
+        {
+            let (offset, offset_step) = base_and_step(o0, o1);
+            let (gain, gain_step) = base_and_step(g0, g1);
+            self.interval = Interval {
+                index,
+                offset,
+                offset_step,
+                gain,
+                gain_step,
+            };
+            self.temp_status = Status::OK;
+            return true;
+        }
+        false
+    }
+
     /// Every case of [`Self::update_temperature`].
     #[inline(never)]
     fn update_general(&mut self, signal: f32) -> Status {
-        // Whatever this update ends with, the next one locates afresh.
-        self.interval = Interval::EMPTY;
+        // Keeps "a filled interval means status OK" (see `Interval`).
+        self.interval.index = Interval::EMPTY.index;
         // Borrowed, not copied: the whole update reads the tables in place
         // and writes the cache once at the end (fewer registers to spill).
         let Some(tables) = &self.tables else {

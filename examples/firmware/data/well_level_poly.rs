@@ -218,7 +218,7 @@ pub const SWEEP_COEFFS_Q_12: [[i32; 13]; RAW_TERMS] = [
 /// Shift of the degree-12 integer form's Horner step in the raw code.
 pub const SWEEP_X_SHIFT_12: u32 = 21;
 /// Dense maximum error of the finer f32 table image (`well_level_f32_fine.bin`, budget
-/// 30), hundredths of a ppm of span: 11.55 ppm.
-pub const TABLE_FINE_ERROR_F32_CENTI_PPM: u64 = 1155;
+/// 33), hundredths of a ppm of span: 13.99 ppm.
+pub const TABLE_FINE_ERROR_F32_CENTI_PPM: u64 = 1399;
 /// The degree whose f32 error the finer image matches (the Cortex-M4F crossover).
-pub const FINE_MATCH_DEGREE: usize = 7;
+pub const FINE_MATCH_DEGREE: usize = 5;
