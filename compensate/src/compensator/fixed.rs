@@ -766,7 +766,8 @@ mod tests {
 
     /// A Celsius image without thermometer over `axis` (Q16.16 degrees):
     /// offset Q8 codes, gain Q20, output Q12, plausible range -60..200 C.
-    fn celsius_builder<'a>(
+    /// Also the base of the interval-cache tests' images.
+    pub(super) fn celsius_builder<'a>(
         axis: AxisSpec<i32>,
         offset: &'a [i32],
         gain: &'a [i32],
@@ -805,7 +806,7 @@ mod tests {
     }
 
     /// A compensator on `b`'s image, encoded into `buf`.
-    fn compensator<'a>(
+    pub(super) fn compensator<'a>(
         b: &ImageBuilder<'_, i32>,
         buf: &'a mut [u8],
     ) -> Result<FixedCompensator<'a>, &'static str> {

@@ -8,7 +8,7 @@
 
 use super::*;
 use crate::ImageBuilder;
-use crate::image::{AxisSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit};
+use crate::image::{AxisSpec, MapSpec, SignalKind};
 
 /// An image for the cache tests: a Celsius signal without thermometer
 /// (offset Q8 codes, gain Q20, output Q12) over `nodes` nodes from `start`
@@ -98,32 +98,13 @@ fn compensator<'a>(
         step: g.step,
     };
     let b = ImageBuilder {
-        interpolation: Interpolation::Linear,
-        q_format: QFormat {
-            temperature: 16,
-            signal: 16,
-            output: 12,
-            offset: 8,
-            gain: 20,
-            quadratic: 0,
-        },
         signal_kind: if g.over_signal {
             SignalKind::Ohm
         } else {
             SignalKind::Celsius
         },
-        unit: Unit::None,
-        ratiometric: false,
-        full_scale: 1.0,
-        raw_limits: RawLimits {
-            rail_lo: -8_388_608,
-            raw_lo: -8_000_000,
-            raw_hi: 8_000_000,
-            rail_hi: 8_388_607,
-        },
         signal_lo: g.signal_lo,
         signal_hi: g.signal_hi,
-        serial: [0; 16],
         thermometer: g.over_signal.then_some(MapSpec {
             axis,
             values: therm,
@@ -133,16 +114,9 @@ fn compensator<'a>(
         } else {
             ChannelAxis::Temperature
         },
-        temperature_axis: axis,
-        offset,
-        gain,
-        quadratic: None,
-        grid: None,
+        ..super::tests::celsius_builder(axis, offset, gain)
     };
-    let n = b.encode(buf).map_err(|_| "the image encodes")?;
-    let view =
-        TableView::parse(buf.get(..n).ok_or("encoded length")?).map_err(|_| "the image parses")?;
-    FixedCompensator::new(&view).map_err(|_| "a Q image")
+    super::tests::compensator(&b, buf)
 }
 
 /// Everything a caller can read after a temperature update: the status,
