@@ -338,7 +338,7 @@ impl<'a> TableView<'a> {
                     f32_at(self.bytes, *at + WORD),
                     *nodes,
                 ),
-                NumberFormat::Q => AxisQ::new(
+                NumberFormat::Q => AxisQ::span(
                     i32_at(self.bytes, *at),
                     i32_at(self.bytes, *at + WORD),
                     *nodes,

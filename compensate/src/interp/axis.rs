@@ -138,16 +138,37 @@ const fn ceil_2pow48_div(step: u32) -> u64 {
     let mut i = 0;
     while i < 49 {
         // The dividend 2^48 has a single one bit, the first one brought down.
-        r = (r << 1) | (i == 0) as u32;
-        q <<= 1;
-        if r >= step {
-            r = r.wrapping_sub(step);
-            q |= 1;
-        }
+        let bit;
+        (r, bit) = reduce((r << 1) | (i == 0) as u32, step);
+        q = (q << 1) | bit;
         i += 1;
     }
     // q <= 2^48, so the rounding increment cannot overflow.
     if r != 0 { q.wrapping_add(1) } else { q }
+}
+
+/// One step of [`ceil_2pow48_div`]: `(r - step, 1)` when `r >= step`,
+/// else `(r, 0)`.
+// Out of line for flash: LLVM's ARM cost model leaves a loop that calls a
+// function rolled, and the 49-step loop around this, unrolled seven-fold,
+// took about 300 bytes of ARMv6-M flash (rolled: a few dozen). It runs 49
+// times per axis when an image is opened, never per sample.
+#[inline(never)]
+const fn reduce(r: u32, step: u32) -> (u32, u64) {
+    if r >= step {
+        (r.wrapping_sub(step), 1)
+    } else {
+        (r, 0)
+    }
+}
+
+/// Exact `n * step` for `n < 2^16` and `step < 2^31`, from the step's
+/// 16-bit halves: two 32-bit products (below 2^31 and 2^32) that cannot
+/// wrap. For targets without a widening multiply (ARMv6-M), where an i64
+/// product would link the 64-bit library multiply.
+#[cfg_attr(not(narrow_mul), allow(dead_code))]
+const fn mul_u16_u31(n: u32, step: u32) -> i64 {
+    (((n * (step >> 16)) as i64) << 16) + (n * (step & 0xFFFF)) as i64
 }
 
 /// Where a point lies on a Q-format axis.
@@ -166,17 +187,15 @@ pub struct PositionQ {
 impl AxisQ {
     /// A Q axis; `None` when `step <= 0`, `len < 2`, or the last node
     /// `start + (len - 1) * step` does not fit in i32.
+    // Out of line: an image parser builds up to three axes, and each
+    // inlined copy of the reciprocal's long division cost about 300 bytes
+    // of ARMv6-M flash. Construction runs once per axis, never per sample.
+    #[inline(never)]
     #[must_use]
     pub const fn new(start: i32, step: i32, len: usize) -> Option<Self> {
-        if step <= 0 || len < 2 || len > u16::MAX as usize {
+        let Some(span) = Self::span(start, step, len) else {
             return None;
-        }
-        // (len - 1) * step < 2^16 * 2^31 fits in i64.
-        let end = start as i64 + (len as i64 - 1) * step as i64;
-        if end > i32::MAX as i64 {
-            return None;
-        }
-        let span = (end - start as i64) as u32;
+        };
         let step = step as u32;
         let inv = ceil_2pow48_div(step);
         Some(Self {
@@ -190,6 +209,27 @@ impl AxisQ {
             len,
             span,
         })
+    }
+
+    /// `(len - 1) * step` when [`Self::new`] accepts the geometry, else
+    /// `None`: the validity test alone, without the reciprocal, for the
+    /// image parser, which only checks the axes.
+    #[inline]
+    pub(crate) const fn span(start: i32, step: i32, len: usize) -> Option<u32> {
+        if step <= 0 || len < 2 || len > u16::MAX as usize {
+            return None;
+        }
+        // (len - 1) * step < 2^16 * 2^31 fits in i64.
+        let n = (len - 1) as u32;
+        #[cfg(narrow_mul)]
+        let product = mul_u16_u31(n, step as u32);
+        #[cfg(not(narrow_mul))]
+        let product = n as i64 * step as i64;
+        let end = start as i64 + product;
+        if end > i32::MAX as i64 {
+            return None;
+        }
+        Some((end - start as i64) as u32)
     }
 
     /// First node abscissa.
@@ -346,6 +386,33 @@ mod tests {
             let want = (1u64 << 48).div_ceil(u64::from(step));
             assert_eq!(got, want, "step={step}: got {got}, expected {want}");
         }
+    }
+
+    #[test]
+    fn split_product_is_exact() {
+        let ns = [0u32, 1, 2, 0xFF, 0x100, 0x7FFF, 0xFFFE, 0xFFFF];
+        let steps = [
+            1u32,
+            0xFFFF,
+            0x1_0000,
+            0x1_0001,
+            0x7FFF_FFFF,
+            0x7FFF_0000,
+            0x4000_0000,
+            0x1234_5678,
+        ];
+        for n in ns {
+            for step in steps {
+                let got = mul_u16_u31(n, step);
+                let want = i64::from(n) * i64::from(step);
+                assert_eq!(got, want, "{n} * {step}: got {got}, expected {want}");
+            }
+        }
+        // The comparison sees a dropped high half.
+        assert_ne!(
+            mul_u16_u31(0xFFFF, 0x7FFF_FFFF) & 0xFFFF_FFFF,
+            mul_u16_u31(0xFFFF, 0x7FFF_FFFF)
+        );
     }
 
     #[test]
