@@ -49,18 +49,21 @@ struct Offsets {
 impl Offsets {
     fn new(n_t: usize, n_ch: usize, n_sig: usize) -> Self {
         // Only called once `layout::image_len` succeeded for these counts,
-        // so none of the sums below can overflow.
+        // so none of the sums below can overflow. Wrapping, not
+        // saturating: the exact result either way, and ARMv6-M (no
+        // widening multiply) then links no 64-bit multiply to test the
+        // product for overflow.
         let therm = HEADER_LEN;
         let chan = if n_sig == 0 {
             therm
         } else {
             therm
-                .saturating_add(AXIS_LEN)
-                .saturating_add(n_sig.saturating_mul(WORD))
+                .wrapping_add(AXIS_LEN)
+                .wrapping_add(n_sig.wrapping_mul(WORD))
         };
         let grid = chan
-            .saturating_add(AXIS_LEN)
-            .saturating_add(n_ch.saturating_mul(n_t).saturating_mul(WORD));
+            .wrapping_add(AXIS_LEN)
+            .wrapping_add(n_ch.wrapping_mul(n_t).wrapping_mul(WORD));
         Self { therm, chan, grid }
     }
 }
@@ -308,57 +311,63 @@ impl<'a> TableView<'a> {
     /// Axes strictly increasing and every number finite (`Q_ONLY`: the
     /// view is known to hold a Q image).
     fn check_sections<const Q_ONLY: bool>(&self) -> Result<(), ImageError> {
-        let format = if Q_ONLY { NumberFormat::Q } else { self.format };
         let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
-        let mut sections: [(Section, usize, usize, usize); 3] = [
-            (Section::Thermometer, o.therm, self.n_sig, self.n_sig),
-            (
-                Section::Channels,
-                o.chan,
-                self.n_t,
-                self.n_t.saturating_mul(self.n_ch),
-            ),
-            (
-                Section::Grid,
-                o.grid,
-                self.n_raw,
-                self.n_raw.saturating_mul(self.n_t),
-            ),
-        ];
+        // Only called once `layout::image_len` succeeded for these counts:
+        // the products cannot wrap (wrapping, not saturating, so that
+        // ARMv6-M links no 64-bit multiply to detect an overflow).
+        self.check_section::<Q_ONLY>(Section::Thermometer, o.therm, self.n_sig, self.n_sig)?;
+        self.check_section::<Q_ONLY>(
+            Section::Channels,
+            o.chan,
+            self.n_t,
+            self.n_t.wrapping_mul(self.n_ch),
+        )?;
+        self.check_section::<Q_ONLY>(
+            Section::Grid,
+            o.grid,
+            self.n_raw,
+            self.n_raw.wrapping_mul(self.n_t),
+        )
+    }
+
+    /// One section of [`Self::check_sections`]: the axis at byte `at`
+    /// with `nodes` nodes (none: no section), then (f32) its `values`
+    /// numbers.
+    // Out of line: one copy serves the three sections (inlined, each cost
+    // about 200 bytes of ARMv6-M flash for its unaligned word reads and
+    // the axis test).
+    #[inline(never)]
+    fn check_section<const Q_ONLY: bool>(
+        &self,
+        section: Section,
+        at: usize,
+        nodes: usize,
+        values: usize,
+    ) -> Result<(), ImageError> {
+        if nodes == 0 {
+            return Ok(());
+        }
+        let format = if Q_ONLY { NumberFormat::Q } else { self.format };
         // A Q grid's raw axis is in integer codes; every other Q axis uses
         // the fractional bits of its own quantity, which do not matter for
         // monotonicity.
-        for (section, at, nodes, values) in &mut sections {
-            if *nodes == 0 {
-                continue;
+        let ok = match format {
+            NumberFormat::F32 => {
+                f32_axis_ok(f32_at(self.bytes, at), f32_at(self.bytes, at + WORD), nodes)
             }
-            let ok = match format {
-                NumberFormat::F32 => f32_axis_ok(
-                    f32_at(self.bytes, *at),
-                    f32_at(self.bytes, *at + WORD),
-                    *nodes,
-                ),
-                NumberFormat::Q => AxisQ::span(
-                    i32_at(self.bytes, *at),
-                    i32_at(self.bytes, *at + WORD),
-                    *nodes,
-                )
-                .is_some(),
-            };
-            if !ok {
-                return Err(ImageError::BadAxis { section: *section });
+            NumberFormat::Q => {
+                AxisQ::span(i32_at(self.bytes, at), i32_at(self.bytes, at + WORD), nodes).is_some()
             }
-            if format == NumberFormat::F32 {
-                let data = *at + AXIS_LEN;
-                for index in 0..*values {
-                    if !f32_at(self.bytes, data.saturating_add(index.saturating_mul(WORD)))
-                        .is_finite()
-                    {
-                        return Err(ImageError::NonFinite {
-                            section: *section,
-                            index,
-                        });
-                    }
+        };
+        if !ok {
+            return Err(ImageError::BadAxis { section });
+        }
+        if format == NumberFormat::F32 {
+            let data = at + AXIS_LEN;
+            for index in 0..values {
+                if !f32_at(self.bytes, data.saturating_add(index.saturating_mul(WORD))).is_finite()
+                {
+                    return Err(ImageError::NonFinite { section, index });
                 }
             }
         }
