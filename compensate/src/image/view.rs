@@ -474,7 +474,20 @@ impl<'a> TableView<'a> {
         self.bytes
     }
 
+    /// The Q axis of `len` nodes whose first node and step are the words
+    /// at byte `at`.
+    // Out of line: [`Self::tables_q`] builds up to three axes, and each
+    // inlined copy of the unaligned word reads cost ARMv6-M flash.
+    #[inline(never)]
+    fn axis_q(&self, at: usize, len: usize) -> Option<AxisQ> {
+        AxisQ::new(i32_at(self.bytes, at), i32_at(self.bytes, at + WORD), len)
+    }
+
     /// Words `start..start + count` of the image as a byte slice.
+    // Out of line on ARMv6-M (`narrow_mul`: the small parts), where the
+    // five inlined copies in `tables_q` cost about 50 bytes more flash;
+    // inlined elsewhere, where it is the smaller choice.
+    #[cfg_attr(narrow_mul, inline(never))]
     fn words(&self, start: usize, count: usize) -> &'a [u8] {
         let end = start.saturating_add(count.saturating_mul(WORD));
         self.bytes.get(start..end).unwrap_or(&[])
@@ -535,9 +548,7 @@ impl<'a> TableView<'a> {
             return None;
         }
         let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
-        let axis = |at: usize, len: usize| {
-            AxisQ::new(i32_at(self.bytes, at), i32_at(self.bytes, at + WORD), len)
-        };
+        let axis = |at: usize, len: usize| self.axis_q(at, len);
         let chan =
             |c: usize| ColumnQ::new(self.words(o.chan + AXIS_LEN + c * self.n_t * WORD, self.n_t));
         let thermometer = if self.n_sig > 0 {
