@@ -311,39 +311,27 @@ impl<'a> TableView<'a> {
     /// Axes strictly increasing and every number finite (`Q_ONLY`: the
     /// view is known to hold a Q image).
     fn check_sections<const Q_ONLY: bool>(&self) -> Result<(), ImageError> {
+        self.check_section::<Q_ONLY>(Section::Thermometer)?;
+        self.check_section::<Q_ONLY>(Section::Channels)?;
+        self.check_section::<Q_ONLY>(Section::Grid)
+    }
+
+    /// One section of [`Self::check_sections`]: its axis (none without
+    /// nodes: no section), then (f32) its values.
+    // Out of line, with the section as the only argument: one copy serves
+    // the three sections (inlined, each cost about 200 bytes of ARMv6-M
+    // flash for its unaligned word reads and the axis test).
+    #[inline(never)]
+    fn check_section<const Q_ONLY: bool>(&self, section: Section) -> Result<(), ImageError> {
         let o = Offsets::new(self.n_t, self.n_ch, self.n_sig);
         // Only called once `layout::image_len` succeeded for these counts:
         // the products cannot wrap (wrapping, not saturating, so that
         // ARMv6-M links no 64-bit multiply to detect an overflow).
-        self.check_section::<Q_ONLY>(Section::Thermometer, o.therm, self.n_sig, self.n_sig)?;
-        self.check_section::<Q_ONLY>(
-            Section::Channels,
-            o.chan,
-            self.n_t,
-            self.n_t.wrapping_mul(self.n_ch),
-        )?;
-        self.check_section::<Q_ONLY>(
-            Section::Grid,
-            o.grid,
-            self.n_raw,
-            self.n_raw.wrapping_mul(self.n_t),
-        )
-    }
-
-    /// One section of [`Self::check_sections`]: the axis at byte `at`
-    /// with `nodes` nodes (none: no section), then (f32) its `values`
-    /// numbers.
-    // Out of line: one copy serves the three sections (inlined, each cost
-    // about 200 bytes of ARMv6-M flash for its unaligned word reads and
-    // the axis test).
-    #[inline(never)]
-    fn check_section<const Q_ONLY: bool>(
-        &self,
-        section: Section,
-        at: usize,
-        nodes: usize,
-        values: usize,
-    ) -> Result<(), ImageError> {
+        let (at, nodes, values) = match section {
+            Section::Thermometer => (o.therm, self.n_sig, self.n_sig),
+            Section::Channels => (o.chan, self.n_t, self.n_t.wrapping_mul(self.n_ch)),
+            _ => (o.grid, self.n_raw, self.n_raw.wrapping_mul(self.n_t)),
+        };
         if nodes == 0 {
             return Ok(());
         }

@@ -6,6 +6,7 @@
 #![deny(clippy::arithmetic_side_effects)]
 
 use super::{Nodes, PositionQ};
+use crate::widemul::mul_wide;
 
 /// `(a * frac_q16) >> 16` rounded half up, `a` within +-2^47,
 /// `frac_q16 < 2^16`.
@@ -102,7 +103,23 @@ fn lerp_q_wide(v0: i32, v1: i32, frac_q16: u32) -> i32 {
     // |v1 - v0| < 2^32, so the scaled step fits and v0 + step lies between
     // v0 and v1 (rounding cannot pass v1 because frac < 2^16).
     let d = i64::from(v1).wrapping_sub(i64::from(v0));
-    saturate(i64::from(v0).wrapping_add(scale_q16(d, frac_q16)))
+    saturate(i64::from(v0).wrapping_add(scale_q16_split(d, frac_q16)))
+}
+
+/// [`scale_q16`]'s i64 case, `floor((a f + 2^15) / 2^16)` for
+/// `|a| < 2^47` and `f = frac_q16 < 2^16`, from `a = hi 2^16 + lo` (`lo`
+/// unsigned 16 bits, `hi` then within +-2^31): `hi f + floor((lo f +
+/// 2^15) / 2^16)` exactly, as in [`scale_q16_i32`], with `hi f` an exact
+/// 32x32 -> 64-bit product (`mul_wide`). On ARMv6-M that is four 16-bit
+/// multiplies where the i64 product linked the 64-bit library multiply
+/// for [`lerp_q_wide`] alone.
+#[inline]
+fn scale_q16_split(a: i64, frac_q16: u32) -> i64 {
+    let f = frac_q16 & 0xFFFF;
+    let hi = (a >> 16) as i32;
+    let lo = (a & 0xFFFF) as u32;
+    let low = i64::from(lo.wrapping_mul(f).wrapping_add(0x8000) >> 16);
+    mul_wide(hi, f as i32).wrapping_add(low)
 }
 
 /// Fritsch–Carlson tangent at node `k` in LSB per node step (see the f32
@@ -220,6 +237,44 @@ pub fn bilinear_q<N: Nodes<Value = i32>>(
 mod tests {
     use super::super::{Axis, AxisQ, cubic_monotone, linear};
     use super::*;
+
+    #[test]
+    fn split_scale_matches_i64_product() {
+        // Node differences beyond i32 (what `lerp_q_wide` sees, |a| < 2^32)
+        // and up to the +-2^47 bound, against the i64 product.
+        let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
+        let mut vals: std::vec::Vec<i64> = std::vec![
+            0,
+            1,
+            -1,
+            i64::from(i32::MAX) + 1,
+            i64::from(i32::MIN) - 1,
+            (1 << 32) - 1,
+            -(1 << 32) + 1,
+            (1 << 47) - 1,
+            -(1 << 47) + 1,
+        ];
+        for _ in 0..20_000 {
+            // xorshift64: deterministic spread.
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            vals.push((x as i64) >> (16 + x % 16));
+        }
+        let fracs = [0u32, 1, 0x7FFF, 0x8000, 0x8001, 0xFFFE, 0xFFFF, 12_345];
+        for &a in &vals {
+            for f in fracs {
+                let want = a.wrapping_mul(i64::from(f)).wrapping_add(1 << 15) >> 16;
+                let got = scale_q16_split(a, f);
+                assert_eq!(got, want, "a={a} f={f}: got {got}, expected {want}");
+            }
+        }
+        // The comparison sees a dropped rounding term: (2^33 + 1) / 2
+        // rounds up to 2^32 + 1, truncates to 2^32.
+        let a = (1i64 << 33) + 1;
+        assert_eq!(scale_q16_split(a, 0x8000), (1 << 32) + 1);
+        assert_ne!(scale_q16_split(a, 0x8000), (a * 0x8000) >> 16);
+    }
 
     #[test]
     fn ratio_q16_matches_i64_division() {
