@@ -35,9 +35,15 @@ fn scale_q16_i32(a: i32, frac_q16: u32) -> i32 {
 }
 
 /// i64 to i32 with saturation.
+// A range test and a sign choice, not `clamp`: smaller on ARMv6-M, where
+// each 64-bit compare and select is several instructions.
 #[inline]
 fn saturate(v: i64) -> i32 {
-    v.clamp(i64::from(i32::MIN), i64::from(i32::MAX)) as i32
+    match i32::try_from(v) {
+        Ok(x) => x,
+        Err(_) if v < 0 => i32::MIN,
+        Err(_) => i32::MAX,
+    }
 }
 
 /// Linear interpolation at `p`; exact at nodes, within the two neighbouring
