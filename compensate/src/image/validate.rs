@@ -63,7 +63,7 @@ pub(super) fn check_frac(
         NumberFormat::F32 => [0; 6],
         NumberFormat::Q => Q_FRAC_MAX,
     };
-    for ((field, value), max) in FRAC_FIELDS.into_iter().zip(q.to_bytes()).zip(max) {
+    for ((&field, value), max) in FRAC_FIELDS.iter().zip(q.to_bytes()).zip(max) {
         if value > max {
             return Err(ImageError::BadFracBits { field, value });
         }
