@@ -175,7 +175,8 @@ proptest::proptest! {
         let (offset, gain) = columns(g.nodes);
         let therm: Vec<i32> = (0..g.nodes as i32).map(|k| (k * k * 5 - 40) << 16).collect();
         let mut buf = [0u8; 1024];
-        let fresh = compensator(g, &offset, &gain, &therm, &mut buf).unwrap();
+        let fresh = compensator(g, &offset, &gain, &therm, &mut buf)
+            .map_err(proptest::test_runner::TestCaseError::fail)?;
         let (mut cached, mut general) = (fresh, fresh);
         let mut prev = g.start;
         for (step, &(kind, p)) in moves.iter().enumerate() {
