@@ -4,12 +4,12 @@
 //! panicking path exists even if that check were wrong.
 
 /// Four bytes at `off`, or zeros past the end.
-// Out of line on ARMv6-M and ARMv8-M Baseline (`narrow_mul`: the small
-// parts), which have no unaligned word load: each inlined read is four
-// byte loads and their assembly, and the parser reads a dozen header
-// words. Inlined elsewhere, where a read is one load.
-#[cfg_attr(narrow_mul, inline(never))]
-#[cfg_attr(not(narrow_mul), inline)]
+// Out of line on parts without unaligned word loads (`aligned_loads_only`:
+// ARMv6-M and ARMv8-M Baseline): each inlined read is four byte loads and
+// their assembly, and the parser reads a dozen header words. Inlined
+// elsewhere, where a read is one load.
+#[cfg_attr(aligned_loads_only, inline(never))]
+#[cfg_attr(not(aligned_loads_only), inline)]
 pub fn word(b: &[u8], off: usize) -> [u8; 4] {
     match b.get(off..off.saturating_add(4)) {
         Some(&[a, c, d, e]) => [a, c, d, e],
