@@ -12,6 +12,10 @@ use crate::interp::{
 };
 use crate::widemul::mul_wide;
 
+mod short_scale;
+
+use short_scale::ShortScale;
+
 /// One compensated sample in Q(`output`) engineering units.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -33,28 +37,25 @@ pub struct ReadingQ {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[repr(C)]
 pub struct FixedCompensator<'a> {
-    /// Lower end of the short path's raw range: the calibrated range when
-    /// the short path applies at the current temperature (no quadratic
-    /// term, no 2-D correction), else an empty range (`fast_lo > fast_hi`),
-    /// so that one pair of compares decides.
+    /// Lower end of the short path's raw range (the calibrated range's).
     fast_lo: i32,
-    /// Upper end of the short path's raw range (see `fast_lo`).
-    fast_hi: i32,
+    /// Codes in the short path's raw range from `fast_lo` up: the
+    /// calibrated range's `raw_hi - raw_lo + 1` when the short path
+    /// applies at the current temperature (no quadratic term, no 2-D
+    /// correction), else 0, so that one unsigned compare decides.
+    fast_span: u32,
     offset: i32,
     gain: i32,
     /// `2^offset_bits`: raw codes times this are in the offset's Q format
     /// (a multiply needs no shift-amount mask on ARMv6-M).
     offset_scale: i32,
-    /// `offset + gain - output` fractional bits, at most 62.
-    out_shift: u32,
-    /// `32 - out_shift`, used by the short path only (which runs only when
-    /// `out_shift` is in 1..=31).
-    out_shift_c: u32,
     /// Within the first 32 bytes, where ARMv6-M's byte load reaches
     /// without a separate offset register.
     temp_status: Status,
-    /// Half an LSB of the output before the shift (round half up).
-    out_round: i64,
+    /// The short path's output shift and rounding (its shift byte also
+    /// within the first 32 bytes); meaningful only when `out_shift` is in
+    /// 1..=31, the only shifts the short path runs.
+    short_scale: ShortScale,
     /// Q(`temperature`) degrees Celsius; on an image over the signal axis,
     /// the signal itself (see [`FixedCompensator::temperature_q`]).
     temperature_q: i32,
@@ -64,6 +65,10 @@ pub struct FixedCompensator<'a> {
     /// [`CellQ`]); after `short`, whose halfword `nodes` must stay within
     /// 62 bytes of the base.
     cell: CellQ,
+    /// `offset + gain - output` fractional bits, at most 62.
+    out_shift: u32,
+    /// Half an LSB of the output before the shift (round half up).
+    out_round: i64,
     quadratic: i32,
     /// Fractional bits of the offset channel: raw codes are shifted by this.
     offset_shift: u32,
@@ -295,12 +300,12 @@ fn channels_cubic_q(t: &TablesQ<'_>, p: PositionQ) -> (i32, i32, i32) {
 }
 
 /// `p >> s` (arithmetic) if the result fits in i32, for `s` in 1..=31 and
-/// `sc = 32 - s` (both precomputed): two 32-bit words, no 64-bit shift
-/// and no branch on the shift amount. The low word of the result takes
+/// `sc = 32 - s`: the short path's shift before [`ShortScale`], kept as
+/// the reference its tests compare with. The low word of the result takes
 /// bits `s..32` of `p`'s low word and bits `0..s` of its high word; the
 /// result fits in i32 exactly when the remaining high bits are the sign
 /// extension of that word.
-#[inline(always)]
+#[cfg(test)]
 fn shr_1_31_to_i32(p: i64, s: u32, sc: u32) -> Option<i32> {
     let hi = (p >> 32) as i32;
     let lo = p as u32;
@@ -337,12 +342,12 @@ impl<'a> FixedCompensator<'a> {
             rail_hi: i32::MAX,
             raw_lo: i32::MIN,
             raw_hi: i32::MAX,
-            fast_lo: i32::MAX,
-            fast_hi: i32::MIN,
+            fast_lo: 0,
+            fast_span: 0,
             offset_scale: 1,
             offset_shift: 0,
             out_shift: 0,
-            out_shift_c: 32,
+            short_scale: ShortScale::UNUSED,
             out_round: 0,
             quad_shift: 0,
             temperature_q: 0,
@@ -393,6 +398,7 @@ impl<'a> FixedCompensator<'a> {
         } else {
             1i64.wrapping_shl(out_shift.wrapping_sub(1))
         };
+        let short_scale = ShortScale::new(out_shift, out_round);
         let mut c = Self {
             tables: Some(tables),
             interpolation: view.interpolation(),
@@ -405,8 +411,8 @@ impl<'a> FixedCompensator<'a> {
             offset_scale: 1i32.wrapping_shl(u32::from(q.offset)),
             offset_shift: u32::from(q.offset),
             out_shift,
-            out_shift_c: 32u32.wrapping_sub(out_shift),
-            short_ok: tables.grid.is_none() && (1..=31).contains(&out_shift),
+            short_ok: tables.grid.is_none() && short_scale.is_some(),
+            short_scale: short_scale.unwrap_or(ShortScale::UNUSED),
             out_round,
             quad_shift,
             temperature_map,
@@ -441,10 +447,13 @@ impl<'a> FixedCompensator<'a> {
         self.offset = offset;
         self.gain = gain;
         self.quadratic = quadratic;
-        (self.fast_lo, self.fast_hi) = if self.short_ok && quadratic == 0 {
-            (self.raw_lo, self.raw_hi)
+        // rail_lo < raw_lo <= raw_hi < rail_hi (checked by the parser): the
+        // span is below 2^32 and does not wrap.
+        self.fast_lo = self.raw_lo;
+        self.fast_span = if self.short_ok && quadratic == 0 {
+            self.raw_hi.wrapping_sub(self.raw_lo).wrapping_add(1) as u32
         } else {
-            (i32::MAX, i32::MIN)
+            0
         };
     }
 
@@ -605,25 +614,50 @@ impl<'a> FixedCompensator<'a> {
     /// results (tested).
     #[inline]
     pub fn compensate_sample(&self, raw: i32) -> ReadingQ {
-        // `fast_lo..=fast_hi` is the calibrated range when there is no
-        // quadratic term and no 2-D correction, else empty.
-        if raw >= self.fast_lo && raw <= self.fast_hi {
+        // `raw - fast_lo` wraps below `fast_lo` to at least
+        // `2^32 - (fast_lo - i32::MIN)`, beyond any span: one compare
+        // tests both ends of the calibrated range, or fails always when
+        // the span is 0.
+        if (raw.wrapping_sub(self.fast_lo) as u32) < self.fast_span {
             // The parser checked that rail codes shifted by the offset's
             // fractional bits fit in i32, and the calibrated range lies
             // inside the rails: the product (a shift) cannot overflow.
             let shifted = raw.wrapping_mul(self.offset_scale);
             if let Some(d) = shifted.checked_sub(self.offset) {
-                // |d * gain| <= 2^62, out_round <= 2^61: no overflow.
-                let p = mul_wide(d, self.gain).wrapping_add(self.out_round);
-                if let Some(value) = shr_1_31_to_i32(p, self.out_shift, self.out_shift_c) {
-                    return ReadingQ {
+                #[cfg(narrow_mul)]
+                let value = self.short_scale.narrow(d, self.gain);
+                // |d * gain| <= 2^62, out_round <= 2^30 here: no overflow.
+                #[cfg(not(narrow_mul))]
+                let value = self
+                    .short_scale
+                    .wide(mul_wide(d, self.gain).wrapping_add(self.out_round));
+                return match value {
+                    Ok(value) => ReadingQ {
                         value,
                         status: self.temp_status,
-                    };
-                }
+                    },
+                    Err(hi) => self.saturated(hi),
+                };
             }
         }
         self.compensate_general(raw)
+    }
+
+    /// What [`Self::compensate_general`] gives for a raw code in the short
+    /// path's range whose output leaves i32, from the sign of the high
+    /// word of `d g + half`: there the status is the temperature status
+    /// (raw in the calibrated range, `d` fits, no quadratic term, no 2-D
+    /// correction) plus the saturation, and the value the i32 end of that
+    /// sign. Answering here, the short path needs no raw code after the
+    /// multiply: one register fewer, so no spill on ARMv6-M.
+    #[inline(always)]
+    fn saturated(&self, hi: i32) -> ReadingQ {
+        ReadingQ {
+            // i32::MAX for hi >= 0, its complement i32::MIN for hi < 0,
+            // without a branch.
+            value: (hi >> 31) ^ i32::MAX,
+            status: self.temp_status | Status::SATURATED,
+        }
     }
 
     /// Compensates a raw code taken at an excitation that differs from the
@@ -873,6 +907,44 @@ mod tests {
             let general = c.compensate_general(raw);
             assert_eq!(fast, general, "raw {raw}");
         }
+        Ok(())
+    }
+
+    /// The short path answers saturated outputs itself (`saturated`) with
+    /// what the general path gives; both kinds of sample occur.
+    #[test]
+    fn short_path_saturation_matches_general() -> Result<(), &'static str> {
+        let offset = [100 << 8, -50 << 8];
+        let gain = [3 << 20, -(5 << 20)];
+        let axis = AxisSpec {
+            start: 0,
+            step: 100 << 16,
+        };
+        let mut buf = [0u8; 256];
+        let mut c = compensator(&celsius_builder(axis, &offset, &gain), &mut buf)?;
+        let (mut saturated, mut plain) = (0, 0);
+        let mut x: u32 = 7;
+        for t in [10, 60, 95] {
+            c.update_temperature(t << 16);
+            for _ in 0..3000 {
+                x ^= x << 13;
+                x ^= x >> 17;
+                x ^= x << 5;
+                // |d g| >> 16 leaves i32 from |raw| of about 2^17 up.
+                let raw = (x as i32) >> (9 + x % 8);
+                let fast = c.compensate_sample(raw);
+                assert_eq!(fast, c.compensate_general(raw), "t {t} C, raw {raw}");
+                if fast.status.contains(Status::SATURATED) {
+                    saturated += 1;
+                } else {
+                    plain += 1;
+                }
+            }
+        }
+        assert!(
+            saturated > 1000 && plain > 1000,
+            "{saturated} saturated, {plain} plain samples"
+        );
         Ok(())
     }
 
