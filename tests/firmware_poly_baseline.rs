@@ -58,17 +58,43 @@ fn mul_wide_soft_is_exact() {
         -0x8000,
         12_345_678,
         -987_654_321,
+        // Signed low halves at -2^15 and high halves at +-2^15: the ends
+        // of the Karatsuba form's ranges.
+        0x8000,
+        -0x8001,
+        0x7FFF,
+        0x7FFF_8000,
+        0x7FFF_7FFF,
+        -0x7FFF_8000,
+        i32::MIN + 0x8000,
+        i32::MIN + 0x7FFF,
     ];
+    let check = |a: i32, b: i32| {
+        let got = mul_wide_soft(a, b);
+        let want = i128::from(a) * i128::from(b);
+        assert_eq!(
+            i128::from(got),
+            want,
+            "mul_wide_soft({a}, {b}) = {got}, expected {want}"
+        );
+    };
     for &a in &edge {
         for &b in &edge {
-            let got = mul_wide_soft(a, b);
-            let want = i128::from(a) * i128::from(b);
-            assert_eq!(
-                i128::from(got),
-                want,
-                "mul_wide_soft({a}, {b}) = {got}, expected {want}"
-            );
+            check(a, b);
         }
+    }
+    // 200 000 pseudo-random pairs (xorshift32, fixed seed), spread over
+    // every magnitude by a random shift.
+    let mut x: u32 = 0x2545_F491;
+    let mut next = || {
+        x ^= x << 13;
+        x ^= x >> 17;
+        x ^= x << 5;
+        (x as i32) >> (x % 24)
+    };
+    for _ in 0..200_000 {
+        let (a, b) = (next(), next());
+        check(a, b);
     }
 }
 

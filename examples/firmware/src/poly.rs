@@ -128,18 +128,32 @@ pub fn mul_wide(a: i32, b: i32) -> i64 {
     }
 }
 
-/// Signed 32x32 -> 64-bit product from four 16x16 -> 32-bit products:
-/// `a b = ah bh 2^32 + (ah bl + al bh) 2^16 + al bl`, with `al`, `bl` the
-/// unsigned low halves and `ah`, `bh` the signed high halves.
+/// Signed 32x32 -> 64-bit product from three 16x16 -> 32-bit products, as
+/// the compensate crate's integer sample path forms its product on ARMv6-M
+/// (Karatsuba on signed 16-bit halves), so the baseline is optimised as
+/// far as ours.
+///
+/// `a = ah 2^16 + al` with `al` in [-2^15, 2^15) and `ah` in
+/// [-2^15, 2^15] (`ah = floor((floor(a / 2^15) + 1) / 2)`, which does not
+/// wrap at `ah = 2^15`), the same for `b`; then
+/// `a b = hh 2^32 + mid 2^16 + ll` with `ll = al bl`, `hh = ah bh` (both
+/// within +-2^30) and `mid = al bh + ah bl` in [-2^31, 2^31 - 2^15]
+/// (each cross product within +-2^30, and both at their top only if
+/// `al = ah = -2^15`, which `ah`'s range excludes for `al = -2^15`), so
+/// `mid` fits in i32 and `(al - ah)(bh - bl) + ll + hh`, taken mod 2^32,
+/// is `mid` exactly.
 #[inline(always)]
 pub fn mul_wide_soft(a: i32, b: i32) -> i64 {
-    let (al, ah) = ((a & 0xFFFF) as u32, a >> 16);
-    let (bl, bh) = ((b & 0xFFFF) as u32, b >> 16);
-    // al bl < 2^32; |ah bl|, |al bh| < 2^31; |ah bh| <= 2^30.
-    let lo = i64::from(al.wrapping_mul(bl));
-    let mid = i64::from(ah.wrapping_mul(bl as i32)) + i64::from((al as i32).wrapping_mul(bh));
-    let hi = i64::from(ah.wrapping_mul(bh));
-    (hi << 32) + (mid << 16) + lo
+    let (al, ah) = (i32::from(a as i16), (a >> 15).wrapping_add(1) >> 1);
+    let (bl, bh) = (i32::from(b as i16), (b >> 15).wrapping_add(1) >> 1);
+    let ll = al.wrapping_mul(bl);
+    let hh = ah.wrapping_mul(bh);
+    let mid = al
+        .wrapping_sub(ah)
+        .wrapping_mul(bh.wrapping_sub(bl))
+        .wrapping_add(ll)
+        .wrapping_add(hh);
+    (i64::from(hh) << 32) + (i64::from(mid) << 16) + i64::from(ll)
 }
 
 /// Horner's rule in Q arithmetic with a compile-time shift `S` (as a
