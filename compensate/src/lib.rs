@@ -159,9 +159,11 @@
 //! without a non-zero quadratic term) and an input inside the calibrated
 //! range, the f32 path (an image without quadratic channel) is two
 //! compares, a subtraction and a multiplication with no stack frame, and
-//! the integer path is one 32x32->64 multiply (four 16x16
-//! products on ARMv6-M, where a 64x64 library multiply costs several times
-//! more) and a rounding add, shifted back in two 32-bit words.
+//! the integer path is one 32x32->64 multiply (on ARMv6-M, where a 64x64
+//! library multiply costs several times more, three 16x16 products:
+//! Karatsuba on signed 16-bit halves, with the rounding split over two
+//! partial sums so that no 64-bit add is needed) and a rounding add,
+//! shifted back in two 32-bit words by an amount typed as 1..=31.
 //! Everything else (out-of-range inputs, NaN, saturation, the quadratic
 //! term, the 2-D correction) takes an out-of-line general path with
 //! identical results. A temperature update locates the signal on two axes
@@ -187,7 +189,7 @@
 //!
 //! | call | Cortex-M4F (f32) | Cortex-M0 (integer) |
 //! |---|---:|---:|
-//! | `compensate_sample` | 12 | 58 |
+//! | `compensate_sample` | 12 | 48 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
 //! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep recorded ramp | 37 | 104 |
 //! | the same, a slow drift (the same node interval as the update before) | 27 | 76 |
