@@ -2,7 +2,7 @@
 //! firmware would and reports each row's error against its stimulus.
 
 use super::CliError;
-use super::table::read_part;
+use super::table::read_part_for;
 use crate::station::apply::{
     AppliedRow, Compensation, ImageCompensation, ModelCompensation, apply_rows,
 };
@@ -20,6 +20,10 @@ pub struct ApplyArgs {
     /// The part file, when the first argument is an image (ADC scale and span).
     #[arg(long)]
     pub against: Option<PathBuf>,
+    /// Design file the part was fitted on: refused (exit 2) unless the
+    /// part records that design's content hash.
+    #[arg(long)]
+    pub design: Option<PathBuf>,
     /// JSON on stdout.
     #[arg(long)]
     pub json: bool,
@@ -53,7 +57,7 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     } else {
         args.part_or_image.clone()
     };
-    let part = read_part(&part_path)?;
+    let part = read_part_for(&part_path, args.design.as_deref())?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
     for e in &data.errors {

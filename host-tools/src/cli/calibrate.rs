@@ -2,6 +2,7 @@
 //! writes one part file per serial.
 
 use super::CliError;
+use crate::station::design::DesignFile;
 use crate::station::{chamber, lot, model_shapes, output, spec};
 use std::io::Write;
 use std::path::PathBuf;
@@ -13,6 +14,11 @@ pub struct CalibrateArgs {
     pub spec: String,
     /// Chamber CSV (`serial, chamber_c, stimulus, output, temp_signal`).
     pub csv: PathBuf,
+    /// Design file from `semidrift qualify`: fit each part on the design's
+    /// learned curves (without it, the physics-only fit, whose error between
+    /// chamber temperatures is not measured).
+    #[arg(long)]
+    pub design: Option<PathBuf>,
     /// Directory for the part files (`SERIAL.part.json`).
     #[arg(long, default_value = "parts")]
     pub out_dir: PathBuf,
@@ -31,7 +37,16 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     }
     let curves = model_shapes::shapes_for(&scenario)
         .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
-    let parts = lot::calibrate_lot(&scenario, &curves, &data, args.quiet);
+    let design = match &args.design {
+        Some(path) => {
+            let d = DesignFile::read(path).map_err(|e| CliError::Input(e.to_string()))?;
+            d.check_scenario(&path.display().to_string(), &scenario)
+                .map_err(|e| CliError::Input(e.to_string()))?;
+            Some(d)
+        }
+        None => None,
+    };
+    let parts = lot::calibrate_lot_with(&scenario, &curves, &data, design.as_ref(), args.quiet);
     let mut bad = Vec::new();
     for p in &parts {
         let path = args.out_dir.join(format!("{}.part.json", p.serial));
@@ -62,6 +77,19 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         parts.len(),
         args.out_dir.display()
     )?;
+    match &design {
+        Some(d) => writeln!(
+            out,
+            "fitted on design {} (model error {:.1} ppm of span inside the operating range, measured on its {}-part qualification lot)",
+            &d.hash[..16],
+            d.plan_error.operating_range_ppm,
+            d.qualification.parts
+        )?,
+        None => writeln!(
+            out,
+            "physics-only fit: its error between chamber temperatures has not been measured (qualify the design with semidrift qualify, then calibrate --design)"
+        )?,
+    }
     if let Some(e) = data.errors.first() {
         return Err(CliError::Input(format!(
             "{} bad row(s) skipped, first: {e}",

@@ -12,6 +12,7 @@ pub mod element;
 mod error;
 mod model;
 mod plot;
+mod qualify;
 pub mod range;
 pub mod sample_args;
 mod simulate;
@@ -24,7 +25,7 @@ use clap::{Parser, Subcommand};
 use std::io::Write;
 
 /// Usual cautions, shown in `--help`.
-const CAUTIONS: &str = "\
+pub(crate) const CAUTIONS: &str = "\
 CAUTION: semidrift's output feeds measuring instruments. Where a reading protects people or \
 property (pressure vessels, battery-pack current sensing, medical devices, vehicles), treat it \
 as one input to a design qualified under the standards and local codes that apply, verified on \
@@ -53,6 +54,8 @@ pub enum Command {
     Element(element::ElementArgs),
     /// Simulate a lot of parts in a chamber and write the chamber CSV.
     Simulate(simulate::SimulateArgs),
+    /// Learn a design from a qualification lot measured at many temperatures.
+    Qualify(qualify::QualifyArgs),
     /// Fit every part of a chamber CSV and write one part file per serial.
     Calibrate(calibrate::CalibrateArgs),
     /// Build a part's table image within an error budget and export it.
@@ -110,6 +113,7 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Arrhenius(args) => arrhenius::run(args, out),
         Command::Element(args) => element::run(args, out),
         Command::Simulate(args) => simulate::run(args, out),
+        Command::Qualify(args) => qualify::run(args, out),
         Command::Calibrate(args) => calibrate::run(args, out),
         Command::Table(args) => table::run(args, out),
         Command::Verify(args) => verify::run(args, out),

@@ -15,6 +15,10 @@ use std::path::PathBuf;
 pub struct TableArgs {
     /// Part file written by `calibrate`.
     pub part: PathBuf,
+    /// Design file the part was fitted on: refused (exit 2) unless the
+    /// part records that design's content hash.
+    #[arg(long)]
+    pub design: Option<PathBuf>,
     /// Total error budget in ppm of span (default: the scenario's).
     #[arg(long)]
     pub budget: Option<f64>,
@@ -68,6 +72,49 @@ pub fn read_part(path: &std::path::Path) -> Result<PartFile, CliError> {
     PartFile::read(path).map_err(|e| CliError::Input(e.to_string()))
 }
 
+/// Reads a part file and, when `design` is given, checks that the part was
+/// fitted on that design file (content hash); exit 2 otherwise.
+pub fn read_part_for(
+    path: &std::path::Path,
+    design: Option<&std::path::Path>,
+) -> Result<PartFile, CliError> {
+    let part = read_part(path)?;
+    let Some(dpath) = design else {
+        return Ok(part);
+    };
+    let d = crate::station::design::DesignFile::read(dpath)
+        .map_err(|e| CliError::Input(e.to_string()))?;
+    let line = |key: &str| {
+        std::fs::read_to_string(path)
+            .ok()
+            .and_then(|t| t.lines().position(|l| l.contains(key)))
+            .map_or(1, |k| k + 1)
+    };
+    match &part.design {
+        Some(pd) if pd.design_hash == d.hash => Ok(part),
+        Some(pd) => Err(CliError::at(
+            &path.display().to_string(),
+            line("\"design_hash\""),
+            "design_hash",
+            format!(
+                "part fitted on design {}, not on {} ({})",
+                &pd.design_hash[..pd.design_hash.len().min(16)],
+                dpath.display(),
+                &d.hash[..16]
+            ),
+        )),
+        None => Err(CliError::at(
+            &path.display().to_string(),
+            1,
+            "design",
+            format!(
+                "part was fitted without a design; {} does not apply to it",
+                dpath.display()
+            ),
+        )),
+    }
+}
+
 /// The total budget of `--budget`, or the part's scenario's; ppm of span,
 /// positive.
 pub fn budget_ppm(arg: Option<f64>, part: &PartFile) -> Result<f64, CliError> {
@@ -84,7 +131,7 @@ pub fn budget_ppm(arg: Option<f64>, part: &PartFile) -> Result<f64, CliError> {
 
 /// Runs `semidrift table`.
 pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let part = read_part(&args.part)?;
+    let part = read_part_for(&args.part, args.design.as_deref())?;
     let budget = budget_ppm(args.budget, &part)?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let restrict = Restrict {

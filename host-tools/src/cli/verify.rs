@@ -2,7 +2,7 @@
 //! crate's own code on a dense grid against the fitted part's full model.
 
 use super::CliError;
-use super::table::read_part;
+use super::table::read_part_for;
 use crate::station::{output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -15,6 +15,10 @@ pub struct VerifyArgs {
     /// Part file the image was built from.
     #[arg(long)]
     pub against: PathBuf,
+    /// Design file the part was fitted on: refused (exit 2) unless the
+    /// part records that design's content hash.
+    #[arg(long)]
+    pub design: Option<PathBuf>,
     /// Total budget in ppm of span (default: the scenario's).
     #[arg(long)]
     pub budget: Option<f64>,
@@ -33,7 +37,7 @@ pub struct VerifyArgs {
 
 /// Runs `semidrift verify`; exit 1 when over budget.
 pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let part = read_part(&args.against)?;
+    let part = read_part_for(&args.against, args.design.as_deref())?;
     let image = std::fs::read(&args.image)
         .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", args.image.display())))?;
     let budget = args.budget.unwrap_or(part.scenario.budget_ppm);

@@ -5,7 +5,7 @@ use super::bow::Bow;
 use super::chamber::ChamberRow;
 use super::curves::ShapeCurves;
 use super::part_file::PartFile;
-use super::part_model::PartModel;
+use super::part_model::FittedModel;
 
 /// One compensated row.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -33,25 +33,25 @@ pub trait Compensation {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64);
 }
 
-/// The physics fit of a part, evaluated in f64 (what the table approximates).
+/// The fit of a part, evaluated in f64 (what the table approximates).
 pub struct ModelCompensation<'a> {
     /// The fitted part model.
-    pub model: PartModel<'a>,
-    /// The element's bow with the scenario's reference temperature and
-    /// full-scale range, when the scenario states one.
-    pub bow: Option<(Bow, f64, (f64, f64))>,
+    pub model: FittedModel<'a>,
+    /// The element's bow with the scenario's reference temperature, when
+    /// the scenario states one (a design fit carries its own).
+    pub bow: Option<(Bow, f64)>,
+    /// Full-scale stimulus range.
+    pub fs: (f64, f64),
 }
 
 impl<'a> ModelCompensation<'a> {
     /// The compensation of `part`: its fitted model and its scenario's bow.
-    pub fn for_part(part: &PartFile, curves: &'a ShapeCurves) -> ModelCompensation<'a> {
+    pub fn for_part(part: &'a PartFile, curves: &'a ShapeCurves) -> ModelCompensation<'a> {
         let sc = &part.scenario;
         ModelCompensation {
-            model: PartModel {
-                curves,
-                params: part.params,
-            },
-            bow: sc.bow.map(|b| (b, sc.t_ref_c, sc.stimulus_fs)),
+            model: part.model(curves),
+            bow: sc.bow.map(|b| (b, sc.t_ref_c)),
+            fs: sc.stimulus_fs,
         }
     }
 }
@@ -60,8 +60,12 @@ impl Compensation for ModelCompensation<'_> {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
         let t = self.model.temperature(temp_signal);
         let apparent = self.model.stimulus(output, t);
-        let s = match self.bow {
-            Some((b, t_ref_c, fs)) => b.true_stimulus(apparent, t, t_ref_c, fs),
+        let mid = self
+            .model
+            .bow_mid(t)
+            .or_else(|| self.bow.map(|(b, t_ref_c)| b.mid_at(t, t_ref_c)));
+        let s = match mid {
+            Some(m) => Bow::constant(m).true_stimulus(apparent, t, t, self.fs),
             None => apparent,
         };
         (s, t)
@@ -88,10 +92,7 @@ pub fn apply_rows(
     rows: &[&ChamberRow],
 ) -> Vec<AppliedRow> {
     let fs = part.scenario.fs_width();
-    let model = PartModel {
-        curves,
-        params: part.params,
-    };
+    let model = part.model(curves);
     let t_ref = part.scenario.t_ref_c;
     rows.iter()
         .map(|r| {

@@ -166,8 +166,11 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     // Fourth differences on the shapes' own knot spacing: they see the
     // smooth curve where it is smooth and blow up across the full model's
     // slope kinks, where the kernel bound takes over (see remainder.rs).
-    let step = m.curves.step_k;
-    let (grid_lo, grid_hi) = (m.curves.t0_c + 2.0 * step, m.curves.t_max_c() - 2.0 * step);
+    let step = m.curves().step_k;
+    let (grid_lo, grid_hi) = (
+        m.curves().t0_c + 2.0 * step,
+        m.curves().t_max_c() - 2.0 * step,
+    );
     let centre = |t: f64| t.clamp(grid_lo, grid_hi);
     let [t0, h_t, s0, h_s] = frame.node_axes(plan);
     let (n_t, n_sig) = (plan.n_t.max(2), plan.n_sig.max(2));
@@ -278,7 +281,7 @@ const GRID_SAMPLES: usize = 80;
 /// What the 2-D correction (or its absence) adds, stimulus units: the
 /// bilinear remainder for a plan with one, the whole bow for one without.
 fn correction_bound(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
-    if frame.bow.is_none() {
+    if !frame.has_bow() {
         return 0.0;
     }
     let limits = frame.raw_limits();

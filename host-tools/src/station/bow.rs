@@ -21,6 +21,14 @@ pub struct Bow {
 }
 
 impl Bow {
+    /// A bow of mid-scale deviation `mid_rel` at every temperature.
+    pub fn constant(mid_rel: f64) -> Bow {
+        Bow {
+            mid_rel,
+            mid_rel_per_k: 0.0,
+        }
+    }
+
     /// Mid-scale deviation at `t_c`, fraction of span.
     pub fn mid_at(&self, t_c: f64, t_ref_c: f64) -> f64 {
         self.mid_rel + self.mid_rel_per_k * (t_c - t_ref_c)

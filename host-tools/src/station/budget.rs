@@ -106,7 +106,11 @@ impl PartTerms {
             part.fit_max_ppm,
             cross_validation_ppm,
             part.holdouts.len(),
-            part.scenario.model_error_ppm,
+            // A design's measured model error replaces the scenario's stated one.
+            part.design
+                .as_ref()
+                .map(|d| d.model_error_ppm)
+                .or(part.scenario.model_error_ppm),
         );
         PartTerms {
             fit_residual_ppm,

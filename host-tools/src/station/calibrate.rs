@@ -449,7 +449,7 @@ pub fn calibrate_part(
         serial: serial.into(),
         status,
         scenario: scenario.clone(),
-        params,
+        params: Some(params),
         param_names: PARAM_NAMES.iter().map(|s| s.to_string()).collect(),
         std_errors,
         covariance,
@@ -470,6 +470,13 @@ pub fn calibrate_part(
         )
         .filter(|_| !holdouts.is_empty()),
         holdouts,
+        model_error: match scenario.model_error_ppm {
+            Some(ppm) => format!(
+                "stated by the scenario: {ppm} ppm of span (model_error_ppm; not measured by this calibration)"
+            ),
+            None => "not measured: the error between chamber temperatures of a physics-only fit is unknown until a qualification lot of the design is measured (semidrift qualify, then calibrate --design)".into(),
+        },
+        design: None,
     }
 }
 

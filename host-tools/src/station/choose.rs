@@ -227,7 +227,7 @@ pub fn candidates(
     let mut out = Vec::new();
     let mut last_err = None;
     // A 2-D correction only helps an output with a bow.
-    let kinds: &[InterpKind] = if frame.bow.is_some() {
+    let kinds: &[InterpKind] = if frame.has_bow() {
         &[
             InterpKind::Linear,
             InterpKind::MonotoneCubic,

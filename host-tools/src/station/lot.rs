@@ -2,6 +2,8 @@
 //! a terminal, results in serial order whatever the thread scheduling.
 
 use super::calibrate::calibrate_part;
+use super::design::DesignFile;
+use super::design::calibrate::calibrate_on_design;
 use super::chamber::ChamberData;
 use super::curves::ShapeCurves;
 use super::part_file::PartFile;
@@ -23,11 +25,22 @@ pub fn progress(len: usize, quiet: bool, what: &str) -> ProgressBar {
     bar
 }
 
-/// Calibrates every part in `data` (sorted by serial).
+/// Calibrates every part in `data` (sorted by serial), physics-only.
 pub fn calibrate_lot(
     scenario: &Scenario,
     curves: &ShapeCurves,
     data: &ChamberData,
+    quiet: bool,
+) -> Vec<PartFile> {
+    calibrate_lot_with(scenario, curves, data, None, quiet)
+}
+
+/// Calibrates every part in `data` (sorted by serial), on `design` when given.
+pub fn calibrate_lot_with(
+    scenario: &Scenario,
+    curves: &ShapeCurves,
+    data: &ChamberData,
+    design: Option<&DesignFile>,
     quiet: bool,
 ) -> Vec<PartFile> {
     let groups: Vec<(&str, Vec<&super::chamber::ChamberRow>)> =
@@ -36,7 +49,10 @@ pub fn calibrate_lot(
     let parts: Vec<PartFile> = groups
         .par_iter()
         .map(|(serial, rows)| {
-            let part = calibrate_part(scenario, curves, serial, rows);
+            let part = match design {
+                Some(d) => calibrate_on_design(scenario, curves, d, serial, rows),
+                None => calibrate_part(scenario, curves, serial, rows),
+            };
             bar.inc(1);
             part
         })

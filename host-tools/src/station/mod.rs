@@ -14,6 +14,7 @@ pub mod choose;
 pub mod compare;
 pub mod curves;
 pub mod demo;
+pub mod design;
 pub mod export;
 pub mod fit;
 pub mod image_eval;

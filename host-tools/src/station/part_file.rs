@@ -7,6 +7,8 @@
 
 use super::output::to_json_bytes;
 use super::part_model::PartParams;
+use super::design::basis::Family;
+use super::design::model::{DesignCore, FamilyFit};
 use super::polynomial::PolyCal;
 use super::scenario::Scenario;
 use std::path::Path;
@@ -85,8 +87,10 @@ pub struct PartFile {
     pub status: String,
     /// The element and lot description the part was fitted with.
     pub scenario: Scenario,
-    /// Fitted parameters.
-    pub params: PartParams,
+    /// Fitted parameters of the physics model (absent for a part fitted on
+    /// a design, whose coefficients are in `design`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub params: Option<PartParams>,
     /// Parameter names in covariance order.
     pub param_names: Vec<String>,
     /// One-sigma standard errors.
@@ -124,6 +128,30 @@ pub struct PartFile {
     /// Every leave-one-temperature-out refit, ascending in temperature.
     #[serde(default)]
     pub holdouts: Vec<HoldOut>,
+    /// Where the model error between chamber temperatures comes from, or
+    /// that it has not been measured.
+    #[serde(default)]
+    pub model_error: String,
+    /// The design the part was fitted on (absent: physics-only fit).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub design: Option<PartDesign>,
+}
+
+/// A part's fit on a design.
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PartDesign {
+    /// Content hash of the design file (see `station::design::file`).
+    pub design_hash: String,
+    /// The design's production-plan model error inside the operating range,
+    /// ppm of span: budgeted as the fit residual term.
+    pub model_error_ppm: f64,
+    /// Largest distance of a coefficient from the qualification lot's mean,
+    /// in lot standard deviations.
+    pub outlier_sigma: f64,
+    /// The design's curves (so that the part file alone evaluates the part).
+    pub core: DesignCore,
+    /// The part's coefficients per family.
+    pub fit: Vec<FamilyFit>,
 }
 
 /// Why a part file could not be read.
@@ -191,6 +219,31 @@ impl PartFile {
                 message,
             }
         })?;
+        let families_ok = part.design.as_ref().is_none_or(|d| {
+            d.core.families.len() == 4
+                && d.fit.len() == 4
+                && d.fit
+                    .iter()
+                    .zip(Family::ALL)
+                    .all(|(f, want)| f.family == want && !f.values.is_empty())
+                && d.core.families.iter().enumerate().all(|(k, f)| {
+                    f.family.index() == k
+                        && f.mean.len() == d.core.basis.len(f.family)
+                        && f.modes.iter().all(|m| m.len() == f.mean.len())
+                })
+        });
+        if part.params.is_none() && part.design.is_none() || !families_ok {
+            let line = text
+                .lines()
+                .position(|l| l.contains("\"design\""))
+                .map_or(1, |k| k + 1);
+            return Err(PartFileError::Parse {
+                file: file.to_string(),
+                line,
+                field: if part.design.is_none() { "params" } else { "design" }.into(),
+                message: "neither physics parameters nor a complete design fit".into(),
+            });
+        }
         if part.format != PART_FORMAT {
             let line = text
                 .lines()

@@ -30,6 +30,8 @@
 //!   small linear residual term for packaging stress the physics leaves out.
 
 use super::curves::{OffsetShape, ShapeCurves};
+use super::design::model::DesignPartModel;
+use super::part_file::PartFile;
 
 /// Names of the fitted parameters, in [`PartParams::to_vec`] order.
 pub const PARAM_NAMES: [&str; 11] = [
@@ -47,7 +49,7 @@ pub const PARAM_NAMES: [&str; 11] = [
 ];
 
 /// The per-part parameters of the physical model.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize, serde::Deserialize)]
 pub struct PartParams {
     /// Temperature signal at the reference temperature (spec units).
     pub signal_ref: f64,
@@ -196,6 +198,113 @@ impl PartModel<'_> {
             * ((self.params.signal_beta + 2.0 * self.params.signal_curvature * l)
                 * c.slope(&c.ln_rho_rel, t_c)
                 + self.params.signal_act_k / (t_k * t_k))
+    }
+}
+
+/// A part's fitted model, physics-only or on a design: the one interface
+/// tables, verification and `apply` evaluate.
+#[derive(Debug, Clone, Copy)]
+pub enum FittedModel<'a> {
+    /// Physics shapes scaled and bent by the part's parameters.
+    Physics(PartModel<'a>),
+    /// The design's learned curves with the part's coefficients.
+    Design(DesignPartModel<'a>),
+}
+
+impl<'a> From<PartModel<'a>> for FittedModel<'a> {
+    fn from(m: PartModel<'a>) -> Self {
+        FittedModel::Physics(m)
+    }
+}
+
+impl<'a> From<DesignPartModel<'a>> for FittedModel<'a> {
+    fn from(m: DesignPartModel<'a>) -> Self {
+        FittedModel::Design(m)
+    }
+}
+
+impl<'a> FittedModel<'a> {
+    /// The full model's shapes the model is built on (its grid bounds the
+    /// temperatures it can be evaluated at).
+    pub fn curves(&self) -> &'a ShapeCurves {
+        match self {
+            FittedModel::Physics(m) => m.curves,
+            FittedModel::Design(m) => m.curves(),
+        }
+    }
+
+    /// Temperature signal at `t_c`.
+    pub fn signal(&self, t_c: f64) -> f64 {
+        match self {
+            FittedModel::Physics(m) => m.signal(t_c),
+            FittedModel::Design(m) => m.signal(t_c),
+        }
+    }
+
+    /// Offset (terminal line at zero stimulus) at `t_c`.
+    pub fn offset(&self, t_c: f64) -> f64 {
+        match self {
+            FittedModel::Physics(m) => m.offset(t_c),
+            FittedModel::Design(m) => m.offset(t_c),
+        }
+    }
+
+    /// Sensitivity (terminal-line slope) at `t_c`.
+    pub fn sensitivity(&self, t_c: f64) -> f64 {
+        match self {
+            FittedModel::Physics(m) => m.sensitivity(t_c),
+            FittedModel::Design(m) => m.sensitivity(t_c),
+        }
+    }
+
+    /// Raw output of the terminal line at `t_c` and (apparent) `stimulus`.
+    pub fn output(&self, t_c: f64, stimulus: f64) -> f64 {
+        self.offset(t_c) + self.sensitivity(t_c) * stimulus
+    }
+
+    /// The (apparent) stimulus that gives `output` at `t_c`.
+    pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
+        (output - self.offset(t_c)) / self.sensitivity(t_c)
+    }
+
+    /// Temperature whose signal equals `signal`.
+    pub fn temperature(&self, signal: f64) -> f64 {
+        match self {
+            FittedModel::Physics(m) => m.temperature(signal),
+            FittedModel::Design(m) => m.temperature(signal),
+        }
+    }
+
+    /// d(signal)/dT at `t_c`.
+    pub fn signal_slope(&self, t_c: f64) -> f64 {
+        match self {
+            FittedModel::Physics(m) => m.signal_slope(t_c),
+            FittedModel::Design(m) => m.signal_slope(t_c),
+        }
+    }
+
+    /// The part's own mid-scale nonlinearity at `t_c`, fraction of span
+    /// (`None`: the model has none; a scenario may still state one).
+    pub fn bow_mid(&self, t_c: f64) -> Option<f64> {
+        match self {
+            FittedModel::Physics(_) => None,
+            FittedModel::Design(m) => m.bow_mid(t_c),
+        }
+    }
+}
+
+impl PartFile {
+    /// The part's fitted model on `curves` (the full model's shapes of its
+    /// scenario, [`super::model_shapes::shapes_for`]).
+    pub fn model<'a>(&'a self, curves: &'a ShapeCurves) -> FittedModel<'a> {
+        match &self.design {
+            Some(d) => DesignPartModel::new(&d.core, curves, &d.fit).into(),
+            None => PartModel {
+                curves,
+                params: self.params.unwrap_or_default(),
+            }
+            .into(),
+        }
     }
 }
 

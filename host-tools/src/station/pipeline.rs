@@ -8,7 +8,6 @@ use super::curves::ShapeCurves;
 use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperature};
 use super::model_shapes::shapes_for;
 use super::part_file::PartFile;
-use super::part_model::PartModel;
 use super::table::{
     AxisKind, InterpKind, NumFormat, SignalUnit, TableError, TableFrame, TablePlan,
 };
@@ -180,10 +179,7 @@ pub fn build_table_with(
             status: part.status.clone(),
         });
     }
-    let model = PartModel {
-        curves,
-        params: part.params,
-    };
+    let model = part.model(curves);
     let frame = TableFrame::new(part, model)?.with_signal_unit(signal_unit);
     let terms = PartTerms::of(part, &frame);
     let allowance = terms.table_allowance(budget_ppm);
@@ -335,10 +331,7 @@ pub fn table_error_curve(
     part: &PartFile,
     curves: &ShapeCurves,
 ) -> Result<Vec<(f64, f64)>, StepError> {
-    let model = PartModel {
-        curves,
-        params: part.params,
-    };
+    let model = part.model(curves);
     let frame = TableFrame::new(part, model)?;
     let view = TableView::parse(image).map_err(|e| StepError::Eval(EvalError::Image(e)))?;
     // A 2-D image is sampled between its raw nodes too.
@@ -360,10 +353,7 @@ pub fn verify(
 ) -> Result<VerifyReport, StepError> {
     let view = TableView::parse(image).map_err(|e| StepError::Eval(EvalError::Image(e)))?;
     let plan = plan_of(&view);
-    let model = PartModel {
-        curves,
-        params: part.params,
-    };
+    let model = part.model(curves);
     let frame = TableFrame::new(part, model)?.for_view(&view);
     let terms = PartTerms::of(part, &frame);
     let temps = linspace(frame.t_lo_c, frame.t_hi_c, n_temps);

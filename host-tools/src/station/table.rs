@@ -8,7 +8,7 @@
 
 use super::bow::Bow;
 use super::part_file::PartFile;
-use super::part_model::PartModel;
+use super::part_model::FittedModel;
 use compensate::ImageBuilder;
 use compensate::image::{
     AxisSpec, ChannelAxis, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit,
@@ -175,7 +175,7 @@ pub enum TableError {
 #[derive(Debug, Clone, Copy)]
 pub struct TableFrame<'a> {
     /// The fitted part model.
-    pub model: PartModel<'a>,
+    pub model: FittedModel<'a>,
     /// Temperature range covered, C.
     pub t_lo_c: f64,
     /// Temperature range covered, C.
@@ -194,7 +194,8 @@ pub struct TableFrame<'a> {
     pub fs_hi: f64,
     /// Reference temperature of the part model, C.
     pub t_ref_c: f64,
-    /// The element's nonlinearity, if any.
+    /// The element's nonlinearity stated by the scenario, if any (a part
+    /// fitted on a design carries its own, see [`TableFrame::bow_mid`]).
     pub bow: Option<Bow>,
     /// Unit of the image's temperature signal.
     pub signal_unit: SignalUnit,
@@ -222,7 +223,11 @@ fn frac_bits_for(max_abs: f64, total_bits: i32) -> u8 {
 
 impl<'a> TableFrame<'a> {
     /// The frame of a part over its data-sheet range.
-    pub fn new(part: &PartFile, model: PartModel<'a>) -> Result<TableFrame<'a>, TableError> {
+    pub fn new(
+        part: &PartFile,
+        model: impl Into<FittedModel<'a>>,
+    ) -> Result<TableFrame<'a>, TableError> {
+        let model = model.into();
         let sc = &part.scenario;
         let (t_lo_c, t_hi_c) = sc.range_c;
         // Strict monotonicity on a 0.1 K grid (the runtime axis must increase).

@@ -2,13 +2,27 @@
 //! output and its exact inverse with the bow included, and the 2-D
 //! correction (temperature x raw code) that a bilinear grid stores.
 
+use super::bow::Bow;
 use super::table::{TableFrame, TablePlan};
 
 impl TableFrame<'_> {
+    /// Mid-scale nonlinearity at `t_c`, fraction of span: the part's own
+    /// (fitted on a design) or else the scenario's.
+    pub fn bow_mid(&self, t_c: f64) -> Option<f64> {
+        self.model
+            .bow_mid(t_c)
+            .or_else(|| self.bow.map(|b| b.mid_at(t_c, self.t_ref_c)))
+    }
+
+    /// Whether the output has a nonlinearity a 2-D correction could take out.
+    pub fn has_bow(&self) -> bool {
+        self.bow_mid(self.t_ref_c).is_some()
+    }
+
     /// Raw output at `t_c` and `stimulus`, the element's bow included.
     pub fn output(&self, t_c: f64, stimulus: f64) -> f64 {
-        let apparent = match self.bow {
-            Some(b) => b.apparent(stimulus, t_c, self.t_ref_c, (self.fs_lo, self.fs_hi)),
+        let apparent = match self.bow_mid(t_c) {
+            Some(m) => Bow::constant(m).apparent(stimulus, t_c, t_c, (self.fs_lo, self.fs_hi)),
             None => stimulus,
         };
         self.model.output(t_c, apparent)
@@ -17,8 +31,10 @@ impl TableFrame<'_> {
     /// The stimulus that gives `output` at `t_c` (the exact compensation).
     pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
         let apparent = self.model.stimulus(output, t_c);
-        match self.bow {
-            Some(b) => b.true_stimulus(apparent, t_c, self.t_ref_c, (self.fs_lo, self.fs_hi)),
+        match self.bow_mid(t_c) {
+            Some(m) => {
+                Bow::constant(m).true_stimulus(apparent, t_c, t_c, (self.fs_lo, self.fs_hi))
+            }
             None => apparent,
         }
     }
