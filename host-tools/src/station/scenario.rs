@@ -311,3 +311,74 @@ impl Scenario {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn scenario_without_the_new_fields_loads_with_defaults() {
+        let sc = Scenario::well_logger();
+        let text = toml::to_string(&sc).unwrap();
+        // A file written before the truth variants, nonlinearity and
+        // qualification plan existed: drop those lines and the [truth] table.
+        let mut old = String::new();
+        let mut in_truth = false;
+        for line in text.lines() {
+            if line.starts_with('[') {
+                in_truth = line.trim() == "[truth]";
+            }
+            if in_truth || line.starts_with("nonlinearity_") || line.starts_with("qual_") {
+                continue;
+            }
+            old.push_str(line);
+            old.push('\n');
+        }
+        assert!(
+            !old.contains("nonlinearity") && !old.contains("truth"),
+            "{old}"
+        );
+        let back: Scenario = toml::from_str(&old).unwrap();
+        assert_eq!(back.truth, TruthModels::default());
+        assert_eq!(back.spread.nonlinearity_rel, 0.0);
+        assert_eq!(back.spread.nonlinearity_sd_rel, 0.0);
+        assert_eq!(back.spread.nonlinearity_per_k, 0.0);
+        assert_eq!(back.qual_temps_c, None);
+        // Everything else as written.
+        let expected = Scenario {
+            spread: Spread {
+                nonlinearity_rel: 0.0,
+                nonlinearity_sd_rel: 0.0,
+                nonlinearity_per_k: 0.0,
+                ..sc.spread
+            },
+            ..sc.clone()
+        };
+        assert_eq!(back, expected);
+        // The written file records the truth models.
+        assert!(text.contains("[truth]") && text.contains("resistivity = \"arora_complete\""));
+    }
+
+    #[test]
+    fn plans_default_and_override() {
+        let mut sc = Scenario::battery_current();
+        // Exact decimal grid: every 15 K from -40 C; 1e-9 K is rounding.
+        let temps = sc.qualification_plan_temps_c();
+        assert_eq!(temps.len(), 12);
+        for (k, t) in temps.iter().enumerate() {
+            assert!((t - (-40.0 + 15.0 * k as f64)).abs() < 1e-9, "{k}: {t}");
+        }
+        assert_eq!(sc.check_stimuli(), vec![-200.0, -100.0, 0.0, 100.0, 200.0]);
+        assert_eq!(sc.qualification_stimuli(), sc.check_stimuli());
+        assert_eq!(
+            Scenario::well_logger().check_stimuli(),
+            vec![0.0, 2.5, 5.0, 7.5, 10.0]
+        );
+        sc.qual_temps_c = Some(vec![0.0, 50.0]);
+        sc.qual_stimuli = Some(vec![1.0]);
+        assert_eq!(sc.qualification_plan_temps_c(), vec![0.0, 50.0]);
+        assert_eq!(sc.qualification_stimuli(), vec![1.0]);
+        let back: Scenario = toml::from_str(&toml::to_string(&sc).unwrap()).unwrap();
+        assert_eq!(back, sc);
+    }
+}
