@@ -226,11 +226,12 @@ impl Scenario {
                 doping_rel: 0.05,
                 // 0.2 % between arms a few hundred um apart on one die
                 // (invented). Kept, not raised to 1 %: with d ln(rho)/d ln(N)
-                // ~ -0.7 at 2e18 cm^-3, 1 % per arm gives a raw offset of
-                // ~11.5 mV one sigma (3.3 V / 4 x 0.7 % x 2), which with the
-                // 33 mV span clips the +/-51.6 mV ADC on several percent of
-                // parts; 0.2 % gives ~2.3 mV, and its doping-dependent TCR
-                // still drives the offset drift the check sees.
+                // = -0.62 at 2e18 cm^-3 (the truth's Arora resistivity at
+                // 25 C), 1 % per arm gives a raw offset of ~10 mV one sigma
+                // (3.3 V / 4 x 0.62 % x 2), which with the 33 mV span clips
+                // the +/-51.6 mV ADC on several percent of parts; 0.2 % gives
+                // ~2 mV, and its doping-dependent TCR still drives the
+                // offset drift the check sees.
                 arm_doping_rel: 0.002,
                 arm_geometry_rel: 0.001,
                 thickness_rel: 0.03,
