@@ -6,6 +6,7 @@
 //! never a measurement); the physics they feed is the full model's.
 
 use super::bow::Bow;
+use super::truth::TruthModels;
 use crate::physics::{Dopant, Material, Sample, Species};
 
 /// The kind of sense element.
@@ -61,6 +62,19 @@ pub struct Spread {
     pub smooth_rel: f64,
     /// Chamber: rms difference between set point and die temperature, K.
     pub chamber_k: f64,
+    /// Design mean of the truth's nonlinearity in the stimulus: deviation
+    /// from the terminal line at mid-scale at T_ref, fraction of span
+    /// (positive: output above the line).
+    #[serde(default)]
+    pub nonlinearity_rel: f64,
+    /// Part-to-part one-sigma of that mid-scale deviation, fraction of span.
+    #[serde(default)]
+    pub nonlinearity_sd_rel: f64,
+    /// Mean relative change of the mid-scale deviation per kelvin (1/K); each
+    /// part draws its own around it (one-sigma 20 % of this mean, see
+    /// `truth::NONLINEARITY_PER_K_SD_REL`).
+    #[serde(default)]
+    pub nonlinearity_per_k: f64,
 }
 
 /// An element and its lot, as the station sees them.
@@ -112,12 +126,61 @@ pub struct Scenario {
     /// cross-validation is not (fewer than 4 calibration temperatures).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub model_error_ppm: Option<f64>,
+    /// Qualification chamber temperatures, C (none: see
+    /// [`Scenario::qualification_plan_temps_c`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub qual_temps_c: Option<Vec<f64>>,
+    /// Qualification stimuli (none: see [`Scenario::qualification_stimuli`]).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub qual_stimuli: Option<Vec<f64>>,
+    /// Published models of the simulated truth (`station::truth`); never the
+    /// fitted model's. Scenarios written without it get the default.
+    #[serde(default)]
+    pub truth: TruthModels,
 }
+
+/// `n` values evenly spaced from `lo` to `hi` inclusive (`lo` alone for n = 1).
+fn evenly(lo: f64, hi: f64, n: usize) -> Vec<f64> {
+    if n < 2 {
+        return vec![lo; n];
+    }
+    (0..n)
+        .map(|k| lo + (hi - lo) * k as f64 / (n - 1) as f64)
+        .collect()
+}
+
+/// Default qualification chamber span, C: -40..125 C.
+pub const QUAL_SPAN_C: (f64, f64) = (-40.0, 125.0);
+/// Default number of qualification temperatures (every 15 K over [`QUAL_SPAN_C`]).
+pub const QUAL_TEMPS_N: usize = 12;
+/// Number of stimuli of the qualification and held-out check plans.
+pub const PLAN_STIMULI_N: usize = 5;
 
 impl Scenario {
     /// Full-scale span width of the stimulus.
     pub fn fs_width(&self) -> f64 {
         self.stimulus_fs.1 - self.stimulus_fs.0
+    }
+
+    /// Qualification chamber temperatures, C: `qual_temps_c` if given, else
+    /// 12 temperatures every 15 K from -40 to 125 C.
+    pub fn qualification_plan_temps_c(&self) -> Vec<f64> {
+        self.qual_temps_c
+            .clone()
+            .unwrap_or_else(|| evenly(QUAL_SPAN_C.0, QUAL_SPAN_C.1, QUAL_TEMPS_N))
+    }
+
+    /// Qualification stimuli: `qual_stimuli` if given, else 5 evenly over
+    /// the full-scale range.
+    pub fn qualification_stimuli(&self) -> Vec<f64> {
+        self.qual_stimuli
+            .clone()
+            .unwrap_or_else(|| self.check_stimuli())
+    }
+
+    /// Stimuli of the held-out check: 5 evenly over the full-scale range.
+    pub fn check_stimuli(&self) -> Vec<f64> {
+        evenly(self.stimulus_fs.0, self.stimulus_fs.1, PLAN_STIMULI_N)
     }
 
     /// Well-level logger: 0-10 bar gauge die, p-type boron piezoresistors at
@@ -161,6 +224,14 @@ impl Scenario {
             },
             spread: Spread {
                 doping_rel: 0.05,
+                // 0.2 % between arms a few hundred um apart on one die
+                // (invented). Kept, not raised to 1 %: with d ln(rho)/d ln(N)
+                // = -0.62 at 2e18 cm^-3 (the truth's Arora resistivity at
+                // 25 C), 1 % per arm gives a raw offset of ~10 mV one sigma
+                // (3.3 V / 4 x 0.62 % x 2), which with the 33 mV span clips
+                // the +/-51.6 mV ADC on several percent of parts; 0.2 % gives
+                // ~2 mV, and its doping-dependent TCR still drives the
+                // offset drift the check sees.
                 arm_doping_rel: 0.002,
                 arm_geometry_rel: 0.001,
                 thickness_rel: 0.03,
@@ -169,10 +240,19 @@ impl Scenario {
                 package_offset_per_k: 2e-6,
                 smooth_rel: 2e-5,
                 chamber_k: 0.03,
+                // Invented: 0.1 % of span above the terminal line at
+                // mid-scale, 0.03 % part to part, shrinking by 0.15 %/K of
+                // itself (0.1 % at 25 C -> 0.09 % at 85 C).
+                nonlinearity_rel: 1e-3,
+                nonlinearity_sd_rel: 3e-4,
+                nonlinearity_per_k: -1.5e-3,
             },
             budget_ppm: 500.0,
             bow: None,
             model_error_ppm: None,
+            qual_temps_c: None,
+            qual_stimuli: None,
+            truth: TruthModels::default(),
         }
     }
 
@@ -223,10 +303,90 @@ impl Scenario {
                 package_offset_per_k: 2e-6,
                 smooth_rel: 2e-5,
                 chamber_k: 0.03,
+                // Invented: a Hall plate is far more linear in the field
+                // than a membrane in pressure; 0.02 % +/- 0.01 % of span,
+                // same relative temperature trend as the bridge.
+                nonlinearity_rel: 2e-4,
+                nonlinearity_sd_rel: 1e-4,
+                nonlinearity_per_k: -1.5e-3,
             },
             budget_ppm: 1000.0,
             bow: None,
             model_error_ppm: None,
+            qual_temps_c: None,
+            qual_stimuli: None,
+            truth: TruthModels::default(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn scenario_without_the_new_fields_loads_with_defaults() {
+        let sc = Scenario::well_logger();
+        let text = toml::to_string(&sc).unwrap();
+        // A file written before the truth variants, nonlinearity and
+        // qualification plan existed: drop those lines and the [truth] table.
+        let mut old = String::new();
+        let mut in_truth = false;
+        for line in text.lines() {
+            if line.starts_with('[') {
+                in_truth = line.trim() == "[truth]";
+            }
+            if in_truth || line.starts_with("nonlinearity_") || line.starts_with("qual_") {
+                continue;
+            }
+            old.push_str(line);
+            old.push('\n');
+        }
+        assert!(
+            !old.contains("nonlinearity") && !old.contains("truth"),
+            "{old}"
+        );
+        let back: Scenario = toml::from_str(&old).unwrap();
+        assert_eq!(back.truth, TruthModels::default());
+        assert_eq!(back.spread.nonlinearity_rel, 0.0);
+        assert_eq!(back.spread.nonlinearity_sd_rel, 0.0);
+        assert_eq!(back.spread.nonlinearity_per_k, 0.0);
+        assert_eq!(back.qual_temps_c, None);
+        // Everything else as written.
+        let expected = Scenario {
+            spread: Spread {
+                nonlinearity_rel: 0.0,
+                nonlinearity_sd_rel: 0.0,
+                nonlinearity_per_k: 0.0,
+                ..sc.spread
+            },
+            ..sc.clone()
+        };
+        assert_eq!(back, expected);
+        // The written file records the truth models.
+        assert!(text.contains("[truth]") && text.contains("resistivity = \"arora_complete\""));
+    }
+
+    #[test]
+    fn plans_default_and_override() {
+        let mut sc = Scenario::battery_current();
+        // Exact decimal grid: every 15 K from -40 C; 1e-9 K is rounding.
+        let temps = sc.qualification_plan_temps_c();
+        assert_eq!(temps.len(), 12);
+        for (k, t) in temps.iter().enumerate() {
+            assert!((t - (-40.0 + 15.0 * k as f64)).abs() < 1e-9, "{k}: {t}");
+        }
+        assert_eq!(sc.check_stimuli(), vec![-200.0, -100.0, 0.0, 100.0, 200.0]);
+        assert_eq!(sc.qualification_stimuli(), sc.check_stimuli());
+        assert_eq!(
+            Scenario::well_logger().check_stimuli(),
+            vec![0.0, 2.5, 5.0, 7.5, 10.0]
+        );
+        sc.qual_temps_c = Some(vec![0.0, 50.0]);
+        sc.qual_stimuli = Some(vec![1.0]);
+        assert_eq!(sc.qualification_plan_temps_c(), vec![0.0, 50.0]);
+        assert_eq!(sc.qualification_stimuli(), vec![1.0]);
+        let back: Scenario = toml::from_str(&toml::to_string(&sc).unwrap()).unwrap();
+        assert_eq!(back, sc);
     }
 }
