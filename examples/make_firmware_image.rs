@@ -149,7 +149,7 @@ fn poly_source(part: &PartFile, f32_image: &[u8], q_image: &[u8]) -> (Baseline, 
     let curves = part_curves(part).expect("the part's scenario has model shapes");
     let model = PartModel {
         curves: &curves,
-        params: part.params,
+        params: part.params.expect("physics part file"),
     };
     let frame = TableFrame::new(part, model)
         .expect("the part's thermometer is monotone")

@@ -156,7 +156,7 @@ impl Setup {
     fn frame(&self) -> TableFrame<'_> {
         let model = PartModel {
             curves: &self.curves,
-            params: self.part.params,
+            params: self.part.params.expect("physics part file"),
         };
         TableFrame::new(&self.part, model)
             .expect("monotone thermometer")

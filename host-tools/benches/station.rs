@@ -45,7 +45,7 @@ fn station(c: &mut Criterion) {
     let part = &fitted[0];
     let model = PartModel {
         curves: &curves,
-        params: part.params,
+        params: part.params.expect("physics part file"),
     };
     let frame = TableFrame::new(part, model).unwrap();
     let terms = PartTerms::of(part, &frame);

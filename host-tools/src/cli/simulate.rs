@@ -129,7 +129,8 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let mut sink = Vec::new();
         // (flags, rows per part): calibration 3 x 3, check 9 x 5,
-        // qualification 12 x 5, check with explicit stimuli 9 x 2.
+        // qualification 15 x 5 (every 15 K from -40 C and -20, 25, 85 C),
+        // check with explicit stimuli 9 x 2.
         let cal = args(dir.path());
         let mut check = args(dir.path());
         check.check = true;
@@ -140,7 +141,7 @@ mod tests {
         let mut check_two = args(dir.path());
         check_two.check = true;
         check_two.stimuli = Some(vec![0.0, 10.0]);
-        for (a, per_part) in [(cal, 9), (check, 45), (qual, 60), (check_two, 18)] {
+        for (a, per_part) in [(cal, 9), (check, 45), (qual, 75), (check_two, 18)] {
             let out = a.out.clone();
             run(a, &mut sink).unwrap();
             assert_eq!(rows_per_serial(&out), vec![per_part; 2]);

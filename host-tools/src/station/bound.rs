@@ -423,7 +423,7 @@ mod tests {
             let curves = shapes_for(&part.scenario).unwrap();
             let model = PartModel {
                 curves: &curves,
-                params: part.params,
+                params: part.params.unwrap(),
             };
             let frame = TableFrame::new(part, model).unwrap().with_signal_unit(unit);
             let image = frame

@@ -163,11 +163,18 @@ impl Scenario {
     }
 
     /// Qualification chamber temperatures, C: `qual_temps_c` if given, else
-    /// 12 temperatures every 15 K from -40 to 125 C.
+    /// 12 temperatures every 15 K from -40 to 125 C and the calibration
+    /// temperatures (the production plan the qualification measures).
     pub fn qualification_plan_temps_c(&self) -> Vec<f64> {
-        self.qual_temps_c
-            .clone()
-            .unwrap_or_else(|| evenly(QUAL_SPAN_C.0, QUAL_SPAN_C.1, QUAL_TEMPS_N))
+        self.qual_temps_c.clone().unwrap_or_else(|| {
+            // The production temperatures belong in the qualification plan:
+            // its cross-validation calibrates each part there.
+            let mut t = evenly(QUAL_SPAN_C.0, QUAL_SPAN_C.1, QUAL_TEMPS_N);
+            t.extend(self.cal_temps_c.iter().copied());
+            t.sort_by(f64::total_cmp);
+            t.dedup_by(|a, b| (*a - *b).abs() < 1.0);
+            t
+        })
     }
 
     /// Qualification stimuli: `qual_stimuli` if given, else 5 evenly over
@@ -370,12 +377,15 @@ mod tests {
     #[test]
     fn plans_default_and_override() {
         let mut sc = Scenario::battery_current();
-        // Exact decimal grid: every 15 K from -40 C; 1e-9 K is rounding.
+        // Exact decimal grid: every 15 K from -40 C (1e-9 K is rounding),
+        // plus the calibration temperatures (-40 and 125 are on it, 25 is not).
         let temps = sc.qualification_plan_temps_c();
-        assert_eq!(temps.len(), 12);
-        for (k, t) in temps.iter().enumerate() {
+        assert_eq!(temps.len(), 13);
+        let grid: Vec<f64> = temps.iter().copied().filter(|&t| t != 25.0).collect();
+        for (k, t) in grid.iter().enumerate() {
             assert!((t - (-40.0 + 15.0 * k as f64)).abs() < 1e-9, "{k}: {t}");
         }
+        assert!(temps.contains(&25.0));
         assert_eq!(sc.check_stimuli(), vec![-200.0, -100.0, 0.0, 100.0, 200.0]);
         assert_eq!(sc.qualification_stimuli(), sc.check_stimuli());
         assert_eq!(

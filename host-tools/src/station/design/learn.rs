@@ -258,7 +258,7 @@ fn components(
     f: Family,
     weights: &[&Vec<f64>],
     grid: &[f64],
-) -> (Vec<f64>, Vec<Vec<f64>>, Vec<f64>) {
+) -> (Vec<f64>, Vec<Vec<f64>>, Vec<(f64, f64)>) {
     let nb = basis.len(f);
     let p = weights.len();
     let mut mean = vec![0.0; nb];
@@ -311,7 +311,11 @@ fn components(
             }
         }
         modes.push(w);
-        shares.push(if total > 0.0 { s[k] * s[k] / total } else { 0.0 });
+        // Scores on a unit-rms mode have sd s_k / sqrt(grid points * (parts - 1)).
+        shares.push((
+            if total > 0.0 { s[k] * s[k] / total } else { 0.0 },
+            s[k] / ((grid.len() * (p - 1)) as f64).sqrt(),
+        ));
     }
     (mean, modes, shares)
 }
@@ -399,6 +403,7 @@ struct Lot<'a> {
     fs: (f64, f64),
     therm_w: &'a [Vec<f64>],
     lam_t: f64,
+    therm_noise: f64,
     used_temps: &'a [f64],
     used_stimuli: &'a [f64],
 }
@@ -440,7 +445,7 @@ impl Lot<'_> {
             } else {
                 (vec![0.0; self.basis.len(f)], Vec::new(), Vec::new())
             };
-            shares[k] = sh;
+            shares[k] = sh.iter().map(|v| v.0).collect();
             families.push(FamilyCurves {
                 family: f,
                 mean,
@@ -449,6 +454,12 @@ impl Lot<'_> {
                 lambda: lambdas[k],
                 coef_mean: Vec::new(),
                 coef_sd: Vec::new(),
+                mode_sd: sh.iter().map(|v| v.1).collect(),
+                noise_sd: if f == Family::Thermometer {
+                    self.therm_noise
+                } else {
+                    0.0
+                },
             });
         }
         (
@@ -754,6 +765,26 @@ pub fn learn(
         .iter()
         .map(|tp| ridge(&basis, curves, Family::Thermometer, tp, lam_t, scale_t).1)
         .collect();
+    // Noise of one thermometer reading: rms residual of the smoothed
+    // per-part curves, with the degrees of freedom the fits used.
+    let therm_noise = {
+        let (mut sse, mut n) = (0.0, 0usize);
+        for (tp, w) in therm_pts.iter().zip(&therm_w) {
+            let r = tp
+                .iter()
+                .map(|(t, y)| {
+                    let mut b = [0.0; MAX_BASIS];
+                    basis.eval(curves, Family::Thermometer, *t, &mut b);
+                    y - dot(w, &b)
+                })
+                .collect::<Vec<f64>>();
+            let m = r.iter().sum::<f64>() / r.len().max(1) as f64;
+            sse += r.iter().map(|x| (x - m).powi(2)).sum::<f64>();
+            n += r.len();
+        }
+        let dof = n.saturating_sub(parts.len() * (basis.len(Family::Thermometer) + 1));
+        (sse / dof.max(1) as f64).sqrt()
+    };
     let grid: Vec<f64> = {
         let n = ((t_hi - t_lo) / GRID_STEP_K).ceil().max(1.0) as usize;
         (0..=n)
@@ -770,6 +801,7 @@ pub fn learn(
         fs,
         therm_w: &therm_w,
         lam_t,
+        therm_noise,
         used_temps: &used_temps,
         used_stimuli: &used_stimuli,
     };

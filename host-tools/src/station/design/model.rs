@@ -39,6 +39,15 @@ pub struct FamilyCurves {
     pub coef_mean: Vec<f64>,
     /// Lot standard deviation of each coefficient.
     pub coef_sd: Vec<f64>,
+    /// Lot standard deviation of the parts' scores on each mode.
+    #[serde(default)]
+    pub mode_sd: Vec<f64>,
+    /// Noise of one reading of this family's value (what the smoothed
+    /// per-part curves leave), in the family's units; with `mode_sd` it
+    /// makes the part fit a ridge regression towards the lot's mean curve
+    /// (0: plain least squares).
+    #[serde(default)]
+    pub noise_sd: f64,
 }
 
 /// Everything needed to fit a part on the design and evaluate it.
@@ -139,8 +148,19 @@ fn fit_family(
     let fam = core.family(f);
     let k = k.min(fam.modes.len()).min(points.len().saturating_sub(1));
     let n = points.len();
-    let mut a = DMatrix::zeros(n, k + 1);
-    let mut b = DVector::zeros(n);
+    // With a noise and mode spread known, each mode coefficient gets a
+    // prior row noise/sd * c = 0: the maximum a posteriori fit for Gaussian
+    // noise and part scores (ridge regression towards the lot mean), which
+    // keeps a chamber's set-point error from bending the curve.
+    let prior = fam.noise_sd > 0.0 && fam.mode_sd.len() >= k;
+    let rows = n + if prior { k } else { 0 };
+    let mut a = DMatrix::zeros(rows, k + 1);
+    let mut b = DVector::zeros(rows);
+    if prior {
+        for j in 0..k {
+            a[(n + j, j + 1)] = fam.noise_sd / fam.mode_sd[j].max(f64::MIN_POSITIVE);
+        }
+    }
     let mut basis = [0.0; MAX_BASIS];
     for (i, &(x, y)) in points.iter().enumerate() {
         core.basis.eval(curves, f, x, &mut basis);
