@@ -27,7 +27,10 @@ pub fn run(args: DemoArgs, out: &mut dyn Write) -> Result<(), CliError> {
         return Err(CliError::option("--parts", "0", "need at least one part"));
     }
     let mut summaries = Vec::new();
-    for scenario in [Scenario::well_logger(), Scenario::battery_current()] {
+    for scenario in [
+        Scenario::well_logger().with_demo_truth(),
+        Scenario::battery_current().with_demo_truth(),
+    ] {
         let dir = args.out_dir.join(&scenario.name);
         let s = run_scenario(&scenario, args.parts, &dir, args.quiet)
             .map_err(|e| CliError::Input(e.to_string()))?;

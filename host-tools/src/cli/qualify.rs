@@ -58,14 +58,26 @@ pub fn run(args: QualifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         )));
     }
     let plan = ProductionPlan {
-        temps_c: args.plan.clone().unwrap_or_else(|| scenario.cal_temps_c.clone()),
+        temps_c: args
+            .plan
+            .clone()
+            .unwrap_or_else(|| scenario.cal_temps_c.clone()),
         stimuli: args
             .plan_stimuli
             .clone()
             .unwrap_or_else(|| scenario.stimuli.clone()),
     };
-    if plan.temps_c.iter().chain(&plan.stimuli).any(|x| !x.is_finite()) {
-        return Err(CliError::option("--plan", "", "values must be finite numbers"));
+    if plan
+        .temps_c
+        .iter()
+        .chain(&plan.stimuli)
+        .any(|x| !x.is_finite())
+    {
+        return Err(CliError::option(
+            "--plan",
+            "",
+            "values must be finite numbers",
+        ));
     }
     let curves = model_shapes::shapes_for(&scenario)
         .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
@@ -89,7 +101,12 @@ pub fn run(args: QualifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         return Ok(());
     }
     write!(out, "{}", report_text(&d))?;
-    writeln!(out, "design -> {} (hash {})", args.out.display(), &d.hash[..16])?;
+    writeln!(
+        out,
+        "design -> {} (hash {})",
+        args.out.display(),
+        &d.hash[..16]
+    )?;
     Ok(())
 }
 

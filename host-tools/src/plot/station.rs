@@ -7,7 +7,7 @@ use super::style::{
     BLUE, CAPTION_PX, FONT_FAMILY, Figure, GREEN, GREY, LABEL_PX, PlotError, RED, TICK_PX,
     figure_svg, legend, write_figure,
 };
-use crate::station::compare::Comparison;
+use crate::station::compare::{Comparison, QualifiedComparison};
 use crate::station::pipeline::VerifyReport;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -163,10 +163,10 @@ pub fn write_error_plot(
 /// The lot plot's curves from a comparison: worst |error| over the lot at
 /// each held-out temperature, uncompensated, physics and (when the parts
 /// carry one) polynomial calibration.
-pub fn comparison_series(c: &Comparison) -> Vec<Series> {
+pub fn comparison_series(c: &Comparison, q: Option<&QualifiedComparison>) -> Vec<Series> {
     let column =
         |k: usize| -> Vec<(f64, f64)> { c.by_temperature.iter().map(|r| (r[0], r[k])).collect() };
-    vec![
+    let mut v = vec![
         ("uncompensated (25 C offset and gain)".into(), column(1)),
         (
             format!("physics calibration ({} numbers)", c.physics_coefficients),
@@ -179,7 +179,24 @@ pub fn comparison_series(c: &Comparison) -> Vec<Series> {
             ),
             column(3),
         ),
-    ]
+    ];
+    if let Some(q) = q.filter(|q| q.parts > 0) {
+        let col = |k: usize| -> Vec<(f64, f64)> {
+            q.by_temperature.iter().map(|r| (r[0], r[k])).collect()
+        };
+        v.push((
+            format!("on the qualified design ({} numbers)", q.coefficients),
+            col(1),
+        ));
+        v.push((
+            format!(
+                "polynomial with nonlinearity ({} numbers)",
+                q.polynomial_coefficients
+            ),
+            col(2),
+        ));
+    }
+    v
 }
 
 /// Title and curve of a table's error plot: the image's dense error per

@@ -103,3 +103,85 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
     out.by_temperature = by_t.into_values().collect();
     out
 }
+
+/// Calibration on a design against the polynomial at equal memory, on the
+/// same held-out rows.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct QualifiedComparison {
+    /// Parts compared (fit ok, with a polynomial).
+    pub parts: usize,
+    /// Parts skipped.
+    pub skipped: usize,
+    /// Stored numbers per part of the design fit.
+    pub coefficients: usize,
+    /// Stored numbers per part of the polynomial (with its nonlinearity terms).
+    pub polynomial_coefficients: usize,
+    /// Design fit.
+    pub qualified: Worst,
+    /// Polynomial at equal (or nearest lower) memory.
+    pub polynomial: Worst,
+    /// Per held-out temperature: `[t_c, design, polynomial]` worst |error|.
+    pub by_temperature: Vec<[f64; 3]>,
+}
+
+/// Compares parts fitted on a design with their stored polynomial.
+pub fn compare_qualified(
+    parts: &[PartFile],
+    curves: &ShapeCurves,
+    check: &ChamberData,
+) -> QualifiedComparison {
+    let groups = check.by_serial();
+    let mut out = QualifiedComparison {
+        parts: 0,
+        skipped: 0,
+        coefficients: 0,
+        polynomial_coefficients: 0,
+        qualified: Worst::default(),
+        polynomial: Worst::default(),
+        by_temperature: Vec::new(),
+    };
+    let mut by_t: std::collections::BTreeMap<u64, [f64; 3]> = std::collections::BTreeMap::new();
+    for part in parts {
+        let (Some(poly), Some(rows), Some(d), true) = (
+            part.polynomial,
+            groups.get(part.serial.as_str()),
+            part.design.as_ref(),
+            part.is_ok(),
+        ) else {
+            out.skipped += 1;
+            continue;
+        };
+        out.parts += 1;
+        out.coefficients = d.fit.iter().map(|f| f.values.len()).sum();
+        out.polynomial_coefficients = poly.coefficients();
+        let (lo, hi) = part
+            .points
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |m, p| {
+                (m.0.min(p.chamber_c), m.1.max(p.chamber_c))
+            });
+        let model = ModelCompensation::for_part(part, curves);
+        let q = apply_rows(part, curves, &model, rows);
+        let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
+        for (a, b) in q.iter().zip(&pol) {
+            let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
+            let upd = |w: &mut Worst, e: f64| {
+                let slot = if inside {
+                    &mut w.inside_ppm
+                } else {
+                    &mut w.outside_ppm
+                };
+                *slot = slot.max(e.abs());
+            };
+            upd(&mut out.qualified, a.error_ppm);
+            upd(&mut out.polynomial, b.error_ppm);
+            let e = by_t
+                .entry((a.chamber_c + 1000.0).to_bits())
+                .or_insert([a.chamber_c, 0.0, 0.0]);
+            e[1] = e[1].max(a.error_ppm.abs());
+            e[2] = e[2].max(b.error_ppm.abs());
+        }
+    }
+    out.by_temperature = by_t.into_values().collect();
+    out
+}

@@ -4,10 +4,11 @@
 
 use super::apply::{ImageCompensation, apply_rows};
 use super::chamber::{self, ChamberData};
-use super::compare::{Comparison, compare};
+use super::compare::{Comparison, QualifiedComparison, compare, compare_qualified};
 use super::curves::ShapeCurves;
+use super::design::{self, DesignFile, ProductionPlan};
 use super::export::{ExportFormat, export};
-use super::lot::{calibrate_lot, progress};
+use super::lot::{calibrate_lot, calibrate_lot_with, progress};
 use super::model_shapes::shapes_for;
 use super::output::{OutputError, to_json_bytes, write_atomic};
 use super::part_file::PartFile;
@@ -57,8 +58,14 @@ pub struct ScenarioSummary {
     /// Worst error of the flashed images at held-out temperatures inside the
     /// operating range (the station's final check), ppm of span.
     pub image_check_max_ppm: f64,
-    /// Model error between calibration temperatures from the qualification
-    /// lot ([`qualify`]), ppm of span: budgeted in every part's fit residual.
+    /// Parts fitted on the design against the polynomial at equal memory.
+    pub qualified: QualifiedComparison,
+    /// Parts accepted on the design.
+    pub qualified_ok: usize,
+    /// Content hash of the design learned from the qualification lot.
+    pub design_hash: String,
+    /// The design's model error for the production plan inside the
+    /// operating range, ppm of span: budgeted in every part's fit residual.
     pub model_error_ppm: f64,
     /// Smallest, largest table image, bytes.
     pub table_bytes: (usize, usize),
@@ -82,15 +89,12 @@ fn step<T, E: std::fmt::Display>(scenario: &Scenario, r: Result<T, E>) -> Result
 
 /// Seed of the qualification lot: other parts than the demo lot's.
 pub const QUALIFICATION_SEED: u64 = 7_001;
-/// Parts in the qualification lot. A new part's error exceeds the worst of
-/// `n` qualification parts with probability 1/(n + 1) (order statistics of
-/// exchangeable parts): about 2 % for 50. That probability applies to the
-/// model-error term alone; the table and temperature terms rarely peak at
-/// the same point, and `apply` at held-out temperatures stays the final check.
-pub const QUALIFICATION_PARTS: usize = 50;
+/// Parts in the qualification lot (10 or more is a good plan; 20 leave the
+/// leave-one-part-out model error a worst case over 20 parts).
+pub const QUALIFICATION_PARTS: usize = 20;
 
 /// The calibration plan and the held-out check plan (ascending
-/// temperatures) of a scenario.
+/// temperatures, the check at 5 stimuli) of a scenario.
 fn chamber_plans(scenario: &Scenario) -> (Plan, Plan) {
     let mut check_temps = scenario.check_temps_c.clone();
     check_temps.sort_by(f64::total_cmp);
@@ -101,32 +105,44 @@ fn chamber_plans(scenario: &Scenario) -> (Plan, Plan) {
         },
         Plan {
             temps_c: check_temps,
-            stimuli: scenario.stimuli.clone(),
+            stimuli: scenario.check_stimuli(),
         },
     )
 }
 
-/// Characterises the model error between calibration temperatures on a
-/// qualification lot (drawn with [`QUALIFICATION_SEED`], calibrated at the
-/// scenario's temperatures, checked at its held-out temperatures): the
-/// worst physics error inside the calibrated span, ppm of span, rounded up
-/// to a whole ppm.
-pub fn qualify(scenario: &Scenario, curves: &ShapeCurves) -> Result<f64, DemoError> {
+/// Measures a qualification lot of the scenario's design (other parts than
+/// the demo lot's, at the qualification plan), writes its CSV and learns
+/// the design for the scenario's production plan.
+pub fn qualify_lot(
+    scenario: &Scenario,
+    curves: &ShapeCurves,
+    dir: &Path,
+) -> Result<DesignFile, DemoError> {
     let parts = draw_parts(scenario, QUALIFICATION_PARTS, QUALIFICATION_SEED);
-    let (cal_plan, check_plan) = chamber_plans(scenario);
-    let rows = |plan: &Plan| {
-        step(
-            scenario,
-            measure(scenario, &parts, plan, QUALIFICATION_SEED),
-        )
-        .map(|rows| ChamberData {
-            rows,
-            errors: vec![],
-        })
+    let plan = Plan {
+        temps_c: scenario.qualification_plan_temps_c(),
+        stimuli: scenario.qualification_stimuli(),
     };
-    let (cal, check) = (rows(&cal_plan)?, rows(&check_plan)?);
-    let fitted = calibrate_lot(scenario, curves, &cal, true);
-    Ok(compare(&fitted, curves, &check).physics.inside_ppm.ceil())
+    let rows = step(
+        scenario,
+        measure(scenario, &parts, &plan, QUALIFICATION_SEED),
+    )?;
+    let name = "qualification.csv";
+    write_atomic(&dir.join(name), &chamber::to_csv_bytes(&rows))?;
+    let data = ChamberData {
+        rows,
+        errors: vec![],
+    };
+    let production = ProductionPlan {
+        temps_c: scenario.cal_temps_c.clone(),
+        stimuli: scenario.stimuli.clone(),
+    };
+    let d = step(
+        scenario,
+        design::qualify(scenario, curves, &data, name, &production),
+    )?;
+    write_atomic(&dir.join("design.json"), &d.to_bytes())?;
+    Ok(d)
 }
 
 /// Runs one scenario into `dir`: qualifies the model error on a separate
@@ -139,11 +155,8 @@ pub fn run_scenario(
     quiet: bool,
 ) -> Result<ScenarioSummary, DemoError> {
     let curves = step(scenario, shapes_for(scenario))?;
-    let model_error_ppm = qualify(scenario, &curves)?;
-    let scenario = &Scenario {
-        model_error_ppm: Some(model_error_ppm),
-        ..scenario.clone()
-    };
+    let design = qualify_lot(scenario, &curves, dir)?;
+    let model_error_ppm = design.plan_error.operating_range_ppm;
     write_atomic(&dir.join("scenario.toml"), to_toml(scenario).as_bytes())?;
     let parts = draw_parts(scenario, parts_n, DEMO_SEED);
     let (cal_plan, check_plan) = chamber_plans(scenario);
@@ -166,15 +179,29 @@ pub fn run_scenario(
         errors: vec![],
     };
 
-    let fitted: Vec<PartFile> = calibrate_lot(scenario, &curves, &cal, quiet);
+    // Physics-only fits (for the comparison) and fits on the design (the
+    // parts that get tables).
+    let physics: Vec<PartFile> = calibrate_lot(scenario, &curves, &cal, quiet);
+    for p in &physics {
+        write_atomic(
+            &dir.join("parts-physics")
+                .join(format!("{}.part.json", p.serial)),
+            &p.to_bytes(),
+        )?;
+    }
+    let fitted: Vec<PartFile> = calibrate_lot_with(scenario, &curves, &cal, Some(&design), quiet);
     for p in &fitted {
         write_atomic(
             &dir.join("parts").join(format!("{}.part.json", p.serial)),
             &p.to_bytes(),
         )?;
     }
-    let comparison = compare(&fitted, &curves, &check);
-    write_atomic(&dir.join("comparison.json"), &to_json_bytes(&comparison))?;
+    let comparison = compare(&physics, &curves, &check);
+    let qualified = compare_qualified(&fitted, &curves, &check);
+    write_atomic(
+        &dir.join("comparison.json"),
+        &to_json_bytes(&(&comparison, &qualified)),
+    )?;
     let lot_svg = step(
         scenario,
         error_svg(
@@ -182,7 +209,7 @@ pub fn run_scenario(
                 "{}: worst error over the lot at held-out temperatures",
                 scenario.name
             ),
-            &comparison_series(&comparison),
+            &comparison_series(&comparison, Some(&qualified)),
             Some((scenario.budget_ppm, "budget")),
         ),
     )?;
@@ -284,6 +311,9 @@ pub fn run_scenario(
         calibrated: ok.len(),
         cal_temps_c: scenario.cal_temps_c.clone(),
         comparison,
+        qualified,
+        qualified_ok: ok.len(),
+        design_hash: design.hash.clone(),
         image_check_max_ppm: image_check_max,
         model_error_ppm,
         table_bytes: if bytes.0 == usize::MAX { (0, 0) } else { bytes },
@@ -335,9 +365,25 @@ pub fn summary_text(summaries: &[ScenarioSummary]) -> String {
             c.polynomial.inside_ppm,
             outside(c.polynomial.outside_ppm)
         ));
+        let q = &m.qualified;
         s.push_str(&format!(
-            "  model error between calibration temperatures, from a {QUALIFICATION_PARTS}-part qualification lot: {:.0} ppm (budgeted)\n",
-            m.model_error_ppm
+            "  held-out worst case, on the design learned from a {QUALIFICATION_PARTS}-part qualification lot ({} coefficients): {:.0} ppm inside, {}\n",
+            q.coefficients,
+            q.qualified.inside_ppm,
+            outside(q.qualified.outside_ppm)
+        ));
+        s.push_str(&format!(
+            "  held-out worst case, polynomial with nonlinearity ({} coefficients): {:.0} ppm inside, {}\n",
+            q.polynomial_coefficients,
+            q.polynomial.inside_ppm,
+            outside(q.polynomial.outside_ppm)
+        ));
+        s.push_str(&format!(
+            "  design {}: model error of the production plan {:.0} ppm (budgeted); {} of {} parts accepted on it\n",
+            &m.design_hash[..16],
+            m.model_error_ppm,
+            m.qualified_ok,
+            m.parts
         ));
         s.push_str(&format!(
             "  flashed images at held-out temperatures in range: worst {:.0} ppm (budget {} ppm)\n",

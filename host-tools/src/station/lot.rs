@@ -2,10 +2,10 @@
 //! a terminal, results in serial order whatever the thread scheduling.
 
 use super::calibrate::calibrate_part;
-use super::design::DesignFile;
-use super::design::calibrate::calibrate_on_design;
 use super::chamber::ChamberData;
 use super::curves::ShapeCurves;
+use super::design::DesignFile;
+use super::design::calibrate::calibrate_on_design;
 use super::part_file::PartFile;
 use super::scenario::Scenario;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};

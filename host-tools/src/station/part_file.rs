@@ -5,10 +5,10 @@
 //! the same fit gives the same bytes. Non-finite numbers (the covariance of an
 //! ill-conditioned fit) are written as `null`.
 
-use super::output::to_json_bytes;
-use super::part_model::PartParams;
 use super::design::basis::Family;
 use super::design::model::{DesignCore, FamilyFit};
+use super::output::to_json_bytes;
+use super::part_model::PartParams;
 use super::polynomial::PolyCal;
 use super::scenario::Scenario;
 use std::path::Path;
@@ -240,7 +240,12 @@ impl PartFile {
             return Err(PartFileError::Parse {
                 file: file.to_string(),
                 line,
-                field: if part.design.is_none() { "params" } else { "design" }.into(),
+                field: if part.design.is_none() {
+                    "params"
+                } else {
+                    "design"
+                }
+                .into(),
                 message: "neither physics parameters nor a complete design fit".into(),
             });
         }

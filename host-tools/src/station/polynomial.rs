@@ -21,6 +21,20 @@ pub struct PolyCal {
     pub offset: [f64; 3],
     /// Sensitivity = `sens[0] + sens[1] u + sens[2] u^2`.
     pub sens: [f64; 3],
+    /// Nonlinearity in the stimulus (absent: linear), 2 more numbers.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bow: Option<PolyBow>,
+}
+
+/// The polynomial's nonlinearity: a terminal-based parabola in the stimulus
+/// (as [`super::bow::Bow`]) whose mid-scale deviation is linear in
+/// temperature, `mid[0] + mid[1] u`.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct PolyBow {
+    /// Mid-scale deviation, fraction of span: constant and per-K terms.
+    pub mid: [f64; 2],
+    /// Full-scale stimulus range (a design constant, not a fitted number).
+    pub fs: (f64, f64),
 }
 
 /// Why a polynomial could not be fitted.
@@ -89,7 +103,47 @@ impl PolyCal {
             thermo: [t[0], t[1]],
             offset: [c[0], c[1], c[2]],
             sens: [c[3], c[4], c[5]],
+            bow: None,
         })
+    }
+
+    /// The same polynomial plus a nonlinearity linear in temperature, from
+    /// the mid-scale deviation at each chamber temperature (3 stimuli or
+    /// more); 10 stored numbers. Without 3 stimuli anywhere, [`PolyCal::fit`].
+    pub fn fit_with_bow(rows: &[&ChamberRow], fs: (f64, f64)) -> Result<PolyCal, PolyError> {
+        let (steps, _) = super::design::reduce::reduce(rows, fs);
+        let pts: Vec<(f64, f64)> = steps
+            .iter()
+            .filter_map(|s| s.bow.map(|b| (s.chamber_c - T_CENTER_C, b)))
+            .collect();
+        if pts.len() < 2 {
+            return Self::fit(rows);
+        }
+        let n = pts.len();
+        let a = DMatrix::from_fn(n, 2, |i, j| if j == 0 { 1.0 } else { pts[i].0 });
+        let b = DVector::from_iterator(n, pts.iter().map(|p| p.1));
+        let m = lstsq(a, b);
+        let bow = PolyBow {
+            mid: [m[0], m[1]],
+            fs,
+        };
+        // Offset and sensitivity against the apparent stimulus.
+        let apparent: Vec<ChamberRow> = rows
+            .iter()
+            .map(|r| ChamberRow {
+                stimulus: bow.apparent(r.stimulus, r.chamber_c),
+                ..(*r).clone()
+            })
+            .collect();
+        let refs: Vec<&ChamberRow> = apparent.iter().collect();
+        let mut p = Self::fit(&refs)?;
+        p.bow = Some(bow);
+        Ok(p)
+    }
+
+    /// Number of stored numbers.
+    pub fn coefficients(&self) -> usize {
+        8 + if self.bow.is_some() { 2 } else { 0 }
     }
 
     /// Temperature estimated from the temperature signal.
@@ -102,7 +156,27 @@ impl PolyCal {
         let u = self.temperature(signal) - T_CENTER_C;
         let off = self.offset[0] + u * (self.offset[1] + u * self.offset[2]);
         let sens = self.sens[0] + u * (self.sens[1] + u * self.sens[2]);
-        (output - off) / sens
+        let apparent = (output - off) / sens;
+        match self.bow {
+            Some(b) => b.true_stimulus(apparent, u + T_CENTER_C),
+            None => apparent,
+        }
+    }
+}
+
+impl PolyBow {
+    fn at(&self, t_c: f64) -> super::bow::Bow {
+        super::bow::Bow::constant(self.mid[0] + self.mid[1] * (t_c - T_CENTER_C))
+    }
+
+    /// The stimulus the terminal line sees at `t_c`.
+    pub fn apparent(&self, stimulus: f64, t_c: f64) -> f64 {
+        self.at(t_c).apparent(stimulus, t_c, t_c, self.fs)
+    }
+
+    /// Inverse of [`PolyBow::apparent`].
+    pub fn true_stimulus(&self, apparent: f64, t_c: f64) -> f64 {
+        self.at(t_c).true_stimulus(apparent, t_c, t_c, self.fs)
     }
 }
 

@@ -157,6 +157,23 @@ pub const QUAL_TEMPS_N: usize = 12;
 pub const PLAN_STIMULI_N: usize = 5;
 
 impl Scenario {
+    /// The scenario with the demo's simulated truth: the first of the
+    /// truth variants (published models other than the fitted one) and a
+    /// per-part nonlinearity in the stimulus (invented: well logger 0.1 % of
+    /// span at mid-scale, 0.03 % part to part, -0.15 %/K relative; Hall
+    /// plate 0.02 %, 0.01 %, -0.15 %/K).
+    pub fn with_demo_truth(mut self) -> Scenario {
+        self.truth = super::truth::VARIANTS[0].1;
+        let (mean, sd) = match self.kind {
+            ElementKind::Bridge => (1e-3, 3e-4),
+            ElementKind::HallPlate => (2e-4, 1e-4),
+        };
+        self.spread.nonlinearity_rel = mean;
+        self.spread.nonlinearity_sd_rel = sd;
+        self.spread.nonlinearity_per_k = -1.5e-3;
+        self
+    }
+
     /// Full-scale span width of the stimulus.
     pub fn fs_width(&self) -> f64 {
         self.stimulus_fs.1 - self.stimulus_fs.0
@@ -250,9 +267,9 @@ impl Scenario {
                 // Invented: 0.1 % of span above the terminal line at
                 // mid-scale, 0.03 % part to part, shrinking by 0.15 %/K of
                 // itself (0.1 % at 25 C -> 0.09 % at 85 C).
-                nonlinearity_rel: 1e-3,
-                nonlinearity_sd_rel: 3e-4,
-                nonlinearity_per_k: -1.5e-3,
+                nonlinearity_rel: 0.0,
+                nonlinearity_sd_rel: 0.0,
+                nonlinearity_per_k: 0.0,
             },
             budget_ppm: 500.0,
             bow: None,
@@ -313,9 +330,9 @@ impl Scenario {
                 // Invented: a Hall plate is far more linear in the field
                 // than a membrane in pressure; 0.02 % +/- 0.01 % of span,
                 // same relative temperature trend as the bridge.
-                nonlinearity_rel: 2e-4,
-                nonlinearity_sd_rel: 1e-4,
-                nonlinearity_per_k: -1.5e-3,
+                nonlinearity_rel: 0.0,
+                nonlinearity_sd_rel: 0.0,
+                nonlinearity_per_k: 0.0,
             },
             budget_ppm: 1000.0,
             bow: None,

@@ -32,9 +32,7 @@ impl TableFrame<'_> {
     pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
         let apparent = self.model.stimulus(output, t_c);
         match self.bow_mid(t_c) {
-            Some(m) => {
-                Bow::constant(m).true_stimulus(apparent, t_c, t_c, (self.fs_lo, self.fs_hi))
-            }
+            Some(m) => Bow::constant(m).true_stimulus(apparent, t_c, t_c, (self.fs_lo, self.fs_hi)),
             None => apparent,
         }
     }

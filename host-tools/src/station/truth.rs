@@ -86,8 +86,15 @@ pub enum ResistivityTruth {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum PiezoTruth {
-    /// Richter, Pedersen & Thomsen 2008 empirical fit.
+    /// The fitted model's own gain law (Kanda's P(N, T) for a bridge, the
+    /// model's Hall coefficient for a Hall plate): the default of the
+    /// built-in scenarios, which the firmware example and the physics-path
+    /// tests use for the chain's mechanics. A comparison of calibrations
+    /// never uses it: the demo and the qualification tests draw their truth
+    /// from [`VARIANTS`].
     #[default]
+    Model,
+    /// Richter, Pedersen & Thomsen 2008 empirical fit.
     RichterFit,
     /// Kanda 1982 in the non-degenerate limit, 300 / T.
     KandaBoltzmann,
@@ -215,6 +222,8 @@ impl PiezoTruth {
                     / (1.0 + (n_cm3 / n_b).powf(alpha) + (n_cm3 / n_c).powf(gamma))
             }
             PiezoTruth::KandaBoltzmann => 300.0 / t_k,
+            // Not a law of its own: `Truth::die` takes the model's value.
+            PiezoTruth::Model => f64::NAN,
         }
     }
 }
@@ -427,6 +436,18 @@ impl<'a> Truth<'a> {
         let n_a: f64 = sample.acceptors.iter().map(|d| d.density_cm3).sum();
         let n_d: f64 = sample.donors.iter().map(|d| d.density_cm3).sum();
         let holes = n_a > n_d;
+        if models.piezo == PiezoTruth::Model {
+            let (rho, _, _) = if sample.material == Material::Si {
+                si_resistivity(&sample, models.resistivity, t_k)
+            } else {
+                (point.rho_ohm_cm, 0.0, 0.0)
+            };
+            let gain = match self.scenario.kind {
+                ElementKind::Bridge => point.piezo_factor.unwrap_or(1.0),
+                ElementKind::HallPlate => point.hall_coefficient_cm3_c.abs(),
+            };
+            return Ok((rho, gain));
+        }
         let (rho, r_h) = if sample.material == Material::Si {
             let (rho, carriers, _) = si_resistivity(&sample, models.resistivity, t_k);
             let r = if holes {
@@ -591,8 +612,9 @@ mod tests {
     #[test]
     fn variants_differ_from_the_model_and_each_other() {
         let sc = Scenario::well_logger();
-        assert_eq!(VARIANTS[0].1, TruthModels::default());
         assert_eq!(sc.truth, TruthModels::default());
+        assert_eq!(TruthModels::default().piezo, PiezoTruth::Model);
+        assert!(VARIANTS.iter().all(|v| v.1.piezo != PiezoTruth::Model));
         let (model_tcr, model_p) = model_figures(&sc);
         // (variant, TCR at 25 C in ppm/K, P(-40 C)/P(125 C)) as this code
         // evaluates them; 5 ppm/K and 1e-3 on the ratio are far below the
@@ -766,7 +788,7 @@ mod tests {
         // 4 standard errors (4 x 3e-4 / sqrt(2000) = 2.7e-5) of 1e-3, the
         // sample sd within 10 % of 3e-4 (sd of a sample sd ~ 1.6 %), the
         // per-K mean within 4 x 0.2 x 1.5e-3 / sqrt(2000) = 2.7e-5 of -1.5e-3.
-        let sc = Scenario::well_logger();
+        let sc = Scenario::well_logger().with_demo_truth();
         let parts = super::super::simulate::draw_parts(&sc, 2000, 5);
         let n = parts.len() as f64;
         let mean = parts.iter().map(|p| p.nonlinearity[0]).sum::<f64>() / n;

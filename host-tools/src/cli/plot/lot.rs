@@ -142,7 +142,7 @@ fn plot_lot(
             "no rows for any usable part (fit ok, polynomial present)",
         ));
     }
-    let series: Vec<Series> = comparison_series(&comparison);
+    let series: Vec<Series> = comparison_series(&comparison, None);
     let title = format!("{what}: worst |error| before and after compensation");
     write_error_plot(
         out_path,

@@ -214,9 +214,18 @@ mod tests {
         spec.eval(&c, Family::Bow, 100.0, &mut b);
         let p2 = |x: f64| 0.5 * (3.0 * x * x - 1.0);
         let p3 = |x: f64| 0.5 * (5.0 * x * x * x - 3.0 * x);
-        let expected = [0.75 + 0.1875, p2(0.75) - p2(-0.1875), p3(0.75) - p3(-0.1875)];
+        let expected = [
+            0.75 + 0.1875,
+            p2(0.75) - p2(-0.1875),
+            p3(0.75) - p3(-0.1875),
+        ];
         for (k, e) in expected.iter().enumerate() {
-            assert!((b[k] - e).abs() < 1e-12, "P{} got {}, expected {e}", k + 1, b[k]);
+            assert!(
+                (b[k] - e).abs() < 1e-12,
+                "P{} got {}, expected {e}",
+                k + 1,
+                b[k]
+            );
         }
     }
 

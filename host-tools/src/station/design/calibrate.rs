@@ -47,9 +47,8 @@ pub fn calibrate_on_design(
     rows: &[&ChamberRow],
 ) -> PartFile {
     let fs = scenario.stimulus_fs;
-    let width = scenario.fs_width();
     let core = &design.core;
-    let polynomial = PolyCal::fit(rows).ok();
+    let polynomial = PolyCal::fit_with_bow(rows, fs).ok();
     let mut part = PartFile {
         format: PART_FORMAT.into(),
         serial: serial.into(),
@@ -142,7 +141,6 @@ pub fn calibrate_on_design(
             "ok".into()
         };
     }
-    let _ = width;
     part.design = Some(PartDesign {
         design_hash: design.hash.clone(),
         model_error_ppm: design.plan_error.operating_range_ppm,

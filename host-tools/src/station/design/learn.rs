@@ -54,7 +54,9 @@ const GRID_STEP_K: f64 = 1.0;
 #[non_exhaustive]
 pub enum QualifyError {
     /// Too few parts.
-    #[error("{file}: too few parts: {found} with usable data (need at least {min}; 10 or more is a good plan)")]
+    #[error(
+        "{file}: too few parts: {found} with usable data (need at least {min}; 10 or more is a good plan)"
+    )]
     TooFewParts {
         /// File.
         file: String,
@@ -64,7 +66,9 @@ pub enum QualifyError {
         min: usize,
     },
     /// A part has too few temperatures.
-    #[error("{file}:{line}: field 'chamber_c': part {serial} has {found} usable chamber temperatures (need at least {min}; 8 or more spanning the operating range and beyond is a good plan)")]
+    #[error(
+        "{file}:{line}: field 'chamber_c': part {serial} has {found} usable chamber temperatures (need at least {min}; 8 or more spanning the operating range and beyond is a good plan)"
+    )]
     TooFewTemperatures {
         /// File.
         file: String,
@@ -78,7 +82,9 @@ pub enum QualifyError {
         min: usize,
     },
     /// A step has too few stimuli.
-    #[error("{file}:{line}: field 'stimulus': part {serial} has {found} distinct stimuli at {chamber_c} C (need at least {min} at every temperature; 5 is a good plan)")]
+    #[error(
+        "{file}:{line}: field 'stimulus': part {serial} has {found} distinct stimuli at {chamber_c} C (need at least {min} at every temperature; 5 is a good plan)"
+    )]
     TooFewStimuli {
         /// File.
         file: String,
@@ -313,7 +319,11 @@ fn components(
         modes.push(w);
         // Scores on a unit-rms mode have sd s_k / sqrt(grid points * (parts - 1)).
         shares.push((
-            if total > 0.0 { s[k] * s[k] / total } else { 0.0 },
+            if total > 0.0 {
+                s[k] * s[k] / total
+            } else {
+                0.0
+            },
             s[k] / ((grid.len() * (p - 1)) as f64).sqrt(),
         ));
     }
@@ -757,7 +767,12 @@ pub fn learn(
     // Thermometer: each part's smoothed curve; the lot's mean and modes.
     let therm_pts: Vec<Vec<(f64, f64)>> = parts
         .iter()
-        .map(|p| p.steps.iter().map(|s| (s.chamber_c, s.signal.ln())).collect())
+        .map(|p| {
+            p.steps
+                .iter()
+                .map(|s| (s.chamber_c, s.signal.ln()))
+                .collect()
+        })
         .collect();
     let scale_t = data_scale(&therm_pts);
     let lam_t = choose_lambda(&basis, curves, Family::Thermometer, &therm_pts, scale_t);
@@ -809,7 +824,10 @@ pub fn learn(
     // learned against (the reading production computes), so each choice is
     // a run of its own; the best rms wins, a mode more must gain 1 %.
     let plan_n = used_temps.len();
-    let t_modes_avail = lot.core_from(None, &lot.part_weights(0).0, [0.0; 4]).0.families[0]
+    let t_modes_avail = lot
+        .core_from(None, &lot.part_weights(0).0, [0.0; 4])
+        .0
+        .families[0]
         .modes
         .len();
     let mut run = lot.run(0);
@@ -879,9 +897,7 @@ pub fn learn(
         fam.coef_sd = (0..n)
             .map(|j| {
                 let m = fam.coef_mean[j];
-                (vals.iter().map(|v| (v[j] - m).powi(2)).sum::<f64>()
-                    / (cnt - 1.0).max(1.0))
-                .sqrt()
+                (vals.iter().map(|v| (v[j] - m).powi(2)).sum::<f64>() / (cnt - 1.0).max(1.0)).sqrt()
             })
             .collect();
     }

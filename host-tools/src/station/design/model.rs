@@ -189,7 +189,11 @@ fn fit_family(
         .solve(&b, 1e-12 * smax)
         .unwrap_or_else(|_| DVector::from_element(k + 1, f64::NAN));
     let values = (0..=k).map(|j| x[j] / norms[j]).collect();
-    let condition = if smin > 0.0 { smax / smin } else { f64::INFINITY };
+    let condition = if smin > 0.0 {
+        smax / smin
+    } else {
+        f64::INFINITY
+    };
     (values, condition)
 }
 
@@ -282,7 +286,13 @@ pub fn fit_steps(
     } else {
         // No nonlinearity measured: the lot's mean reference.
         (
-            vec![core.family(Family::Bow).coef_mean.first().copied().unwrap_or(0.0)],
+            vec![
+                core.family(Family::Bow)
+                    .coef_mean
+                    .first()
+                    .copied()
+                    .unwrap_or(0.0),
+            ],
             1.0,
         )
     };

@@ -135,7 +135,10 @@ mod tests {
         let fs = (-200.0, 200.0);
         // (offset, sens, bow) per step; outputs exact, so the fit is exact
         // up to rounding (1e-12 relative).
-        let cases = [(1e-3, 1.2e-4, 2e-3, 5, 25.0), (-4e-4, 0.9e-4, -1e-3, 3, 85.0)];
+        let cases = [
+            (1e-3, 1.2e-4, 2e-3, 5, 25.0),
+            (-4e-4, 0.9e-4, -1e-3, 3, 85.0),
+        ];
         let mut rows = Vec::new();
         for &(o, s, b, n, t) in &cases {
             for k in 0..n {
@@ -154,7 +157,11 @@ mod tests {
             assert!(st.residual_rel < 1e-10 && st.signal == 1000.0 + t);
         }
         // Two stimuli: no bow; one stimulus: the step is skipped and named.
-        let two = [row(0.0, 0.0, 1.0, 5.0), row(0.0, 1.0, 2.0, 5.0), row(9.0, 1.0, 2.0, 5.0)];
+        let two = [
+            row(0.0, 0.0, 1.0, 5.0),
+            row(0.0, 1.0, 2.0, 5.0),
+            row(9.0, 1.0, 2.0, 5.0),
+        ];
         let refs: Vec<&ChamberRow> = two.iter().collect();
         let (steps, skipped) = reduce(&refs, (0.0, 1.0));
         assert_eq!(steps.len(), 1);
