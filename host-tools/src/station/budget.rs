@@ -98,7 +98,14 @@ impl PartTerms {
                 slope = slope.max(((up - down) / (2.0 * h) / fs * 1e6).abs());
             }
         }
-        let sigma_k = part.thermometer_rms_k.hypot(part.signal_noise_k);
+        // A part fitted on a design: its thermometer's misses at the chamber
+        // points (set-point errors, shape) are inside the design's measured
+        // model error, which ran the same fit; only the signal noise adds.
+        let sigma_k = if part.design.is_some() {
+            part.signal_noise_k
+        } else {
+            part.thermometer_rms_k.hypot(part.signal_noise_k)
+        };
         // Model error between chamber points (leave-one-temperature-out),
         // budgeted only where the refits keep the shipped model's shape.
         let cross_validation_ppm = part.holdout_max_ppm.unwrap_or(0.0);
