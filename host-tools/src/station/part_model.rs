@@ -203,6 +203,10 @@ impl PartModel<'_> {
 
 /// A part's fitted model, physics-only or on a design: the one interface
 /// tables, verification and `apply` evaluate.
+// The design variant carries its combined curve weights (a few hundred
+// bytes) so that evaluating it needs no allocation; frames copy the model
+// rarely, so boxing would buy nothing.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone, Copy)]
 pub enum FittedModel<'a> {
     /// Physics shapes scaled and bent by the part's parameters.

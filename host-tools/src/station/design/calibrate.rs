@@ -122,12 +122,12 @@ pub fn calibrate_on_design(
     part.points = points;
     let (sigma, what) = worst_sigma(design, &fit);
     if part.status.is_empty() {
-        part.status = if !(sigma <= design.outlier.max_sigma) {
+        part.status = if sigma.is_nan() || sigma > design.outlier.max_sigma {
             format!(
                 "outlier: {what} is {sigma:.1} lot standard deviations from the qualification lot's mean (limit {})",
                 design.outlier.max_sigma
             )
-        } else if !(part.fit_max_ppm <= design.outlier.max_residual_ppm) {
+        } else if part.fit_max_ppm.is_nan() || part.fit_max_ppm > design.outlier.max_residual_ppm {
             format!(
                 "outlier: fit residual {:.1} ppm of span (qualification lot limit {:.1} ppm)",
                 part.fit_max_ppm, design.outlier.max_residual_ppm

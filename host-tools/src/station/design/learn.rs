@@ -256,6 +256,9 @@ fn choose_lambda(
     best.1
 }
 
+/// Mean weights, mode weights, and (variance share, score sd) per mode.
+type Components = (Vec<f64>, Vec<Vec<f64>>, Vec<(f64, f64)>);
+
 /// Mean and modes (unit rms over the grid) of parts' basis weights; the
 /// share of variance the first `MAX_MODES` modes explain.
 fn components(
@@ -264,7 +267,7 @@ fn components(
     f: Family,
     weights: &[&Vec<f64>],
     grid: &[f64],
-) -> (Vec<f64>, Vec<Vec<f64>>, Vec<(f64, f64)>) {
+) -> Components {
     let nb = basis.len(f);
     let p = weights.len();
     let mut mean = vec![0.0; nb];
@@ -400,6 +403,7 @@ struct AxisRun {
     results: CvResults,
     weights: Vec<[Vec<f64>; 4]>,
     lambdas: [f64; 4],
+    therm: Vec<Vec<f64>>,
 }
 
 /// The reduced qualification lot and what every run shares.
@@ -439,21 +443,56 @@ impl Lot<'_> {
         skip: Option<usize>,
         weights: &[[Vec<f64>; 4]],
         lambdas: [f64; 4],
+        therm: &[Vec<f64>],
     ) -> (DesignCore, [Vec<f64>; 4]) {
         let mut families = Vec::new();
         let mut shares: [Vec<f64>; 4] = Default::default();
         for f in Family::ALL {
             let k = f.index();
-            let ws: Vec<&Vec<f64>> = weights
-                .iter()
-                .enumerate()
-                .filter(|(i, _)| Some(*i) != skip)
-                .map(|(_, w)| &w[k])
-                .collect();
-            let (mean, modes, sh) = if ws.iter().all(|w| w.len() == self.basis.len(f)) {
-                components(&self.basis, self.curves, f, &ws, self.grid)
+            // The thermometer is learned from every part even when one is
+            // held out: the held-out part's production thermometer and the
+            // other curves' coupling must share its modes.
+            let skip = if f == Family::Thermometer { None } else { skip };
+            let kept: Vec<usize> = (0..weights.len()).filter(|i| Some(*i) != skip).collect();
+            let mut ws: Vec<Vec<f64>> = kept.iter().map(|&i| weights[i][k].clone()).collect();
+            let nb = self.basis.len(f);
+            let n_t = therm.first().map_or(0, Vec::len);
+            let mut coupling = Vec::new();
+            let mut center = Vec::new();
+            if f != Family::Thermometer
+                && n_t > 0
+                && kept.len() > n_t + 1
+                && ws.iter().all(|w| w.len() == nb)
+            {
+                // Least squares of each weight on the centred thermometer
+                // coefficients; the residual weights go on to the modes.
+                center = (0..n_t)
+                    .map(|j| kept.iter().map(|&i| therm[i][j]).sum::<f64>() / kept.len() as f64)
+                    .collect();
+                let x = DMatrix::from_fn(kept.len(), n_t, |r, j| therm[kept[r]][j] - center[j]);
+                let y = DMatrix::from_fn(kept.len(), nb, |r, j| ws[r][j]);
+                let svd = x.clone().svd(true, true);
+                let smax = svd.singular_values.max();
+                // Relative singular-value cutoff 1e-12 (common practice).
+                if let Ok(g) = svd.solve(&y, 1e-12 * smax) {
+                    let fitted = &x * &g;
+                    for (r, w) in ws.iter_mut().enumerate() {
+                        for (j, v) in w.iter_mut().enumerate() {
+                            *v -= fitted[(r, j)];
+                        }
+                    }
+                    coupling = (0..n_t)
+                        .map(|j| g.row(j).iter().copied().collect())
+                        .collect();
+                } else {
+                    center.clear();
+                }
+            }
+            let refs: Vec<&Vec<f64>> = ws.iter().collect();
+            let (mean, modes, sh) = if refs.iter().all(|w| w.len() == nb) {
+                components(&self.basis, self.curves, f, &refs, self.grid)
             } else {
-                (vec![0.0; self.basis.len(f)], Vec::new(), Vec::new())
+                (vec![0.0; nb], Vec::new(), Vec::new())
             };
             shares[k] = sh.iter().map(|v| v.0).collect();
             families.push(FamilyCurves {
@@ -465,6 +504,8 @@ impl Lot<'_> {
                 coef_mean: Vec::new(),
                 coef_sd: Vec::new(),
                 mode_sd: sh.iter().map(|v| v.1).collect(),
+                coupling,
+                coupling_center: center,
                 noise_sd: if f == Family::Thermometer {
                     self.therm_noise
                 } else {
@@ -488,16 +529,17 @@ impl Lot<'_> {
     /// Per-part basis weights of every family and the ridge weights, with
     /// output curves taken against the thermometer production would fit
     /// (`k_axis` modes, reference and modes from the plan's temperatures).
-    fn part_weights(&self, k_axis: usize) -> (Vec<[Vec<f64>; 4]>, [f64; 4]) {
+    fn part_weights(&self, k_axis: usize) -> (Vec<[Vec<f64>; 4]>, [f64; 4], Vec<Vec<f64>>) {
         let mut weights: Vec<[Vec<f64>; 4]> = self
             .therm_w
             .iter()
             .map(|w| [w.clone(), Vec::new(), Vec::new(), Vec::new()])
             .collect();
         let mut lambdas = [self.lam_t, 0.0, 0.0, 0.0];
-        let (mut tcore, _) = self.core_from(None, &weights, lambdas);
+        let (mut tcore, _) = self.core_from(None, &weights, lambdas, &[]);
         tcore.families[0].modes_used = k_axis;
-        let points: Vec<[Vec<(f64, f64)>; 3]> = self
+        let mut therm: Vec<Vec<f64>> = Vec::new();
+        let points: Vec<([Vec<(f64, f64)>; 3], Vec<f64>)> = self
             .parts
             .iter()
             .map(|p| {
@@ -520,16 +562,20 @@ impl Lot<'_> {
                         .filter_map(|(s, &t)| g(s).map(|y| (t, y)))
                         .collect()
                 };
-                [
-                    on(&|s| Some(s.offset / self.span_scale)),
-                    on(&|s| Some(s.sens.abs().ln())),
-                    on(&|s| s.bow),
-                ]
+                (
+                    [
+                        on(&|s| Some(s.offset / self.span_scale)),
+                        on(&|s| Some(s.sens.abs().ln())),
+                        on(&|s| s.bow),
+                    ],
+                    fit.values.get(1..).unwrap_or(&[]).to_vec(),
+                )
             })
             .collect();
+        therm.extend(points.iter().map(|p| p.1.clone()));
         for f in [Family::Offset, Family::Span, Family::Bow] {
             let k = f.index();
-            let pts: Vec<Vec<(f64, f64)>> = points.iter().map(|p| p[k - 1].clone()).collect();
+            let pts: Vec<Vec<(f64, f64)>> = points.iter().map(|p| p.0[k - 1].clone()).collect();
             let scale = data_scale(&pts);
             let lam = choose_lambda(&self.basis, self.curves, f, &pts, scale);
             lambdas[k] = lam;
@@ -537,7 +583,7 @@ impl Lot<'_> {
                 w[k] = ridge(&self.basis, self.curves, f, p, lam, scale).1;
             }
         }
-        (weights, lambdas)
+        (weights, lambdas, therm)
     }
 
     /// Leave-one-part-out production fits with `modes` per family.
@@ -563,6 +609,26 @@ impl Lot<'_> {
                     .map(|r| (r.chamber_c, err(r)))
                     .collect();
                 let resid = prod.iter().map(|r| err(r).abs()).fold(0.0f64, f64::max);
+                if std::env::var_os("SEMIDRIFT_DEBUG_DESIGN").is_some() {
+                    for st in &p.steps {
+                        if self.is_plan_t(st.chamber_c) {
+                            continue;
+                        }
+                        let t = model.temperature(st.signal);
+                        let eo = (model.offset(t) - st.offset) / self.span_scale * 1e6;
+                        let es = (model.sensitivity(t) / st.sens - 1.0) * 1e6;
+                        let eb = (model.bow_mid(t).unwrap_or(0.0) - st.bow.unwrap_or(0.0)) * 1e6;
+                        eprintln!(
+                            "DBG {} {:.0} offset {:.1} span {:.1} bow {:.1} t_err {:.3}",
+                            p.serial,
+                            st.chamber_c,
+                            eo,
+                            es,
+                            eb,
+                            t - st.chamber_c
+                        );
+                    }
+                }
                 (errs, resid, Some(fit))
             })
             .collect()
@@ -570,10 +636,13 @@ impl Lot<'_> {
 
     /// Cross-validates thermometer mode count `k_axis`, choosing the other
     /// families' mode counts by coordinate descent on the rms error.
-    fn run(&self, k_axis: usize) -> AxisRun {
-        let (weights, lambdas) = self.part_weights(k_axis);
+    fn run(&self, k_axis: usize, coupled: bool) -> AxisRun {
+        let (weights, lambdas, mut therm) = self.part_weights(k_axis);
+        if !coupled {
+            therm.iter_mut().for_each(Vec::clear);
+        }
         let loo: Vec<DesignCore> = (0..self.parts.len())
-            .map(|i| self.core_from(Some(i), &weights, lambdas).0)
+            .map(|i| self.core_from(Some(i), &weights, lambdas, &therm).0)
             .collect();
         let plan_n = self.used_temps.len();
         let max_modes = |f: Family| {
@@ -614,6 +683,7 @@ impl Lot<'_> {
             results: self.evaluate(&loo, modes),
             weights,
             lambdas,
+            therm,
         }
     }
 }
@@ -677,7 +747,7 @@ pub fn learn(
                 min: MIN_STIMULI,
             });
         }
-        if steps.iter().any(|s| !(s.signal > 0.0)) {
+        if steps.iter().any(|s| s.signal.is_nan() || s.signal <= 0.0) {
             return Err(QualifyError::Data {
                 file: file.into(),
                 message: format!("part {serial}: temperature signal not positive"),
@@ -825,16 +895,21 @@ pub fn learn(
     // a run of its own; the best rms wins, a mode more must gain 1 %.
     let plan_n = used_temps.len();
     let t_modes_avail = lot
-        .core_from(None, &lot.part_weights(0).0, [0.0; 4])
+        .core_from(None, &lot.part_weights(0).0, [0.0; 4], &[])
         .0
         .families[0]
         .modes
         .len();
-    let mut run = lot.run(0);
+    let mut run = lot.run(0, false);
     for k in 1..=t_modes_avail.min(plan_n - 1).min(2) {
-        let r = lot.run(k);
-        if r.score < run.score * 0.99 {
-            run = r;
+        // Each thermometer mode count alone, then with the other curves
+        // coupled to its coefficients; a choice must gain 1 % to replace
+        // the simpler one.
+        for coupled in [false, true] {
+            let r = lot.run(k, coupled);
+            if r.score < run.score * 0.99 {
+                run = r;
+            }
         }
     }
     let AxisRun {
@@ -843,6 +918,7 @@ pub fn learn(
         results,
         weights: part_weights,
         lambdas,
+        therm,
     } = run;
     if !best.is_finite() {
         return Err(QualifyError::Data {
@@ -880,7 +956,7 @@ pub fn learn(
 
     // The final design: every part; coefficient statistics from the
     // held-out fits (what a new part of the lot looks like).
-    let (mut core, shares) = lot.core_from(None, &part_weights, lambdas);
+    let (mut core, shares) = lot.core_from(None, &part_weights, lambdas, &therm);
     for f in Family::ALL {
         let k = f.index();
         let fam = &mut core.families[k];

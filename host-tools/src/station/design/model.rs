@@ -42,6 +42,16 @@ pub struct FamilyCurves {
     /// Lot standard deviation of the parts' scores on each mode.
     #[serde(default)]
     pub mode_sd: Vec<f64>,
+    /// How the curve bends with the part's thermometer mode coefficients:
+    /// basis weights per thermometer mode (least squares over the lot).
+    /// Doping moves the thermometer and the output curves together, so the
+    /// thermometer's coefficients predict part of every other curve and
+    /// leave the family's own modes for what they cannot predict.
+    #[serde(default)]
+    pub coupling: Vec<Vec<f64>>,
+    /// Lot mean of the thermometer coefficients the coupling is centred on.
+    #[serde(default)]
+    pub coupling_center: Vec<f64>,
     /// Noise of one reading of this family's value (what the smoothed
     /// per-part curves leave), in the family's units; with `mode_sd` it
     /// makes the part fit a ridge regression towards the lot's mean curve
@@ -144,8 +154,10 @@ fn fit_family(
     f: Family,
     points: &[(f64, f64)],
     k: usize,
+    therm: &[f64],
 ) -> (Vec<f64>, f64) {
     let fam = core.family(f);
+    let base = base_weights(fam, therm);
     let k = k.min(fam.modes.len()).min(points.len().saturating_sub(1));
     let n = points.len();
     // With a noise and mode spread known, each mode coefficient gets a
@@ -168,7 +180,7 @@ fn fit_family(
         for j in 0..k {
             a[(i, j + 1)] = dot(&fam.modes[j], &basis);
         }
-        b[i] = y - dot(&fam.mean, &basis);
+        b[i] = y - dot(&base, &basis);
     }
     if n == 0 {
         return (vec![0.0], f64::INFINITY);
@@ -243,7 +255,7 @@ pub fn fit_steps(
             needed: 2,
         });
     }
-    if steps.iter().any(|s| !(s.signal > 0.0)) {
+    if steps.iter().any(|s| s.signal.is_nan() || s.signal <= 0.0) {
         return Err(DesignFitError::BadData(
             "temperature signal not positive".into(),
         ));
@@ -259,6 +271,7 @@ pub fn fit_steps(
         .iter()
         .map(|s| thermometer_reading(core, curves, &provisional, s.signal))
         .collect();
+    let therm = provisional.values.get(1..).unwrap_or(&[]).to_vec();
     let pts = |g: &dyn Fn(&Step) -> Option<f64>| -> Vec<(f64, f64)> {
         steps
             .iter()
@@ -272,6 +285,7 @@ pub fn fit_steps(
         Family::Offset,
         &pts(&|s| Some(s.offset / core.span_scale)),
         modes[1],
+        &therm,
     );
     let (span, c2) = fit_family(
         core,
@@ -279,10 +293,11 @@ pub fn fit_steps(
         Family::Span,
         &pts(&|s| Some(s.sens.abs().ln())),
         modes[2],
+        &therm,
     );
     let bow_pts = pts(&|s| s.bow);
     let (bow, c3) = if core.bow && !bow_pts.is_empty() {
-        fit_family(core, curves, Family::Bow, &bow_pts, modes[3])
+        fit_family(core, curves, Family::Bow, &bow_pts, modes[3], &therm)
     } else {
         // No nonlinearity measured: the lot's mean reference.
         (
@@ -345,7 +360,7 @@ fn fit_thermometer_cond(
     k: usize,
 ) -> (FamilyFit, f64) {
     let pts: Vec<(f64, f64)> = steps.iter().map(|s| (s.chamber_c, s.signal.ln())).collect();
-    let (values, c) = fit_family(core, curves, Family::Thermometer, &pts, k);
+    let (values, c) = fit_family(core, curves, Family::Thermometer, &pts, k, &[]);
     (
         FamilyFit {
             family: Family::Thermometer,
@@ -356,12 +371,24 @@ fn fit_thermometer_cond(
 }
 
 /// Combined basis weights of a part's family curve: mean + sum c_k mode_k.
-fn combined(core: &DesignCore, fit: &FamilyFit) -> [f64; MAX_BASIS] {
-    let fam = core.family(fit.family);
+/// The family's curve before the part's own modes: the lot mean plus the
+/// coupling to the part's thermometer coefficients `therm`.
+fn base_weights(fam: &FamilyCurves, therm: &[f64]) -> [f64; MAX_BASIS] {
     let mut w = [0.0; MAX_BASIS];
     for (o, m) in w.iter_mut().zip(&fam.mean) {
         *o = *m;
     }
+    for ((g, c), center) in fam.coupling.iter().zip(therm).zip(&fam.coupling_center) {
+        for (o, x) in w.iter_mut().zip(g) {
+            *o += (c - center) * x;
+        }
+    }
+    w
+}
+
+fn combined(core: &DesignCore, fit: &FamilyFit, therm: &[f64]) -> [f64; MAX_BASIS] {
+    let fam = core.family(fit.family);
+    let mut w = base_weights(fam, therm);
     for (c, mode) in fit.values.iter().skip(1).zip(&fam.modes) {
         for (o, m) in w.iter_mut().zip(mode) {
             *o += c * m;
@@ -379,7 +406,7 @@ pub(super) fn thermometer_reading(
     fit: &FamilyFit,
     signal: f64,
 ) -> f64 {
-    let w = combined(core, fit);
+    let w = combined(core, fit, &[]);
     let r = fit.values[0];
     let f = |t: f64| {
         let mut b = [0.0; MAX_BASIS];
@@ -428,9 +455,20 @@ impl<'a> DesignPartModel<'a> {
     pub fn new(core: &DesignCore, curves: &'a ShapeCurves, fits: &[FamilyFit]) -> Self {
         let mut weights = [[0.0; MAX_BASIS]; 4];
         let mut refs = [0.0; 4];
+        let therm: Vec<f64> = fits
+            .iter()
+            .find(|f| f.family == Family::Thermometer)
+            .and_then(|f| f.values.get(1..))
+            .unwrap_or(&[])
+            .to_vec();
         for fit in fits {
             let k = fit.family.index();
-            weights[k] = combined(core, fit);
+            let coupled = if fit.family == Family::Thermometer {
+                &[][..]
+            } else {
+                &therm[..]
+            };
+            weights[k] = combined(core, fit, coupled);
             refs[k] = fit.values.first().copied().unwrap_or(0.0);
         }
         DesignPartModel {
