@@ -396,6 +396,14 @@ pub fn reading_error_ppm(
 /// (temperature, ppm), residual at the plan's readings, the fit.
 type CvResults = Vec<(Vec<(f64, f64)>, f64, Option<PartFit>)>;
 
+/// Per-part basis weights of every family, the ridge weights, and each
+/// part's thermometer mode coefficients.
+type PartWeights = (Vec<[Vec<f64>; 4]>, [f64; 4], Vec<Vec<f64>>);
+
+/// A part's offset, span and nonlinearity points, and its thermometer mode
+/// coefficients.
+type OutputPoints = ([Vec<(f64, f64)>; 3], Vec<f64>);
+
 /// One choice of the thermometer's mode count, cross-validated.
 struct AxisRun {
     score: f64,
@@ -529,7 +537,7 @@ impl Lot<'_> {
     /// Per-part basis weights of every family and the ridge weights, with
     /// output curves taken against the thermometer production would fit
     /// (`k_axis` modes, reference and modes from the plan's temperatures).
-    fn part_weights(&self, k_axis: usize) -> (Vec<[Vec<f64>; 4]>, [f64; 4], Vec<Vec<f64>>) {
+    fn part_weights(&self, k_axis: usize) -> PartWeights {
         let mut weights: Vec<[Vec<f64>; 4]> = self
             .therm_w
             .iter()
@@ -539,7 +547,7 @@ impl Lot<'_> {
         let (mut tcore, _) = self.core_from(None, &weights, lambdas, &[]);
         tcore.families[0].modes_used = k_axis;
         let mut therm: Vec<Vec<f64>> = Vec::new();
-        let points: Vec<([Vec<(f64, f64)>; 3], Vec<f64>)> = self
+        let points: Vec<OutputPoints> = self
             .parts
             .iter()
             .map(|p| {
