@@ -178,6 +178,20 @@ fn bad_qualification_input_is_refused_with_file_line_and_field() {
     let o = run_in(d, &["qualify", "well.toml", "few.csv", "--out", "x.json"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("too few parts"), "{}", stderr(&o));
+    // Too few stimuli: keep only 0 and 10 bar.
+    let two: Vec<&str> = text
+        .lines()
+        .filter(|l| {
+            l.starts_with("serial") || {
+                let stim: f64 = l.split(',').nth(2).unwrap().parse().unwrap();
+                stim == 0.0 || stim == 10.0
+            }
+        })
+        .collect();
+    std::fs::write(d.join("two.csv"), two.join("\n") + "\n").unwrap();
+    let o = run_in(d, &["qualify", "well.toml", "two.csv", "--out", "x.json"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("field 'stimulus'"), "{}", stderr(&o));
     // A good design, then: another element kind, an edited file.
     ok_in(
         d,

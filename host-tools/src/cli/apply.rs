@@ -91,7 +91,11 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         &model_comp
     };
     let applied = apply_rows(&part, &curves, method, &rows);
-    let max = applied.iter().fold(0.0f64, |m, r| m.max(r.error_ppm.abs()));
+    // Rows on the ADC's rails are reported (flag `clipped`) but not judged.
+    let max = applied
+        .iter()
+        .filter(|r| !r.clipped)
+        .fold(0.0f64, |m, r| m.max(r.error_ppm.abs()));
     if args.json {
         let report = ApplyReport {
             method: if is_image { "image" } else { "model" },
@@ -107,14 +111,19 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         for r in &applied {
             writeln!(
                 out,
-                "{:<12}  {:>9.2}  {:>8.3}  {:>7.3}  {:>11.5}  {:>9.1}  {:>13.1}",
+                "{:<12}  {:>9.2}  {:>8.3}  {:>7.3}  {:>11.5}  {:>9.1}  {:>13.1}{}",
                 r.serial,
                 r.chamber_c,
                 r.stimulus,
                 r.t_est_c,
                 r.compensated,
                 r.error_ppm,
-                r.raw_error_ppm
+                r.raw_error_ppm,
+                if r.clipped {
+                    "  clipped (ADC rail)"
+                } else {
+                    ""
+                }
             )?;
         }
         writeln!(

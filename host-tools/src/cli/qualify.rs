@@ -124,13 +124,18 @@ pub fn report_text(d: &DesignFile) -> String {
     );
     s.push_str("curve         moved from physics   ridge    modes  variance explained\n");
     for (m, f) in d.movement.iter().zip(&d.core.families) {
+        let modes = if f.modes_used == design::model::ALL_MODES {
+            format!("all {}", f.modes.len())
+        } else {
+            f.modes_used.to_string()
+        };
         s.push_str(&format!(
             "{:<12}  {:>9.3} {:<11} {:>7.0e}  {:>5}  {:>6.1} %\n",
             m.family.name(),
             m.max,
             m.unit,
             m.lambda,
-            f.modes_used,
+            modes,
             m.explained * 100.0
         ));
     }

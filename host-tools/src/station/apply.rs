@@ -25,6 +25,9 @@ pub struct AppliedRow {
     /// Uncompensated error: raw output read with the reference-temperature
     /// offset and sensitivity only, ppm of span.
     pub raw_error_ppm: f64,
+    /// The output sat on the ADC's first or last code: the row says nothing
+    /// about the part (its error is reported but left out of every worst case).
+    pub clipped: bool,
 }
 
 /// A compensation method: raw (output, temperature signal) to (stimulus, temperature).
@@ -106,6 +109,7 @@ pub fn apply_rows(
                 compensated: s,
                 error_ppm: (s - r.stimulus) / fs * 1e6,
                 raw_error_ppm: (raw - r.stimulus) / fs * 1e6,
+                clipped: part.scenario.output_adc.at_rail(r.output),
             }
         })
         .collect()

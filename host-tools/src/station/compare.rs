@@ -79,7 +79,7 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         let model = ModelCompensation::for_part(part, curves);
         let phys = apply_rows(part, curves, &model, rows);
         let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
-        for (a, b) in phys.iter().zip(&pol) {
+        for (a, b) in phys.iter().zip(&pol).filter(|(a, _)| !a.clipped) {
             let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
             let upd = |w: &mut Worst, e: f64| {
                 let slot = if inside {
@@ -163,7 +163,7 @@ pub fn compare_qualified(
         let model = ModelCompensation::for_part(part, curves);
         let q = apply_rows(part, curves, &model, rows);
         let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
-        for (a, b) in q.iter().zip(&pol) {
+        for (a, b) in q.iter().zip(&pol).filter(|(a, _)| !a.clipped) {
             let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
             let upd = |w: &mut Worst, e: f64| {
                 let slot = if inside {

@@ -301,6 +301,9 @@ pub fn run_scenario(
                 ImageCompensation::new(image, scenario.output_adc.lsb(), scenario.signal_adc.lsb()),
             )?;
             for r in apply_rows(part, &curves, &comp, &inside) {
+                if r.clipped {
+                    continue;
+                }
                 image_check_max = image_check_max.max(r.error_ppm.abs());
             }
         }

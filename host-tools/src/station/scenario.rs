@@ -37,6 +37,13 @@ impl Adc {
     pub fn lsb(&self) -> f64 {
         2.0 * self.range / 2f64.powi(self.bits as i32)
     }
+
+    /// Whether a reading sits on the converter's first or last code (the
+    /// input may lie beyond it: the reading says nothing about the input).
+    pub fn at_rail(&self, value: f64) -> bool {
+        let lsb = self.lsb();
+        value >= self.range - 1.5 * lsb || value <= -self.range + 0.5 * lsb
+    }
 }
 
 /// One-sigma process spread of a lot (relative values are fractions).

@@ -93,7 +93,7 @@ impl BasisSpec {
     }
 
     /// Raw (not reference-subtracted) basis values at `t_c` into `out`.
-    fn raw(&self, curves: &ShapeCurves, family: Family, t_c: f64, out: &mut [f64; MAX_BASIS]) {
+    pub fn raw(&self, curves: &ShapeCurves, family: Family, t_c: f64, out: &mut [f64; MAX_BASIS]) {
         let mut k = 0;
         match family {
             Family::Thermometer => {

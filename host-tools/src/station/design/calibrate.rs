@@ -48,6 +48,13 @@ pub fn calibrate_on_design(
 ) -> PartFile {
     let fs = scenario.stimulus_fs;
     let core = &design.core;
+    // Readings on the ADC's rails say nothing about the part.
+    let rows: Vec<&ChamberRow> = rows
+        .iter()
+        .copied()
+        .filter(|r| !scenario.output_adc.at_rail(r.output))
+        .collect();
+    let rows = &rows[..];
     let polynomial = PolyCal::fit_with_bow(rows, fs).ok();
     let mut part = PartFile {
         format: PART_FORMAT.into(),

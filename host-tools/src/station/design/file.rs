@@ -207,7 +207,7 @@ impl DesignFile {
                 f.family.index() == k
                     && f.mean.len() == d.core.basis.len(f.family)
                     && f.modes.iter().all(|m| m.len() == f.mean.len())
-                    && f.modes_used <= f.modes.len()
+                    && (f.modes_used <= f.modes.len() || f.modes_used == super::model::ALL_MODES)
             });
         if !shape_ok {
             return Err(DesignFileError::Field {

@@ -24,8 +24,8 @@ use super::super::curves::ShapeCurves;
 use super::super::scenario::Scenario;
 use super::basis::{BasisSpec, Family, MAX_BASIS, dot};
 use super::model::{
-    DesignCore, DesignPartModel, FamilyCurves, MAX_MODES, PartFit, fit_steps, fit_thermometer,
-    thermometer_reading,
+    ALL_MODES, DesignCore, DesignPartModel, FamilyCurves, MAX_MODES, PartFit, fit_steps,
+    fit_thermometer, thermometer_reading,
 };
 use super::reduce::{SAME_STEP_K, Step, reduce};
 use nalgebra::{DMatrix, DVector};
@@ -398,7 +398,7 @@ type CvResults = Vec<(Vec<(f64, f64)>, f64, Option<PartFit>)>;
 
 /// Per-part basis weights of every family, the ridge weights, and each
 /// part's thermometer mode coefficients.
-type PartWeights = (Vec<[Vec<f64>; 4]>, [f64; 4], Vec<Vec<f64>>);
+type PartWeights = (Vec<[Vec<f64>; 4]>, [f64; 4], Vec<Vec<f64>>, [f64; 4]);
 
 /// A part's offset, span and nonlinearity points, and its thermometer mode
 /// coefficients.
@@ -412,6 +412,7 @@ struct AxisRun {
     weights: Vec<[Vec<f64>; 4]>,
     lambdas: [f64; 4],
     therm: Vec<Vec<f64>>,
+    noise: [f64; 4],
 }
 
 /// The reduced qualification lot and what every run shares.
@@ -452,6 +453,7 @@ impl Lot<'_> {
         weights: &[[Vec<f64>; 4]],
         lambdas: [f64; 4],
         therm: &[Vec<f64>],
+        noise: [f64; 4],
     ) -> (DesignCore, [Vec<f64>; 4]) {
         let mut families = Vec::new();
         let mut shares: [Vec<f64>; 4] = Default::default();
@@ -517,7 +519,7 @@ impl Lot<'_> {
                 noise_sd: if f == Family::Thermometer {
                     self.therm_noise
                 } else {
-                    0.0
+                    noise[k]
                 },
             });
         }
@@ -544,7 +546,8 @@ impl Lot<'_> {
             .map(|w| [w.clone(), Vec::new(), Vec::new(), Vec::new()])
             .collect();
         let mut lambdas = [self.lam_t, 0.0, 0.0, 0.0];
-        let (mut tcore, _) = self.core_from(None, &weights, lambdas, &[]);
+        let mut noise = [self.therm_noise, 0.0, 0.0, 0.0];
+        let (mut tcore, _) = self.core_from(None, &weights, lambdas, &[], noise);
         tcore.families[0].modes_used = k_axis;
         let mut therm: Vec<Vec<f64>> = Vec::new();
         let points: Vec<OutputPoints> = self
@@ -587,11 +590,26 @@ impl Lot<'_> {
             let scale = data_scale(&pts);
             let lam = choose_lambda(&self.basis, self.curves, f, &pts, scale);
             lambdas[k] = lam;
+            let (mut sse, mut cnt) = (0.0, 0usize);
             for (w, p) in weights.iter_mut().zip(&pts) {
-                w[k] = ridge(&self.basis, self.curves, f, p, lam, scale).1;
+                let (r, fitted) = ridge(&self.basis, self.curves, f, p, lam, scale);
+                for &(t, y) in p {
+                    let mut b = [0.0; MAX_BASIS];
+                    self.basis.eval(self.curves, f, t, &mut b);
+                    sse += (y - r - dot(&fitted, &b)).powi(2);
+                    cnt += 1;
+                }
+                w[k] = fitted;
             }
+            // Noise of one reading: what the smoothed per-part curves leave,
+            // with the degrees of freedom they used; a floor of 1e-9 of the
+            // data scale keeps the prior rows finite on noise-free data.
+            let dof = cnt
+                .saturating_sub(pts.len() * (self.basis.len(f) + 1))
+                .max(1);
+            noise[k] = (sse / dof as f64).sqrt().max(1e-9 * scale);
         }
-        (weights, lambdas, therm)
+        (weights, lambdas, therm, noise)
     }
 
     /// Leave-one-part-out production fits with `modes` per family.
@@ -645,12 +663,12 @@ impl Lot<'_> {
     /// Cross-validates thermometer mode count `k_axis`, choosing the other
     /// families' mode counts by coordinate descent on the rms error.
     fn run(&self, k_axis: usize, coupled: bool) -> AxisRun {
-        let (weights, lambdas, mut therm) = self.part_weights(k_axis);
+        let (weights, lambdas, mut therm, noise) = self.part_weights(k_axis);
         if !coupled {
             therm.iter_mut().for_each(Vec::clear);
         }
         let loo: Vec<DesignCore> = (0..self.parts.len())
-            .map(|i| self.core_from(Some(i), &weights, lambdas, &therm).0)
+            .map(|i| self.core_from(Some(i), &weights, lambdas, &therm, noise).0)
             .collect();
         let plan_n = self.used_temps.len();
         let max_modes = |f: Family| {
@@ -671,14 +689,16 @@ impl Lot<'_> {
         let mut best = score(&self.evaluate(&loo, modes));
         for f in [Family::Span, Family::Offset, Family::Bow] {
             let k = f.index();
-            for m in 0..=max_modes(f) {
+            let options: Vec<usize> = (0..=max_modes(f)).chain([ALL_MODES]).collect();
+            for m in options {
                 if m == modes[k] {
                     continue;
                 }
                 let mut trial = modes;
                 trial[k] = m;
                 let s = score(&self.evaluate(&loo, trial));
-                // A mode more must earn its keep: 1 % better.
+                // A mode more (or every mode under its prior) must earn its
+                // keep: 1 % better.
                 if s < best * if m > modes[k] { 0.99 } else { 1.0 } {
                     best = s;
                     modes = trial;
@@ -692,6 +712,7 @@ impl Lot<'_> {
             weights,
             lambdas,
             therm,
+            noise,
         }
     }
 }
@@ -728,6 +749,11 @@ pub fn learn(
     let width = fs.1 - fs.0;
     let mut parts: Vec<QualPart<'_>> = Vec::new();
     for (serial, rows) in data.by_serial() {
+        // Readings on the ADC's rails say nothing about the part.
+        let rows: Vec<&ChamberRow> = rows
+            .into_iter()
+            .filter(|r| !scenario.output_adc.at_rail(r.output))
+            .collect();
         let (steps, _) = reduce(&rows, fs);
         let line = rows.iter().map(|r| r.line).min().unwrap_or(1);
         if steps.len() < MIN_TEMPERATURES {
@@ -903,7 +929,7 @@ pub fn learn(
     // a run of its own; the best rms wins, a mode more must gain 1 %.
     let plan_n = used_temps.len();
     let t_modes_avail = lot
-        .core_from(None, &lot.part_weights(0).0, [0.0; 4], &[])
+        .core_from(None, &lot.part_weights(0).0, [0.0; 4], &[], [0.0; 4])
         .0
         .families[0]
         .modes
@@ -927,6 +953,7 @@ pub fn learn(
         weights: part_weights,
         lambdas,
         therm,
+        noise,
     } = run;
     if !best.is_finite() {
         return Err(QualifyError::Data {
@@ -964,7 +991,7 @@ pub fn learn(
 
     // The final design: every part; coefficient statistics from the
     // held-out fits (what a new part of the lot looks like).
-    let (mut core, shares) = lot.core_from(None, &part_weights, lambdas, &therm);
+    let (mut core, shares) = lot.core_from(None, &part_weights, lambdas, &therm, noise);
     for f in Family::ALL {
         let k = f.index();
         let fam = &mut core.families[k];

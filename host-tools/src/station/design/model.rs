@@ -17,7 +17,13 @@ use super::reduce::{Step, reduce};
 use nalgebra::{DMatrix, DVector};
 
 /// Most variation modes a design keeps per family.
-pub const MAX_MODES: usize = 3;
+pub const MAX_MODES: usize = 6;
+
+/// `modes_used` value meaning every mode, each with the lot's spread of
+/// its scores as a Gaussian prior: the best linear unbiased prediction of
+/// the part's curve from its few chamber points (the lot's covariance
+/// decides how the points bend the curve between and beyond them).
+pub const ALL_MODES: usize = usize::MAX;
 
 /// One family's learned curves.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -29,7 +35,8 @@ pub struct FamilyCurves {
     /// Basis weights of the variation modes, largest first; each mode's
     /// curve has unit rms over the qualification range.
     pub modes: Vec<Vec<f64>>,
-    /// Modes a part fit uses (chosen by the production-plan cross-validation).
+    /// Modes a part fit uses (chosen by the production-plan
+    /// cross-validation); [`ALL_MODES`] for every mode under its prior.
     pub modes_used: usize,
     /// Ridge weight of the roughness penalty (chosen by leave-one-temperature-out
     /// cross-validation), in units of the family's data scale squared.
@@ -138,7 +145,7 @@ impl DesignCore {
     pub fn min_temperatures(&self) -> usize {
         self.families
             .iter()
-            .map(|f| f.modes_used + 1)
+            .map(|f| f.modes_used.min(2) + 1)
             .max()
             .unwrap_or(1)
             .max(2)
@@ -158,13 +165,19 @@ fn fit_family(
 ) -> (Vec<f64>, f64) {
     let fam = core.family(f);
     let base = base_weights(fam, therm);
-    let k = k.min(fam.modes.len()).min(points.len().saturating_sub(1));
-    let n = points.len();
     // With a noise and mode spread known, each mode coefficient gets a
     // prior row noise/sd * c = 0: the maximum a posteriori fit for Gaussian
     // noise and part scores (ridge regression towards the lot mean), which
-    // keeps a chamber's set-point error from bending the curve.
-    let prior = fam.noise_sd > 0.0 && fam.mode_sd.len() >= k;
+    // keeps a chamber's set-point error from bending the curve and lets
+    // more modes than points be fitted.
+    let prior_ok = fam.noise_sd > 0.0;
+    let k = if k == ALL_MODES && prior_ok {
+        fam.modes.len().min(fam.mode_sd.len())
+    } else {
+        k.min(fam.modes.len()).min(points.len().saturating_sub(1))
+    };
+    let n = points.len();
+    let prior = prior_ok && fam.mode_sd.len() >= k;
     let rows = n + if prior { k } else { 0 };
     let mut a = DMatrix::zeros(rows, k + 1);
     let mut b = DVector::zeros(rows);
@@ -445,6 +458,9 @@ pub struct DesignPartModel<'a> {
     basis: BasisSpec,
     weights: [[f64; MAX_BASIS]; 4],
     refs: [f64; 4],
+    /// Each family's weighted basis at the reference temperature (subtracted
+    /// from every evaluation, computed once).
+    at_ref: [f64; 4],
     span_scale: f64,
     sens_sign: f64,
     bow: bool,
@@ -471,11 +487,18 @@ impl<'a> DesignPartModel<'a> {
             weights[k] = combined(core, fit, coupled);
             refs[k] = fit.values.first().copied().unwrap_or(0.0);
         }
+        let mut at_ref = [0.0; 4];
+        for f in Family::ALL {
+            let mut b = [0.0; MAX_BASIS];
+            core.basis.raw(curves, f, core.basis.t_ref_c, &mut b);
+            at_ref[f.index()] = dot(&weights[f.index()][..core.basis.len(f)], &b);
+        }
         DesignPartModel {
             curves,
             basis: core.basis,
             weights,
             refs,
+            at_ref,
             span_scale: core.span_scale,
             sens_sign: core.sens_sign,
             bow: core.bow,
@@ -489,8 +512,9 @@ impl<'a> DesignPartModel<'a> {
 
     fn family(&self, f: Family, t_c: f64) -> f64 {
         let mut b = [0.0; MAX_BASIS];
-        self.basis.eval(self.curves, f, t_c, &mut b);
-        self.refs[f.index()] + dot(&self.weights[f.index()], &b)
+        self.basis.raw(self.curves, f, t_c, &mut b);
+        let k = f.index();
+        self.refs[k] + dot(&self.weights[k][..self.basis.len(f)], &b) - self.at_ref[k]
     }
 
     /// Temperature signal at `t_c`.
@@ -517,11 +541,30 @@ impl<'a> DesignPartModel<'a> {
     /// grid; the nearer end outside it).
     pub fn temperature(&self, signal: f64) -> f64 {
         let target = signal.ln();
-        bisect(
-            &|t| self.family(Family::Thermometer, t) - target,
-            self.curves.t0_c,
-            self.curves.t_max_c(),
-        )
+        let f = |t: f64| self.family(Family::Thermometer, t) - target;
+        let (lo, hi) = (self.curves.t0_c, self.curves.t_max_c());
+        // Newton from the reference temperature with a central-difference
+        // slope; it converges in a few steps on these smooth monotone
+        // curves. Bisection takes over if a step leaves the grid or 20
+        // steps do not reach 1e-9 K.
+        let mut t = self.basis.t_ref_c;
+        for _ in 0..20 {
+            let h = 1e-3;
+            let slope = (f(t + h) - f(t - h)) / (2.0 * h);
+            let step = f(t) / slope;
+            if !step.is_finite() {
+                break;
+            }
+            let next = t - step;
+            if !(lo..=hi).contains(&next) {
+                break;
+            }
+            if (next - t).abs() < 1e-9 {
+                return next;
+            }
+            t = next;
+        }
+        bisect(&f, lo, hi)
     }
 
     /// d(signal)/dT at `t_c`, per kelvin (central difference, 1 mK step:

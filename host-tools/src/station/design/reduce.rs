@@ -12,8 +12,10 @@
 use super::super::chamber::ChamberRow;
 use nalgebra::{DMatrix, DVector};
 
-/// Two chamber temperatures closer than this are the same step, K.
-pub const SAME_STEP_K: f64 = 1e-6;
+/// Chamber temperatures closer than this are one step, K: a station that
+/// logs the chamber's reading instead of its set point still groups each
+/// step's rows (steps are several kelvin apart).
+pub const SAME_STEP_K: f64 = 0.1;
 
 /// One chamber temperature of one part.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -103,7 +105,7 @@ pub fn reduce(rows: &[&ChamberRow], fs: (f64, f64)) -> (Vec<Step>, Vec<(f64, Str
             0.0
         };
         steps.push(Step {
-            chamber_c: t,
+            chamber_c: at.iter().map(|r| r.chamber_c).sum::<f64>() / at.len() as f64,
             signal: at.iter().map(|r| r.temp_signal).sum::<f64>() / at.len() as f64,
             offset: x[0],
             sens,
