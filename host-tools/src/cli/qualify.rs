@@ -144,7 +144,7 @@ pub fn report_text(d: &DesignFile) -> String {
         p.plan.temps_c, p.plan.stimuli, p.used_temps_c, p.used_stimuli
     ));
     s.push_str(&format!(
-        "model error, worst held-out reading over the lot (each part calibrated on the others' design):\n  inside the plan's span {:.1} ppm, inside the operating range {:.1} ppm (budgeted), everywhere {:.1} ppm; rms {:.1} ppm\n",
+        "model error, worst held-out reading over the lot (each part calibrated on the others' design):\n  inside the plan's span {:.1} ppm, inside the operating range {:.1} ppm (budgeted), everywhere {:.1} ppm; choice criterion {:.1} ppm\n",
         p.inside_plan_ppm, p.operating_range_ppm, p.all_ppm, p.rms_ppm
     ));
     s.push_str(&format!(

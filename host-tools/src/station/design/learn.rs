@@ -15,8 +15,9 @@
 //!    left out, the mean and modes are learned from the others, the part is
 //!    calibrated with the production plan's temperatures and stimuli only,
 //!    and its error is measured at every other reading. The mode count of
-//!    each family is chosen to minimise the rms of those errors; their worst
-//!    case is the plan's model error.
+//!    each family is chosen to minimise the rms of those errors inside the
+//!    operating range (a tenth of the mean square outside keeps the
+//!    extrapolation sane); their worst case is the plan's model error.
 
 use super::super::bow::Bow;
 use super::super::chamber::{ChamberData, ChamberRow};
@@ -137,7 +138,8 @@ pub struct PlanError {
     pub operating_range_ppm: f64,
     /// Worst |error| at every held-out reading, ppm of span.
     pub all_ppm: f64,
-    /// Rms of the held-out errors, ppm of span (what the mode choice minimised).
+    /// The mode choice's criterion, ppm of span: rms of the held-out errors
+    /// inside the operating range with a tenth of the mean square outside.
     pub rms_ppm: f64,
     /// Worst |error| per qualification temperature over the lot: `[t_c, ppm]`.
     pub by_temperature: Vec<[f64; 2]>,
@@ -427,6 +429,7 @@ struct Lot<'a> {
     therm_w: &'a [Vec<f64>],
     lam_t: f64,
     therm_noise: f64,
+    range_c: (f64, f64),
     used_temps: &'a [f64],
     used_stimuli: &'a [f64],
 }
@@ -686,7 +689,7 @@ impl Lot<'_> {
             modes[f.index()] = max_modes(f).min(2);
         }
         modes[0] = k_axis;
-        let mut best = score(&self.evaluate(&loo, modes));
+        let mut best = score(&self.evaluate(&loo, modes), self.range_c);
         for f in [Family::Span, Family::Offset, Family::Bow] {
             let k = f.index();
             let options: Vec<usize> = (0..=max_modes(f)).chain([ALL_MODES]).collect();
@@ -696,7 +699,7 @@ impl Lot<'_> {
                 }
                 let mut trial = modes;
                 trial[k] = m;
-                let s = score(&self.evaluate(&loo, trial));
+                let s = score(&self.evaluate(&loo, trial), self.range_c);
                 // A mode more (or every mode under its prior) must earn its
                 // keep: 1 % better.
                 if s < best * if m > modes[k] { 0.99 } else { 1.0 } {
@@ -717,22 +720,30 @@ impl Lot<'_> {
     }
 }
 
-/// Rms of every held-out error (infinite when a part could not be fitted).
-fn score(res: &CvResults) -> f64 {
-    let (mut s, mut n) = (0.0, 0usize);
+/// The choice criterion: rms of the held-out errors inside the operating
+/// range `op` plus a tenth of the mean square outside it (a part is
+/// specified inside its range; outside, the criterion only keeps the
+/// extrapolation sane). Infinite when a part could not be fitted.
+fn score(res: &CvResults, op: (f64, f64)) -> f64 {
+    let (mut s, mut n, mut so, mut no) = (0.0, 0usize, 0.0, 0usize);
     for (errs, _, fit) in res {
         if fit.is_none() {
             return f64::INFINITY;
         }
-        for &(_, e) in errs {
-            s += e * e;
-            n += 1;
+        for &(t, e) in errs {
+            if t >= op.0 - 1e-9 && t <= op.1 + 1e-9 {
+                s += e * e;
+                n += 1;
+            } else {
+                so += e * e;
+                no += 1;
+            }
         }
     }
-    if n == 0 {
+    if n + no == 0 {
         return f64::INFINITY;
     }
-    let v = (s / n as f64).sqrt();
+    let v = (s / n.max(1) as f64 + 0.1 * so / no.max(1) as f64).sqrt();
     if v.is_finite() { v } else { f64::INFINITY }
 }
 
@@ -921,6 +932,7 @@ pub fn learn(
         therm_w: &therm_w,
         lam_t,
         therm_noise,
+        range_c: scenario.range_c,
         used_temps: &used_temps,
         used_stimuli: &used_stimuli,
     };
