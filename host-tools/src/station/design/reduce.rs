@@ -85,7 +85,10 @@ pub fn reduce(rows: &[&ChamberRow], fs: (f64, f64)) -> (Vec<Step>, Vec<(f64, Str
             _ => parabola(at[i].stimulus, fs),
         });
         let b = DVector::from_iterator(at.len(), at.iter().map(|r| r.output));
-        let svd = a.clone().svd(true, true);
+        let Some(svd) = super::svd_bounded(a.clone(), true, true) else {
+            skipped.push((t, "readings out of any sensible range".into()));
+            continue;
+        };
         let smax = svd.singular_values.max();
         // Relative singular-value cutoff 1e-12 (common practice).
         let Ok(x) = svd.solve(&b, 1e-12 * smax) else {
