@@ -371,6 +371,17 @@ pub fn interior_holdout_ppm(holdouts: &[HoldOut]) -> f64 {
         })
 }
 
+/// Root mean square of `v` (0 for none).
+pub fn rms(v: &mut dyn Iterator<Item = f64>) -> f64 {
+    let (s, n) = v.fold((0.0, 0usize), |(s, n), x| (s + x * x, n + 1));
+    (s / n.max(1) as f64).sqrt()
+}
+
+/// Largest |x| of `v` (0 for none).
+pub fn max_abs(v: &mut dyn Iterator<Item = f64>) -> f64 {
+    v.fold(0.0f64, |m, x| m.max(x.abs()))
+}
+
 /// Calibrates one part from its rows (at least one row).
 pub fn calibrate_part(
     scenario: &Scenario,
@@ -422,11 +433,6 @@ pub fn calibrate_part(
             }
         })
         .collect();
-    let rms = |v: &mut dyn Iterator<Item = f64>| {
-        let (s, n) = v.fold((0.0, 0usize), |(s, n), x| (s + x * x, n + 1));
-        (s / n.max(1) as f64).sqrt()
-    };
-    let max_abs = |v: &mut dyn Iterator<Item = f64>| v.fold(0.0f64, |m, x| m.max(x.abs()));
 
     let n_params = PARAM_NAMES.len();
     let mut covariance = vec![vec![Some(0.0); n_params]; n_params];

@@ -16,6 +16,18 @@ pub struct Worst {
     pub outside_ppm: f64,
 }
 
+impl Worst {
+    /// Takes `error_ppm` into the inside or outside worst case.
+    pub fn update(&mut self, inside: bool, error_ppm: f64) {
+        let slot = if inside {
+            &mut self.inside_ppm
+        } else {
+            &mut self.outside_ppm
+        };
+        *slot = slot.max(error_ppm.abs());
+    }
+}
+
 /// The comparison over a lot.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Comparison {
@@ -81,14 +93,7 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
         for (a, b) in phys.iter().zip(&pol).filter(|(a, _)| !a.clipped) {
             let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
-            let upd = |w: &mut Worst, e: f64| {
-                let slot = if inside {
-                    &mut w.inside_ppm
-                } else {
-                    &mut w.outside_ppm
-                };
-                *slot = slot.max(e.abs());
-            };
+            let upd = |w: &mut Worst, e: f64| w.update(inside, e);
             upd(&mut out.physics, a.error_ppm);
             upd(&mut out.polynomial, b.error_ppm);
             upd(&mut out.raw, a.raw_error_ppm);
@@ -165,14 +170,7 @@ pub fn compare_qualified(
         let pol = apply_rows(part, curves, &PolyCompensation(poly), rows);
         for (a, b) in q.iter().zip(&pol).filter(|(a, _)| !a.clipped) {
             let inside = a.chamber_c >= lo - 1e-9 && a.chamber_c <= hi + 1e-9;
-            let upd = |w: &mut Worst, e: f64| {
-                let slot = if inside {
-                    &mut w.inside_ppm
-                } else {
-                    &mut w.outside_ppm
-                };
-                *slot = slot.max(e.abs());
-            };
+            let upd = |w: &mut Worst, e: f64| w.update(inside, e);
             upd(&mut out.qualified, a.error_ppm);
             upd(&mut out.polynomial, b.error_ppm);
             let e = by_t

@@ -171,22 +171,7 @@ impl PartModel<'_> {
     /// range the nearest end is returned (the firmware clamps the same way).
     pub fn temperature(&self, signal: f64) -> f64 {
         let c = self.curves;
-        let (mut lo, mut hi) = (c.t0_c, c.t_max_c());
-        let f = |t: f64| self.signal(t) - signal;
-        let (flo, fhi) = (f(lo), f(hi));
-        if flo.signum() == fhi.signum() {
-            return if flo.abs() < fhi.abs() { lo } else { hi };
-        }
-        // 60 halvings of a ~220 K bracket reach 2e-16 K: below f64 spacing.
-        for _ in 0..60 {
-            let mid = 0.5 * (lo + hi);
-            if f(mid).signum() == flo.signum() {
-                lo = mid;
-            } else {
-                hi = mid;
-            }
-        }
-        0.5 * (lo + hi)
+        super::design::model::bisect(&|t| self.signal(t) - signal, c.t0_c, c.t_max_c())
     }
 
     /// d(signal)/dT at `t_c`, per kelvin.

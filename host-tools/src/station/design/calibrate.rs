@@ -2,6 +2,7 @@
 //! [`super::model::fit_part`], the outlier screen against the qualification
 //! lot, and the part file.
 
+use super::super::calibrate::{max_abs, rms};
 use super::super::chamber::ChamberRow;
 use super::super::curves::ShapeCurves;
 use super::super::part_file::{FitPoint, PART_FORMAT, PartDesign, PartFile};
@@ -114,11 +115,6 @@ pub fn calibrate_on_design(
             }
         })
         .collect();
-    let rms = |v: &mut dyn Iterator<Item = f64>| {
-        let (s, n) = v.fold((0.0, 0usize), |(s, n), x| (s + x * x, n + 1));
-        (s / n.max(1) as f64).sqrt()
-    };
-    let max_abs = |v: &mut dyn Iterator<Item = f64>| v.fold(0.0f64, |m, x| m.max(x.abs()));
     part.thermometer_rms_k = rms(&mut points.iter().map(|p| p.thermometer_residual_k));
     part.thermometer_max_k = max_abs(&mut points.iter().map(|p| p.thermometer_residual_k));
     part.fit_rms_ppm = rms(&mut points.iter().map(|p| p.residual_ppm));

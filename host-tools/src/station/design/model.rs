@@ -436,7 +436,7 @@ pub(super) fn thermometer_reading(
 pub fn bisect(f: &dyn Fn(f64) -> f64, lo: f64, hi: f64) -> f64 {
     let (mut lo, mut hi) = (lo, hi);
     let (flo, fhi) = (f(lo), f(hi));
-    if !(flo.is_finite() && fhi.is_finite()) {
+    if flo.is_nan() || fhi.is_nan() {
         return f64::NAN;
     }
     if flo.signum() == fhi.signum() {
