@@ -33,7 +33,7 @@
 //!   so the benchmark shows that the update's cost does not grow with the
 //!   node count.
 //!
-//! Scenario (invented data, DESIGN.md): a well-level logger's 0-10 bar gauge
+//! Scenario (invented data, the README's demo scenario): a well-level logger's 0-10 bar gauge
 //! silicon die, p-type piezoresistive bridge read by a 24-bit ADC, the
 //! bridge's own resistance as the thermometer (read by a second 24-bit ADC),
 //! -20..85 C, budget 0.05 % FS of which the table gets 0.01 %. The images take the temperature signal as

@@ -1,5 +1,5 @@
 //! `semidrift element` and `semidrift plot element` through the real binary:
-//! example specs, the JSON contract of DESIGN.md, located errors with exit
+//! example specs, the JSON contract (DEVELOPERS.md "Element models"), located errors with exit
 //! code 2, and byte-identical output. (These live in host-tools because only
 //! this package's tests get `CARGO_BIN_EXE_semidrift`.)
 

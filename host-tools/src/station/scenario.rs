@@ -1,6 +1,6 @@
 //! What the station needs to know about an element and its lot: the nominal
 //! die, how the output scales with the stimulus, the ADCs, the process spread
-//! and the chamber plan. The two demo scenarios of DESIGN.md are built in.
+//! and the chamber plan. The two demo scenarios of the README are built in.
 //!
 //! All numbers here are invented for the demo scenarios (simulated data,
 //! never a measurement); the physics they feed is the full model's.
