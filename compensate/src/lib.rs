@@ -198,7 +198,8 @@
 //! (The over-temperature row was measured before the latest sample-path
 //! changes, on the image the firmware embedded then.)
 //!
-//! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
+//! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles;
+//! recalled from memory of the processor's reference manual).
 //! On the M0 about 40 of an interval change's instructions are byte-wise
 //! loads of the image's four words (an image needs no alignment).
 //!

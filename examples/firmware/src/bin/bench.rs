@@ -1,5 +1,5 @@
 //! Instruction, stack and memory benchmark of the compensation path against
-//! the polynomial correction most products use, run in QEMU with `-icount`.
+//! the usual polynomial correction (common practice), run in QEMU with `-icount`.
 //!
 //! `cargo run --release --bin bench --target <triple>` (from
 //! examples/firmware) prints one line per figure:
