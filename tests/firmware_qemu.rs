@@ -7,7 +7,7 @@
 //! undefined symbol: the link succeeds only if no panic path is left in the
 //! compensation code after LTO.
 //!
-//! Missing QEMU, ARM binutils or Rust targets make the test fail with a
+//! Missing QEMU, cross binutils or Rust targets make the test fail with a
 //! message saying how to install them (scripts/install-prereqs.sh); it never
 //! skips silently.
 

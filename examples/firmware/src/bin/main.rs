@@ -61,7 +61,7 @@ fn fixed_compensator<'a>(view: Option<&TableView<'a>>) -> FixedCompensator<'a> {
 }
 
 /// Room for the copy that `corrupt_copy_is_refused` damages: the demo
-/// images are 704 bytes; 2 KiB of the micro:bit's 16 KiB RAM leaves room
+/// images are 704 bytes; 2 KiB of the microbit board's 16 KiB RAM leaves room
 /// for a larger plan (a larger image fails with a clear line, not a panic).
 const CORRUPTION_BUFFER_BYTES: usize = 2048;
 
