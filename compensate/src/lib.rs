@@ -191,7 +191,7 @@
 //! |---|---:|---:|
 //! | `compensate_sample` | 12 | 48 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
-//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep recorded ramp | 37 | 104 |
+//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep simulated ramp | 37 | 104 |
 //! | the same, a slow drift (the same node interval as the update before) | 27 | 76 |
 //! | the same, every update in a new node interval | 53 | 153 |
 //!
