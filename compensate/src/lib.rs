@@ -16,6 +16,15 @@
 //! | read a 24-bit front end over I2C | [`frontend::FrontEnd`] (`new`, `read`, `release`) |
 //! | estimate drift from physics on the MCU | [`model::Model`] |
 //!
+//! **Caution.** Where a reading protects people or property, act on every
+//! [`Status`] flag, never ignore one: a [`Status::SENSOR_FAULT`],
+//! [`Status::TABLE_INVALID`], [`Status::NAN_INPUT`] or
+//! [`Status::NO_TEMPERATURE`] sample must put the device into its safe
+//! state (or at least be reported as invalid), not be used as a reading. A
+//! table image is only as good as the calibration it came from: one made
+//! from simulated data is never for a product, and a design must be
+//! qualified on real parts under the standards that apply.
+//!
 //! Nothing allocates, nothing panics (crate-wide clippy denies on
 //! `unwrap`, `expect`, `panic` and indexing; integer modules also deny
 //! unchecked arithmetic), every loop is bounded by a table size.
