@@ -210,7 +210,7 @@ fn bad_specs_name_file_line_and_key_and_exit_2() {
     });
     let o = run_in(dir.path(), &["element", &spec]);
     assert_eq!(o.status.code(), Some(2), "hot spec: {}", text(&o.stderr));
-    let want = format!("{spec}:16: field 'temperature.max_c'");
+    let want = format!("{spec}:17: field 'temperature.max_c'");
     assert!(
         text(&o.stderr).contains(&want),
         "{} lacks {want}",
