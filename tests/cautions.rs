@@ -311,3 +311,51 @@ fn an_element_spec_is_not_claimed_simulated() {
     let spec = spec.display().to_string();
     chain(dir.path(), &spec, &spec, false);
 }
+
+#[test]
+fn demo_outputs_carry_the_mark_and_the_caution() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("demo").display().to_string();
+    let text = ok_in(
+        dir.path(),
+        &["demo", "--parts", "1", "--quiet", "--out-dir", &out],
+    );
+    let summary = std::fs::read_to_string(dir.path().join("demo/summary.txt")).unwrap();
+    for (what, t) in [("stdout", &text), ("summary.txt", &summary)] {
+        assert!(t.lines().any(|l| l == "simulated: true"), "{what}:\n{t}");
+        assert!(
+            t.lines()
+                .any(|l| l.starts_with(LINE_CAUTION) && l.contains(SIMULATED_CAUTION)),
+            "{what}:\n{t}"
+        );
+    }
+    for scenario in ["well", "battery"] {
+        let base = dir.path().join("demo").join(scenario);
+        let s = read_json(&base.join("summary.json"));
+        for key in ["comparison", "qualified"] {
+            assert_marked(
+                &format!("{scenario} summary.json {key}"),
+                &s[key]["simulated"],
+                &s[key]["caution"],
+                true,
+            );
+        }
+        let toml = std::fs::read_to_string(base.join("scenario.toml")).unwrap();
+        assert!(toml.contains("\nsimulated = true\n"), "{scenario}: {toml}");
+        let parts: Vec<_> = std::fs::read_dir(base.join("parts"))
+            .unwrap()
+            .map(|e| e.unwrap().path())
+            .collect();
+        assert!(!parts.is_empty(), "{scenario}: no part files");
+        for p in parts {
+            let part = read_json(&p);
+            let sc = &part["scenario"];
+            assert_marked(
+                &p.display().to_string(),
+                &sc["simulated"],
+                &sc["caution"],
+                true,
+            );
+        }
+    }
+}
