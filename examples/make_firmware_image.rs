@@ -41,7 +41,7 @@
 //! so the same stream drives both paths. Interpolation is forced to linear:
 //! the chooser's least-flash pick for this part is a 3-node monotone cubic
 //! table, whose temperature update costs about twice the instructions of
-//! the linear kernel (issue 6's per-update targets); linear needs a few more
+//! the linear kernel (README "Performance", per-update targets); linear needs a few more
 //! nodes and bytes. The channels are tabulated over the temperature signal
 //! (`--channel-axis signal`): the chooser's least-flash pick would be a
 //! thermometer map followed by channels over temperature (256 bytes against
