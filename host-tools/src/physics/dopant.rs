@@ -19,9 +19,11 @@
 //!
 //! Only the fraction `b` of dopant states is localised and can hold its
 //! carrier; the rest belongs to the band tail and is always ionized. As the
-//! density approaches the metal-insulator transition (Si:P 3.7e18) `b -> 0`
+//! density approaches the metal-insulator transition (Si:P 3.7e18, recalled
+//! from memory) `b -> 0`
 //! and ionization becomes complete again, which is why Si:P ionization has a
-//! minimum of ~0.76-0.78 near 1e18-2e18 at 300 K (Altermatt 2006 II Fig. 5).
+//! minimum near 1e18-2e18 at 300 K: ~0.76 in Altermatt 2006 II Fig. 5
+//! (recalled from memory), ~0.78 in this model with Fermi-Dirac bands.
 //!
 //! | Si | E_dop0 (meV) | N_ref | c | N_b | d |
 //! |----|-----|------|-----|------|-----|
