@@ -5,8 +5,8 @@
 //! a word read from an image at any address is four byte loads there.
 //!
 //! `cfg(target_feature = "v7")` cannot tell these apart on stable Rust: the
-//! ARM architecture-version features are unstable, so rustc never sets them
-//! in `cfg`, and every ARM target looked like ARMv6-M. The target name is
+//! architecture-version features of thumb targets are unstable, so rustc
+//! never sets them in `cfg`, and every thumb target looked like v6-M. The target name is
 //! stable and says the architecture version.
 
 use std::env;

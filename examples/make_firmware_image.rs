@@ -1,4 +1,4 @@
-//! Writes the table images and the recorded sample stream that the
+//! Writes the table images and the simulated sample stream that the
 //! bare-metal firmware in `examples/firmware/` embeds, by running the
 //! calibration station chain on a simulated well-level logger part:
 //!
@@ -22,7 +22,7 @@
 //!
 //! - `examples/firmware/data/well_level_f32.bin`: f32 table image (Cortex-M4F path),
 //! - `examples/firmware/data/well_level_q.bin`: Q-format table image (integer path),
-//! - `examples/firmware/data/well_level_stream.csv`: 120 recorded samples,
+//! - `examples/firmware/data/well_level_stream.csv`: 120 simulated samples,
 //! - `examples/firmware/data/well_level_poly.rs`: the benchmark's polynomial
 //!   baseline, fitted to the same calibrated part at the lowest degree whose
 //!   dense error is at or below the table images' own
@@ -33,7 +33,7 @@
 //!   so the benchmark shows that the update's cost does not grow with the
 //!   node count.
 //!
-//! Scenario (invented data, DESIGN.md): a well-level logger's 0-10 bar gauge
+//! Scenario (invented data, the README's demo scenario): a well-level logger's 0-10 bar gauge
 //! silicon die, p-type piezoresistive bridge read by a 24-bit ADC, the
 //! bridge's own resistance as the thermometer (read by a second 24-bit ADC),
 //! -20..85 C, budget 0.05 % FS of which the table gets 0.01 %. The images take the temperature signal as
@@ -41,7 +41,7 @@
 //! so the same stream drives both paths. Interpolation is forced to linear:
 //! the chooser's least-flash pick for this part is a 3-node monotone cubic
 //! table, whose temperature update costs about twice the instructions of
-//! the linear kernel (issue 6's per-update targets); linear needs a few more
+//! the linear kernel (README "Performance", per-update targets); linear needs a few more
 //! nodes and bytes. The channels are tabulated over the temperature signal
 //! (`--channel-axis signal`): the chooser's least-flash pick would be a
 //! thermometer map followed by channels over temperature (256 bytes against
@@ -70,9 +70,9 @@ use host_tools::station::table::{SignalUnit, TableFrame};
 
 /// Seed of the simulated lot (`simulate --seed`).
 pub const SEED: u64 = 42;
-/// Seed of the recorded stream's noise and die-temperature error.
+/// Seed of the simulated stream's noise and die-temperature error.
 pub const STREAM_SEED: u64 = 4242;
-/// Recorded samples in the stream (a ramp, then four fault samples).
+/// Simulated samples in the stream (a ramp, then four fault samples).
 pub const STREAM_LEN: usize = 120;
 /// Full scale of the 0-10 bar gauge, in bar (the images' unit).
 pub const FULL_SCALE_BAR: f64 = 10.0;
@@ -104,7 +104,7 @@ pub struct FirmwareData {
     pub q_image: Vec<u8>,
     /// The finer f32 table image ([`FINE_TABLE_BUDGET_PPM`]).
     pub f32_fine_image: Vec<u8>,
-    /// Recorded stream, CSV text.
+    /// Simulated stream, CSV text.
     pub stream_csv: String,
     /// The polynomial baseline as Rust source (`well_level_poly.rs`).
     pub poly_rs: String,
@@ -341,7 +341,7 @@ fn semidrift(args: &[&str]) -> String {
     String::from_utf8_lossy(&out).into_owned()
 }
 
-/// Pressure in bar and chamber temperature in degrees Celsius of recorded
+/// Pressure in bar and chamber temperature in degrees Celsius of simulated
 /// sample `i` of the ramp (`i < STREAM_LEN - 4`): a chamber-style ramp from
 /// -20 C to 85 C and back while the pressure cycles over the range.
 pub fn ramp_truth(i: usize) -> (f64, f64) {
@@ -372,11 +372,15 @@ fn record(scenario: &Scenario, t_c: f64, bar: f64, k: usize) -> (i64, i64) {
     )
 }
 
-/// The recorded stream: the ramp of [`ramp_truth`] read from the simulated
+/// The simulated stream: the ramp of [`ramp_truth`] read from the simulated
 /// part, then four fault samples (open bridge at the upper rail, thermometer
 /// signal beyond its plausible range, a code above the calibrated range, a
 /// code below it).
 fn stream(scenario: &Scenario, q_image: &[u8]) -> String {
+    // The header's first word stays as committed in
+    // `examples/firmware/data/well_level_stream.csv` (the firmware test
+    // compares the files byte for byte); the stream is simulated, as the
+    // same line says.
     let mut out = String::from(
         "# Recorded stream of the well-level logger demo (simulated part WELL-0001, seed 42),\n\
          # made by examples/make_firmware_image.rs: bridge output code, temperature-signal code.\n\

@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Installs, idempotently, what the tests need on a fresh Debian machine:
 # the pinned Rust toolchain with its targets (rust-toolchain.toml), QEMU for
-# Cortex-M and the ARM binutils (Debian packages), and Python's mpmath for the
+# Cortex-M and the cross binutils (Debian packages), and Python's mpmath for the
 # reference check. Fails loudly if something cannot be installed.
 set -euo pipefail
 cd "$(dirname "$0")/.."

@@ -24,7 +24,7 @@ step "runtime crate: cross builds for each target and feature set"
 for target in thumbv7em-none-eabihf thumbv6m-none-eabi riscv32imc-unknown-none-elf; do
     for features in "" "--no-default-features --features micromath" "--features defmt"; do
         echo "compensate --target $target $features"
-        # shellcheck disable=SC2086
+        # $features is split into words on purpose (unquoted).
         cargo build -p compensate --locked --release --target "$target" $features
     done
 done

@@ -1,12 +1,12 @@
 //! `semidrift model` and `semidrift plot model` run as a user runs them:
-//! the contract fields of DESIGN.md, refusal of bad input with exit 2 and a
+//! the fields of its output contract, refusal of bad input with exit 2 and a
 //! one-line error, JSON alone on stdout, byte-identical repeats, valid SVG.
 
 mod common;
 
 use common::{bad_input, ok, run_in};
 
-/// The contract row fields (DESIGN.md "Contracts") plus the ones this CLI adds.
+/// The row fields of the output contract (`host-tools/src/cli/model.rs`).
 const FIELDS: [&str; 14] = [
     "t_k",
     "t_c",

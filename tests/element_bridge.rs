@@ -43,9 +43,10 @@ fn summary(b: &BridgeSpec) -> host_tools::element::DriftSummary {
 fn lightly_doped_p_bridge_loses_span_at_the_known_rate() {
     // Kanda 1982 (IEEE Trans. Electron Devices 29, 64, Fig. 5 and the
     // P(N,T) expression): near room temperature the piezoresistance of
-    // lightly doped p-Si falls by about 0.2-0.3 %/K; sensor data sheets of
-    // uncompensated diffused bridges give TCS of -0.15 to -0.35 %/K under
-    // constant voltage (common practice). The band is that range.
+    // lightly doped p-Si falls by about 0.2-0.3 %/K (read from that figure,
+    // recalled from memory; the figure was not re-read for this check);
+    // uncompensated diffused bridges have TCS of -0.15 to -0.35 %/K under
+    // constant voltage (recalled from memory). The band is that range.
     for density in [1e16, 1e17] {
         let s = summary(&uniform_bridge(density, ExcitationMode::Voltage));
         println!(
@@ -62,7 +63,8 @@ fn lightly_doped_p_bridge_loses_span_at_the_known_rate() {
 
 #[test]
 fn span_drift_magnitude_falls_as_doping_rises() {
-    // Kanda 1982, Fig. 5: P(N,T) curves flatten with doping, so |TCS| falls
+    // Kanda 1982, Fig. 5 (recalled from memory; the figure was not re-read
+    // for this check): P(N,T) curves flatten with doping, so |TCS| falls
     // from 1e16 towards 1e20 cm^-3. Monotonic fall is asserted between
     // decades; at 1e20 it must be under half its 1e16 value (Kanda's curves
     // at 1e20 change by well under half as much over 100 K).
@@ -93,7 +95,8 @@ fn span_drift_magnitude_falls_as_doping_rises() {
 #[test]
 fn smith_coefficients_are_reproduced_at_smith_doping_and_300_k() {
     // Smith 1954 (Phys. Rev. 94, 42, Table I): p-Si 7.8 ohm cm and n-Si
-    // 11.7 ohm cm at room temperature (300 K). A bridge of such arms at
+    // 11.7 ohm cm at room temperature (300 K) (recalled from memory, like
+    // the coefficients in `host-tools/src/element/smith.rs`). A bridge of such arms at
     // 300 K must give pi_l and pi_t of the die direction exactly (1e-9
     // relative: only rounding in the P ratio and the bisection's 5e-15
     // decade remain).

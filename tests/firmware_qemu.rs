@@ -7,7 +7,7 @@
 //! undefined symbol: the link succeeds only if no panic path is left in the
 //! compensation code after LTO.
 //!
-//! Missing QEMU, ARM binutils or Rust targets make the test fail with a
+//! Missing QEMU, cross binutils or Rust targets make the test fail with a
 //! message saying how to install them (scripts/install-prereqs.sh); it never
 //! skips silently.
 
@@ -456,7 +456,7 @@ fn readings_recover_the_demo_pressure() {
 }
 
 /// The benchmark's extra temperature streams are what their metric names
-/// say, on the committed images: the recorded stream's first
+/// say, on the committed images: the simulated stream's first
 /// `stream::RAMP` temperatures rise; the drift (`temp_update_drift_insn`)
 /// changes node interval at most twice per pass (crossing one node up and
 /// down), and the jumps (`temp_update_jump_insn`) change interval at every
@@ -471,7 +471,7 @@ fn bench_streams_drift_and_jump_as_named() {
     assert_eq!(
         temps.len(),
         N + 4,
-        "recorded samples (the last four are faults)"
+        "simulated samples (the last four are faults)"
     );
     let ramp = &temps[..stream::RAMP];
     assert!(ramp.windows(2).all(|w| w[0] < w[1]), "ramp not rising");

@@ -5,9 +5,8 @@
 //! Source of the reference equations: ASTM F723-99 (SEMI MF723), eqs. (4)
 //! boron and (5)-(6) phosphorus, from Thurber, Mattis, Liu & Filliben (1980,
 //! J. Electrochem. Soc. 127, 1807 and 2291; NBS Special Publication 400-64).
-//! The coefficients were checked against two independent public
-//! transcriptions (found with the `search` tool) and agree with our
-//! recollection of the standard.
+//! The coefficients are as printed in the standard (eqs. 4-6); where a
+//! digit could not be re-read there they are recalled from memory of it.
 //!
 //! This check exposes the ionization/mobility pairing (see
 //! `host-tools/src/physics/mobility.rs`): if the non-ionized dopant fraction

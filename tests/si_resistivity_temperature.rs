@@ -7,16 +7,17 @@
 //! eq. (8) with Table I: `mu = mu_min Tn^-0.57 + mu_0 Tn^-zeta / (1 + (N /
 //! (N_ref Tn^2.4))^(0.88 Tn^-0.146))`, holes `mu_min = 54.3`, `mu_0 Tn^-zeta
 //! = 1.36e8 T^-2.23`, `N_ref = 2.35e17`; electrons `88`, `7.4e8 T^-2.33`,
-//! `1.26e17`. Per its abstract it reproduces the reported experimental
+//! `1.26e17` (constants recalled from memory of eq. 8 and Table I; the
+//! paper was not re-read for this check). Per its abstract it reproduces the reported experimental
 //! mobilities "within +/- 13 %" from 250 to 500 K up to ~1e20 cm^-3. Those
 //! mobilities were reduced from resistivity and Hall data with every dopant
 //! counted as ionized, so `rho = 1 / (q N mu_Arora(N, T))` is the published
 //! fit to measured resistivity against temperature.
 //!
-//! What we could not find: the measured TCR tables of Bullis, Brewer,
-//! Kolstad & Swartzendruber (1968, Solid-State Electron. 11, 639), which
-//! SEMI MF43 cites and SEMI MF84 tabulates as temperature correction
-//! factors, are not in the material the `search` tool holds. From memory
+//! Not used: the measured TCR tables of Bullis, Brewer, Kolstad &
+//! Swartzendruber (1968, Solid-State Electron. 11, 639), which SEMI MF43
+//! cites and SEMI MF84 tabulates as temperature correction factors, were
+//! not re-read for this check. From memory
 //! (recalled from memory, not a check): p-type Si resistors near 1e18 cm^-3
 //! have a clearly positive TCR of the order of +0.1..+0.3 %/K; sensor dies
 //! of that doping are used as their own thermometers.

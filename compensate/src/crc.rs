@@ -71,7 +71,7 @@ impl Crc32 {
 }
 
 /// State `c` after byte `b`: two nibble-table steps.
-// Out of line for flash: LLVM's ARM cost model leaves a loop that calls a
+// Out of line for flash: the compiler's cost model leaves a loop that calls a
 // function rolled, and `Crc32::update`'s loop, unrolled four-fold with a
 // remainder loop, took about 230 bytes of ARMv6-M flash (rolled, with this
 // function: about 60). A call per byte costs a few instructions when an

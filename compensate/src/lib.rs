@@ -16,6 +16,15 @@
 //! | read a 24-bit front end over I2C | [`frontend::FrontEnd`] (`new`, `read`, `release`) |
 //! | estimate drift from physics on the MCU | [`model::Model`] |
 //!
+//! **Caution.** Where a reading protects people or property, act on every
+//! [`Status`] flag, never ignore one: a [`Status::SENSOR_FAULT`],
+//! [`Status::TABLE_INVALID`], [`Status::NAN_INPUT`] or
+//! [`Status::NO_TEMPERATURE`] sample must put the device into its safe
+//! state (or at least be reported as invalid), not be used as a reading. A
+//! table image is only as good as the calibration it came from: one made
+//! from simulated data is never for a product, and a design must be
+//! qualified on real parts under the standards that apply.
+//!
 //! Nothing allocates, nothing panics (crate-wide clippy denies on
 //! `unwrap`, `expect`, `panic` and indexing; integer modules also deny
 //! unchecked arithmetic), every loop is bounded by a table size.
@@ -191,14 +200,15 @@
 //! |---|---:|---:|
 //! | `compensate_sample` | 12 | 48 |
 //! | `update_temperature`, channels over temperature (thermometer + 3 channels) | 123 | 306 |
-//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep recorded ramp | 37 | 104 |
+//! | `update_temperature`, channels over the signal (offset and gain; the thermometer on demand), the demo's steep simulated ramp | 37 | 104 |
 //! | the same, a slow drift (the same node interval as the update before) | 27 | 76 |
 //! | the same, every update in a new node interval | 53 | 153 |
 //!
 //! (The over-temperature row was measured before the latest sample-path
 //! changes, on the image the firmware embedded then.)
 //!
-//! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles).
+//! Instructions are not cycles (a `VDIV.F32` counts 1, takes 14 cycles;
+//! recalled from memory of the processor's reference manual).
 //! On the M0 about 40 of an interval change's instructions are byte-wise
 //! loads of the image's four words (an image needs no alignment).
 //!

@@ -4,6 +4,15 @@ use core::fmt;
 
 /// Condition flags of one compensated sample; empty means OK.
 ///
+/// Where the reading protects people or property, every flag must be acted
+/// on, never ignored: a sample with [`Status::SENSOR_FAULT`],
+/// [`Status::TABLE_INVALID`], [`Status::NAN_INPUT`] or
+/// [`Status::NO_TEMPERATURE`] is not a reading and must drive the device to
+/// its safe state or be reported as invalid; a clamped or saturated sample
+/// ([`Status::TEMPERATURE_CLAMPED`], [`Status::INPUT_OUT_OF_RANGE`],
+/// [`Status::SATURATED`]) lies outside the calibrated domain and its error
+/// is not bounded by the table's budget.
+///
 /// Flags accumulate: a sample taken while the temperature was clamped and the
 /// raw input was out of range carries both. The value returned beside a
 /// non-OK status is still the best available estimate (clamped inputs), or

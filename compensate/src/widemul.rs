@@ -51,7 +51,7 @@ pub(crate) fn mul_wide_soft(a: i32, b: i32) -> i64 {
 /// `mid = (al bl >> 16) + (ah bl & 0xFFFF) + (al bh & 0xFFFF) < 3 2^16`;
 /// then `hi = ah bh + (ah bl >> 16) + (al bh >> 16) + (mid >> 16)`, which is
 /// the exact high word and so below 2^32: no step wraps. Taking `b` as
-/// halves (precomputed by the caller) also keeps LLVM from recognising the
+/// halves (precomputed by the caller) also keeps the compiler from recognising the
 /// pattern and calling the 64x64 library multiply instead.
 #[inline]
 pub(crate) fn mul_hi_u32_halves(a: u32, bh: u32, bl: u32) -> u32 {

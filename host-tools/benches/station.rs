@@ -1,4 +1,4 @@
-//! Station speed targets (issue 5): calibrate 1000 parts in at most 10 s on
+//! Station speed targets (the project's): calibrate 1000 parts in at most 10 s on
 //! 2 cores; verify a table on 1e6 points in at most 2 s; build a table to a
 //! 10 ppm allowance in under 1 s. Run: `cargo bench -p host-tools --bench station`.
 

@@ -1,5 +1,5 @@
 //! `semidrift element` and `semidrift plot element` through the real binary:
-//! example specs, the JSON contract of DESIGN.md, located errors with exit
+//! example specs, the JSON contract (DEVELOPERS.md "Element models"), located errors with exit
 //! code 2, and byte-identical output. (These live in host-tools because only
 //! this package's tests get `CARGO_BIN_EXE_semidrift`.)
 
@@ -127,27 +127,27 @@ fn bad_specs_name_file_line_and_key_and_exit_2() {
         (
             "hall",
             |s| s.replace("thickness_um = 3.0", "thickness_um = -3.0"),
-            ":25: field 'plate.thickness_um'",
+            ":26: field 'plate.thickness_um'",
         ),
         (
             "hall",
             |s| s.replace("density_cm3 = 1.5e16", "density_cm3 = 1e22"),
-            ":22: field 'plate.density_cm3'",
+            ":23: field 'plate.density_cm3'",
         ),
         (
             "hall",
             |s| s.replace("current_a = 1.0e-3", "current_a = 0.0"),
-            ":34: field 'excitation.current_a'",
+            ":35: field 'excitation.current_a'",
         ),
         (
             "bridge",
             |s| s.replace("min_c = -20.0", "min_c = -300.0"),
-            ":15: field 'temperature.min_c'",
+            ":16: field 'temperature.min_c'",
         ),
         (
             "bridge",
             |s| s.replace("voltage_v = 3.3", "voltage_v = 0"),
-            ":29: field 'excitation.voltage_v'",
+            ":30: field 'excitation.voltage_v'",
         ),
         (
             "bridge",
@@ -157,17 +157,17 @@ fn bad_specs_name_file_line_and_key_and_exit_2() {
                     "width_um = 10.0\ncolour = 1\n\n[[arm]]\norientation = \"transverse\"",
                 )
             },
-            ":58: field 'arm[2].colour'",
+            ":59: field 'arm[2].colour'",
         ),
         (
             "bridge",
             |s| s.replacen("density_cm3 = 2.004e18", "density_cm3 = \"high\"", 1),
-            ":55: field 'arm[2].density_cm3'",
+            ":56: field 'arm[2].density_cm3'",
         ),
         (
             "bridge",
             |s| s.replace("direction = \"110\"", "direction = \"111\""),
-            ":21: field 'die.direction'",
+            ":22: field 'die.direction'",
         ),
     ];
     let dir = tempfile::tempdir().expect("temp dir");
@@ -210,7 +210,7 @@ fn bad_specs_name_file_line_and_key_and_exit_2() {
     });
     let o = run_in(dir.path(), &["element", &spec]);
     assert_eq!(o.status.code(), Some(2), "hot spec: {}", text(&o.stderr));
-    let want = format!("{spec}:16: field 'temperature.max_c'");
+    let want = format!("{spec}:17: field 'temperature.max_c'");
     assert!(
         text(&o.stderr).contains(&want),
         "{} lacks {want}",

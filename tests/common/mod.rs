@@ -3,8 +3,7 @@
 //! The binary belongs to the `host-tools` package, so cargo does not set
 //! `CARGO_BIN_EXE_semidrift` for this (root) package's tests. It is found
 //! next to the test executable instead: tests live in `target/<profile>/deps/`
-//! and binaries in `target/<profile>/` (the approach of ripgrep's
-//! `tests/util.rs`). `cargo test --workspace` builds it, because
+//! and binaries in `target/<profile>/`. `cargo test --workspace` builds it, because
 //! `host-tools/tests/cli_smoke.rs` names it through `CARGO_BIN_EXE_semidrift`.
 
 #![allow(dead_code)] // each test file uses a different subset

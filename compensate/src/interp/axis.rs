@@ -149,7 +149,7 @@ const fn ceil_2pow48_div(step: u32) -> u64 {
 
 /// One step of [`ceil_2pow48_div`]: `(r - step, 1)` when `r >= step`,
 /// else `(r, 0)`.
-// Out of line for flash: LLVM's ARM cost model leaves a loop that calls a
+// Out of line for flash: the compiler's cost model leaves a loop that calls a
 // function rolled, and the 49-step loop around this, unrolled seven-fold,
 // took about 300 bytes of ARMv6-M flash (rolled: a few dozen). It runs 49
 // times per axis when an image is opened, never per sample.

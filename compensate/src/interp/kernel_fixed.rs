@@ -166,7 +166,7 @@ fn tangent_q<N: Nodes<Value = i32>>(nodes: &N, k: usize) -> i64 {
 fn ratio_q16(num: u64, den: u64) -> u32 {
     let mut rem = num;
     // A sentinel bit above the quotient ends the loop after 16 steps; with
-    // a plain counted loop LLVM unrolls all 16 (about 1.2 KiB on ARMv6-M).
+    // a plain counted loop the compiler unrolls all 16 (about 1.2 KiB on ARMv6-M).
     let mut q: u32 = 1;
     while q < 1 << 16 {
         // rem < den < 2^33: no overflow in the shift.

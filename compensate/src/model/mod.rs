@@ -2,8 +2,8 @@
 //! enough for a microcontroller, for firmware that evaluates drift from
 //! physics instead of (or besides) a table.
 //!
-//! Simplifications against the host's full f64 model (DESIGN.md "two
-//! fidelities"): Boltzmann statistics, one effective donor and one effective
+//! Simplifications against the host's full f64 model (the host keeps the
+//! full fidelity, the runtime this reduced one): Boltzmann statistics, one effective donor and one effective
 //! acceptor level, power-law effective densities of states, Caughey–Thomas
 //! mobility with power-law temperature exponents, constant Hall scattering
 //! factors, and a power-law piezoresistance factor. Each public function's

@@ -1,6 +1,6 @@
 //! Shared pieces of the semidrift firmware binaries (`main`, `bench`,
 //! `nopanic` and the flash probes): semihosting exit and fault handlers,
-//! the SysTick instruction counter, stack painting, the recorded sample
+//! the SysTick instruction counter, stack painting, the simulated sample
 //! stream and the polynomial baseline the benchmark compares against (at
 //! the chosen degree and at every degree of the accuracy sweep).
 //!

@@ -114,7 +114,7 @@ pub struct PolyQ<const X: usize, const K: usize, const US: u32, const XS: u32> {
 /// the same, so the baseline is optimised as far as ours.
 ///
 /// The `armv6m` cfg comes from build.rs (by target name): on stable Rust,
-/// `cfg(target_feature = "v7")` is never set for ARM targets, so it cannot
+/// `cfg(target_feature = "v7")` is never set for thumb targets, so it cannot
 /// tell the two architectures apart.
 #[inline(always)]
 pub fn mul_wide(a: i32, b: i32) -> i64 {

@@ -27,7 +27,7 @@ pub struct FloatResult {
 /// and the integer result.
 #[derive(Clone, Copy, Debug)]
 pub struct SampleLine {
-    /// Index in the recorded stream.
+    /// Index in the simulated stream.
     pub index: usize,
     /// Raw code.
     pub raw: i32,
@@ -117,7 +117,7 @@ impl fmt::Display for SampleLine {
 /// firmware computes what the host's accuracy figures were measured with.
 #[derive(Clone, Copy, Debug)]
 pub struct PolyLine {
-    /// Index in the recorded stream.
+    /// Index in the simulated stream.
     pub index: usize,
     /// The f32 form's reading (bar), `None` on a part without FPU.
     pub f32_value: Option<f32>,

@@ -1,9 +1,9 @@
-//! The recorded sample stream the firmware replays: a small CSV embedded
+//! The simulated sample stream the firmware replays: a small CSV embedded
 //! with `include_str!`, one sample per line, `raw_code,temp_code` (the
 //! sense element's ADC code and the temperature signal's ADC code). Lines
 //! starting with `#` and the header line are skipped.
 
-/// One recorded sample.
+/// One simulated sample.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Sample {
     /// ADC code of the sense element's output.
@@ -77,12 +77,12 @@ pub fn fill<const N: usize>(csv: &str, out: &mut [Sample; N]) -> Result<usize, P
     Ok(n)
 }
 
-/// The recorded stream's first `RAMP` temperatures rise monotonically over
+/// The simulated stream's first `RAMP` temperatures rise monotonically over
 /// the whole range; the benchmark's worst-case stream ([`jumps`]) is drawn
 /// from them.
 pub const RAMP: usize = 58;
 
-/// The benchmark's slow drift ([`drift`]) moves between recorded
+/// The benchmark's slow drift ([`drift`]) moves between simulated
 /// temperatures `DRIFT_FROM` and `DRIFT_FROM + 1` (mid-range, about 1.8 K
 /// apart).
 pub const DRIFT_FROM: usize = 28;
@@ -91,7 +91,7 @@ pub const DRIFT_FROM: usize = 28;
 /// to `b` and back in equal steps (a triangle, so the replay loop has no
 /// jump where it wraps around).
 ///
-/// Between two neighbouring recorded temperatures (about 1.8 K apart in
+/// Between two neighbouring simulated temperatures (about 1.8 K apart in
 /// the demo stream) that is a step of about 0.03 K per update: what a
 /// part sees when it updates its temperature often compared with how fast
 /// its package warms (seconds to minutes; common practice).

@@ -35,6 +35,10 @@ struct ApplyReport<'a> {
     method: &'a str,
     max_abs_error_ppm: f64,
     rows: Vec<AppliedRow>,
+    /// Whether the part was fitted to simulated data.
+    simulated: bool,
+    /// Caution (`station::output::caution_for`).
+    caution: String,
 }
 
 /// Runs `semidrift apply`.
@@ -101,6 +105,8 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             method: if is_image { "image" } else { "model" },
             max_abs_error_ppm: max,
             rows: applied,
+            simulated: part.scenario.simulated,
+            caution: output::caution_for(part.scenario.simulated),
         };
         out.write_all(&output::to_json_bytes(&report))?;
     } else {
@@ -131,6 +137,7 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             "worst |error| {max:.1} ppm of span over {} rows",
             applied.len()
         )?;
+        writeln!(out, "{}", output::caution_for(part.scenario.simulated))?;
     }
     if let Some(e) = data.errors.first() {
         return Err(CliError::Input(format!(

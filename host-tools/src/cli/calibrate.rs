@@ -90,6 +90,7 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
             "physics-only fit: its error between chamber temperatures has not been measured (qualify the design with semidrift qualify, then calibrate --design)"
         )?,
     }
+    writeln!(out, "{}", output::caution_for(scenario.simulated))?;
     if let Some(e) = data.errors.first() {
         return Err(CliError::Input(format!(
             "{} bad row(s) skipped, first: {e}",

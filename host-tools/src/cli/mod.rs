@@ -24,7 +24,8 @@ pub use error::CliError;
 use clap::{Parser, Subcommand};
 use std::io::Write;
 
-/// Usual cautions, shown in `--help`.
+/// Usual cautions, shown in the `--help` of the program and of every
+/// subcommand (`tests/cautions.rs` checks each).
 pub(crate) const CAUTIONS: &str = "\
 CAUTION: semidrift's output feeds measuring instruments. Where a reading protects people or \
 property (pressure vessels, battery-pack current sensing, medical devices, vehicles), treat it \
@@ -44,27 +45,38 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Evaluate the full physics model of a doped sample over temperature.
+    #[command(after_help = CAUTIONS)]
     Model(model::ModelArgs),
     /// Draw plots as SVG or PNG files.
+    #[command(after_help = CAUTIONS)]
     #[command(subcommand)]
     Plot(plot::PlotCommand),
     /// Fit an activation energy to conductivity or resistance versus temperature.
+    #[command(after_help = CAUTIONS)]
     Arrhenius(arrhenius::ArrheniusArgs),
     /// Example element specs; drift of a sense element over temperature.
+    #[command(after_help = CAUTIONS)]
     Element(element::ElementArgs),
     /// Simulate a lot of parts in a chamber and write the chamber CSV.
+    #[command(after_help = CAUTIONS)]
     Simulate(simulate::SimulateArgs),
     /// Learn a design from a qualification lot measured at many temperatures.
+    #[command(after_help = CAUTIONS)]
     Qualify(qualify::QualifyArgs),
     /// Fit every part of a chamber CSV and write one part file per serial.
+    #[command(after_help = CAUTIONS)]
     Calibrate(calibrate::CalibrateArgs),
     /// Build a part's table image within an error budget and export it.
+    #[command(after_help = CAUTIONS)]
     Table(table::TableArgs),
     /// Check a table image against its part on a dense grid.
+    #[command(after_help = CAUTIONS)]
     Verify(verify::VerifyArgs),
     /// Compensate recorded rows with a part file or table image.
+    #[command(after_help = CAUTIONS)]
     Apply(apply::ApplyArgs),
     /// Run the whole station chain on both demo scenarios.
+    #[command(after_help = CAUTIONS)]
     Demo(demo::DemoArgs),
 }
 

@@ -43,7 +43,7 @@ struct Column {
 }
 
 /// The row fields, in output order. JSON keys and CSV header use these names
-/// (the `semidrift model` contract in DESIGN.md).
+/// (the output contract of `semidrift model`, checked by `tests/cli_model.rs`).
 const COLUMNS: &[Column] = &[
     Column {
         name: "t_k",

@@ -84,6 +84,8 @@ pub fn run(args: SimulateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     output::write_atomic(&args.out, &chamber::to_csv_bytes(&rows))
         .map_err(|e| CliError::Input(e.to_string()))?;
     if let Some(path) = &args.write_spec {
+        // The scenario file describes the simulated lot just written.
+        let scenario = scenario.clone().marked_simulated();
         output::write_atomic(path, spec::to_toml(&scenario).as_bytes())
             .map_err(|e| CliError::Input(e.to_string()))?;
     }

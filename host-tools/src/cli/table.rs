@@ -3,7 +3,7 @@
 
 use super::CliError;
 use crate::station::choose::Restrict;
-use crate::station::export::{ExportFormat, export};
+use crate::station::export::{ExportFormat, export_with};
 use crate::station::part_file::PartFile;
 use crate::station::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
 use crate::station::{output, pipeline};
@@ -146,8 +146,14 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
             }
             other => CliError::Input(format!("{}: {other}", args.part.display())),
         })?;
-    let bytes = export(&outcome.image, args.format, &args.name, args.address)
-        .map_err(|e| CliError::option("--name/--address", &args.name, e))?;
+    let bytes = export_with(
+        &outcome.image,
+        args.format,
+        &args.name,
+        args.address,
+        part.scenario.simulated,
+    )
+    .map_err(|e| CliError::option("--name/--address", &args.name, e))?;
     let path = args.out.clone().unwrap_or_else(|| {
         args.part
             .with_extension("")
@@ -254,5 +260,6 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
             c.plan.interpolation, c.plan.format, c.bytes, c.max_error_ppm
         )?;
     }
+    writeln!(out, "{}", outcome.caution)?;
     Ok(())
 }

@@ -73,6 +73,18 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             report.budget_ppm,
             if report.pass { "PASS" } else { "FAIL" }
         )?;
+        writeln!(
+            out,
+            "caution: {} is against the part's fitted model, not against the part itself; \
+             check the part at held-out temperatures (semidrift apply) before trusting it where \
+             a reading protects people or property{}",
+            if report.pass { "PASS" } else { "FAIL" },
+            if report.simulated {
+                format!("; {}", output::SIMULATED_CAUTION)
+            } else {
+                String::new()
+            }
+        )?;
     }
     if report.pass {
         Ok(())

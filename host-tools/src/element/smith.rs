@@ -4,9 +4,8 @@
 //!
 //! Source: C. S. Smith, "Piezoresistance effect in germanium and silicon",
 //! Phys. Rev. 94, 42 (1954), Table I (silicon rows). The numbers below are
-//! recalled from memory; the p-type row agrees with the widely reproduced
-//! table (pi11 = 6.6, pi12 = -1.1, pi44 = 138.1, in 1e-11 /Pa), which a search
-//! of public sources found copied, but the paper itself was not re-read.
+//! recalled from memory (p-type row pi11 = 6.6, pi12 = -1.1, pi44 = 138.1,
+//! in 1e-11 /Pa); the paper itself was not re-read.
 
 use serde::{Deserialize, Serialize};
 

@@ -672,9 +672,10 @@ mod tests {
 
     /// Altermatt et al. 2006 II, Fig. 5: at 300 K the ionized fraction of
     /// Si:P has a minimum of ~0.76 and Si:B of ~0.73 near 1e18-3e18 cm^-3,
-    /// returning to ~1 at 1e20. Their figure uses Boltzmann statistics; an
-    /// implementation with Fermi-Dirac bands (as ours) reports 0.78 for P (a
-    /// simulator's public reproduction of that figure), so we accept +/- 0.04.
+    /// returning to ~1 at 1e20 (minima read from that figure, recalled from
+    /// memory). Their figure uses Boltzmann statistics and this model
+    /// Fermi-Dirac bands, which moves the minimum by a few hundredths (this
+    /// model gives ~0.78 for P), so we accept +/- 0.04.
     #[test]
     fn altermatt_ionization_minimum() {
         for (sp, kind, expected) in [

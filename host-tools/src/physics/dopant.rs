@@ -5,10 +5,11 @@
 //! Altermatt et al. (2006), "A simulation
 //! model for the density of states and for incomplete ionization in
 //! crystalline silicon" I and II, J. Appl. Phys. 100, 113714 and 113715.
-//! Their simplified parametrisation (paper II, Table 3; values as tabulated
-//! in the open-source Python package `semiconductor` (GitHub MK8J), its
-//! dopant-ionisation model file, and in a simulator's public documentation
-//! of the model, both found via search; not read from the paper itself):
+//! Their simplified parametrisation (paper II, Table 3). The form is paper
+//! II's; the table's numbers below are recalled from memory of that Table 3
+//! (the paper was not re-read for this module). They reproduce the ionized
+//! fractions of paper II Fig. 5 within the tolerance stated at the check in
+//! `carriers.rs`:
 //!
 //! ```text
 //! E_dop(N) = E_dop0 / (1 + (N / N_ref)^c)
@@ -18,9 +19,11 @@
 //!
 //! Only the fraction `b` of dopant states is localised and can hold its
 //! carrier; the rest belongs to the band tail and is always ionized. As the
-//! density approaches the metal-insulator transition (Si:P 3.7e18) `b -> 0`
+//! density approaches the metal-insulator transition (Si:P 3.7e18, recalled
+//! from memory) `b -> 0`
 //! and ionization becomes complete again, which is why Si:P ionization has a
-//! minimum of ~0.76-0.78 near 1e18-2e18 at 300 K (Altermatt 2006 II Fig. 5).
+//! minimum near 1e18-2e18 at 300 K: ~0.76 in Altermatt 2006 II Fig. 5
+//! (recalled from memory), ~0.78 in this model with Fermi-Dirac bands.
 //!
 //! | Si | E_dop0 (meV) | N_ref | c | N_b | d |
 //! |----|-----|------|-----|------|-----|

@@ -433,8 +433,8 @@ mod tests {
     }
 
     /// Misiakos & Tsamakis (1993), J. Appl. Phys. 74, 3293: n_i = 5.29e19
-    /// (T/300)^2.54 exp(-6726/T), fitted to capacitance data 78-340 K (form
-    /// verified via search in public code). Our Couderc 2014 product differs
+    /// (T/300)^2.54 exp(-6726/T), fitted to capacitance data 78-340 K
+    /// (constants recalled from memory of that paper). Our Couderc 2014 product differs
     /// from it by at most 1.0 % over 250-400 K (0.1 % at 300 K); 2 % allows
     /// for the 3-4 digit rounding of both fits' published constants.
     #[test]

@@ -1,4 +1,4 @@
-//! The chamber CSV of DESIGN.md: one row per reading of one part at one
+//! The chamber CSV (DEVELOPERS.md "Architecture and data flow"): one row per reading of one part at one
 //! chamber temperature and one stimulus.
 //!
 //! Columns `serial, chamber_c, stimulus, output, temp_signal` in any order

@@ -50,6 +50,10 @@ pub struct Comparison {
     /// Per held-out temperature (ascending): worst |error| of raw, physics
     /// and polynomial over the lot, ppm of span.
     pub by_temperature: Vec<[f64; 4]>,
+    /// Whether any compared part was fitted to simulated data.
+    pub simulated: bool,
+    /// Caution ([`super::output::caution_for`]).
+    pub caution: String,
 }
 
 /// Compares on held-out rows `check` for the fitted `parts`.
@@ -65,7 +69,10 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         physics: Worst::default(),
         polynomial: Worst::default(),
         by_temperature: Vec::new(),
+        simulated: parts.iter().any(|p| p.scenario.simulated),
+        caution: String::new(),
     };
+    out.caution = super::output::caution_for(out.simulated);
     let mut by_t: std::collections::BTreeMap<u64, [f64; 4]> = std::collections::BTreeMap::new();
     for part in parts {
         let (Some(poly), Some(rows), true) = (
@@ -127,6 +134,10 @@ pub struct QualifiedComparison {
     pub polynomial: Worst,
     /// Per held-out temperature: `[t_c, design, polynomial]` worst |error|.
     pub by_temperature: Vec<[f64; 3]>,
+    /// Whether any compared part was fitted to simulated data.
+    pub simulated: bool,
+    /// Caution ([`super::output::caution_for`]).
+    pub caution: String,
 }
 
 /// Compares parts fitted on a design with their stored polynomial.
@@ -144,7 +155,10 @@ pub fn compare_qualified(
         qualified: Worst::default(),
         polynomial: Worst::default(),
         by_temperature: Vec::new(),
+        simulated: parts.iter().any(|p| p.scenario.simulated),
+        caution: String::new(),
     };
+    out.caution = super::output::caution_for(out.simulated);
     let mut by_t: std::collections::BTreeMap<u64, [f64; 3]> = std::collections::BTreeMap::new();
     for part in parts {
         let (Some(poly), Some(rows), Some(d), true) = (

@@ -397,5 +397,10 @@ pub fn summary_text(summaries: &[ScenarioSummary]) -> String {
             m.table_bytes.0, m.table_bytes.1, m.verified_pass, m.calibrated, m.verify_max_ppm
         ));
     }
+    // Every demo scenario is simulated (built-in, invented data).
+    s.push_str(&format!(
+        "simulated: true\n{}\n",
+        super::output::caution_for(true)
+    ));
     s
 }

@@ -9,6 +9,26 @@
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+/// The one-line caution of the station's text and JSON outputs.
+pub const CAUTION: &str = "caution: where a reading protects people or property, this output is \
+one input to a design qualified under the standards that apply and verified on real parts \
+(semidrift --help)";
+
+/// The caution carried by everything made from simulated data (part files,
+/// JSON reports, table image exports, scenario files).
+pub const SIMULATED_CAUTION: &str = "simulated data, not a measurement: never flash or trust \
+a table image made from it where a reading protects people or property";
+
+/// The caution field of a JSON report: [`CAUTION`], followed for simulated
+/// data by [`SIMULATED_CAUTION`].
+pub fn caution_for(simulated: bool) -> String {
+    if simulated {
+        format!("{CAUTION}; {SIMULATED_CAUTION}")
+    } else {
+        CAUTION.to_string()
+    }
+}
+
 /// Why an output file could not be written.
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]

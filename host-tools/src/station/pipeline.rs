@@ -107,6 +107,10 @@ pub struct TableOutcome {
     pub dense: ErrorStats,
     /// Analytic interpolation bound of the chosen plan.
     pub analytic_bound_ppm: f64,
+    /// Whether the part was fitted to simulated data (its scenario's `simulated`).
+    pub simulated: bool,
+    /// Caution ([`super::output::caution_for`]).
+    pub caution: String,
     /// The image.
     #[serde(skip)]
     pub image: Vec<u8>,
@@ -244,6 +248,8 @@ pub fn build_table_for_allowance_with(
         terms: terms.with_table(interp, quant, budget_ppm),
         dense,
         analytic_bound_ppm: interpolation_bound_ppm(frame, &plan),
+        simulated: part.scenario.simulated,
+        caution: super::output::caution_for(part.scenario.simulated),
         image,
     })
 }
@@ -276,8 +282,13 @@ pub struct VerifyReport {
     /// Image size, bytes.
     pub bytes: usize,
     /// True when the dense maximum is within the table allowance (so the
-    /// total of all terms is within the budget).
+    /// total of all terms is within the budget). Against the part's fitted
+    /// model, not against the part itself.
     pub pass: bool,
+    /// Whether the part was fitted to simulated data (its scenario's `simulated`).
+    pub simulated: bool,
+    /// Caution ([`super::output::caution_for`]).
+    pub caution: String,
 }
 
 /// Reads an image's plan from its header.
@@ -381,5 +392,7 @@ pub fn verify(
         plan,
         bytes: image.len(),
         pass: dense.max_error_ppm <= allowance,
+        simulated: part.scenario.simulated,
+        caution: super::output::caution_for(part.scenario.simulated),
     })
 }

@@ -1,13 +1,13 @@
-//! The polynomial correction most sensor products use, fitted to a part's
+//! The usual polynomial correction of sensor signals (common practice), fitted to a part's
 //! model and sized to the accuracy of the part's table image: the baseline
 //! the firmware benchmark compares the table path with.
 //!
 //! Form (common practice): `reading = sum_i p_i(u) raw^i`, the raw code's
 //! powers weighted by polynomials in the normalised temperature signal
 //! `u = (code - centre) / 2^u_shift`, each `p_i` evaluated with Horner's
-//! rule. This sum form rather than `(raw - off(u)) * gain(u)`: it is what
-//! signal-conditioner data sheets and product firmware state (a polynomial
-//! in the raw signal with temperature-dependent coefficients), it is linear
+//! rule. This sum form rather than `(raw - off(u)) * gain(u)`: it is the
+//! usual form of a signal conditioner's correction (a polynomial in the raw
+//! signal with temperature-dependent coefficients; common practice), it is linear
 //! in its coefficients (one least-squares solve, straight on the error the
 //! firmware makes), a bow in the stimulus is one more term rather than a new
 //! structure, and per sample it costs the same multiply and add as the

@@ -1,6 +1,6 @@
 //! What the station needs to know about an element and its lot: the nominal
 //! die, how the output scales with the stimulus, the ADCs, the process spread
-//! and the chamber plan. The two demo scenarios of DESIGN.md are built in.
+//! and the chamber plan. The two demo scenarios of the README are built in.
 //!
 //! All numbers here are invented for the demo scenarios (simulated data,
 //! never a measurement); the physics they feed is the full model's.
@@ -89,6 +89,19 @@ pub struct Spread {
 pub struct Scenario {
     /// Short name used in serial numbers and file names.
     pub name: String,
+    /// Whether the scenario describes simulated (invented) data, never a
+    /// measurement: set for the built-in demo scenarios and by
+    /// `simulate --write-spec`, and carried into every part file fitted
+    /// with the scenario, the JSON reports made from those parts and the
+    /// Rust/C exports of their images. Files written without the field, and
+    /// scenarios made from an element spec (which describes the user's
+    /// element), read as not simulated.
+    #[serde(default)]
+    pub simulated: bool,
+    /// Caution carried with simulated data ([`super::output::SIMULATED_CAUTION`];
+    /// empty, and not written, when not simulated).
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub caution: String,
     /// Element kind.
     pub kind: ElementKind,
     /// Nominal die material and doping.
@@ -181,6 +194,13 @@ impl Scenario {
         self
     }
 
+    /// The scenario marked as describing simulated data (see [`Scenario::simulated`]).
+    pub fn marked_simulated(mut self) -> Scenario {
+        self.simulated = true;
+        self.caution = super::output::SIMULATED_CAUTION.into();
+        self
+    }
+
     /// Full-scale span width of the stimulus.
     pub fn fs_width(&self) -> f64 {
         self.stimulus_fs.1 - self.stimulus_fs.0
@@ -220,6 +240,8 @@ impl Scenario {
     pub fn well_logger() -> Scenario {
         Scenario {
             name: "well".into(),
+            simulated: true,
+            caution: super::output::SIMULATED_CAUTION.into(),
             kind: ElementKind::Bridge,
             sample: Sample {
                 material: Material::Si,
@@ -292,6 +314,8 @@ impl Scenario {
     pub fn battery_current() -> Scenario {
         Scenario {
             name: "battery".into(),
+            simulated: true,
+            caution: super::output::SIMULATED_CAUTION.into(),
             kind: ElementKind::HallPlate,
             sample: Sample {
                 material: Material::Si,
@@ -367,7 +391,12 @@ mod tests {
             if line.starts_with('[') {
                 in_truth = line.trim() == "[truth]";
             }
-            if in_truth || line.starts_with("nonlinearity_") || line.starts_with("qual_") {
+            if in_truth
+                || line.starts_with("nonlinearity_")
+                || line.starts_with("qual_")
+                || line.starts_with("simulated")
+                || line.starts_with("caution")
+            {
                 continue;
             }
             old.push_str(line);
@@ -383,8 +412,12 @@ mod tests {
         assert_eq!(back.spread.nonlinearity_sd_rel, 0.0);
         assert_eq!(back.spread.nonlinearity_per_k, 0.0);
         assert_eq!(back.qual_temps_c, None);
+        // Not marked simulated: an old file says nothing about its data.
+        assert!(!back.simulated && back.caution.is_empty());
         // Everything else as written.
         let expected = Scenario {
+            simulated: false,
+            caution: String::new(),
             spread: Spread {
                 nonlinearity_rel: 0.0,
                 nonlinearity_sd_rel: 0.0,

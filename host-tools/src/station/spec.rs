@@ -42,7 +42,9 @@ pub fn to_toml(scenario: &Scenario) -> String {
     format!(
         "# semidrift station scenario: element, lot spread and chamber plan.\n\
          # Invented demo data; units are in the field names and docs of\n\
-         # host_tools::station::scenario::Scenario.\n{body}"
+         # host_tools::station::scenario::Scenario.\n\
+         # {}.\n{body}",
+        super::output::caution_for(scenario.simulated)
     )
 }
 
@@ -124,7 +126,7 @@ pub fn from_element(spec: &ElementSpec) -> Scenario {
             if let Some(v) = b.excitation.voltage_v {
                 sc.excitation = v;
             }
-            sc
+            not_simulated(sc)
         }
         ElementSpec::Hall(h) => {
             let mut sc = Scenario::battery_current();
@@ -147,9 +149,18 @@ pub fn from_element(spec: &ElementSpec) -> Scenario {
             if let Some(i) = h.excitation.current_a {
                 sc.excitation = i;
             }
-            sc
+            not_simulated(sc)
         }
     }
+}
+
+/// An element spec describes the user's element, whose chamber data may be
+/// measured: its scenario is not marked simulated (`simulate --write-spec`
+/// marks the scenario file it writes).
+fn not_simulated(mut sc: Scenario) -> Scenario {
+    sc.simulated = false;
+    sc.caution.clear();
+    sc
 }
 
 #[cfg(test)]

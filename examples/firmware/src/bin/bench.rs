@@ -1,11 +1,11 @@
 //! Instruction, stack and memory benchmark of the compensation path against
-//! the polynomial correction most products use, run in QEMU with `-icount`.
+//! the usual polynomial correction (common practice), run in QEMU with `-icount`.
 //!
 //! `cargo run --release --bin bench --target <triple>` (from
 //! examples/firmware) prints one line per figure:
 //! `metric <name> <value> <unit> target=<triple>`. Instruction figures are
 //! per call, net of an empty call of the same signature through the same
-//! loop, averaged over the recorded stream's inputs (see `count`); they are
+//! loop, averaged over the simulated stream's inputs (see `count`); they are
 //! instructions, not cycles. Two runs print identical lines.
 //!
 //! Cortex-M4F: the f32 path (the one an FPU part runs) and the polynomial
@@ -35,7 +35,7 @@ static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
 static IMAGE_F32_FINE: &[u8] = include_bytes!("../../data/well_level_f32_fine.bin");
 static STREAM: &str = include_str!("../../data/well_level_stream.csv");
 
-/// Inputs: the temperature ramp of the recorded stream (its last four
+/// Inputs: the temperature ramp of the simulated stream (its last four
 /// samples are faults, which a benchmark of normal operation leaves out).
 const INPUTS: usize = 116;
 
@@ -561,7 +561,7 @@ mod sweep_f32 {
         fine_image(counter, [temp_f, drift_f, jump_f], first);
     }
 
-    /// Our update from the finer image on the recorded stream, the drift
+    /// Our update from the finer image on the simulated stream, the drift
     /// and the jumps (out of line, like the caller).
     #[inline(never)]
     fn fine_image(counter: &Counter, streams: [&[f32]; 3], first: f32) {
@@ -678,7 +678,7 @@ mod sweep_q {
     }
 }
 
-/// Parses the recorded stream into the input arrays.
+/// Parses the simulated stream into the input arrays.
 fn inputs() -> [Sample; INPUTS] {
     let mut samples = [Sample {
         raw_code: 0,
@@ -733,7 +733,7 @@ fn main() -> ! {
         rt::exit_failure()
     };
     let mut poly_q = poly_q();
-    // Samples are timed at the coefficients of the first recorded temperature.
+    // Samples are timed at the coefficients of the first simulated temperature.
     let _ = fixed.update_temperature(temp_q[0]);
     let _ = poly_q_temp_update(&mut poly_q, temp_q[0]);
 
@@ -871,7 +871,7 @@ fn main() -> ! {
     };
     report_insn(&counter, drift_name, &mut fixed, &drift_q, Q_TEMP_UPDATE);
     report_insn(&counter, jump_name, &mut fixed, &jump_q, Q_TEMP_UPDATE);
-    // Samples are timed at the coefficients of the first recorded
+    // Samples are timed at the coefficients of the first simulated
     // temperature, as before the two streams above.
     let _ = fixed.update_temperature(temp_q[0]);
     report_insn(&counter, q_names[1], &mut fixed, &raw_q, Q_SAMPLE);

@@ -1,5 +1,5 @@
 //! Demo and verification firmware: validates the embedded table images at
-//! boot, shows that a corrupted image is refused, replays the recorded
+//! boot, shows that a corrupted image is refused, replays the simulated
 //! sample stream through the compensators and prints one line per sample
 //! (the f32 result as its exact bit pattern and in decimal, the integer
 //! result as the raw i32) and one line with the polynomial baseline's
@@ -25,7 +25,7 @@ static IMAGE_Q: &[u8] = include_bytes!("../../data/well_level_q.bin");
 /// f32 table image (the FPU path).
 #[cfg(fpu)]
 static IMAGE_F32: &[u8] = include_bytes!("../../data/well_level_f32.bin");
-/// The recorded raw and temperature-signal codes.
+/// The simulated raw and temperature-signal codes.
 static STREAM: &str = include_str!("../../data/well_level_stream.csv");
 
 /// How an image is parsed: [`TableView::parse_q`] for the Q images (the
@@ -61,7 +61,7 @@ fn fixed_compensator<'a>(view: Option<&TableView<'a>>) -> FixedCompensator<'a> {
 }
 
 /// Room for the copy that `corrupt_copy_is_refused` damages: the demo
-/// images are 704 bytes; 2 KiB of the micro:bit's 16 KiB RAM leaves room
+/// images are 704 bytes; 2 KiB of the microbit board's 16 KiB RAM leaves room
 /// for a larger plan (a larger image fails with a clear line, not a panic).
 const CORRUPTION_BUFFER_BYTES: usize = 2048;
 

@@ -14,14 +14,19 @@ use std::io::Write;
 #[derive(Debug, Subcommand)]
 pub enum PlotCommand {
     /// Carriers, mobilities, resistivity and an Arrhenius view of a sample versus temperature.
+    #[command(after_help = super::CAUTIONS)]
     Model(model::PlotModelArgs),
     /// Relative span, offset and resistance drift of a sense element, both drives.
+    #[command(after_help = super::CAUTIONS)]
     Element(element::PlotElementArgs),
     /// One part's error against temperature before and after compensation.
+    #[command(after_help = super::CAUTIONS)]
     Part(part::PlotPartArgs),
     /// A lot's worst-case error envelope before and after compensation.
+    #[command(after_help = super::CAUTIONS)]
     Lot(lot::PlotLotArgs),
     /// A table image's error against temperature beside its budget allowance.
+    #[command(after_help = super::CAUTIONS)]
     Table(table::PlotTableArgs),
 }
 
