@@ -7,7 +7,7 @@ use super::chamber::{self, ChamberData};
 use super::compare::{Comparison, QualifiedComparison, compare, compare_qualified};
 use super::curves::ShapeCurves;
 use super::design::{self, DesignFile, ProductionPlan};
-use super::export::{ExportFormat, export};
+use super::export::{ExportFormat, export_with};
 use super::lot::{calibrate_lot, calibrate_lot_with, progress};
 use super::model_shapes::shapes_for;
 use super::output::{OutputError, to_json_bytes, write_atomic};
@@ -47,6 +47,10 @@ pub enum DemoError {
 pub struct ScenarioSummary {
     /// Scenario name.
     pub scenario: String,
+    /// Whether the lot is simulated (invented data, never a measurement).
+    pub simulated: bool,
+    /// The caution that goes with every figure here.
+    pub caution: String,
     /// Parts simulated.
     pub parts: usize,
     /// Parts whose fit was accepted.
@@ -281,7 +285,10 @@ pub fn run_scenario(
             )?;
             // One part exported in every flashing format, as a station would.
             for f in [ExportFormat::Rust, ExportFormat::C, ExportFormat::Hex] {
-                let data = step(scenario, export(image, f, "drift_table", DEMO_ADDRESS))?;
+                let data = step(
+                    scenario,
+                    export_with(image, f, "drift_table", DEMO_ADDRESS, scenario.simulated),
+                )?;
                 write_atomic(
                     &dir.join("tables")
                         .join(format!("{serial}.{}", f.extension())),
@@ -310,6 +317,8 @@ pub fn run_scenario(
     }
     let summary = ScenarioSummary {
         scenario: scenario.name.clone(),
+        simulated: scenario.simulated,
+        caution: super::output::caution_for(scenario.simulated),
         parts: parts.len(),
         calibrated: ok.len(),
         cal_temps_c: scenario.cal_temps_c.clone(),
