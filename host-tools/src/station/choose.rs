@@ -154,6 +154,16 @@ pub fn smallest_plan(
         .filter(|&k| max[k] > 0 && !(k == 1 && axis == AxisKind::Signal))
         .collect();
     let axes = searched.len();
+    // A part whose nonlinearity alone exceeds the target cannot be served by
+    // a 1-D table at any size: say so before the search walks every size up
+    // to the limit.
+    // (A 1-D table reproduces at best the terminal line, which misses the
+    // stimulus by the mid-scale deviation there; 0.9 of it leaves room for
+    // rounding in that argument.)
+    let bow_ppm = frame.nonlinearity_ppm();
+    if !two_d && 0.9 * bow_ppm > target {
+        return Err(unreachable(bow_ppm));
+    }
     let mut n = [0usize; 3];
     for &k in &searched {
         let found = smallest(target / axes as f64, max[k], &mut |j| {

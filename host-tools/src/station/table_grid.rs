@@ -14,6 +14,17 @@ impl TableFrame<'_> {
             .or_else(|| self.bow.map(|b| b.mid_at(t_c, self.t_ref_c)))
     }
 
+    /// Largest mid-scale nonlinearity over the frame's range, ppm of span (0
+    /// without one): what a table without a 2-D correction misses at least.
+    pub fn nonlinearity_ppm(&self) -> f64 {
+        (0..=100)
+            .filter_map(|k| {
+                self.bow_mid(self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 100.0)
+            })
+            .fold(0.0f64, |m, b| m.max(b.abs()))
+            * 1e6
+    }
+
     /// Whether the output has a nonlinearity a 2-D correction could take out.
     pub fn has_bow(&self) -> bool {
         self.bow_mid(self.t_ref_c).is_some()
