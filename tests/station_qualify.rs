@@ -270,3 +270,56 @@ fn bad_qualification_input_is_refused_with_file_line_and_field() {
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("field 'design_hash'"), "{}", stderr(&o));
 }
+
+#[test]
+fn suggested_plans_are_cross_validated_and_sorted() {
+    let dir = lot();
+    let d = dir.path();
+    // Seven qualification temperatures keep the candidate count small.
+    let keep = ["-40", "-20", "5", "25", "50", "85", "125"];
+    let text = std::fs::read_to_string(d.join("qual.csv")).unwrap();
+    let rows: Vec<&str> = text
+        .lines()
+        .filter(|l| l.starts_with("serial") || keep.contains(&l.split(',').nth(1).unwrap()))
+        .collect();
+    std::fs::write(d.join("q7.csv"), rows.join("\n") + "\n").unwrap();
+    let out = ok_in(
+        d,
+        &[
+            "qualify",
+            "well.toml",
+            "q7.csv",
+            "--out",
+            "d7.json",
+            "--suggest-plan",
+            "--json",
+        ],
+    );
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let plans = v["suggested_plans"].as_array().unwrap();
+    assert!(!plans.is_empty() && plans.len() <= 5, "{out}");
+    let worst: Vec<f64> = plans
+        .iter()
+        .map(|p| p["operating_range_ppm"].as_f64().unwrap())
+        .collect();
+    assert!(worst.windows(2).all(|w| w[0] <= w[1]), "{worst:?}");
+    for p in plans {
+        let t: Vec<f64> = p["plan"]["temps_c"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_f64().unwrap())
+            .collect();
+        // Three temperatures spanning -20..85 C to within 15 K.
+        assert_eq!(t.len(), 3);
+        assert!(t[0] <= -5.0 && t[2] >= 70.0, "{t:?}");
+    }
+    // The design's own plan (-20/25/85) is among the candidates, so the best
+    // suggestion is no worse than it.
+    let own = v["plan"]["operating_range_ppm"].as_f64().unwrap();
+    assert!(
+        worst[0] <= own + 1e-9,
+        "best {} vs the plan's {own}",
+        worst[0]
+    );
+}

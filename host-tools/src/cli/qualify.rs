@@ -31,6 +31,11 @@ pub struct QualifyArgs {
     /// Print a JSON summary on stdout instead of the text report.
     #[arg(long)]
     pub json: bool,
+    /// Also cross-validate every three-temperature production plan among the
+    /// qualification temperatures that spans the operating range (to within
+    /// 15 K) and list the best five (one qualification run per plan).
+    #[arg(long)]
+    pub suggest_plan: bool,
 }
 
 /// The `--json` summary.
@@ -45,6 +50,8 @@ struct Summary<'a> {
     movement: &'a [design::learn::Movement],
     modes_used: [usize; 4],
     outlier: design::OutlierLimits,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    suggested_plans: Vec<design::learn::PlanError>,
 }
 
 /// Runs `semidrift qualify`.
@@ -85,6 +92,11 @@ pub fn run(args: QualifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let d = design::qualify(&scenario, &curves, &data, &file, &plan)
         .map_err(|e| CliError::Input(e.to_string()))?;
     output::write_atomic(&args.out, &d.to_bytes()).map_err(|e| CliError::Input(e.to_string()))?;
+    let suggested = if args.suggest_plan {
+        design::suggest_plans(&scenario, &curves, &data, &file, &plan.stimuli, 5)
+    } else {
+        Vec::new()
+    };
     if args.json {
         let s = Summary {
             design: args.out.display().to_string(),
@@ -96,11 +108,25 @@ pub fn run(args: QualifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             movement: &d.movement,
             modes_used: d.core.modes_used(),
             outlier: d.outlier,
+            suggested_plans: suggested,
         };
         out.write_all(&output::to_json_bytes(&s))?;
         return Ok(());
     }
     write!(out, "{}", report_text(&d))?;
+    if !suggested.is_empty() {
+        writeln!(
+            out,
+            "best three-temperature plans (worst held-out error, ppm of span: operating range / everywhere):"
+        )?;
+        for p in &suggested {
+            writeln!(
+                out,
+                "  {:?} C: {:.1} / {:.1}",
+                p.plan.temps_c, p.operating_range_ppm, p.all_ppm
+            )?;
+        }
+    }
     writeln!(
         out,
         "design -> {} (hash {})",

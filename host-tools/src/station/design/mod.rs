@@ -75,6 +75,51 @@ pub fn qualify(
     Ok(DesignFile::new(scenario, learned, file, outlier))
 }
 
+/// Production plans of three chamber temperatures among the qualification
+/// lot's, each cross-validated on the lot: the coldest within 15 K above
+/// the operating range's start, the hottest within 15 K below its end, any
+/// one between. Sorted by the worst error inside the operating range, then
+/// everywhere; at most `keep` plans. Costs one qualification per plan.
+pub fn suggest_plans(
+    scenario: &Scenario,
+    curves: &ShapeCurves,
+    data: &ChamberData,
+    file: &str,
+    stimuli: &[f64],
+    keep: usize,
+) -> Vec<learn::PlanError> {
+    use rayon::prelude::*;
+    let mut temps: Vec<f64> = data.rows.iter().map(|r| r.chamber_c).collect();
+    temps.sort_by(f64::total_cmp);
+    temps.dedup_by(|a, b| (*a - *b).abs() <= reduce::SAME_STEP_K);
+    let (lo, hi) = scenario.range_c;
+    let mut plans = Vec::new();
+    for (i, &a) in temps.iter().enumerate() {
+        for (j, &b) in temps.iter().enumerate().skip(i + 1) {
+            for &c in temps.iter().skip(j + 1) {
+                if a <= lo + 15.0 && c >= hi - 15.0 {
+                    plans.push(ProductionPlan {
+                        temps_c: vec![a, b, c],
+                        stimuli: stimuli.to_vec(),
+                    });
+                }
+            }
+        }
+    }
+    let mut out: Vec<learn::PlanError> = plans
+        .par_iter()
+        .filter_map(|p| learn::learn(scenario, curves, data, file, p).ok())
+        .map(|l| l.plan_error)
+        .collect();
+    out.sort_by(|x, y| {
+        x.operating_range_ppm
+            .total_cmp(&y.operating_range_ppm)
+            .then(x.all_ppm.total_cmp(&y.all_ppm))
+    });
+    out.truncate(keep);
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
