@@ -453,7 +453,7 @@ fn committed_sweep_is_what_the_host_computes() {
 #[test]
 fn crossover_is_the_first_degree_dearer_than_ours() {
     let cases: [(&[u64], u64, Option<usize>); 6] = [
-        // The M4F f32 figures of the README, hundredths: degree 5.
+        // The M4F f32 figures of docs/performance.md, hundredths: degree 5.
         (
             &[
                 2217, 2617, 3017, 3417, 3817, 4217, 4617, 5017, 5417, 5817, 6217, 6617,

@@ -1,4 +1,4 @@
-//! The comparison of the README's demo table ("physics only" against
+//! The comparison of the demo table in docs/station.md ("physics only" against
 //! "polynomial"): on the same simulated lot and the same three
 //! calibration temperatures, the physics calibration (8 stored numbers per
 //! part) against the usual polynomial (quadratic offset and span in
@@ -48,7 +48,7 @@ fn run(scenario: &Scenario, n: usize, seed: u64) -> Comparison {
 /// least 5 times smaller worst-case error than the polynomial. The factor 5
 /// is that goal, set before the comparison was run, not a tuned tolerance; on the 50-part
 /// demo lots the measured factors are 5.6 (well logger outside the
-/// calibrated span) to 23 (README).
+/// calibrated span) to 23 (docs/station.md).
 #[test]
 fn physics_beats_polynomial_five_times_at_equal_memory() {
     for scenario in [Scenario::well_logger(), Scenario::battery_current()] {

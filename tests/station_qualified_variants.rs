@@ -6,7 +6,7 @@
 //! truths are published models other than the fitted one, with a per-part
 //! 0.1 % nonlinearity (invented, simulated data: an internal test, not an
 //! external check). `SEMIDRIFT_SLOW=1` uses 100 production parts and builds,
-//! verifies and applies a 100 ppm table for every one (the README's
+//! verifies and applies a 100 ppm table for every one (docs/qualification.md's
 //! figures) instead of 20 parts and one table, and prints the table.
 
 use host_tools::station::apply::{ImageCompensation, apply_rows};
@@ -126,7 +126,7 @@ fn qualified_design_holds_on_every_truth_variant() {
         // outlier: they come from the same process as the qualification lot).
         assert_eq!(ok.len(), n, "{name}: {} of {n} accepted", ok.len());
         // Margins for a 20-part draw over the 100-part figures in the
-        // README (inside 34..57, -40..125 C 113..239 ppm): 2x inside, 2x
+        // docs/qualification.md (inside 34..57, -40..125 C 113..239 ppm): 2x inside, 2x
         // overall, and the design beats the equal-memory polynomial 20x.
         assert!(q.qualified.inside_ppm < 120.0, "{name}: {q:?}");
         assert!(all(q.qualified) < 500.0, "{name}: {q:?}");

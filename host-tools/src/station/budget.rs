@@ -1,5 +1,5 @@
 //! The error budget of a compensated part, term by term (the terms `table`
-//! prints, README "The demo"), all in ppm of full-scale span.
+//! prints, docs/station.md), all in ppm of full-scale span.
 
 use super::part_file::PartFile;
 use super::table::TableFrame;

@@ -1,4 +1,4 @@
-//! The comparison the README reports: physics calibration against the usual
+//! The comparison docs/station.md reports: physics calibration against the usual
 //! polynomial, on the same lot and the same calibration points, judged at
 //! held-out temperatures inside and outside the calibrated span.
 
