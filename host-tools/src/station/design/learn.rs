@@ -671,8 +671,8 @@ impl Lot<'_> {
 
     /// Cross-validates thermometer mode count `k_axis`, choosing the other
     /// families' mode counts by coordinate descent on the rms error.
-    fn run(&self, k_axis: usize, coupled: bool) -> AxisRun {
-        let (weights, lambdas, mut therm, noise) = self.part_weights(k_axis);
+    fn run(&self, k_axis: usize, coupled: bool, pw: &PartWeights) -> AxisRun {
+        let (weights, lambdas, mut therm, noise) = pw.clone();
         if !coupled {
             therm.iter_mut().for_each(Vec::clear);
         }
@@ -946,19 +946,20 @@ pub fn learn(
     // learned against (the reading production computes), so each choice is
     // a run of its own; the best rms wins, a mode more must gain 1 %.
     let plan_n = used_temps.len();
-    let t_modes_avail = lot
-        .core_from(None, &lot.part_weights(0).0, [0.0; 4], &[], [0.0; 4])
-        .0
-        .families[0]
-        .modes
-        .len();
-    let mut run = lot.run(0, false);
+    let t_modes_avail = {
+        let refs: Vec<&Vec<f64>> = therm_w.iter().collect();
+        components(&basis, curves, Family::Thermometer, &refs, &grid)
+            .1
+            .len()
+    };
+    let mut run = lot.run(0, false, &lot.part_weights(0));
     for k in 1..=t_modes_avail.min(plan_n - 1).min(2) {
         // Each thermometer mode count alone, then with the other curves
         // coupled to its coefficients; a choice must gain 1 % to replace
         // the simpler one.
+        let pw = lot.part_weights(k);
         for coupled in [false, true] {
-            let r = lot.run(k, coupled);
+            let r = lot.run(k, coupled, &pw);
             if r.score < run.score * 0.99 {
                 run = r;
             }
