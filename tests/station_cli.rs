@@ -252,7 +252,13 @@ fn two_temperatures_are_reported_not_accepted() {
     // table refuses the rejected part with a named reason.
     let o = run_in(dir, &["table", "p/WELL-0001.part.json"]);
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
-    assert!(stderr(&o).contains("fit not usable"), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("p/WELL-0001.part.json:")
+            && err.contains("field 'status'")
+            && err.contains("was not calibrated"),
+        "{err}"
+    );
 }
 
 #[test]

@@ -34,11 +34,11 @@ fn run(scenario: &Scenario, n: usize, seed: u64) -> Comparison {
     };
     let cal_rows = ChamberData {
         rows: measure(scenario, &parts, &cal, seed).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     };
     let check_rows = ChamberData {
         rows: measure(scenario, &parts, &check, seed).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     };
     let fitted = calibrate_lot(scenario, &curves, &cal_rows, true);
     compare(&fitted, &curves, &check_rows)
@@ -91,7 +91,7 @@ fn comparison_skips_parts_that_did_not_calibrate() {
     };
     let rows = ChamberData {
         rows: measure(&scenario, &parts, &cal, 5).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     };
     let fitted = calibrate_lot(&scenario, &curves, &rows, true);
     let c = compare(&fitted, &curves, &rows);

@@ -25,7 +25,7 @@ fn lot_rows(sc: &Scenario, n: usize, seed: u64, plan: &Plan) -> ChamberData {
     let parts = draw_parts(sc, n, seed);
     ChamberData {
         rows: measure(sc, &parts, plan, seed).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     }
 }
 

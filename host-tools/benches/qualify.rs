@@ -25,7 +25,7 @@ fn qualify(c: &mut Criterion) {
     let parts = draw_parts(&sc, 20, 7);
     let qual_data = ChamberData {
         rows: measure(&sc, &parts, &qual, 7).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     };
     let plan = ProductionPlan {
         temps_c: sc.cal_temps_c.clone(),
@@ -46,7 +46,7 @@ fn qualify(c: &mut Criterion) {
     let lot = draw_parts(&sc, 1000, 1);
     let data = ChamberData {
         rows: measure(&sc, &lot, &prod, 1).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     };
     group.bench_function("calibrate_1000_parts_on_design", |b| {
         b.iter(|| calibrate_lot_with(&sc, &curves, &data, Some(&d), true))

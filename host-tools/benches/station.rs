@@ -24,7 +24,7 @@ fn station(c: &mut Criterion) {
     let parts = draw_parts(&sc, 1000, 1);
     let data = ChamberData {
         rows: measure(&sc, &parts, &plan, 1).unwrap(),
-        errors: vec![],
+        ..ChamberData::default()
     };
     let mut group = c.benchmark_group("station");
     group
@@ -38,7 +38,7 @@ fn station(c: &mut Criterion) {
         &curves,
         &ChamberData {
             rows: data.rows[..9].to_vec(),
-            errors: vec![],
+            ..ChamberData::default()
         },
         true,
     );

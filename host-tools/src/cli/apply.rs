@@ -43,13 +43,27 @@ struct ApplyReport<'a> {
 
 /// Runs `semidrift apply`.
 pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let first = std::fs::read(&args.part_or_image).map_err(|e| {
-        CliError::Input(format!(
-            "{}: cannot read: {e}",
-            args.part_or_image.display()
-        ))
-    })?;
+    use crate::station::limits::{MAX_IMAGE_BYTES, MAX_JSON_BYTES, read_capped};
+    let first = read_capped(
+        &args.part_or_image,
+        MAX_IMAGE_BYTES.max(MAX_JSON_BYTES),
+        "table image or part file",
+    )
+    .map_err(|m| CliError::Input(format!("{}: {m}", args.part_or_image.display())))?;
+    // Decided by content: an image starts with its magic, a part file is a
+    // JSON object.
     let is_image = first.starts_with(b"SDRT");
+    let is_json = first
+        .iter()
+        .find(|b| !b.is_ascii_whitespace())
+        .is_some_and(|&b| b == b'{');
+    if !is_image && !is_json {
+        return Err(CliError::Input(format!(
+            "{}: not a table image or part file ({} bytes; an image starts with 'SDRT', a part file is JSON)",
+            args.part_or_image.display(),
+            first.len()
+        )));
+    }
     let part_path = if is_image {
         args.against.clone().ok_or_else(|| {
             CliError::option(
@@ -64,9 +78,7 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part_for(&part_path, args.design.as_deref())?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
-    for e in &data.errors {
-        eprintln!("semidrift: error: {e}");
-    }
+    super::report_rows(&data);
     let rows: Vec<&chamber::ChamberRow> = data
         .rows
         .iter()
@@ -89,6 +101,15 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             part.scenario.signal_adc.lsb(),
         )
         .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
+        let view = compensate::TableView::parse(&first)
+            .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
+        pipeline::check_image_for_part(&view, &part).map_err(|e| {
+            CliError::Input(format!(
+                "{}: {e} (part file {})",
+                args.part_or_image.display(),
+                part_path.display()
+            ))
+        })?;
         &image_comp
     } else {
         model_comp = ModelCompensation::for_part(&part, &curves);
@@ -126,9 +147,11 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
                 r.error_ppm,
                 r.raw_error_ppm,
                 if r.clipped {
-                    "  clipped (ADC rail)"
+                    "  clipped (ADC rail)".to_string()
+                } else if !r.runtime_status.is_empty() {
+                    format!("  outside the table: {}", r.runtime_status)
                 } else {
-                    ""
+                    String::new()
                 }
             )?;
         }

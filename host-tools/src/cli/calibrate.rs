@@ -32,9 +32,14 @@ pub struct CalibrateArgs {
 pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let scenario = spec::load(&args.spec).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
-    for e in &data.errors {
-        eprintln!("semidrift: error: {e}");
-    }
+    super::report_rows(&data);
+    output::check_destination(&args.out_dir).or_else(|e| match e {
+        // An existing folder is where part files go.
+        output::OutputError::NotRegular {
+            kind: "directory", ..
+        } => Ok(()),
+        e => Err(e),
+    })?;
     let curves = model_shapes::shapes_for(&scenario)
         .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
     let design = match &args.design {
@@ -46,11 +51,26 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         }
         None => None,
     };
+    if data.rows.is_empty() {
+        return Err(CliError::CheckFailed(format!(
+            "{}: no readable rows ({} rejected): no part to calibrate",
+            args.csv.display(),
+            data.errors.len()
+        )));
+    }
     let parts = lot::calibrate_lot_with(&scenario, &curves, &data, design.as_ref(), args.quiet);
     let mut bad = Vec::new();
+    let mut unwritten = Vec::new();
     for p in &parts {
-        let path = args.out_dir.join(format!("{}.part.json", p.serial));
-        output::write_atomic(&path, &p.to_bytes()).map_err(|e| CliError::Input(e.to_string()))?;
+        // Serials were checked when the CSV was read (limits::check_serial);
+        // path_in keeps the name inside the folder whatever happens.
+        let written = output::path_in(&args.out_dir, &format!("{}.part.json", p.serial))
+            .and_then(|path| output::write_atomic(&path, &p.to_bytes()));
+        if let Err(e) = written {
+            // One part's file failing must not cost the others theirs.
+            eprintln!("semidrift: error: {e}");
+            unwritten.push(e.to_string());
+        }
         if !p.is_ok() {
             bad.push(format!("{}: {}", p.serial, p.status));
         }
@@ -74,7 +94,7 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     writeln!(
         out,
         "{} part files -> {}",
-        parts.len(),
+        parts.len() - unwritten.len(),
         args.out_dir.display()
     )?;
     match &design {
@@ -91,6 +111,12 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         )?,
     }
     writeln!(out, "{}", output::caution_for(scenario.simulated))?;
+    if let Some(e) = unwritten.first() {
+        return Err(CliError::Input(format!(
+            "{} part file(s) not written, first: {e}",
+            unwritten.len()
+        )));
+    }
     if let Some(e) = data.errors.first() {
         return Err(CliError::Input(format!(
             "{} bad row(s) skipped, first: {e}",

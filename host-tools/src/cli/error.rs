@@ -11,6 +11,9 @@ pub enum CliError {
     /// The command ran but a check it performs failed, e.g. verification over
     /// budget (exit 1). The report was already printed.
     CheckFailed(String),
+    /// Standard output was closed by its reader (`semidrift model | head`):
+    /// a normal end, exit 0 and no message.
+    OutputClosed,
 }
 
 impl CliError {
@@ -29,6 +32,7 @@ impl CliError {
         match self {
             CliError::Input(_) => 2,
             CliError::CheckFailed(_) => 1,
+            CliError::OutputClosed => 0,
         }
     }
 }
@@ -37,14 +41,24 @@ impl fmt::Display for CliError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             CliError::Input(m) | CliError::CheckFailed(m) => f.write_str(m),
+            CliError::OutputClosed => f.write_str("standard output closed"),
         }
     }
 }
 
 impl std::error::Error for CliError {}
 
+impl From<crate::station::output::OutputError> for CliError {
+    fn from(e: crate::station::output::OutputError) -> Self {
+        CliError::Input(e.to_string())
+    }
+}
+
 impl From<std::io::Error> for CliError {
     fn from(e: std::io::Error) -> Self {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            return CliError::OutputClosed;
+        }
         CliError::Input(format!("I/O error: {e}"))
     }
 }

@@ -17,7 +17,7 @@ pub mod range;
 pub mod sample_args;
 mod simulate;
 mod table;
-mod verify;
+pub(crate) mod verify;
 
 pub use error::CliError;
 
@@ -110,7 +110,7 @@ where
         }
     };
     match dispatch(cli.command, out) {
-        Ok(()) => 0,
+        Ok(()) | Err(CliError::OutputClosed) => 0,
         Err(e) => {
             eprintln!("semidrift: error: {e}");
             e.exit_code()
@@ -131,6 +131,17 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Verify(args) => verify::run(args, out),
         Command::Apply(args) => apply::run(args, out),
         Command::Demo(args) => demo::run(args, out),
+    }
+}
+
+/// Prints a chamber file's rejected rows (errors) and repeated readings
+/// (warnings) on stderr, one line each.
+pub(crate) fn report_rows(data: &crate::station::chamber::ChamberData) {
+    for e in &data.errors {
+        eprintln!("semidrift: error: {e}");
+    }
+    for w in &data.repeats {
+        eprintln!("semidrift: warning: {w}");
     }
 }
 

@@ -58,6 +58,11 @@ struct Summary<'a> {
 pub fn run(args: QualifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let scenario = spec::load(&args.spec).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
+    super::report_rows(&data);
+    output::check_not_input(
+        &args.out,
+        &[args.csv.as_path(), std::path::Path::new(&args.spec)],
+    )?;
     if let Some(e) = data.errors.first() {
         return Err(CliError::Input(format!(
             "{e} ({} bad row(s); a design is learned only from a clean qualification file)",

@@ -3,7 +3,7 @@
 //! simulated truth contains beyond the fitted model).
 
 use super::CliError;
-use crate::station::{chamber, output, simulate, spec, truth};
+use crate::station::{output, simulate, spec, truth};
 use std::io::Write;
 use std::path::PathBuf;
 
@@ -58,12 +58,18 @@ pub fn run(args: SimulateArgs, out: &mut dyn Write) -> Result<(), CliError> {
             )
         })?;
     }
-    if args.parts == 0 {
+    let max_parts = crate::station::limits::MAX_SIMULATED_PARTS;
+    if args.parts == 0 || args.parts > max_parts {
         return Err(CliError::option(
             "--parts",
-            "0",
-            "a lot needs at least one part",
+            &args.parts.to_string(),
+            format!("a lot has 1 to {max_parts} parts"),
         ));
+    }
+    let spec_path = std::path::Path::new(&args.spec);
+    output::check_not_input(&args.out, &[spec_path])?;
+    if let Some(path) = &args.write_spec {
+        output::check_not_input(path, &[spec_path, args.out.as_path()])?;
     }
     let (temps_c, plan_stimuli) = match (&args.temps, args.check, args.qualification) {
         (Some(t), _, _) => (t.clone(), scenario.stimuli.clone()),
@@ -78,11 +84,25 @@ pub fn run(args: SimulateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         temps_c,
         stimuli: args.stimuli.clone().unwrap_or(plan_stimuli),
     };
-    let parts = simulate::draw_parts(&scenario, args.parts, args.seed);
-    let rows = simulate::measure(&scenario, &parts, &plan, args.seed)
-        .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
-    output::write_atomic(&args.out, &chamber::to_csv_bytes(&rows))
-        .map_err(|e| CliError::Input(e.to_string()))?;
+    check_plan(&plan)?;
+    let mut failure = None;
+    let mut rows = 0;
+    output::write_atomic_with(&args.out, |_, file| {
+        let mut buffered = std::io::BufWriter::new(file);
+        match simulate::write_lot(&scenario, args.parts, &plan, args.seed, &mut buffered) {
+            Ok(n) => rows = n,
+            Err(simulate::SimulateError::Io(e)) => return Err(e),
+            Err(e) => {
+                failure = Some(e.to_string());
+                return Err(std::io::Error::other("simulation failed"));
+            }
+        }
+        buffered.flush()
+    })
+    .map_err(|e| match failure.take() {
+        Some(f) => CliError::Input(format!("{}: {f}", args.spec)),
+        None => CliError::from(e),
+    })?;
     if let Some(path) = &args.write_spec {
         // The scenario file describes the simulated lot just written.
         let scenario = scenario.clone().marked_simulated();
@@ -92,18 +112,50 @@ pub fn run(args: SimulateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     writeln!(
         out,
         "simulated {} parts x {} temperatures x {} stimuli = {} rows -> {}",
-        parts.len(),
+        args.parts,
         plan.temps_c.len(),
         plan.stimuli.len(),
-        rows.len(),
+        rows,
         args.out.display()
     )?;
+    Ok(())
+}
+
+/// Checks the chamber plan: 1 to `MAX_PLAN_POINTS` temperatures inside the
+/// station's limits and as many finite stimuli.
+fn check_plan(plan: &simulate::Plan) -> Result<(), CliError> {
+    use crate::station::limits::{MAX_PLAN_POINTS, check_temperature_c};
+    for (option, values) in [("--temps", &plan.temps_c), ("--stimuli", &plan.stimuli)] {
+        let shown = || {
+            values
+                .iter()
+                .map(|v| v.to_string())
+                .collect::<Vec<_>>()
+                .join(",")
+        };
+        if values.is_empty() || values.len() > MAX_PLAN_POINTS {
+            return Err(CliError::option(
+                option,
+                &shown(),
+                format!("a plan has 1 to {MAX_PLAN_POINTS} values"),
+            ));
+        }
+        for &v in values.iter() {
+            let checked = if option == "--temps" {
+                check_temperature_c(v)
+            } else {
+                crate::station::limits::check_reading(v)
+            };
+            checked.map_err(|m| CliError::option(option, &v.to_string(), m))?;
+        }
+    }
     Ok(())
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::station::chamber;
     use crate::station::truth::{PiezoTruth, ResistivityTruth};
 
     fn args(dir: &std::path::Path) -> SimulateArgs {

@@ -20,7 +20,7 @@ pub struct TableArgs {
     #[arg(long)]
     pub design: Option<PathBuf>,
     /// Total error budget in ppm of span (default: the scenario's).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub budget: Option<f64>,
     /// Export format.
     #[arg(long, value_enum, default_value_t = ExportFormat::Bin)]
@@ -72,6 +72,18 @@ pub fn read_part(path: &std::path::Path) -> Result<PartFile, CliError> {
     PartFile::read(path).map_err(|e| CliError::Input(e.to_string()))
 }
 
+/// The line of the first line of `path` containing `key` (1 if none).
+fn line_in(path: &std::path::Path, key: &str) -> usize {
+    crate::station::limits::read_text_capped(
+        path,
+        crate::station::limits::MAX_JSON_BYTES,
+        "part file",
+    )
+    .ok()
+    .and_then(|t| t.lines().position(|l| l.contains(key)))
+    .map_or(1, |k| k + 1)
+}
+
 /// Reads a part file and, when `design` is given, checks that the part was
 /// fitted on that design file (content hash); exit 2 otherwise.
 pub fn read_part_for(
@@ -79,17 +91,24 @@ pub fn read_part_for(
     design: Option<&std::path::Path>,
 ) -> Result<PartFile, CliError> {
     let part = read_part(path)?;
+    if !part.is_ok() {
+        // A part whose fit failed has no model to tabulate, verify or apply.
+        return Err(CliError::at(
+            &path.display().to_string(),
+            line_in(path, "\"status\""),
+            "status",
+            format!(
+                "part {} was not calibrated ({}); recalibrate it",
+                part.serial, part.status
+            ),
+        ));
+    }
     let Some(dpath) = design else {
         return Ok(part);
     };
     let d = crate::station::design::DesignFile::read(dpath)
         .map_err(|e| CliError::Input(e.to_string()))?;
-    let line = |key: &str| {
-        std::fs::read_to_string(path)
-            .ok()
-            .and_then(|t| t.lines().position(|l| l.contains(key)))
-            .map_or(1, |k| k + 1)
-    };
+    let line = |key: &str| line_in(path, key);
     match &part.design {
         Some(pd) if pd.design_hash == d.hash => Ok(part),
         Some(pd) => Err(CliError::at(
@@ -117,14 +136,22 @@ pub fn read_part_for(
 
 /// The total budget of `--budget`, or the part's scenario's; ppm of span,
 /// positive.
-pub fn budget_ppm(arg: Option<f64>, part: &PartFile) -> Result<f64, CliError> {
+pub fn budget_ppm(
+    arg: Option<f64>,
+    part: &PartFile,
+    part_path: &std::path::Path,
+) -> Result<f64, CliError> {
     let budget = arg.unwrap_or(part.scenario.budget_ppm);
-    if budget.is_nan() || budget <= 0.0 {
-        return Err(CliError::option(
-            "--budget",
-            &budget.to_string(),
-            "must be a positive number of ppm",
-        ));
+    if let Err(m) = crate::station::limits::check_budget_ppm(budget) {
+        return Err(match arg {
+            Some(_) => CliError::option("--budget", &budget.to_string(), m),
+            None => CliError::at(
+                &part_path.display().to_string(),
+                line_in(part_path, "\"budget_ppm\""),
+                "scenario.budget_ppm",
+                format!("{budget}: {m}"),
+            ),
+        });
     }
     Ok(budget)
 }
@@ -132,7 +159,7 @@ pub fn budget_ppm(arg: Option<f64>, part: &PartFile) -> Result<f64, CliError> {
 /// Runs `semidrift table`.
 pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part_for(&args.part, args.design.as_deref())?;
-    let budget = budget_ppm(args.budget, &part)?;
+    let budget = budget_ppm(args.budget, &part, &args.part)?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let restrict = Restrict {
         interpolation: args.interpolation,
@@ -153,12 +180,20 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
         args.address,
         part.scenario.simulated,
     )
-    .map_err(|e| CliError::option("--name/--address", &args.name, e))?;
+    .map_err(|e| match e {
+        crate::station::export::ExportError::AddressOverflow { address, .. } => {
+            CliError::option("--address", &format!("{address:#010x}"), e)
+        }
+        _ => CliError::option("--name", &args.name, e),
+    })?;
     let path = args.out.clone().unwrap_or_else(|| {
         args.part
             .with_extension("")
             .with_extension(args.format.extension())
     });
+    let mut inputs = vec![args.part.as_path()];
+    inputs.extend(args.design.as_deref());
+    output::check_not_input(&path, &inputs)?;
     output::write_atomic(&path, &bytes).map_err(|e| CliError::Input(e.to_string()))?;
     if args.json {
         out.write_all(&output::to_json_bytes(&outcome))?;

@@ -20,7 +20,7 @@ pub struct VerifyArgs {
     #[arg(long)]
     pub design: Option<PathBuf>,
     /// Total budget in ppm of span (default: the scenario's).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub budget: Option<f64>,
     /// Temperatures of the dense grid [default: 20001, or 1001 for an image
     /// with a 2-D correction].
@@ -38,24 +38,43 @@ pub struct VerifyArgs {
 /// Runs `semidrift verify`; exit 1 when over budget.
 pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part_for(&args.against, args.design.as_deref())?;
-    let image = std::fs::read(&args.image)
-        .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", args.image.display())))?;
-    let budget = args.budget.unwrap_or(part.scenario.budget_ppm);
+    let image = read_image(&args.image)?;
+    let budget = super::table::budget_ppm(args.budget, &part, &args.against)?;
     let (temps_default, stimuli_default) = compensate::TableView::parse(&image)
         .map(|v| pipeline::dense_counts(&pipeline::plan_of(&v)))
         .unwrap_or((pipeline::DENSE_TEMPS, pipeline::DENSE_STIMULI));
     let temps = args.temps.unwrap_or(temps_default);
     let stimuli = args.stimuli.unwrap_or(stimuli_default);
-    if temps < 2 || stimuli < 2 {
+    use crate::station::limits::{MAX_DENSE_PER_AXIS, MAX_DENSE_POINTS};
+    for (option, n) in [("--temps", temps), ("--stimuli", stimuli)] {
+        if !(2..=MAX_DENSE_PER_AXIS).contains(&n) {
+            return Err(CliError::option(
+                option,
+                &n.to_string(),
+                format!("the dense grid has 2 to {MAX_DENSE_PER_AXIS} points per axis"),
+            ));
+        }
+    }
+    if temps * stimuli > MAX_DENSE_POINTS {
         return Err(CliError::option(
             "--temps/--stimuli",
             &format!("{temps}/{stimuli}"),
-            "need at least 2 each",
+            format!(
+                "{} points; the dense grid has at most {MAX_DENSE_POINTS}",
+                temps * stimuli
+            ),
         ));
     }
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
-    let report = pipeline::verify(&image, &part, &curves, budget, temps, stimuli)
-        .map_err(|e| CliError::Input(format!("{}: {e}", args.image.display())))?;
+    let report =
+        pipeline::verify(&image, &part, &curves, budget, temps, stimuli).map_err(|e| match e {
+            pipeline::StepError::NotThisPart { .. } => CliError::Input(format!(
+                "{}: {e} (part file {})",
+                args.image.display(),
+                args.against.display()
+            )),
+            e => CliError::Input(format!("{}: {e}", args.image.display())),
+        })?;
     if args.json {
         out.write_all(&output::to_json_bytes(&report))?;
     } else {
@@ -96,4 +115,11 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             report.table_allowance_ppm
         )))
     }
+}
+
+/// Reads a table image, at most `limits::MAX_IMAGE_BYTES`.
+pub fn read_image(path: &std::path::Path) -> Result<Vec<u8>, CliError> {
+    use crate::station::limits::{MAX_IMAGE_BYTES, read_capped};
+    read_capped(path, MAX_IMAGE_BYTES, "table image")
+        .map_err(|m| CliError::Input(format!("{}: {m}", path.display())))
 }

@@ -183,6 +183,7 @@ impl std::fmt::Display for Species {
 
 /// One dopant species at a density.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Dopant {
     /// Species.
     pub species: Species,

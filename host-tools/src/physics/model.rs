@@ -17,6 +17,7 @@ use super::transport::{self, Transport};
 
 /// A doped semiconductor: material and any number of donor and acceptor species.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Sample {
     /// Host material.
     pub material: Material,

@@ -52,9 +52,17 @@ pub enum PlotError {
         /// Underlying I/O error.
         source: std::io::Error,
     },
+    /// The station's atomic writer refused or failed.
+    #[error(transparent)]
+    Output(#[from] crate::station::output::OutputError),
 }
 
 impl PlotError {
+    /// An atomic-write failure (the writer's message names the path).
+    pub fn output(e: crate::station::output::OutputError) -> PlotError {
+        PlotError::Output(e)
+    }
+
     /// A write error on `path`, keeping only the kind of the I/O error: the
     /// temporary file's random name must not reach the (deterministic) message.
     pub fn write(path: &Path, source: std::io::Error) -> PlotError {
@@ -206,21 +214,13 @@ pub fn write_figure(path: &Path, figure: &impl Figure) -> Result<(), PlotError> 
         return write_atomically(path, figure_svg(figure)?.as_bytes());
     }
     register_font()?;
-    let write_err = |source| PlotError::write(path, source);
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
-    let tmp = tempfile::Builder::new()
-        .suffix(".png")
-        .tempfile_in(dir)
-        .map_err(write_err)?;
-    {
-        let root = BitMapBackend::new(tmp.path(), figure.size_px()).into_drawing_area();
-        figure.draw(&root)?;
-        root.present().map_err(PlotError::draw)?;
-    }
-    persist(tmp, path)
+    crate::station::output::write_atomic_with(path, |tmp, _| {
+        let root = BitMapBackend::new(tmp, figure.size_px()).into_drawing_area();
+        figure.draw(&root).map_err(std::io::Error::other)?;
+        root.present()
+            .map_err(|e| std::io::Error::other(PlotError::draw(e)))
+    })
+    .map_err(PlotError::output)
 }
 
 /// Draws the series legend of `chart` at `position` in the common style.
@@ -242,31 +242,10 @@ where
         .map_err(PlotError::draw)
 }
 
-/// Writes `contents` to `path` via a temporary file in the same directory and
-/// a rename, so a failed run never leaves a half-written file behind.
+/// Writes `contents` to `path` atomically (`station::output::write_atomic`:
+/// a failed run never leaves a half-written file behind).
 pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), PlotError> {
-    let write_err = |source| PlotError::write(path, source);
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
-    let mut tmp = tempfile::NamedTempFile::new_in(dir).map_err(write_err)?;
-    std::io::Write::write_all(&mut tmp, contents).map_err(write_err)?;
-    persist(tmp, path)
-}
-
-/// Gives a finished temporary file ordinary permissions (tempfile creates it
-/// owner-only) and renames it to `path`.
-pub fn persist(tmp: tempfile::NamedTempFile, path: &Path) -> Result<(), PlotError> {
-    let write_err = |source| PlotError::write(path, source);
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt;
-        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o644))
-            .map_err(write_err)?;
-    }
-    tmp.persist(path).map_err(|e| write_err(e.error))?;
-    Ok(())
+    crate::station::output::write_atomic(path, contents).map_err(PlotError::output)
 }
 
 #[cfg(test)]
@@ -329,7 +308,9 @@ mod tests {
         write_atomically(&path, b"one").unwrap();
         write_atomically(&path, b"two").unwrap();
         assert_eq!(std::fs::read(&path).unwrap(), b"two");
-        let missing = dir.path().join("no/such/dir/a.svg");
-        assert!(write_atomically(&missing, b"x").is_err());
+        // Missing folders are created (as for every station output); a path
+        // below a regular file cannot be.
+        write_atomically(&dir.path().join("new/dir/a.svg"), b"x").unwrap();
+        assert!(write_atomically(&path.join("below/a.svg"), b"x").is_err());
     }
 }

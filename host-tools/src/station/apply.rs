@@ -28,12 +28,24 @@ pub struct AppliedRow {
     /// The output sat on the ADC's first or last code: the row says nothing
     /// about the part (its error is reported but left out of every worst case).
     pub clipped: bool,
+    /// The runtime's status flags for the row when a table image ran it
+    /// (`temperature clamped`, `input out of range`, ...): empty when the
+    /// row lies inside the table's calibrated domain, or for the f64 model.
+    #[serde(skip_serializing_if = "String::is_empty")]
+    pub runtime_status: String,
 }
 
 /// A compensation method: raw (output, temperature signal) to (stimulus, temperature).
 pub trait Compensation {
     /// Compensated stimulus and the temperature used, from raw readings.
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64);
+
+    /// [`Compensation::compensate`] and the runtime's status flags (empty
+    /// when inside the calibrated domain or not run by the runtime).
+    fn compensate_with_status(&self, output: f64, temp_signal: f64) -> (f64, f64, String) {
+        let (s, t) = self.compensate(output, temp_signal);
+        (s, t, String::new())
+    }
 }
 
 /// The fit of a part, evaluated in f64 (what the table approximates).
@@ -99,7 +111,7 @@ pub fn apply_rows(
     let t_ref = part.scenario.t_ref_c;
     rows.iter()
         .map(|r| {
-            let (s, t) = method.compensate(r.output, r.temp_signal);
+            let (s, t, status) = method.compensate_with_status(r.output, r.temp_signal);
             let raw = (r.output - model.offset(t_ref)) / model.sensitivity(t_ref);
             AppliedRow {
                 serial: r.serial.clone(),
@@ -110,6 +122,7 @@ pub fn apply_rows(
                 error_ppm: (s - r.stimulus) / fs * 1e6,
                 raw_error_ppm: (raw - r.stimulus) / fs * 1e6,
                 clipped: part.scenario.output_adc.at_rail(r.output),
+                runtime_status: status,
             }
         })
         .collect()
@@ -138,6 +151,18 @@ impl<'a> ImageCompensation<'a> {
 
 impl Compensation for ImageCompensation<'_> {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
+        let (s, t, _) = self.compensate_with_status(output, temp_signal);
+        (s, t)
+    }
+
+    fn compensate_with_status(&self, output: f64, temp_signal: f64) -> (f64, f64, String) {
+        let flags = |s: compensate::Status| {
+            if s.is_ok() {
+                String::new()
+            } else {
+                s.to_string()
+            }
+        };
         let raw = (output / self.lsb).round();
         let temp_signal = match self.view.signal_kind() {
             compensate::image::SignalKind::AdcCode => (temp_signal / self.signal_lsb).round(),
@@ -146,24 +171,29 @@ impl Compensation for ImageCompensation<'_> {
         match self.view.format() {
             compensate::image::NumberFormat::Q => {
                 let Ok(mut c) = compensate::FixedCompensator::new(&self.view) else {
-                    return (f64::NAN, f64::NAN);
+                    return (f64::NAN, f64::NAN, "table invalid".into());
                 };
                 let q = self.view.q_format();
                 let sq = 2f64.powi(i32::from(q.signal));
-                c.update_temperature((temp_signal * sq).round() as i32);
-                let v = c.compensate_sample(raw as i32).value;
+                let ts = c.update_temperature((temp_signal * sq).round() as i32);
+                let r = c.compensate_sample(raw as i32);
                 (
-                    f64::from(v) * 2f64.powi(-i32::from(q.output)),
+                    f64::from(r.value) * 2f64.powi(-i32::from(q.output)),
                     f64::from(c.temperature_q()) * 2f64.powi(-i32::from(q.temperature)),
+                    flags(ts | r.status),
                 )
             }
             _ => {
                 let Ok(mut c) = compensate::Compensator::new(&self.view) else {
-                    return (f64::NAN, f64::NAN);
+                    return (f64::NAN, f64::NAN, "table invalid".into());
                 };
-                c.update_temperature(temp_signal as f32);
-                let v = c.compensate_sample(raw as f32).value;
-                (f64::from(v), f64::from(c.temperature_c()))
+                let ts = c.update_temperature(temp_signal as f32);
+                let r = c.compensate_sample(raw as f32);
+                (
+                    f64::from(r.value),
+                    f64::from(c.temperature_c()),
+                    flags(ts | r.status),
+                )
             }
         }
     }

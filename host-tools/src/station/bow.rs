@@ -12,6 +12,7 @@
 
 /// The bow of an element's output.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Bow {
     /// Deviation from the terminal line at mid-scale at the reference
     /// temperature, fraction of full-scale span (positive: output above the line).

@@ -82,6 +82,9 @@ pub struct ChamberData {
     pub rows: Vec<ChamberRow>,
     /// Rows that did not, in file order.
     pub errors: Vec<RowError>,
+    /// Rows that repeat an earlier row's serial, chamber temperature and
+    /// stimulus (used, but reported as warnings), in file order.
+    pub repeats: Vec<RowError>,
 }
 
 impl ChamberData {
@@ -98,10 +101,11 @@ impl ChamberData {
 /// Reads a chamber CSV from a file.
 pub fn read_file(path: &Path) -> Result<ChamberData, ChamberError> {
     let name = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| ChamberError::Io {
-        file: name.clone(),
-        message: e.to_string(),
-    })?;
+    let bytes = super::limits::read_capped(path, super::limits::MAX_CSV_BYTES, "chamber CSV")
+        .map_err(|message| ChamberError::Io {
+            file: name.clone(),
+            message,
+        })?;
     read_bytes(&name, &bytes)
 }
 
@@ -135,11 +139,20 @@ pub fn read_bytes(file: &str, bytes: &[u8]) -> Result<ChamberData, ChamberError>
             Ok(r) => r,
             Err(e) => {
                 let line = e.position().map_or(0, |p| p.line() as usize);
+                let (field, message) = match e.kind() {
+                    csv::ErrorKind::Utf8 { err, .. } => (
+                        headers
+                            .get(err.field())
+                            .map_or_else(|| format!("column {}", err.field() + 1), str::to_string),
+                        "not UTF-8 text".to_string(),
+                    ),
+                    _ => ("-".to_string(), e.to_string()),
+                };
                 data.errors.push(RowError {
                     file: file.to_string(),
                     line,
-                    field: "-".to_string(),
-                    message: e.to_string(),
+                    field,
+                    message,
                 });
                 continue;
             }
@@ -164,7 +177,45 @@ pub fn read_bytes(file: &str, bytes: &[u8]) -> Result<ChamberData, ChamberError>
             }),
         }
     }
+    data.repeats = repeats(file, &data.rows);
     Ok(data)
+}
+
+/// Rows that repeat an earlier row's serial, chamber temperature and
+/// stimulus: both are used (repeated readings average), but a station
+/// engineer should know, because a copy-paste error looks the same.
+fn repeats(file: &str, rows: &[ChamberRow]) -> Vec<RowError> {
+    let mut first: BTreeMap<(&str, u64, u64), &ChamberRow> = BTreeMap::new();
+    let mut out = Vec::new();
+    for r in rows {
+        let key = (
+            r.serial.as_str(),
+            r.chamber_c.to_bits(),
+            r.stimulus.to_bits(),
+        );
+        match first.get(&key) {
+            Some(earlier) => out.push(RowError {
+                file: file.to_string(),
+                line: r.line,
+                field: "stimulus".to_string(),
+                message: format!(
+                    "repeats line {} (serial {}, {} C, stimulus {}): output {} vs {}, temp_signal {} vs {}; both rows are used",
+                    earlier.line,
+                    r.serial,
+                    fmt_f64(r.chamber_c),
+                    fmt_f64(r.stimulus),
+                    fmt_f64(r.output),
+                    fmt_f64(earlier.output),
+                    fmt_f64(r.temp_signal),
+                    fmt_f64(earlier.temp_signal)
+                ),
+            }),
+            None => {
+                first.insert(key, r);
+            }
+        }
+    }
+    out
 }
 
 fn parse_record(
@@ -172,9 +223,7 @@ fn parse_record(
     index: &[usize; 5],
 ) -> Result<(String, [f64; 4]), (&'static str, String)> {
     let serial = record.get(index[0]).unwrap_or("");
-    if serial.is_empty() {
-        return Err(("serial", "empty serial number".to_string()));
-    }
+    super::limits::check_serial(serial).map_err(|m| ("serial", m))?;
     let mut values = [0.0; 4];
     for (k, value) in values.iter_mut().enumerate() {
         let field = COLUMNS[k + 1];
@@ -187,6 +236,12 @@ fn parse_record(
         if !x.is_finite() {
             return Err((field, format!("'{text}' is not finite")));
         }
+        let check = if k == 0 {
+            super::limits::check_temperature_c(x)
+        } else {
+            super::limits::check_reading(x)
+        };
+        check.map_err(|m| (field, m))?;
         *value = x;
     }
     Ok((serial.to_string(), values))

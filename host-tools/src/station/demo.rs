@@ -135,7 +135,7 @@ pub fn qualify_lot(
     write_atomic(&dir.join(name), &chamber::to_csv_bytes(&rows))?;
     let data = ChamberData {
         rows,
-        errors: vec![],
+        ..ChamberData::default()
     };
     let production = ProductionPlan {
         temps_c: scenario.cal_temps_c.clone(),
@@ -176,11 +176,11 @@ pub fn run_scenario(
     )?;
     let cal = ChamberData {
         rows: cal_rows,
-        errors: vec![],
+        ..ChamberData::default()
     };
     let check = ChamberData {
         rows: check_rows,
-        errors: vec![],
+        ..ChamberData::default()
     };
 
     // Physics-only fits (for the comparison) and fits on the design (the

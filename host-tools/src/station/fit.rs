@@ -202,13 +202,19 @@ pub fn fit<P: FitProblem + ?Sized>(problem: &P, initial: &[f64], options: FitOpt
             col /= norm;
         }
     }
-    let sv = scaled.clone().svd(false, false).singular_values;
-    let smax = sv.iter().copied().fold(0.0, f64::max);
-    let smin = sv.iter().copied().fold(f64::INFINITY, f64::min);
-    let condition = if smin > 0.0 && n > 0 {
-        smax / smin
-    } else {
-        f64::INFINITY
+    // Bounded: a Jacobian of degenerate data (all-zero outputs, subnormal or
+    // huge readings) must give "ill-conditioned", never a hang.
+    let condition = match super::linalg::singular_values(scaled) {
+        Some(sv) if n > 0 => {
+            let smax = sv.iter().copied().fold(0.0, f64::max);
+            let smin = sv.iter().copied().fold(f64::INFINITY, f64::min);
+            if smin > 0.0 {
+                smax / smin
+            } else {
+                f64::INFINITY
+            }
+        }
+        _ => f64::INFINITY,
     };
 
     let s2 = if dof > 0 { ssr / dof as f64 } else { f64::NAN };

@@ -18,6 +18,8 @@ pub mod design;
 pub mod export;
 pub mod fit;
 pub mod image_eval;
+pub mod limits;
+pub mod linalg;
 pub mod lot;
 pub mod model_shapes;
 pub mod output;

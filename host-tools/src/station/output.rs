@@ -41,30 +41,185 @@ pub enum OutputError {
         /// Underlying error.
         source: std::io::Error,
     },
+    /// The destination exists and is not a regular file (a symlink, FIFO,
+    /// device or directory), which an atomic rename would replace.
+    #[error("{path}: refusing to replace a {kind} with an output file; give a regular file's path")]
+    NotRegular {
+        /// Destination path.
+        path: PathBuf,
+        /// What is there.
+        kind: &'static str,
+    },
+    /// The destination is one of the command's own inputs.
+    #[error("{path}: is also the command's input {input}; write the output elsewhere")]
+    IsInput {
+        /// Destination path.
+        path: PathBuf,
+        /// The input it would overwrite, as given.
+        input: String,
+    },
+    /// A file name (from a serial number) would leave its folder.
+    #[error("{dir}: output name '{name}' is not a plain file name")]
+    Escapes {
+        /// Output folder.
+        dir: PathBuf,
+        /// Offending name.
+        name: String,
+    },
+}
+
+/// Prefix of the station's temporary files: `.semidrift-PID-` then random
+/// characters, `.tmp` and the destination's extension. A run killed between writing and renaming leaves
+/// one behind; the next write into that folder removes those whose process
+/// is gone ([`remove_stale_temporaries`]).
+pub const TEMP_PREFIX: &str = ".semidrift-";
+
+/// Refuses a destination that exists and is not a regular file: an atomic
+/// rename would replace a symlink, FIFO or device node instead of writing
+/// through it.
+pub fn check_destination(path: &Path) -> Result<(), OutputError> {
+    let Ok(meta) = std::fs::symlink_metadata(path) else {
+        return Ok(()); // absent: will be created
+    };
+    let t = meta.file_type();
+    let kind = if t.is_file() {
+        return Ok(());
+    } else if t.is_symlink() {
+        "symbolic link"
+    } else if t.is_dir() {
+        "directory"
+    } else {
+        "special file (FIFO, socket or device)"
+    };
+    Err(OutputError::NotRegular {
+        path: path.to_path_buf(),
+        kind,
+    })
+}
+
+/// Refuses `output` when it names the same file as one of `inputs` (same
+/// device and inode where both exist, else the same absolute path).
+pub fn check_not_input(output: &Path, inputs: &[&Path]) -> Result<(), OutputError> {
+    for input in inputs {
+        if same_file(output, input) {
+            return Err(OutputError::IsInput {
+                path: output.to_path_buf(),
+                input: input.display().to_string(),
+            });
+        }
+    }
+    Ok(())
+}
+
+fn same_file(a: &Path, b: &Path) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        if let (Ok(x), Ok(y)) = (std::fs::metadata(a), std::fs::metadata(b)) {
+            return x.dev() == y.dev() && x.ino() == y.ino();
+        }
+    }
+    let abs = |p: &Path| std::path::absolute(p).unwrap_or_else(|_| p.to_path_buf());
+    abs(a) == abs(b)
+}
+
+/// `dir/name` for a file name made from data (a serial number): refused
+/// unless `name` is one plain component (no separator, not `.` or `..`,
+/// not hidden), so that the file stays inside `dir`.
+pub fn path_in(dir: &Path, name: &str) -> Result<PathBuf, OutputError> {
+    let plain = !name.is_empty()
+        && !name.starts_with('.')
+        && !name.contains(['/', '\\', '\0'])
+        && Path::new(name).components().count() == 1;
+    if plain {
+        Ok(dir.join(name))
+    } else {
+        Err(OutputError::Escapes {
+            dir: dir.to_path_buf(),
+            name: name.to_string(),
+        })
+    }
 }
 
 /// Writes `bytes` to `path` atomically (temporary file in the same directory,
-/// flushed and synced, then renamed over `path`); creates missing parent
-/// directories.
+/// flushed and synced, given ordinary 0644 permissions, then renamed over
+/// `path`); creates missing parent directories. Refuses a destination that
+/// exists and is not a regular file ([`check_destination`]).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), OutputError> {
+    write_atomic_with(path, |_, file| file.write_all(bytes))
+}
+
+/// [`write_atomic`] with the contents written by `fill`, which gets the
+/// temporary file's path and handle (writers that need a path, like an
+/// image encoder, write to the path).
+pub fn write_atomic_with(
+    path: &Path,
+    fill: impl FnOnce(&Path, &mut std::fs::File) -> std::io::Result<()>,
+) -> Result<(), OutputError> {
     let io = |source| OutputError::Io {
         path: path.to_path_buf(),
         source,
     };
+    check_destination(path)?;
     let dir = match path.parent() {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
     };
     std::fs::create_dir_all(&dir).map_err(io)?;
+    remove_stale_temporaries(&dir);
+    // The destination's extension follows `.tmp`: encoders that pick the
+    // format from the name (PNG) see it.
+    let suffix = match path.extension().and_then(|e| e.to_str()) {
+        Some(ext) => format!(".tmp.{ext}"),
+        None => ".tmp".to_string(),
+    };
     let mut tmp = tempfile::Builder::new()
-        .prefix(".semidrift-")
-        .suffix(".tmp")
+        .prefix(&format!("{TEMP_PREFIX}{}-", std::process::id()))
+        .suffix(&suffix)
         .tempfile_in(&dir)
         .map_err(io)?;
-    tmp.write_all(bytes).map_err(io)?;
+    let tmp_path = tmp.path().to_path_buf();
+    fill(&tmp_path, tmp.as_file_mut()).map_err(io)?;
+    tmp.as_file_mut().flush().map_err(io)?;
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        tmp.as_file()
+            .set_permissions(std::fs::Permissions::from_mode(0o644))
+            .map_err(io)?;
+    }
     tmp.as_file().sync_all().map_err(io)?;
     tmp.persist(path).map_err(|e| io(e.error))?;
     Ok(())
+}
+
+/// Removes `.semidrift-PID-*.tmp*` files in `dir` whose process no longer
+/// runs (left by a killed run). Only on Linux, where `/proc` says which
+/// processes run; elsewhere nothing is removed. Failures are ignored: a
+/// stale temporary file is untidy, never wrong.
+pub fn remove_stale_temporaries(dir: &Path) {
+    if !Path::new("/proc/self").exists() {
+        return;
+    }
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for entry in entries.flatten() {
+        let name = entry.file_name();
+        let Some(name) = name.to_str() else { continue };
+        let Some(rest) = name.strip_prefix(TEMP_PREFIX) else {
+            continue;
+        };
+        if !name.contains(".tmp") {
+            continue;
+        }
+        let Some(pid) = rest.split('-').next().and_then(|p| p.parse::<u32>().ok()) else {
+            continue;
+        };
+        if pid != std::process::id() && !Path::new(&format!("/proc/{pid}")).exists() {
+            let _ = std::fs::remove_file(entry.path());
+        }
+    }
 }
 
 /// Formats a float in its shortest round-trip decimal form (Rust's `Display`),
@@ -145,6 +300,73 @@ mod tests {
             .map(|e| e.unwrap().file_name())
             .collect();
         assert_eq!(left.len(), 1, "leftover files: {left:?}");
+    }
+
+    #[test]
+    fn special_files_inputs_and_escaping_names_are_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("target.json");
+        std::fs::write(&target, b"keep").unwrap();
+        #[cfg(unix)]
+        {
+            let link = dir.path().join("link.json");
+            std::os::unix::fs::symlink(&target, &link).unwrap();
+            let err = write_atomic(&link, b"new").unwrap_err();
+            assert!(matches!(err, OutputError::NotRegular { .. }), "{err}");
+            assert!(
+                std::fs::symlink_metadata(&link)
+                    .unwrap()
+                    .file_type()
+                    .is_symlink()
+            );
+            let err = write_atomic(Path::new("/dev/null"), b"x").unwrap_err();
+            assert!(matches!(err, OutputError::NotRegular { .. }), "{err}");
+        }
+        let err = write_atomic(dir.path(), b"x").unwrap_err();
+        assert!(matches!(err, OutputError::NotRegular { .. }), "{err}");
+        assert_eq!(std::fs::read(&target).unwrap(), b"keep");
+        // An output naming an input (also through another spelling).
+        let other = dir.path().join(".").join("target.json");
+        assert!(check_not_input(&other, &[target.as_path()]).is_err());
+        assert!(check_not_input(&dir.path().join("new.json"), &[target.as_path()]).is_ok());
+        for (name, ok) in [
+            ("A-1.part.json", true),
+            ("../x", false),
+            ("/abs", false),
+            ("a/b", false),
+            (".x", false),
+            ("", false),
+        ] {
+            assert_eq!(path_in(dir.path(), name).is_ok(), ok, "{name:?}");
+        }
+    }
+
+    #[test]
+    fn stale_temporaries_of_dead_processes_are_removed() {
+        let dir = tempfile::tempdir().unwrap();
+        // PID 0 is never a user process; our own PID is alive.
+        let dead = dir.path().join(format!("{TEMP_PREFIX}0-abc.tmp"));
+        let alive = dir
+            .path()
+            .join(format!("{TEMP_PREFIX}{}-abc.tmp", std::process::id()));
+        let other = dir.path().join("keep.tmp");
+        for p in [&dead, &alive, &other] {
+            std::fs::write(p, b"x").unwrap();
+        }
+        write_atomic(&dir.path().join("out.bin"), b"y").unwrap();
+        if Path::new("/proc/self").exists() {
+            assert!(!dead.exists(), "stale temporary left");
+        }
+        assert!(alive.exists() && other.exists());
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let mode = std::fs::metadata(dir.path().join("out.bin"))
+                .unwrap()
+                .permissions()
+                .mode();
+            assert_eq!(mode & 0o777, 0o644, "ordinary permissions");
+        }
     }
 
     #[test]

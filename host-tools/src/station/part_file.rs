@@ -199,10 +199,12 @@ impl PartFile {
     /// Reads a part file.
     pub fn read(path: &Path) -> Result<PartFile, PartFileError> {
         let file = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|e| PartFileError::Io {
-            file: file.clone(),
-            message: e.to_string(),
-        })?;
+        let text =
+            super::limits::read_text_capped(path, super::limits::MAX_JSON_BYTES, "part file")
+                .map_err(|message| PartFileError::Io {
+                    file: file.clone(),
+                    message,
+                })?;
         Self::parse(&file, &text)
     }
 

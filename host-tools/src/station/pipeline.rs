@@ -81,6 +81,85 @@ pub enum StepError {
     /// Running the image failed.
     #[error(transparent)]
     Eval(#[from] EvalError),
+    /// The image was not built for this part (serial or header differs).
+    #[error("field '{field}': {message}")]
+    NotThisPart {
+        /// Image header field that differs.
+        field: &'static str,
+        /// What differs.
+        message: String,
+    },
+}
+
+/// Checks that `view` is an image the station builds for `part`, before
+/// anything is evaluated: the serial field (the part's serial, zero-padded
+/// or cut to the image's 16 bytes), the measurand unit, the full scale
+/// (the span of `stimulus_fs` as f32), the ratiometric flag (the station
+/// never sets it) and the temperature-signal kind (ohm or ADC code).
+pub fn check_image_for_part(view: &TableView<'_>, part: &PartFile) -> Result<(), StepError> {
+    let mismatch = |field, message| Err(StepError::NotThisPart { field, message });
+    let mut want = [0u8; compensate::image::layout::SERIAL_LEN];
+    for (d, s) in want.iter_mut().zip(part.serial.bytes()) {
+        *d = s;
+    }
+    let got = view.serial();
+    if got != want {
+        let shown = String::from_utf8_lossy(&got)
+            .trim_end_matches('\0')
+            .to_string();
+        return mismatch(
+            "serial",
+            format!(
+                "image is for part '{}', not for part '{}'",
+                shown.escape_debug(),
+                part.serial
+            ),
+        );
+    }
+    let unit = super::table::unit(&part.scenario.stimulus_unit);
+    if view.unit() != unit {
+        return mismatch(
+            "unit",
+            format!(
+                "image measures in {:?}, the part in '{}' ({unit:?})",
+                view.unit(),
+                part.scenario.stimulus_unit
+            ),
+        );
+    }
+    let fs = part.scenario.stimulus_fs;
+    let want_fs = (fs.1 - fs.0) as f32;
+    if view.full_scale() != want_fs {
+        return mismatch(
+            "full_scale",
+            format!(
+                "image full scale {} {}, the part's {} {}",
+                view.full_scale(),
+                part.scenario.stimulus_unit,
+                want_fs,
+                part.scenario.stimulus_unit
+            ),
+        );
+    }
+    if view.ratiometric() {
+        return mismatch(
+            "flags",
+            "image is ratiometric; the station's images never are".to_string(),
+        );
+    }
+    if !matches!(
+        view.signal_kind(),
+        compensate::image::SignalKind::Ohm | compensate::image::SignalKind::AdcCode
+    ) {
+        return mismatch(
+            "signal_kind",
+            format!(
+                "image takes a {:?} temperature signal; the part's is its resistance (ohm or ADC code)",
+                view.signal_kind()
+            ),
+        );
+    }
+    Ok(())
 }
 
 /// The full model's shapes for a part's scenario.
@@ -363,6 +442,7 @@ pub fn verify(
     n_stimuli: usize,
 ) -> Result<VerifyReport, StepError> {
     let view = TableView::parse(image).map_err(|e| StepError::Eval(EvalError::Image(e)))?;
+    check_image_for_part(&view, part)?;
     let plan = plan_of(&view);
     let model = part.model(curves);
     let frame = TableFrame::new(part, model)?.for_view(&view);

@@ -163,12 +163,20 @@ impl PolyFit {
             }
             b[n] = p.reference;
         }
-        let svd = a.svd(true, true);
-        let condition = svd.singular_values.max() / svd.singular_values.min();
-        let cutoff = 1e-12 * svd.singular_values.max();
-        let c = svd
-            .solve(&b, cutoff)
-            .unwrap_or_else(|_| DVector::from_element(k * raw_terms, f64::NAN));
+        let (c, condition) = match super::linalg::svd_bounded(a, true, true) {
+            Some(svd) => {
+                let condition = svd.singular_values.max() / svd.singular_values.min();
+                let cutoff = 1e-12 * svd.singular_values.max();
+                let c = svd
+                    .solve(&b, cutoff)
+                    .unwrap_or_else(|_| DVector::from_element(k * raw_terms, f64::NAN));
+                (c, condition)
+            }
+            None => (
+                DVector::from_element(k * raw_terms, f64::NAN),
+                f64::INFINITY,
+            ),
+        };
         let rows = (0..raw_terms)
             .map(|i| {
                 (0..k)

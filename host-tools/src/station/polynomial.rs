@@ -61,14 +61,8 @@ fn distinct(values: impl Iterator<Item = f64>) -> usize {
 }
 
 fn lstsq(a: DMatrix<f64>, b: DVector<f64>) -> DVector<f64> {
-    // SVD solve with a relative singular-value cutoff of 1e-12 (common practice).
     let n = a.ncols();
-    let Some(svd) = super::design::svd_bounded(a, true, true) else {
-        return DVector::from_element(n, f64::NAN);
-    };
-    let smax = svd.singular_values.max();
-    svd.solve(&b, 1e-12 * smax)
-        .unwrap_or_else(|_| DVector::from_element(svd.singular_values.len(), f64::NAN))
+    super::linalg::lstsq(a, &b).unwrap_or_else(|| DVector::from_element(n, f64::NAN))
 }
 
 impl PolyCal {

@@ -23,6 +23,7 @@ pub enum ElementKind {
 
 /// An analog-to-digital converter: bipolar input range, resolution and noise.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Adc {
     /// Resolution in bits.
     pub bits: u32,
@@ -48,6 +49,7 @@ impl Adc {
 
 /// One-sigma process spread of a lot (relative values are fractions).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Spread {
     /// Part-to-part doping, relative.
     pub doping_rel: f64,
@@ -86,6 +88,7 @@ pub struct Spread {
 
 /// An element and its lot, as the station sees them.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Scenario {
     /// Short name used in serial numbers and file names.
     pub name: String,
@@ -372,6 +375,235 @@ impl Scenario {
             qual_stimuli: None,
             truth: TruthModels::default(),
         }
+    }
+}
+
+/// Largest number of bits of a modelled ADC (a 32-bit converter is beyond
+/// any sensor front end; common practice).
+pub const MAX_ADC_BITS: u32 = 32;
+/// Smallest number of bits of a modelled ADC.
+pub const MIN_ADC_BITS: u32 = 4;
+
+impl Scenario {
+    /// Checks every value once, at load time, by dotted key (the TOML's):
+    /// finite numbers, positive sizes, ordered ranges inside the station's
+    /// temperature limits, non-empty plans, ADC bits in
+    /// [`MIN_ADC_BITS`]..=[`MAX_ADC_BITS`], a budget in (0, 1e6] ppm.
+    pub fn check(&self) -> Result<(), crate::element::spec::Invalid> {
+        use super::limits::{self, MAX_PLAN_POINTS};
+        use crate::element::spec::Invalid;
+        let bad = |field: &str, message: String| Err(Invalid::new(field, message));
+        let finite = |field: &str, x: f64| {
+            if x.is_finite() {
+                Ok(())
+            } else {
+                bad(field, format!("{x} is not a finite number"))
+            }
+        };
+        let positive = |field: &str, x: f64, max: f64| {
+            if x.is_finite() && x > 0.0 && x <= max {
+                Ok(())
+            } else {
+                bad(field, format!("{x} must be above 0 and at most {max:e}"))
+            }
+        };
+        let temperature =
+            |field: &str, t: f64| limits::check_temperature_c(t).or_else(|m| bad(field, m));
+        let name_ok = !self.name.is_empty()
+            && self.name.len() <= 32
+            && self
+                .name
+                .chars()
+                .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_');
+        if !name_ok {
+            return bad(
+                "name",
+                format!(
+                    "'{}' must be 1 to 32 letters, digits, '-' or '_' (it names serials and files)",
+                    self.name.escape_debug()
+                ),
+            );
+        }
+        temperature("t_ref_c", self.t_ref_c)?;
+        temperature("range_c", self.range_c.0)?;
+        temperature("range_c", self.range_c.1)?;
+        if self.range_c.1 <= self.range_c.0 {
+            return bad(
+                "range_c",
+                format!(
+                    "[{}, {}] must be [low, high] with low below high",
+                    self.range_c.0, self.range_c.1
+                ),
+            );
+        }
+        let plans: [(&str, &[f64], bool); 4] = [
+            ("cal_temps_c", &self.cal_temps_c, true),
+            ("check_temps_c", &self.check_temps_c, false),
+            (
+                "qual_temps_c",
+                self.qual_temps_c.as_deref().unwrap_or(&[]),
+                false,
+            ),
+            ("stimuli", &self.stimuli, true),
+        ];
+        for (field, values, required) in plans {
+            if required && values.is_empty() {
+                return bad(field, "must list at least one value".into());
+            }
+            if values.len() > MAX_PLAN_POINTS {
+                return bad(
+                    field,
+                    format!("{} values; at most {MAX_PLAN_POINTS}", values.len()),
+                );
+            }
+            for &v in values {
+                if field == "stimuli" {
+                    finite(field, v)?;
+                } else {
+                    temperature(field, v)?;
+                }
+            }
+        }
+        if let Some(q) = &self.qual_stimuli {
+            if q.len() > MAX_PLAN_POINTS {
+                return bad(
+                    "qual_stimuli",
+                    format!("{} values; at most {MAX_PLAN_POINTS}", q.len()),
+                );
+            }
+            for &v in q {
+                finite("qual_stimuli", v)?;
+            }
+        }
+        finite("stimulus_fs", self.stimulus_fs.0)?;
+        finite("stimulus_fs", self.stimulus_fs.1)?;
+        if self.stimulus_fs.1 <= self.stimulus_fs.0 {
+            return bad(
+                "stimulus_fs",
+                format!(
+                    "[{}, {}] must be [min, max] with min below max (errors are in ppm of max - min)",
+                    self.stimulus_fs.0, self.stimulus_fs.1
+                ),
+            );
+        }
+        if self.stimulus_unit.is_empty() || self.stimulus_unit.len() > 16 {
+            return bad("stimulus_unit", "must be 1 to 16 characters".into());
+        }
+        positive("excitation", self.excitation, 1e3)?;
+        positive("resistance_ohm", self.resistance_ohm, 1e9)?;
+        finite("fs_effect", self.fs_effect)?;
+        if self.fs_effect == 0.0 || self.fs_effect.abs() > 1e3 {
+            return bad(
+                "fs_effect",
+                format!(
+                    "{} must be non-zero and at most 1e3 in magnitude",
+                    self.fs_effect
+                ),
+            );
+        }
+        for (table, adc) in [
+            ("output_adc", &self.output_adc),
+            ("signal_adc", &self.signal_adc),
+        ] {
+            if !(MIN_ADC_BITS..=MAX_ADC_BITS).contains(&adc.bits) {
+                return bad(
+                    &format!("{table}.bits"),
+                    format!(
+                        "{} bits; a modelled ADC has {MIN_ADC_BITS}..={MAX_ADC_BITS}",
+                        adc.bits
+                    ),
+                );
+            }
+            positive(&format!("{table}.range"), adc.range, 1e9)?;
+            let noise = adc.noise_rms;
+            if !(noise.is_finite() && noise >= 0.0 && noise < adc.range) {
+                return bad(
+                    &format!("{table}.noise_rms"),
+                    format!(
+                        "{noise} must be at least 0 and below the range {}",
+                        adc.range
+                    ),
+                );
+            }
+        }
+        let sp = &self.spread;
+        for (key, x) in [
+            ("doping_rel", sp.doping_rel),
+            ("arm_doping_rel", sp.arm_doping_rel),
+            ("arm_geometry_rel", sp.arm_geometry_rel),
+            ("thickness_rel", sp.thickness_rel),
+            ("geometry_rel", sp.geometry_rel),
+            ("nonlinearity_sd_rel", sp.nonlinearity_sd_rel),
+        ] {
+            if !(x.is_finite() && (0.0..0.5).contains(&x)) {
+                return bad(
+                    &format!("spread.{key}"),
+                    format!("{x} must be a fraction in 0..0.5"),
+                );
+            }
+        }
+        for (key, x) in [
+            ("package_span_per_k", sp.package_span_per_k),
+            ("package_offset_per_k", sp.package_offset_per_k),
+            ("smooth_rel", sp.smooth_rel),
+            ("chamber_k", sp.chamber_k),
+        ] {
+            if !(x.is_finite() && (0.0..=10.0).contains(&x)) {
+                return bad(
+                    &format!("spread.{key}"),
+                    format!("{x} must be in 0..=10 (one sigma)"),
+                );
+            }
+        }
+        for (key, x) in [
+            ("nonlinearity_rel", sp.nonlinearity_rel),
+            ("nonlinearity_per_k", sp.nonlinearity_per_k),
+        ] {
+            if !(x.is_finite() && x.abs() < 0.5) {
+                return bad(
+                    &format!("spread.{key}"),
+                    format!("{x} must be finite and below 0.5 in magnitude"),
+                );
+            }
+        }
+        limits::check_budget_ppm(self.budget_ppm)
+            .or_else(|m| bad("budget_ppm", format!("{}: {m}", self.budget_ppm)))?;
+        if let Some(m) = self.model_error_ppm
+            && !(m.is_finite() && (0.0..=limits::MAX_BUDGET_PPM).contains(&m))
+        {
+            return bad("model_error_ppm", format!("{m} must be in 0..=1e6 ppm"));
+        }
+        if let Some(b) = &self.bow {
+            for (key, x) in [
+                ("bow.mid_rel", b.mid_rel),
+                ("bow.mid_rel_per_k", b.mid_rel_per_k),
+            ] {
+                if !(x.is_finite() && x.abs() < 0.5) {
+                    return bad(
+                        key,
+                        format!("{x} must be finite and below 0.5 in magnitude"),
+                    );
+                }
+            }
+        }
+        if self.sample.donors.is_empty() && self.sample.acceptors.is_empty() {
+            return bad("sample", "needs at least one donor or acceptor".into());
+        }
+        let (lo, hi) = crate::element::spec::DENSITY_RANGE_CM3;
+        for (list, dopants) in [
+            ("donors", &self.sample.donors),
+            ("acceptors", &self.sample.acceptors),
+        ] {
+            for (k, d) in dopants.iter().enumerate() {
+                if !(d.density_cm3.is_finite() && (lo..=hi).contains(&d.density_cm3)) {
+                    return bad(
+                        &format!("sample.{list}[{}].density_cm3", k + 1),
+                        format!("{:e} cm^-3 is outside {lo:e}..={hi:e} cm^-3", d.density_cm3),
+                    );
+                }
+            }
+        }
+        Ok(())
     }
 }
 

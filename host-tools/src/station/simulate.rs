@@ -48,7 +48,17 @@ pub fn serial(scenario: &Scenario, index: usize) -> String {
 
 /// The parts of a lot of `count` parts (same for every plan and thread count).
 pub fn draw_parts(scenario: &Scenario, count: usize, seed: u64) -> Vec<PartTruth> {
-    (0..count)
+    draw_part_range(scenario, 0..count, seed)
+}
+
+/// Parts `range` of the lot [`draw_parts`] draws (the same parts for the
+/// same indices, so a lot can be drawn in pieces).
+pub fn draw_part_range(
+    scenario: &Scenario,
+    range: std::ops::Range<usize>,
+    seed: u64,
+) -> Vec<PartTruth> {
+    range
         .map(|k| {
             let mut rng = ChaCha12Rng::seed_from_u64(seed);
             rng.set_stream(2 * k as u64);
@@ -76,11 +86,85 @@ pub fn measure(
     seed: u64,
 ) -> Result<Vec<ChamberRow>, ModelError> {
     let truth = Truth::new(scenario)?;
+    let mut rows = measure_with(scenario, &truth, parts, 0, plan, seed)?;
+    for (k, r) in rows.iter_mut().enumerate() {
+        r.line = k + 2;
+    }
+    Ok(rows)
+}
+
+/// Writes the chamber CSV of a `count`-part lot ([`draw_parts`] and
+/// [`measure`]) to `out`, the same bytes as [`chamber::to_csv_bytes`] of
+/// their rows, drawing and measuring 1 000 parts at a time so that memory
+/// stays bounded whatever the lot size. Returns the number of rows.
+pub fn write_lot(
+    scenario: &Scenario,
+    count: usize,
+    plan: &Plan,
+    seed: u64,
+    out: &mut dyn std::io::Write,
+) -> Result<usize, SimulateError> {
+    write_lot_in_chunks(scenario, count, plan, seed, out, 1000)
+}
+
+fn write_lot_in_chunks(
+    scenario: &Scenario,
+    count: usize,
+    plan: &Plan,
+    seed: u64,
+    out: &mut dyn std::io::Write,
+    chunk: usize,
+) -> Result<usize, SimulateError> {
+    let truth = Truth::new(scenario)?;
+    let mut written = 0;
+    let mut first = 0;
+    while first < count {
+        let end = (first + chunk.max(1)).min(count);
+        let parts = draw_part_range(scenario, first..end, seed);
+        let rows = measure_with(scenario, &truth, &parts, first, plan, seed)?;
+        let bytes = super::chamber::to_csv_bytes(&rows);
+        // Every chunk's bytes start with the header line; the file has one.
+        let body = if first == 0 {
+            &bytes[..]
+        } else {
+            let header = bytes.iter().position(|&b| b == b'\n').map_or(0, |p| p + 1);
+            &bytes[header..]
+        };
+        out.write_all(body)?;
+        written += rows.len();
+        first = end;
+    }
+    Ok(written)
+}
+
+/// Why a lot could not be written.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum SimulateError {
+    /// The full model failed for the scenario.
+    #[error("full model: {0}")]
+    Model(#[from] ModelError),
+    /// Writing failed.
+    #[error("{0}")]
+    Io(#[from] std::io::Error),
+}
+
+/// Rows of `parts`, the first of which is part `first_index` of the lot
+/// (its noise stream), with line numbers 0.
+fn measure_with(
+    scenario: &Scenario,
+    truth: &Truth,
+    parts: &[PartTruth],
+    first_index: usize,
+    plan: &Plan,
+    seed: u64,
+) -> Result<Vec<ChamberRow>, ModelError> {
     let tag = plan.tag();
     let per_part: Result<Vec<Vec<ChamberRow>>, ModelError> = parts
         .par_iter()
         .enumerate()
-        .map(|(k, part)| {
+        .map(|(j, part)| {
+            let k = first_index + j;
             let mut rng = ChaCha12Rng::seed_from_u64(seed ^ tag);
             rng.set_stream(2 * k as u64 + 1);
             let mut rows = Vec::with_capacity(plan.temps_c.len() * plan.stimuli.len());
@@ -102,16 +186,30 @@ pub fn measure(
             Ok(rows)
         })
         .collect();
-    let mut rows: Vec<ChamberRow> = per_part?.into_iter().flatten().collect();
-    for (k, r) in rows.iter_mut().enumerate() {
-        r.line = k + 2;
-    }
-    Ok(rows)
+    Ok(per_part?.into_iter().flatten().collect())
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_lot_written_in_chunks_has_the_bytes_of_the_whole_lot() {
+        let scenario = Scenario::well_logger();
+        let plan = Plan {
+            temps_c: vec![-20.0, 25.0],
+            stimuli: vec![0.0, 10.0],
+        };
+        let parts = draw_parts(&scenario, 5, 7);
+        let whole =
+            super::super::chamber::to_csv_bytes(&measure(&scenario, &parts, &plan, 7).unwrap());
+        for chunk in [1, 2, 5, 1000] {
+            let mut bytes = Vec::new();
+            let rows = write_lot_in_chunks(&scenario, 5, &plan, 7, &mut bytes, chunk).unwrap();
+            assert_eq!(rows, 20, "chunk {chunk}");
+            assert!(bytes == whole, "chunk {chunk}: bytes differ");
+        }
+    }
 
     #[test]
     fn adc_rounds_to_codes_and_clamps() {

@@ -54,39 +54,68 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
         return Ok(s);
     }
     let path = Path::new(arg);
-    let text = std::fs::read_to_string(path).map_err(|e| SpecLoadError {
+    let text = super::limits::read_text_capped(
+        path,
+        super::limits::MAX_TOML_BYTES,
+        "scenario or element spec",
+    )
+    .map_err(|message| SpecLoadError {
         file: arg.into(),
         line: 1,
         field: "-".into(),
         message: format!(
-            "cannot read ({e}); expected a scenario TOML file or one of {}",
+            "{message}; expected a scenario TOML file or one of {}",
             BUILT_IN.join(", ")
         ),
     })?;
+    let located = |e: crate::element::SpecError| SpecLoadError {
+        file: arg.into(),
+        line: e.line.max(1),
+        field: e.field,
+        message: e.message,
+    };
     // Element specs have a [stimulus] table; station scenarios do not.
     if text.lines().any(|l| l.trim() == "[stimulus]") {
-        return parse_spec(&text)
+        let scenario = parse_spec(&text)
             .map(|spec| from_element(&spec))
-            .map_err(|e| SpecLoadError {
+            .map_err(located)?;
+        // The element spec's own checks passed; what is left are the
+        // station's limits on the values it carries into the scenario.
+        scenario.check().map_err(|e| {
+            let field = element_key(&e.field);
+            SpecLoadError {
                 file: arg.into(),
-                line: e.line,
-                field: e.field.clone(),
-                message: e.message.clone(),
-            });
+                line: crate::element::locate::line_of(&text, field),
+                field: field.to_string(),
+                message: format!(
+                    "{} (station limit on scenario field '{}')",
+                    e.message, e.field
+                ),
+            }
+        })?;
+        return Ok(scenario);
     }
-    toml::from_str::<Scenario>(&text).map_err(|e| {
-        let line = e.span().map_or(1, |s| {
-            text[..s.start.min(text.len())].lines().count().max(1)
-        });
-        let message = e.message().to_string();
-        let field = message.split('`').nth(1).unwrap_or("-").to_string();
-        SpecLoadError {
-            file: arg.into(),
-            line,
-            field,
-            message,
-        }
-    })
+    let scenario: Scenario =
+        toml::from_str(&text).map_err(|e| located(crate::element::locate::from_toml(&text, &e)))?;
+    scenario
+        .check()
+        .map_err(|e| located(e.located(Some(&text))))?;
+    Ok(scenario)
+}
+
+/// The element spec key a scenario field comes from ([`from_element`]).
+fn element_key(scenario_field: &str) -> &'static str {
+    match scenario_field {
+        "range_c" => "temperature.max_c",
+        "t_ref_c" => "temperature.reference_c",
+        "stimulus_fs" | "stimuli" => "stimulus.full_scale",
+        "stimulus_unit" => "stimulus.unit",
+        "output_adc.bits" => "adc.bits",
+        "output_adc.range" => "adc.input_span_v",
+        "excitation" => "excitation",
+        f if f.starts_with("sample") => "die",
+        _ => "kind",
+    }
 }
 
 /// A scenario from an element spec (see the module docs for what is kept).

@@ -203,7 +203,7 @@ pub struct TableFrame<'a> {
     pub signal_lsb: f64,
 }
 
-fn unit(name: &str) -> Unit {
+pub(crate) fn unit(name: &str) -> Unit {
     match name {
         "bar" => Unit::Bar,
         "Pa" => Unit::Pascal,

@@ -102,6 +102,7 @@ pub enum PiezoTruth {
 
 /// The published models the truth uses where the fitted model uses its own.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct TruthModels {
     /// Resistivity (and the Hall plate's carrier density).
     pub resistivity: ResistivityTruth,

@@ -19,7 +19,7 @@ pub struct PlotTableArgs {
     #[arg(long, value_name = "PART")]
     pub against: PathBuf,
     /// Total budget in ppm of span (default: the part's scenario's).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub budget: Option<f64>,
     /// File to write, SVG (or PNG when the name ends in `.png`); replaced atomically.
     #[arg(long, value_name = "FILE.svg")]
@@ -29,9 +29,12 @@ pub struct PlotTableArgs {
 /// Runs `semidrift plot table`.
 pub fn run(args: PlotTableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part(&args.against)?;
-    let image = std::fs::read(&args.image)
-        .map_err(|e| CliError::Input(format!("{}: cannot read: {e}", args.image.display())))?;
-    let budget = budget_ppm(args.budget, &part)?;
+    let image = crate::cli::verify::read_image(&args.image)?;
+    let budget = budget_ppm(args.budget, &part, &args.against)?;
+    crate::station::output::check_not_input(
+        &args.out,
+        &[args.image.as_path(), args.against.as_path()],
+    )?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let image_err =
         |e: pipeline::StepError| CliError::Input(format!("{}: {e}", args.image.display()));

@@ -158,10 +158,13 @@ impl DesignFile {
     /// Reads and checks a design file (format and content hash).
     pub fn read(path: &Path) -> Result<DesignFile, DesignFileError> {
         let file = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|e| DesignFileError::Io {
-            file: file.clone(),
-            message: e.to_string(),
-        })?;
+        let limits = crate::station::limits::MAX_JSON_BYTES;
+        let text = crate::station::limits::read_text_capped(path, limits, "design file").map_err(
+            |message| DesignFileError::Io {
+                file: file.clone(),
+                message,
+            },
+        )?;
         Self::parse(&file, &text)
     }
 

@@ -216,7 +216,7 @@ fn ridge(
     for j in 0..nb {
         a[(n + j, j + 1)] = (lambda * pen[j] * n as f64).sqrt();
     }
-    let Some(svd) = super::svd_bounded(a, true, true) else {
+    let Some(svd) = crate::station::linalg::svd_bounded(a, true, true) else {
         return (f64::NAN, vec![f64::NAN; nb]);
     };
     let smax = svd.singular_values.max();
@@ -290,7 +290,7 @@ fn components(
     });
     let dev = DMatrix::from_fn(p, nb, |i, j| weights[i][j] - mean[j]);
     let x = &dev * bmat.transpose();
-    let Some(svd) = super::svd_bounded(x, true, false) else {
+    let Some(svd) = crate::station::linalg::svd_bounded(x, true, false) else {
         return (mean, Vec::new(), Vec::new());
     };
     let Some(u) = svd.u else {
@@ -488,11 +488,12 @@ impl Lot<'_> {
                     .collect();
                 let x = DMatrix::from_fn(kept.len(), n_t, |r, j| therm[kept[r]][j] - center[j]);
                 let y = DMatrix::from_fn(kept.len(), nb, |r, j| ws[r][j]);
-                let solved = super::svd_bounded(x.clone(), true, true).and_then(|svd| {
-                    let smax = svd.singular_values.max();
-                    // Relative singular-value cutoff 1e-12 (common practice).
-                    svd.solve(&y, 1e-12 * smax).ok()
-                });
+                let solved =
+                    crate::station::linalg::svd_bounded(x.clone(), true, true).and_then(|svd| {
+                        let smax = svd.singular_values.max();
+                        // Relative singular-value cutoff 1e-12 (common practice).
+                        svd.solve(&y, 1e-12 * smax).ok()
+                    });
                 if let Some(g) = solved {
                     let fitted = &x * &g;
                     for (r, w) in ws.iter_mut().enumerate() {

@@ -20,23 +20,7 @@ pub use file::{DesignFile, DesignFileError, OutlierLimits};
 pub use learn::{ProductionPlan, QualifyError};
 
 use super::chamber::ChamberData;
-use nalgebra::{DMatrix, SVD};
 
-/// Singular value decomposition with a bounded number of iterations: `None`
-/// when it does not converge (non-finite or absurd data), so a degenerate
-/// part is reported instead of hanging the lot (nalgebra's plain `svd`
-/// iterates without limit).
-pub fn svd_bounded(
-    m: DMatrix<f64>,
-    u: bool,
-    v: bool,
-) -> Option<SVD<f64, nalgebra::Dyn, nalgebra::Dyn>> {
-    if m.iter().any(|x| !x.is_finite()) {
-        return None;
-    }
-    // 1 000 sweeps: a well-posed matrix of this size converges in tens.
-    m.try_svd(u, v, f64::EPSILON, 1000)
-}
 use super::curves::ShapeCurves;
 use super::scenario::Scenario;
 
@@ -118,38 +102,4 @@ pub fn suggest_plans(
     });
     out.truncate(keep);
     out
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn bounded_svd_refuses_non_finite_and_solves_the_rest() {
-        // (matrix, expect a decomposition)
-        let table = [
-            (DMatrix::from_row_slice(2, 2, &[2.0, 0.0, 0.0, 3.0]), true),
-            (
-                DMatrix::from_row_slice(2, 2, &[f64::NAN, 0.0, 0.0, 1.0]),
-                false,
-            ),
-            (
-                DMatrix::from_row_slice(2, 2, &[f64::INFINITY, 1.0, 1.0, 1.0]),
-                false,
-            ),
-        ];
-        for (m, ok) in table {
-            let got = svd_bounded(m.clone(), true, true);
-            assert_eq!(got.is_some(), ok, "{m}");
-            if let Some(svd) = got {
-                // Diagonal 2, 3: singular values exactly {3, 2} up to rounding.
-                let mut s: Vec<f64> = svd.singular_values.iter().copied().collect();
-                s.sort_by(f64::total_cmp);
-                assert!(
-                    (s[0] - 2.0).abs() < 1e-12 && (s[1] - 3.0).abs() < 1e-12,
-                    "{s:?}"
-                );
-            }
-        }
-    }
 }

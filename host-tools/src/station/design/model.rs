@@ -206,7 +206,7 @@ fn fit_family(
     for (j, s) in norms.iter().enumerate() {
         scaled.column_mut(j).scale_mut(1.0 / s);
     }
-    let Some(svd) = super::svd_bounded(scaled, true, true) else {
+    let Some(svd) = crate::station::linalg::svd_bounded(scaled, true, true) else {
         return (vec![f64::NAN; k + 1], f64::INFINITY);
     };
     let smax = svd.singular_values.max();

@@ -85,7 +85,7 @@ pub fn reduce(rows: &[&ChamberRow], fs: (f64, f64)) -> (Vec<Step>, Vec<(f64, Str
             _ => parabola(at[i].stimulus, fs),
         });
         let b = DVector::from_iterator(at.len(), at.iter().map(|r| r.output));
-        let Some(svd) = super::svd_bounded(a.clone(), true, true) else {
+        let Some(svd) = crate::station::linalg::svd_bounded(a.clone(), true, true) else {
             skipped.push((t, "readings out of any sensible range".into()));
             continue;
         };
