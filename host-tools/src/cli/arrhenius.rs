@@ -126,12 +126,14 @@ pub fn run(args: ArrheniusArgs, out: &mut dyn Write) -> Result<(), CliError> {
 
 /// Reads the temperature and value columns; errors name file, line and column.
 fn read_series(path: &std::path::Path, column: Option<&str>) -> Result<Series, CliError> {
+    use crate::station::limits::{MAX_CSV_BYTES, read_capped};
     let file = path.display().to_string();
+    let bytes = read_capped(path, MAX_CSV_BYTES, "measurement CSV")
+        .map_err(|m| CliError::Input(format!("{file}: {m}")))?;
     let mut reader = csv::ReaderBuilder::new()
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
-        .from_path(path)
-        .map_err(|e| CliError::Input(format!("{file}: cannot read: {e}")))?;
+        .from_reader(bytes.as_slice());
     let headers = reader
         .headers()
         .map_err(|e| CliError::at(&file, 1, "header", e))?

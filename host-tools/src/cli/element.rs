@@ -80,8 +80,9 @@ pub struct LoadedSpec {
 /// Reads and parses a spec file; errors name the file, line and key.
 pub fn load_spec(path: &Path) -> Result<LoadedSpec, CliError> {
     let shown = path.display().to_string();
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| CliError::Input(format!("{shown}: cannot read: {e}")))?;
+    use crate::station::limits::{MAX_TOML_BYTES, read_text_capped};
+    let text = read_text_capped(path, MAX_TOML_BYTES, "element spec")
+        .map_err(|m| CliError::Input(format!("{shown}: {m}")))?;
     let spec = parse_spec(&text).map_err(|e| CliError::at(&shown, e.line, &e.field, &e.message))?;
     Ok(LoadedSpec {
         path: path.to_path_buf(),

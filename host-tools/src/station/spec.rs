@@ -68,6 +68,12 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
             BUILT_IN.join(", ")
         ),
     })?;
+    parse_text(arg, &text)
+}
+
+/// Parses a scenario or element spec TOML `text` (named `arg` in messages)
+/// and checks it, as [`load`] does for a file.
+pub fn parse_text(arg: &str, text: &str) -> Result<Scenario, SpecLoadError> {
     let located = |e: crate::element::SpecError| SpecLoadError {
         file: arg.into(),
         line: e.line.max(1),
@@ -76,7 +82,7 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
     };
     // Element specs have a [stimulus] table; station scenarios do not.
     if text.lines().any(|l| l.trim() == "[stimulus]") {
-        let scenario = parse_spec(&text)
+        let scenario = parse_spec(text)
             .map(|spec| from_element(&spec))
             .map_err(located)?;
         // The element spec's own checks passed; what is left are the
@@ -85,7 +91,7 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
             let field = element_key(&e.field);
             SpecLoadError {
                 file: arg.into(),
-                line: crate::element::locate::line_of(&text, field),
+                line: crate::element::locate::line_of(text, field),
                 field: field.to_string(),
                 message: format!(
                     "{} (station limit on scenario field '{}')",
@@ -96,10 +102,10 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
         return Ok(scenario);
     }
     let scenario: Scenario =
-        toml::from_str(&text).map_err(|e| located(crate::element::locate::from_toml(&text, &e)))?;
+        toml::from_str(text).map_err(|e| located(crate::element::locate::from_toml(text, &e)))?;
     scenario
         .check()
-        .map_err(|e| located(e.located(Some(&text))))?;
+        .map_err(|e| located(e.located(Some(text))))?;
     Ok(scenario)
 }
 
