@@ -13,6 +13,7 @@ use compensate::image::NumberFormat;
 use compensate::image::layout::{CRC_LEN, HEADER_LEN};
 use host_tools::station::chamber::{self, ChamberData, ChamberRow};
 use host_tools::station::choose::Restrict;
+use host_tools::station::design::{DesignFile, ProductionPlan};
 use host_tools::station::scenario::Scenario;
 use host_tools::station::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
 use host_tools::station::{lot, model_shapes, pipeline, simulate, spec};
@@ -425,10 +426,31 @@ fn degenerate_lot(rows: &[ChamberRow], rng: &mut ChaCha8Rng) -> ChamberData {
     }
 }
 
+/// A design learned from an 8-part qualification lot of the base scenario.
+fn design(scenario: &Scenario, curves: &host_tools::station::curves::ShapeCurves) -> DesignFile {
+    let plan = simulate::Plan {
+        temps_c: scenario.qualification_plan_temps_c(),
+        stimuli: scenario.qualification_stimuli(),
+    };
+    let parts = simulate::draw_parts(scenario, 8, 11);
+    let data = ChamberData {
+        rows: simulate::measure(scenario, &parts, &plan, 11).unwrap(),
+        ..ChamberData::default()
+    };
+    let production = ProductionPlan {
+        temps_c: scenario.cal_temps_c.clone(),
+        stimuli: scenario.stimuli.clone(),
+    };
+    host_tools::station::design::qualify(scenario, curves, &data, "qual.csv", &production)
+        .expect("design learns")
+}
+
 #[test]
 fn lots_with_degenerate_data_always_finish_with_one_file_per_part() {
     let (scenario, rows, _) = base();
     let curves = model_shapes::shapes_for(scenario).unwrap();
+    // Every other lot is fitted on a design (the production path).
+    let design = design(scenario, &curves);
     let total: usize = if slow() { 100_000 } else { 200 };
     let progress = watchdog("lots");
     let start = Instant::now();
@@ -440,7 +462,8 @@ fn lots_with_degenerate_data_always_finish_with_one_file_per_part() {
                 let data = degenerate_lot(rows, &mut rng);
                 let serials = data.by_serial().len();
                 let t0 = Instant::now();
-                let parts = lot::calibrate_lot(scenario, &curves, &data, true);
+                let on_design = (k % 2 == 1).then_some(&design);
+                let parts = lot::calibrate_lot_with(scenario, &curves, &data, on_design, true);
                 let took = t0.elapsed();
                 assert_eq!(parts.len(), serials, "lot {k}: one part file per serial");
                 progress.fetch_add(1, Ordering::Relaxed);
@@ -451,7 +474,7 @@ fn lots_with_degenerate_data_always_finish_with_one_file_per_part() {
     });
     progress.store(usize::MAX, Ordering::Relaxed);
     eprintln!(
-        "fuzz lots: {total} degenerate 3-part lots calibrated, slowest {:.3} s, {:.1} s in all",
+        "fuzz lots: {total} degenerate 3-part lots calibrated (half on a design), slowest {:.3} s, {:.1} s in all",
         slowest.as_secs_f64(),
         start.elapsed().as_secs_f64()
     );

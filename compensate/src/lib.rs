@@ -88,7 +88,7 @@
 //! | 12 | 1 | u8 | number format: 0 f32, 1 Q-format i32 |
 //! | 13 | 1 | u8 | interpolation: 0 linear, 1 monotone cubic |
 //! | 14 | 1 | u8 | temperature signal: 0 degrees C, 1 ohm, 2 ADC code |
-//! | 15 | 1 | u8 | flags: bit 0 ratiometric; bit 1 channels over the temperature signal ([`image::ChannelAxis::Signal`]: the channel axis is in signal units and the thermometer must have the same axis and `n_sig = n_t`); other bits 0 |
+//! | 15 | 1 | u8 | flags: bit 0 ratiometric; bit 1 channels over the temperature signal ([`image::ChannelAxis::Signal`]: the channel axis is in signal units and the thermometer must have the same axis and `n_sig = n_t`); bit 2 built from simulated data ([`TableView::simulated`]: never flash it where a reading protects people or property); other bits 0 |
 //! | 16 | 2 | u16 | `n_t`: temperature nodes (>= 2) |
 //! | 18 | 2 | u16 | `n_sig`: thermometer nodes (0 = none, else >= 2; required unless signal is degrees C) |
 //! | 20 | 2 | u16 | `n_raw`: raw-axis nodes of the 2-D correction (0 = none, else >= 2) |

@@ -193,14 +193,25 @@ fn signal_axis_images_need_the_thermometer_on_the_channel_nodes() {
             value: 5
         }))
     );
-    // A flag bit this layout does not define.
+    // A flag bit this layout does not define (bits 0..=2 are defined).
     let mut img = encode(&f32_signal_builder());
-    img[off::FLAGS] |= 1 << 2;
+    img[off::FLAGS] |= 1 << 3;
     fix_crc(&mut img);
     assert_eq!(
         TableView::parse(&img),
         Err(ImageError::ReservedNotZero { offset: off::FLAGS })
     );
+    // The simulated flag is accepted and reported, and changes nothing else.
+    let plain = encode(&f32_signal_builder());
+    let mut sim = plain.clone();
+    sim[off::FLAGS] |= compensate::image::layout::FLAG_SIMULATED;
+    fix_crc(&mut sim);
+    let (a, b) = (
+        TableView::parse(&plain).unwrap(),
+        TableView::parse(&sim).unwrap(),
+    );
+    assert!(!a.simulated() && b.simulated());
+    assert_eq!(a.channel_axis(), b.channel_axis());
 }
 
 proptest::proptest! {

@@ -35,8 +35,13 @@ pub const FLAG_RATIOMETRIC: u8 = 1 << 0;
 /// ([`ChannelAxis::Signal`]); the thermometer section then has the same
 /// axis and node count as the channels.
 pub const FLAG_SIGNAL_AXIS: u8 = 1 << 1;
+/// Flag bit 2: the image was built from simulated (invented) data, never a
+/// measurement. The runtime computes with it as with any image; a station
+/// must refuse to flash it into a part whose reading protects people or
+/// property ([`crate::TableView::simulated`]).
+pub const FLAG_SIMULATED: u8 = 1 << 2;
 /// Every flag bit this layout version defines; the others must be zero.
-pub const FLAGS_KNOWN: u8 = FLAG_RATIOMETRIC | FLAG_SIGNAL_AXIS;
+pub const FLAGS_KNOWN: u8 = FLAG_RATIOMETRIC | FLAG_SIGNAL_AXIS | FLAG_SIMULATED;
 
 /// Header field offsets.
 pub mod off {

@@ -4,9 +4,9 @@ use super::bytes::{f32_at, i32_at, u8_at, u16_at, u32_at, word};
 use super::column::{ColumnF32, ColumnQ};
 use super::error::{ImageError, Section};
 use super::layout::{
-    self, AXIS_LEN, CRC_LEN, ChannelAxis, FLAG_RATIOMETRIC, FLAG_SIGNAL_AXIS, FLAGS_KNOWN,
-    HEADER_LEN, MAGIC, NumberFormat, QFormat, RawLimits, SERIAL_LEN, SignalKind, Unit, VERSION,
-    WORD, off,
+    self, AXIS_LEN, CRC_LEN, ChannelAxis, FLAG_RATIOMETRIC, FLAG_SIGNAL_AXIS, FLAG_SIMULATED,
+    FLAGS_KNOWN, HEADER_LEN, MAGIC, NumberFormat, QFormat, RawLimits, SERIAL_LEN, SignalKind, Unit,
+    VERSION, WORD, off,
 };
 use super::tables::{TablesF32, TablesQ};
 use super::validate::{check_frac, f32_axis_ok};
@@ -29,6 +29,7 @@ pub struct TableView<'a> {
     signal_kind: SignalKind,
     unit: Unit,
     ratiometric: bool,
+    simulated: bool,
     channel_axis: ChannelAxis,
     q: QFormat,
     full_scale: f32,
@@ -287,6 +288,7 @@ impl<'a> TableView<'a> {
             signal_kind,
             unit,
             ratiometric: flags & FLAG_RATIOMETRIC != 0,
+            simulated: flags & FLAG_SIMULATED != 0,
             channel_axis,
             q,
             full_scale: f32::from_bits(full_scale_bits),
@@ -390,6 +392,14 @@ impl<'a> TableView<'a> {
     #[must_use]
     pub const fn ratiometric(&self) -> bool {
         self.ratiometric
+    }
+
+    /// `true` when the image was built from simulated data (flag
+    /// [`layout::FLAG_SIMULATED`]): never flash it where a reading protects
+    /// people or property.
+    #[must_use]
+    pub const fn simulated(&self) -> bool {
+        self.simulated
     }
 
     /// What the correction channels are tabulated over.

@@ -91,11 +91,27 @@ pub enum StepError {
     },
 }
 
+/// Sets an image's simulated flag (`compensate::image::layout::FLAG_SIMULATED`)
+/// and re-signs it (CRC-32 over everything before the CRC). The flag changes
+/// no computation; it lets a station see, before flashing, that the image
+/// was made from invented data.
+pub fn mark_simulated(image: &mut [u8]) {
+    use compensate::image::layout::{CRC_LEN, FLAG_SIMULATED, HEADER_LEN, off};
+    if image.len() < HEADER_LEN + CRC_LEN {
+        return;
+    }
+    image[off::FLAGS] |= FLAG_SIMULATED;
+    let body = image.len() - CRC_LEN;
+    let crc = compensate::crc::crc32(&image[..body]);
+    image[body..].copy_from_slice(&crc.to_le_bytes());
+}
+
 /// Checks that `view` is an image the station builds for `part`, before
 /// anything is evaluated: the serial field (the part's serial, zero-padded
 /// or cut to the image's 16 bytes), the measurand unit, the full scale
-/// (the span of `stimulus_fs` as f32), the ratiometric flag (the station
-/// never sets it) and the temperature-signal kind (ohm or ADC code).
+/// (the span of `stimulus_fs` as f32), the simulated flag (set exactly when
+/// the part was fitted to simulated data), the ratiometric flag (the
+/// station never sets it) and the temperature-signal kind (ohm or ADC code).
 pub fn check_image_for_part(view: &TableView<'_>, part: &PartFile) -> Result<(), StepError> {
     let mismatch = |field, message| Err(StepError::NotThisPart { field, message });
     let mut want = [0u8; compensate::image::layout::SERIAL_LEN];
@@ -139,6 +155,18 @@ pub fn check_image_for_part(view: &TableView<'_>, part: &PartFile) -> Result<(),
                 want_fs,
                 part.scenario.stimulus_unit
             ),
+        );
+    }
+    if view.simulated() != part.scenario.simulated {
+        return mismatch(
+            "flags",
+            if part.scenario.simulated {
+                "the part was fitted to simulated data but the image lacks the simulated flag"
+                    .to_string()
+            } else {
+                "the image carries the simulated flag but the part was fitted to measured data"
+                    .to_string()
+            },
         );
     }
     if view.ratiometric() {
@@ -318,6 +346,9 @@ pub fn build_table_for_allowance_with(
         (image, dense) = try_plan(frame, &plan, serial, unit, &grid)?;
     }
     let (interp, quant) = split_terms(frame, &plan, serial, unit, dense.max_error_ppm)?;
+    if part.scenario.simulated {
+        mark_simulated(&mut image);
+    }
     Ok(TableOutcome {
         serial: serial.to_string(),
         plan,
