@@ -142,9 +142,9 @@ fn measure<B: Backend>(
         let c = m.carriers(t);
         let (mu_n, mu_p) = m.mobilities_cm2_vs(t);
         let (maj, maj_full, mu, mu_full) = if case.n_type() {
-            (c.n_cm3, pt.n_cm3, mu_n, pt.mu_n_cm2_vs)
+            (c.n_cm3, pt.n_cm3, mu_n, pt.mu_n_per_free_carrier_cm2_vs)
         } else {
-            (c.p_cm3, pt.p_cm3, mu_p, pt.mu_p_cm2_vs)
+            (c.p_cm3, pt.p_cm3, mu_p, pt.mu_p_per_free_carrier_cm2_vs)
         };
         w.majority = w.majority.max(rel(maj, maj_full));
         w.mobility = w.mobility.max(rel(mu, mu_full));
