@@ -41,8 +41,7 @@ use super::material::Material;
 use super::transport::{Carrier, anisotropy_factor, hall_scattering_factor};
 
 /// Where a Hall factor comes from.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum HallFactorSource {
     /// Si electrons: Ohta & Sakata 1978 temperature curve (recalled from memory).
     OhtaSakata1978,
@@ -75,6 +74,12 @@ impl HallFactorSource {
             HallFactorSource::LinEtAl1981 => "lin-et-al-1981",
             HallFactorSource::Theory => "theory",
         }
+    }
+}
+
+impl serde::Serialize for HallFactorSource {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(self.key())
     }
 }
 
