@@ -3,6 +3,7 @@
 #![forbid(unsafe_code)]
 
 pub mod arrhenius;
+pub mod arrhenius_check;
 pub mod cli;
 pub mod element;
 pub mod physics;
