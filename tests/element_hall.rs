@@ -38,7 +38,8 @@ fn summary(h: &HallSpec) -> host_tools::element::DriftSummary {
 fn arora_mu_n(n_cm3: f64, t_k: f64) -> f64 {
     let tn = t_k / 300.0;
     let alpha = 0.88 * tn.powf(-0.146);
-    88.0 * tn.powf(-0.57) + 7.4e8 * t_k.powf(-2.33) / (1.0 + (n_cm3 / (1.26e17 * tn.powf(2.4))).powf(alpha))
+    88.0 * tn.powf(-0.57)
+        + 7.4e8 * t_k.powf(-2.33) / (1.0 + (n_cm3 / (1.26e17 * tn.powf(2.4))).powf(alpha))
 }
 
 #[test]
@@ -88,7 +89,10 @@ fn current_bias_sensitivity_follows_the_published_hall_factor() {
     h.excitation.mode = ExcitationMode::Current;
     let s = summary(&h);
     let expected = 1e6 * 0.03 / 100.0 / 1.15;
-    println!("Si n 1.5e16: TCS_I {:.0} ppm/K, published {expected:.0}", s.tcs_cc_ppm_per_k);
+    println!(
+        "Si n 1.5e16: TCS_I {:.0} ppm/K, published {expected:.0}",
+        s.tcs_cc_ppm_per_k
+    );
     assert!(
         (s.tcs_cc_ppm_per_k - expected).abs() <= 280.0,
         "TCS_I {} vs published {expected}",

@@ -109,7 +109,11 @@ fn tcr_lightly_doped_follows_published_lattice_exponents() {
     // (species, Arora 1982 exponent, Jacoboni et al. 1977 exponent).
     for (species, arora, jacoboni) in [(Species::P, 2.33, 2.42), (Species::B, 2.23, 2.20)] {
         let model = tcr_ppm(
-            |t| evaluate(&sample(species, 1e14), t).expect("model").rho_ohm_cm,
+            |t| {
+                evaluate(&sample(species, 1e14), t)
+                    .expect("model")
+                    .rho_ohm_cm
+            },
             25.0,
         );
         let (lo, hi): (f64, f64) = (f64::min(arora, jacoboni), f64::max(arora, jacoboni));

@@ -84,7 +84,11 @@ pub fn regime_check(
     let diff = high.ea_ev - low.ea_ev;
     let sigma = low.ea_sigma_ev.hypot(high.ea_sigma_ev);
     let mixed = diff.abs() > MIXED_REL * whole.ea_ev.abs() && diff.abs() > 3.0 * sigma;
-    let trim_end = mixed.then_some(if low.ea_ev < high.ea_ev { "low" } else { "high" });
+    let trim_end = mixed.then_some(if low.ea_ev < high.ea_ev {
+        "low"
+    } else {
+        "high"
+    });
     Ok(RegimeCheck {
         power,
         segment_points: segment,

@@ -8,8 +8,8 @@ use crate::arrhenius_check::{
     POWER_SYSTEMATIC, RegimeCheck, SI_INTRINSIC_CONDUCTIVITY_POWER, ea_systematic_ev,
     power_implausible, regime_check,
 };
-use crate::physics::Material;
 use crate::cli::range::ZERO_CELSIUS_K;
+use crate::physics::Material;
 use clap::{Args, ValueEnum};
 use std::io::Write;
 use std::path::PathBuf;
@@ -113,7 +113,11 @@ impl Report {
             c.segment_points,
             c.ea_high_end_ev,
             c.trim_end.unwrap_or("low"),
-            if c.trim_end == Some("high") { "to-k" } else { "from-k" }
+            if c.trim_end == Some("high") {
+                "to-k"
+            } else {
+                "from-k"
+            }
         ))
     }
 }
@@ -217,7 +221,12 @@ pub fn run(args: ArrheniusArgs, out: &mut dyn Write) -> Result<(), CliError> {
     // there is one (a free m would hide the change), else at the fit's m.
     let reference = default_power.or_else(|| generic_power(&args, &series));
     // Fewer than 6 points cannot be checked; the report says so.
-    let check = regime_check(&window, &result, reference.unwrap_or(result.prefactor_power)).ok();
+    let check = regime_check(
+        &window,
+        &result,
+        reference.unwrap_or(result.prefactor_power),
+    )
+    .ok();
     // Systematic part of Ea's uncertainty from the prefactor power: with m
     // from the material's laws, k T_mid times their uncertainty; with m
     // free, the shift between the free fit and the fit at the regime's
@@ -443,7 +452,11 @@ fn human(args: &ArrheniusArgs, series: &Series, r: &Report) -> String {
                 c.ea_low_end_sigma_ev,
                 c.ea_high_end_ev,
                 c.ea_high_end_sigma_ev,
-                if c.mixed { "mixed regimes" } else { "one regime" }
+                if c.mixed {
+                    "mixed regimes"
+                } else {
+                    "one regime"
+                }
             );
         }
         None => s += "  too few points (fewer than 6) to check the window for mixed regimes\n",

@@ -188,7 +188,14 @@ mod tests {
         // plate at the same current gives the same Hall voltage whichever
         // source sets that current; 1e-12 allows rounding only.
         let spec = hall_example();
-        let s = plate_state(&spec, -1.0, 300.0, 1.0, -625.0, (1.0, HallFactorSource::Theory));
+        let s = plate_state(
+            &spec,
+            -1.0,
+            300.0,
+            1.0,
+            -625.0,
+            (1.0, HallFactorSource::Theory),
+        );
         let r = s.resistance_ohm;
         let by_i = s.response(100.0, Excitation::CurrentA(1e-3));
         let by_v = s.response(100.0, Excitation::VoltageV(1e-3 * r));
@@ -218,7 +225,14 @@ mod tests {
         let mut spec = hall_example();
         spec.plate.geometry_factor = 0.7;
         spec.plate.thickness_um = 5.0;
-        let s = plate_state(&spec, -1.0, 300.0, 1.0, -625.0, (1.0, HallFactorSource::Theory));
+        let s = plate_state(
+            &spec,
+            -1.0,
+            300.0,
+            1.0,
+            -625.0,
+            (1.0, HallFactorSource::Theory),
+        );
         let got = s.sensitivity_i_v_per_a_t;
         assert!(
             (got - 87.5).abs() <= 1e-12 * 87.5,

@@ -221,7 +221,11 @@ mod tests {
         let mut last = 1.0;
         for k in 0..=40 {
             let g = degeneracy_share(-4.0 + f64::from(k) * 0.5);
-            assert!(g <= last + 1e-9, "eta {}: {g} after {last}", -4.0 + f64::from(k) * 0.5);
+            assert!(
+                g <= last + 1e-9,
+                "eta {}: {g} after {last}",
+                -4.0 + f64::from(k) * 0.5
+            );
             last = g;
         }
     }
@@ -229,7 +233,14 @@ mod tests {
     /// Other materials keep the theory; Si takes the tables.
     #[test]
     fn sources_per_material() {
-        let (_, s) = hall_factor(Material::GaAs, Carrier::Electron, 300.0, 5000.0, 9000.0, -10.0);
+        let (_, s) = hall_factor(
+            Material::GaAs,
+            Carrier::Electron,
+            300.0,
+            5000.0,
+            9000.0,
+            -10.0,
+        );
         assert_eq!(s, HallFactorSource::Theory);
         let (r, s) = hall_factor(Material::Si, Carrier::Hole, 300.0, 400.0, 470.0, -10.0);
         assert_eq!(s, HallFactorSource::LinEtAl1981);
