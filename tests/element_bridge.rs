@@ -172,7 +172,9 @@ fn smith_doping_matches_astm_f723() {
         }
         10f64.powf(0.5 * (lo + hi))
     };
-    let cases: [(Carrier, &dyn Fn(f64) -> f64, f64, f64); 2] = [
+    /// rho(N) in ohm cm of one dopant (a published conversion).
+    type RhoOf<'a> = &'a dyn Fn(f64) -> f64;
+    let cases: [(Carrier, RhoOf, f64, f64); 2] = [
         (Carrier::P, &boron, 7.8, 0.08),
         (Carrier::N, &phosphorus, 11.7, 0.11),
     ];

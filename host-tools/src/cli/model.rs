@@ -422,8 +422,16 @@ mod tests {
         let lines: Vec<&str> = text.lines().collect();
         assert!(lines[0].contains("donors (cm^-3): P=1e15"), "{}", lines[0]);
         // Lines 1 and 2 name the Hall-factor sources (published data for Si).
-        assert!(lines[1].starts_with("# hall_factor_n: Si electrons"), "{}", lines[1]);
-        assert!(lines[2].starts_with("# hall_factor_p: Si holes"), "{}", lines[2]);
+        assert!(
+            lines[1].starts_with("# hall_factor_n: Si electrons"),
+            "{}",
+            lines[1]
+        );
+        assert!(
+            lines[2].starts_with("# hall_factor_p: Si holes"),
+            "{}",
+            lines[2]
+        );
         assert!(!lines[3].contains("piezo_factor"));
         assert_eq!(lines[3].len(), lines[4].len(), "header and rows align");
         assert_eq!(lines[4].len(), lines[5].len(), "rows align");
