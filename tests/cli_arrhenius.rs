@@ -419,3 +419,51 @@ fn material_other_than_si_is_refused_with_the_reason() {
         common::stderr(&o)
     );
 }
+
+/// Model-based extraction on the mixed window 420..700 K of the 1e13 cm^-3
+/// bar: the full model with density and gap offset free returns the
+/// density (the data came from `semidrift model` with P = 1e13, so within
+/// 1 %: CSV rounding to ten digits and the fit's non-degenerate neutrality
+/// leave 1e-5 in ln sigma) and a gap whose linear 0 K extrapolation lies
+/// within 0.03 eV of the published one (Thurmond 1975 via
+/// `si_gap_linear_0k_ev` at the window's middle).
+#[test]
+fn model_based_extraction_on_a_mixed_window() {
+    let dir = tempfile::tempdir().unwrap();
+    bar_csv(dir.path(), "420:700:5");
+    let v = fit_json(
+        dir.path(),
+        &[
+            "arrhenius",
+            "bar.csv",
+            "--column",
+            "rho_ohm_cm",
+            "--material",
+            "si",
+            "--model-dopant",
+            "P",
+            "--json",
+        ],
+    );
+    let m = &v["model_fit"];
+    let n = m["density_cm3"].as_f64().unwrap();
+    assert!((n / 1e13 - 1.0).abs() < 0.01, "N {n:e}");
+    let gap = m["band_gap_0k_linear_ev"].as_f64().unwrap();
+    let expected = si_gap_linear_0k_ev(m["t_mid_k"].as_f64().unwrap());
+    println!("model fit: N {n:e}, gap {gap:.4} eV, published {expected:.4} eV");
+    assert!((gap - expected).abs() < 0.03, "gap {gap} vs {expected}");
+    assert!(m["gap_offset_ev"].as_f64().unwrap().abs() < 1e-3, "{m}");
+    // Without --material the option is refused by clap (exit 2).
+    let o = run_in(
+        dir.path(),
+        &[
+            "arrhenius",
+            "bar.csv",
+            "--column",
+            "rho_ohm_cm",
+            "--model-dopant",
+            "P",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(2));
+}

@@ -4,6 +4,7 @@
 
 pub mod arrhenius;
 pub mod arrhenius_check;
+pub mod arrhenius_model;
 pub mod cli;
 pub mod element;
 pub mod physics;

@@ -8,7 +8,9 @@ use crate::arrhenius_check::{
     POWER_SYSTEMATIC, RegimeCheck, SI_INTRINSIC_CONDUCTIVITY_POWER, ea_systematic_ev,
     power_implausible, regime_check,
 };
+use crate::arrhenius_model::{ModelFit, fit_model_any_start};
 use crate::cli::range::ZERO_CELSIUS_K;
+use crate::cli::sample_args::parse_species;
 use crate::physics::Material;
 use clap::{Args, ValueEnum};
 use std::io::Write;
@@ -73,6 +75,11 @@ pub struct ArrheniusArgs {
     /// systematic uncertainty of 0.2 in m added to Ea's uncertainty.
     #[arg(long, value_name = "NAME")]
     pub material: Option<String>,
+    /// Also fit the full model of `--material` doped with this species (e.g.
+    /// `P`) to the data: dopant density and band-gap offset free, over any
+    /// window, mixed regimes included; reports both with uncertainties.
+    #[arg(long, value_name = "SPECIES", requires = "material")]
+    pub model_dopant: Option<String>,
     /// Print JSON to stdout.
     #[arg(long)]
     pub json: bool,
@@ -89,6 +96,28 @@ struct Report {
     check: Option<RegimeCheck>,
     /// The regime's reference power when the fitted m is implausibly far from it.
     implausible_power: Option<f64>,
+    /// The model-based extraction, when asked for.
+    model_fit: Option<ModelFit>,
+}
+
+/// The model-based extraction of `--model-dopant` on the window.
+fn model_fit(args: &ArrheniusArgs, window: &[(f64, f64)]) -> Result<Option<ModelFit>, CliError> {
+    let Some(symbol) = args.model_dopant.as_deref() else {
+        return Ok(None);
+    };
+    let species = parse_species(symbol).ok_or_else(|| {
+        CliError::option(
+            "--model-dopant",
+            symbol,
+            "unknown species (a chemical symbol such as P or B)",
+        )
+    })?;
+    let name = args.material.as_deref().unwrap_or("");
+    let material = Material::from_name(name)
+        .ok_or_else(|| CliError::option("--material", name, "unknown material"))?;
+    fit_model_any_start(material, species, window)
+        .map(Some)
+        .map_err(|e| CliError::option("--model-dopant", symbol, e.to_string()))
 }
 
 impl Report {
@@ -242,12 +271,14 @@ pub fn run(args: ArrheniusArgs, out: &mut dyn Write) -> Result<(), CliError> {
         (Some(r), Some(sigma)) if power_implausible(result.prefactor_power, sigma, r) => Some(r),
         _ => None,
     };
+    let model_fit = model_fit(&args, &window)?;
     let report = Report {
         fit: result,
         systematic_ev,
         material_default: default_power.is_some() && args.prefactor_power.is_none(),
         check,
         implausible_power,
+        model_fit,
     };
     let text = if args.json {
         json(&args, &series, &report)?
@@ -387,6 +418,7 @@ fn json(args: &ArrheniusArgs, series: &Series, r: &Report) -> Result<String, Cli
         "regime": args.regime.map(Regime::name),
         "interpretations": interpretations,
         "selected": selected,
+        "model_fit": r.model_fit,
     });
     let mut text = serde_json::to_string_pretty(&doc)
         .map_err(|e| CliError::Input(format!("cannot encode JSON: {e}")))?;
@@ -473,6 +505,20 @@ fn human(args: &ArrheniusArgs, series: &Series, r: &Report) -> String {
         s += &format!(
             "  {:<24} {:<42} {:.5} +- {:.5} eV{mark}\n",
             i.regime, i.name, i.value_ev, i.sigma_ev
+        );
+    }
+    if let Some(m) = &r.model_fit {
+        s += &format!(
+            "full-model fit: N = {:.4e} +- {:.2e} cm^-3, gap offset {:+.5} +- {:.5} eV, rms residual of ln = {:.3e}\n",
+            m.density_cm3,
+            m.density_sigma_cm3,
+            m.gap_offset_ev,
+            m.gap_offset_sigma_ev,
+            m.rms_residual_ln
+        );
+        s += &format!(
+            "  gap at {:.1} K {:.5} eV, extrapolated linearly to 0 K {:.5} +- {:.5} eV\n",
+            m.t_mid_k, m.gap_at_t_mid_ev, m.band_gap_0k_linear_ev, m.gap_offset_sigma_ev
         );
     }
     s += "  intrinsic: 2 Ea is the gap extrapolated linearly to 0 K (the gap's linear\n";
