@@ -7,7 +7,7 @@ mod common;
 use common::{bad_input, ok, run_in};
 
 /// The row fields of the output contract (`host-tools/src/cli/model.rs`).
-const FIELDS: [&str; 14] = [
+const FIELDS: [&str; 16] = [
     "t_k",
     "t_c",
     "eg_ev",
@@ -22,6 +22,8 @@ const FIELDS: [&str; 14] = [
     "donors_ionized_cm3",
     "acceptors_ionized_cm3",
     "fermi_from_ev_ev",
+    "mu_n_per_free_carrier_cm2_vs",
+    "mu_p_per_free_carrier_cm2_vs",
 ];
 
 #[test]
@@ -117,6 +119,9 @@ fn json_has_the_contract_fields_and_nothing_else_on_stdout() {
     assert_eq!(v["donors"][0]["species"], "P");
     assert_eq!(v["donors"][0]["density_cm3"], 1e15);
     assert_eq!(v["acceptors"][0]["species"], "B");
+    // Si Hall factors come from published data, named in the output.
+    assert_eq!(v["hall_factor_n_source"], "ohta-sakata-1978");
+    assert_eq!(v["hall_factor_p_source"], "lin-et-al-1981");
     let rows = v["rows"].as_array().expect("rows");
     assert_eq!(rows.len(), 3, "250, 300, 350 K");
     for (row, t_k) in rows.iter().zip([250.0, 300.0, 350.0]) {
@@ -199,10 +204,15 @@ fn table_is_the_default_and_repeat_runs_are_byte_identical() {
         "100:500:100",
     ];
     let a = ok(&args);
+    // The sample line and the two Hall-factor source lines start with '#'.
     assert!(
-        a.lines().nth(1).unwrap().contains("t_k"),
+        a.lines()
+            .find(|l| !l.starts_with('#'))
+            .unwrap()
+            .contains("t_k"),
         "table header: {a}"
     );
+    assert!(a.contains("# hall_factor_n: Si electrons"), "{a}");
     assert_eq!(a, ok(&args), "table output must repeat byte for byte");
     let mut json = args.to_vec();
     json.push("--json");

@@ -56,16 +56,26 @@ fn p_type_hall_sign_reverses_before_n_equals_p() {
     assert!((450.0..700.0).contains(&lo), "R_H zero at {lo} K");
 }
 
-/// n-type Si: R_H = -r_n / (q n) with a Hall factor in the range published
-/// for electrons in Si at 300 K (0.8..1.3 covers the calculations and
-/// measurements summarised by Ohta & Sakata 1978, Jpn. J. Appl. Phys. 17,
-/// 1795, recalled from memory); Hall mobility = r_n mu_n.
+/// n-type Si, P 1e15 cm^-3 at 300 K: published Hall factor of lightly
+/// doped n-Si about 1.15 (R. S. Popovic, Hall Effect Devices, 2nd ed., 2004,
+/// ch. 3; Ohta & Sakata 1978, Jpn. J. Appl. Phys. 17, 1795, measured r_H(T);
+/// both recalled from memory), i.e. r_H 1.10..1.20 with the spread of the
+/// published room-temperature values, so R_H = -r_H/(q N) lies in
+/// -6 900..-7 500 cm^3/C (N = 1e15, all donors ionized). The band is +-4 %
+/// wide: a Hall factor 20 % off (0.92 or 1.38) fails. Also the one-carrier
+/// identities R_H = -r_n/(q n) and mu_H = r_n mu_n (per free carrier).
 #[test]
-fn n_type_hall_factor_and_mobility() {
+fn n_type_hall_coefficient_matches_published_hall_factor() {
+    let point = evaluate(&si(&[(Species::P, 1e15)], &[]), 300.0).unwrap();
+    let r_h = point.hall_coefficient_cm3_c;
+    assert!(
+        (-7500.0..=-6900.0).contains(&r_h),
+        "P 1e15, 300 K: R_H {r_h} cm^3/C, published -6 900..-7 500"
+    );
+    assert_eq!(point.hall_factor_n_source.key(), "ohta-sakata-1978");
     for &n in &[1e14, 1e15, 1e16, 1e17] {
         let point = evaluate(&si(&[(Species::P, n)], &[]), 300.0).unwrap();
         let r = point.hall_factor_n;
-        assert!((0.8..1.3).contains(&r), "N={n:e}: r_n {r}");
         let expected = -r / (1.602_176_634e-19 * point.n_cm3);
         // Minority holes change R_H by < (p/n)(mu_p/mu_n)^2 ~ 1e-10 here; 1e-6.
         let rel = point.hall_coefficient_cm3_c / expected - 1.0;
@@ -74,13 +84,59 @@ fn n_type_hall_factor_and_mobility() {
             "N={n:e}: R_H {} vs {expected}",
             point.hall_coefficient_cm3_c
         );
-        let rel = point.hall_mobility_cm2_vs / (r * point.mu_n_cm2_vs) - 1.0;
+        let rel = point.hall_mobility_cm2_vs / (r * point.mu_n_per_free_carrier_cm2_vs) - 1.0;
         assert!(
             rel.abs() < 1e-6,
             "N={n:e}: mu_H {} vs r mu_n",
             point.hall_mobility_cm2_vs
         );
     }
+}
+
+/// p-type Si, B 1e15 cm^-3 at 300 K: published hole Hall factor 0.7..0.8
+/// (Lin, Li, Linares & Teng, Solid-State Electron. 24, 827 (1981);
+/// Szmulowicz, Phys. Rev. B 34, 4031 (1986); recalled from memory), widened
+/// by the recall uncertainty of 0.05 to 0.65..0.85. A factor 20 % off the
+/// middle (0.60 or 0.90) fails. The Hall coefficient follows r_p/(q p).
+#[test]
+fn p_type_hall_factor_matches_published_range() {
+    let point = evaluate(&si(&[], &[(Species::B, 1e15)]), 300.0).unwrap();
+    let r = point.hall_factor_p;
+    assert!(
+        (0.65..=0.85).contains(&r),
+        "B 1e15, 300 K: r_p {r}, published 0.7..0.8"
+    );
+    assert_eq!(point.hall_factor_p_source.key(), "lin-et-al-1981");
+    let one_carrier = r / (1.602_176_634e-19 * point.p_cm3);
+    // Minority electrons: (n/p)(mu_n/mu_p)^2 ~ 1e-9; 1e-6.
+    assert!(
+        (point.hall_coefficient_cm3_c / one_carrier - 1.0).abs() < 1e-6,
+        "R_H {} vs r_p/(q p) {one_carrier}",
+        point.hall_coefficient_cm3_c
+    );
+}
+
+/// Mobility fields are the published model at the total dopant density:
+/// B 1e18 cm^-3 at 300 K, Masetti, Severi & Solmi 1983 (IEEE TED 30, 764):
+/// the published hole-mobility curve reads about 153 cm^2/Vs (recalled from
+/// memory) and eq. 1 with their Table I boron parameters gives 160.3 (hand
+/// evaluation); 10 % around 153 covers both and fails a 20 % error (the
+/// per-free-carrier mobility, 212, is 38 % above).
+#[test]
+fn mobility_fields_match_published_curves_at_total_density() {
+    let point = evaluate(&si(&[], &[(Species::B, 1e18)]), 300.0).unwrap();
+    let mu = point.mu_p_cm2_vs;
+    assert!(
+        (mu / 153.0 - 1.0).abs() <= 0.10,
+        "B 1e18, 300 K: mu_p {mu}, Masetti about 153"
+    );
+    // The pairing mobility is higher by the neutral fraction, N/N_ion.
+    let ratio = point.mu_p_per_free_carrier_cm2_vs / mu;
+    let n_over_ion = 1e18 / point.acceptors_ionized_cm3;
+    assert!(
+        (ratio / n_over_ion - 1.0).abs() < 0.01,
+        "per-free-carrier / published {ratio} vs N/N_ion {n_over_ion}"
+    );
 }
 
 /// Kanda 1982 (IEEE TED 29, 64): P(N, T) -> 1 at low doping and 300 K, and

@@ -3,6 +3,8 @@
 #![forbid(unsafe_code)]
 
 pub mod arrhenius;
+pub mod arrhenius_check;
+pub mod arrhenius_model;
 pub mod cli;
 pub mod element;
 pub mod physics;

@@ -6,7 +6,7 @@
 //! `tests/runtime_model_deviation.rs` fits them and asserts these bounds for
 //! both math backends; the values are the measured worst cases rounded up
 //! (measured with libm: ni 2.9 %, majority 0.9 %, mobility 4.1 %,
-//! sigma ratio 5.3 %, Hall ratios 6.8 %, piezo ratio 0.13 %; micromath
+//! sigma ratio 5.3 %, Hall ratios 6.1 %, piezo ratio 0.13 %; micromath
 //! within 0.2 % of these). The sigma ratio grew from 4.0 % when the full
 //! model's Si mobility began to follow Arora's fitted temperature trend with
 //! the ionized fraction at each temperature (host physics/mobility.rs): the
@@ -18,7 +18,8 @@
 //!
 //! Outside the documented range the model degrades: at 1e19 cm^-3 the
 //! Boltzmann statistics put the majority density off by 34..48 % and the
-//! conductivity ratio by 8..11 % (measured); use a table there.
+//! conductivity ratio by 6..9 % (measured; the test asserts both); use a
+//! table there.
 
 /// Intrinsic density (Boltzmann, power-law DOS vs Fermi–Dirac, Pässler gap
 /// and the full DOS model).

@@ -3,7 +3,15 @@
 
 use super::CliError;
 use crate::arrhenius::{ArrheniusFit, PrefactorPower, fit};
+use crate::arrhenius_check::{
+    GENERIC_INTRINSIC_CONDUCTIVITY_POWER, INTRINSIC_DENSITY_POWER, POWER_IMPLAUSIBLE,
+    POWER_SYSTEMATIC, RegimeCheck, SI_INTRINSIC_CONDUCTIVITY_POWER, ea_systematic_ev,
+    power_implausible, regime_check,
+};
+use crate::arrhenius_model::{ModelFit, fit_model_any_start};
 use crate::cli::range::ZERO_CELSIUS_K;
+use crate::cli::sample_args::parse_species;
+use crate::physics::Material;
 use clap::{Args, ValueEnum};
 use std::io::Write;
 use std::path::PathBuf;
@@ -61,9 +69,129 @@ pub struct ArrheniusArgs {
     /// Regime the window lies in, to pick the interpretation reported as `selected`.
     #[arg(long, value_enum)]
     pub regime: Option<Regime>,
+    /// Material of the sample (`si`): with `--regime intrinsic` and no
+    /// `--prefactor-power`, m defaults to the material's published laws
+    /// (Si conductivity: 3/2 - 2.3 = -0.8; a density column: 3/2), with a
+    /// systematic uncertainty of 0.2 in m added to Ea's uncertainty.
+    #[arg(long, value_name = "NAME")]
+    pub material: Option<String>,
+    /// Also fit the full model of `--material` doped with this species (e.g.
+    /// `P`) to the data: dopant density and band-gap offset free, over any
+    /// window, mixed regimes included; reports both with uncertainties.
+    #[arg(long, value_name = "SPECIES", requires = "material")]
+    pub model_dopant: Option<String>,
     /// Print JSON to stdout.
     #[arg(long)]
     pub json: bool,
+}
+
+/// The fit with its checks.
+struct Report {
+    fit: ArrheniusFit,
+    /// Systematic standard uncertainty of Ea from the prefactor power, eV.
+    systematic_ev: f64,
+    /// Whether m came from `--material`'s laws.
+    material_default: bool,
+    /// The mixed-regime check (None when the window is too short for it).
+    check: Option<RegimeCheck>,
+    /// The regime's reference power when the fitted m is implausibly far from it.
+    implausible_power: Option<f64>,
+    /// The model-based extraction, when asked for.
+    model_fit: Option<ModelFit>,
+}
+
+/// The model-based extraction of `--model-dopant` on the window.
+fn model_fit(args: &ArrheniusArgs, window: &[(f64, f64)]) -> Result<Option<ModelFit>, CliError> {
+    let Some(symbol) = args.model_dopant.as_deref() else {
+        return Ok(None);
+    };
+    let species = parse_species(symbol).ok_or_else(|| {
+        CliError::option(
+            "--model-dopant",
+            symbol,
+            "unknown species (a chemical symbol such as P or B)",
+        )
+    })?;
+    let name = args.material.as_deref().unwrap_or("");
+    let material = Material::from_name(name)
+        .ok_or_else(|| CliError::option("--material", name, "unknown material"))?;
+    fit_model_any_start(material, species, window)
+        .map(Some)
+        .map_err(|e| CliError::option("--model-dopant", symbol, e.to_string()))
+}
+
+impl Report {
+    /// Ea's standard uncertainty, statistical and systematic combined.
+    fn total_sigma_ev(&self) -> f64 {
+        self.fit.ea_sigma_ev.hypot(self.systematic_ev)
+    }
+
+    /// The warning line for a mixed window, if any.
+    fn warning(&self) -> Option<String> {
+        let Some(c) = self.check.filter(|c| c.mixed) else {
+            return self.implausible_power.map(|r| {
+                format!(
+                    "the fitted m = {:.2} is more than {POWER_IMPLAUSIBLE} from the regime's {r}: the free m is absorbing a second regime; trim the window or fix m (--material, --prefactor-power)",
+                    self.fit.prefactor_power
+                )
+            });
+        };
+        Some(format!(
+            "the window is not one regime: Ea is {:.4} eV over its lowest {} points and {:.4} eV over its highest; trim the {} end (--{} K) until the ends agree",
+            c.ea_low_end_ev,
+            c.segment_points,
+            c.ea_high_end_ev,
+            c.trim_end.unwrap_or("low"),
+            if c.trim_end == Some("high") {
+                "to-k"
+            } else {
+                "from-k"
+            }
+        ))
+    }
+}
+
+/// The prefactor power `--material` implies for the selected regime.
+fn material_power(args: &ArrheniusArgs, series: &Series) -> Result<Option<f64>, CliError> {
+    let Some(name) = args.material.as_deref() else {
+        return Ok(None);
+    };
+    match Material::from_name(name) {
+        Some(Material::Si) => {}
+        Some(_) => {
+            return Err(CliError::option(
+                "--material",
+                name,
+                "default prefactor laws are published here for si only; give --prefactor-power",
+            ));
+        }
+        None => return Err(CliError::option("--material", name, "unknown material")),
+    }
+    Ok(match args.regime {
+        Some(Regime::Intrinsic) if series.inverted || is_conductivity(&series.column) => {
+            Some(SI_INTRINSIC_CONDUCTIVITY_POWER)
+        }
+        Some(Regime::Intrinsic) => Some(INTRINSIC_DENSITY_POWER),
+        _ => None,
+    })
+}
+
+/// The regime's reference power without a material: intrinsic conductivity
+/// `3/2 - 2`, intrinsic density `3/2`; none for freeze-out (the power
+/// depends on the compensation and the impurity share of the mobility).
+fn generic_power(args: &ArrheniusArgs, series: &Series) -> Option<f64> {
+    match args.regime {
+        Some(Regime::Intrinsic) if series.inverted || is_conductivity(&series.column) => {
+            Some(GENERIC_INTRINSIC_CONDUCTIVITY_POWER)
+        }
+        Some(Regime::Intrinsic) => Some(INTRINSIC_DENSITY_POWER),
+        _ => None,
+    }
+}
+
+/// Whether a column holds a conductivity (not a carrier density).
+fn is_conductivity(column: &str) -> bool {
+    column.contains("conduct") || column.starts_with("sigma")
 }
 
 /// Which quantity the value column holds.
@@ -109,16 +237,53 @@ pub fn run(args: ArrheniusArgs, out: &mut dyn Write) -> Result<(), CliError> {
         .filter(|p| p.0 >= lo && p.0 <= hi)
         .map(|&(t, v)| (t, if series.inverted { 1.0 / v } else { v }))
         .collect();
-    let power = args
-        .prefactor_power
-        .map_or(PrefactorPower::Free, PrefactorPower::Fixed);
-    let result = fit(&window, power).map_err(|e| {
-        CliError::Input(format!("{}: window {lo}..{hi} K: {e}", args.data.display()))
-    })?;
+    let default_power = material_power(&args, &series)?;
+    let power = match (args.prefactor_power, default_power) {
+        (Some(m), _) => PrefactorPower::Fixed(m),
+        (None, Some(m)) => PrefactorPower::Fixed(m),
+        (None, None) => PrefactorPower::Free,
+    };
+    let window_error =
+        |e| CliError::Input(format!("{}: window {lo}..{hi} K: {e}", args.data.display()));
+    let result = fit(&window, power).map_err(window_error)?;
+    // The end segments are fitted at the regime's reference power where
+    // there is one (a free m would hide the change), else at the fit's m.
+    let reference = default_power.or_else(|| generic_power(&args, &series));
+    // Fewer than 6 points cannot be checked; the report says so.
+    let check = regime_check(
+        &window,
+        &result,
+        reference.unwrap_or(result.prefactor_power),
+    )
+    .ok();
+    // Systematic part of Ea's uncertainty from the prefactor power: with m
+    // from the material's laws, k T_mid times their uncertainty; with m
+    // free, the shift between the free fit and the fit at the regime's
+    // reference power (what the free m moved Ea by); with m given, none.
+    let systematic_ev = match (args.prefactor_power, default_power, reference) {
+        (None, Some(_), _) => ea_systematic_ev(POWER_SYSTEMATIC, result.t_min_k, result.t_max_k),
+        (None, None, Some(r)) => fit(&window, PrefactorPower::Fixed(r))
+            .map(|f| (f.ea_ev - result.ea_ev).abs())
+            .map_err(window_error)?,
+        _ => 0.0,
+    };
+    let implausible_power = match (reference, result.prefactor_power_sigma) {
+        (Some(r), Some(sigma)) if power_implausible(result.prefactor_power, sigma, r) => Some(r),
+        _ => None,
+    };
+    let model_fit = model_fit(&args, &window)?;
+    let report = Report {
+        fit: result,
+        systematic_ev,
+        material_default: default_power.is_some() && args.prefactor_power.is_none(),
+        check,
+        implausible_power,
+        model_fit,
+    };
     let text = if args.json {
-        json(&args, &series, &result)?
+        json(&args, &series, &report)?
     } else {
-        human(&args, &series, &result)
+        human(&args, &series, &report)
     };
     out.write_all(text.as_bytes())?;
     Ok(())
@@ -231,22 +396,31 @@ fn read_series(path: &std::path::Path, column: Option<&str>) -> Result<Series, C
 }
 
 /// The JSON report.
-fn json(args: &ArrheniusArgs, series: &Series, f: &ArrheniusFit) -> Result<String, CliError> {
-    let interpretations = f.interpretations();
+fn json(args: &ArrheniusArgs, series: &Series, r: &Report) -> Result<String, CliError> {
+    let mut shown = r.fit;
+    shown.ea_sigma_ev = r.total_sigma_ev();
+    let interpretations = shown.interpretations();
     let selected = args
         .regime
-        .and_then(|r| interpretations.iter().find(|i| i.regime == r.name()));
+        .and_then(|g| interpretations.iter().find(|i| i.regime == g.name()));
     let doc = serde_json::json!({
         "file": args.data.display().to_string(),
         "column": series.column,
         "fitted_quantity": if series.inverted { "reciprocal" } else { "value" },
         "from_k": args.from_k,
         "to_k": args.to_k,
-        "prefactor_power_fixed": args.prefactor_power.is_some(),
-        "fit": f,
+        "prefactor_power_fixed": args.prefactor_power.is_some() || r.material_default,
+        "prefactor_power_from_material": r.material_default,
+        "fit": r.fit,
+        "ea_systematic_ev": r.systematic_ev,
+        "ea_total_sigma_ev": r.total_sigma_ev(),
+        "regime_check": r.check,
+        "prefactor_power_implausible": r.implausible_power.is_some(),
+        "warning": r.warning(),
         "regime": args.regime.map(Regime::name),
         "interpretations": interpretations,
         "selected": selected,
+        "model_fit": r.model_fit,
     });
     let mut text = serde_json::to_string_pretty(&doc)
         .map_err(|e| CliError::Input(format!("cannot encode JSON: {e}")))?;
@@ -255,8 +429,12 @@ fn json(args: &ArrheniusArgs, series: &Series, f: &ArrheniusFit) -> Result<Strin
 }
 
 /// The human-readable report.
-fn human(args: &ArrheniusArgs, series: &Series, f: &ArrheniusFit) -> String {
+fn human(args: &ArrheniusArgs, series: &Series, r: &Report) -> String {
+    let f = &r.fit;
     let mut s = String::new();
+    if let Some(w) = r.warning() {
+        s += &format!("WARNING: {w}\n");
+    }
     let quantity = if series.inverted {
         format!("1/{}", series.column)
     } else {
@@ -270,6 +448,18 @@ fn human(args: &ArrheniusArgs, series: &Series, f: &ArrheniusFit) -> String {
         "  Ea = {:.5} eV +- {:.5} eV (standard uncertainty)\n",
         f.ea_ev, f.ea_sigma_ev
     );
+    if r.systematic_ev > 0.0 {
+        let from = if r.material_default {
+            format!("m +- {POWER_SYSTEMATIC}")
+        } else {
+            "free m against the regime's reference m".to_string()
+        };
+        s += &format!(
+            "  Ea systematic ({from}) = {:.5} eV; combined +- {:.5} eV\n",
+            r.systematic_ev,
+            r.total_sigma_ev()
+        );
+    }
     match (f.prefactor_power_sigma, f.ea_power_correlation) {
         (Some(sm), corr) => {
             s += &format!("  m  = {:.4} +- {:.4} (fitted)", f.prefactor_power, sm);
@@ -278,11 +468,37 @@ fn human(args: &ArrheniusArgs, series: &Series, f: &ArrheniusFit) -> String {
             }
             s += "\n";
         }
+        (None, _) if r.material_default => {
+            s += &format!(
+                "  m  = {:.4} (from --material's published laws for the regime)\n",
+                f.prefactor_power
+            );
+        }
         (None, _) => s += &format!("  m  = {:.4} (fixed)\n", f.prefactor_power),
     }
     s += &format!("  rms residual of ln = {:.3e}\n", f.rms_residual_ln);
-    s += "interpretations (pick by the regime of the window):\n";
-    for i in f.interpretations() {
+    match r.check {
+        Some(c) => {
+            s += &format!(
+                "  end quarters (m = {:.2}): Ea {:.5} +- {:.5} eV (low T), {:.5} +- {:.5} eV (high T): {}\n",
+                c.power,
+                c.ea_low_end_ev,
+                c.ea_low_end_sigma_ev,
+                c.ea_high_end_ev,
+                c.ea_high_end_sigma_ev,
+                if c.mixed {
+                    "mixed regimes"
+                } else {
+                    "one regime"
+                }
+            );
+        }
+        None => s += "  too few points (fewer than 6) to check the window for mixed regimes\n",
+    }
+    s += "interpretations (pick by the regime of the window; combined uncertainty):\n";
+    let mut shown = *f;
+    shown.ea_sigma_ev = r.total_sigma_ev();
+    for i in shown.interpretations() {
         let mark = if args.regime.map(Regime::name) == Some(i.regime) {
             "  <- selected"
         } else {
@@ -291,6 +507,20 @@ fn human(args: &ArrheniusArgs, series: &Series, f: &ArrheniusFit) -> String {
         s += &format!(
             "  {:<24} {:<42} {:.5} +- {:.5} eV{mark}\n",
             i.regime, i.name, i.value_ev, i.sigma_ev
+        );
+    }
+    if let Some(m) = &r.model_fit {
+        s += &format!(
+            "full-model fit: N = {:.4e} +- {:.2e} cm^-3, gap offset {:+.5} +- {:.5} eV, rms residual of ln = {:.3e}\n",
+            m.density_cm3,
+            m.density_sigma_cm3,
+            m.gap_offset_ev,
+            m.gap_offset_sigma_ev,
+            m.rms_residual_ln
+        );
+        s += &format!(
+            "  gap at {:.1} K {:.5} eV, extrapolated linearly to 0 K {:.5} +- {:.5} eV\n",
+            m.t_mid_k, m.gap_at_t_mid_ev, m.band_gap_0k_linear_ev, m.gap_offset_sigma_ev
         );
     }
     s += "  intrinsic: 2 Ea is the gap extrapolated linearly to 0 K (the gap's linear\n";

@@ -211,7 +211,7 @@ pub fn run(args: ElementArgs, out: &mut dyn Write) -> Result<(), CliError> {
 }
 
 /// Columns of the CSV output (kind-specific ones are empty when not applicable).
-const CSV_COLUMNS: [&str; 17] = [
+const CSV_COLUMNS: [&str; 18] = [
     "t_c",
     "t_k",
     "span_v",
@@ -229,6 +229,7 @@ const CSV_COLUMNS: [&str; 17] = [
     "piezo_factor",
     "hall_coefficient_cm3_c",
     "hall_mobility_cm2_vs",
+    "hall_factor",
 ];
 
 fn write_csv(out: &mut dyn Write, curve: &DriftCurve) -> std::io::Result<()> {
@@ -253,6 +254,7 @@ fn write_csv(out: &mut dyn Write, curve: &DriftCurve) -> std::io::Result<()> {
             opt(r.piezo_factor),
             opt(r.hall_coefficient_cm3_c),
             opt(r.hall_mobility_cm2_vs),
+            opt(r.hall_factor),
         ];
         writeln!(out, "{}", fields.join(","))?;
     }
@@ -297,6 +299,9 @@ fn write_text(
         s.tcr_ppm_per_k,
         s.adc_lsb_ppm_fs
     )?;
+    if let Some(source) = s.hall_factor_source {
+        writeln!(out, "Hall factor: {}", source.citation())?;
+    }
     writeln!(
         out,
         "{:>8} {:>10} {:>10} {:>13} {:>12} {:>10} {:>10}",

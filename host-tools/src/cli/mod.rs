@@ -45,6 +45,16 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Evaluate the full physics model of a doped sample over temperature.
+    ///
+    /// mu_n_cm2_vs / mu_p_cm2_vs are the published mobility models at the total
+    /// dopant density (Si: Masetti 1983 with Arora 1982 temperature laws): compare
+    /// them with published mobility curves. mu_n_per_free_carrier_cm2_vs /
+    /// mu_p_per_free_carrier_cm2_vs are the mobilities per band carrier that pair
+    /// with n_cm3 / p_cm3 (which count only ionized dopants) in
+    /// rho = 1 / (q (n mu_n + p mu_p)); in Si they exceed the published ones where
+    /// dopants are partly neutral (about 1.3x at 1e18 cm^-3, 300 K), elsewhere the
+    /// two are equal. hall_factor_n / hall_factor_p are published Si data
+    /// (sources printed above the table and in the JSON) or scattering theory.
     #[command(after_help = CAUTIONS)]
     Model(model::ModelArgs),
     /// Draw plots as SVG or PNG files.

@@ -4,7 +4,7 @@
 use super::CliError;
 use super::range::{TemperatureArgs, ZERO_CELSIUS_K};
 use super::sample_args::{SampleArgs, species_symbol};
-use crate::physics::{Dopant, ModelPoint, Sample, evaluate};
+use crate::physics::{Dopant, HallFactorSource, ModelPoint, Sample, evaluate};
 use clap::Args;
 use serde::ser::{SerializeMap, Serializer};
 use std::io::Write;
@@ -130,6 +130,16 @@ const COLUMNS: &[Column] = &[
         shape: Shape::Fixed(1),
         value: |p| Some(p.hall_mobility_cm2_vs),
     },
+    Column {
+        name: "mu_n_per_free_carrier_cm2_vs",
+        shape: Shape::Fixed(1),
+        value: |p| Some(p.mu_n_per_free_carrier_cm2_vs),
+    },
+    Column {
+        name: "mu_p_per_free_carrier_cm2_vs",
+        shape: Shape::Fixed(1),
+        value: |p| Some(p.mu_p_per_free_carrier_cm2_vs),
+    },
 ];
 
 /// Runs `semidrift model`.
@@ -194,6 +204,10 @@ struct JsonDoc<'a> {
     material: &'a str,
     donors: Vec<JsonDopant>,
     acceptors: Vec<JsonDopant>,
+    /// Source of `hall_factor_n` (a short key; the table prints the citation).
+    hall_factor_n_source: &'static str,
+    /// Source of `hall_factor_p`.
+    hall_factor_p_source: &'static str,
     rows: Vec<JsonRow<'a>>,
 }
 
@@ -214,12 +228,23 @@ fn json_dopants(dopants: &[Dopant]) -> Vec<JsonDopant> {
         .collect()
 }
 
+/// Hall-factor sources of the sample's material (they depend on the
+/// material only: published data for Si, theory elsewhere).
+fn sources(sample: &Sample) -> (HallFactorSource, HallFactorSource) {
+    use crate::physics::hall_factor::hall_factor;
+    use crate::physics::transport::Carrier;
+    let of = |carrier| hall_factor(sample.material, carrier, 300.0, 1.0, 1.0, -10.0).1;
+    (of(Carrier::Electron), of(Carrier::Hole))
+}
+
 /// Renders the JSON document (pretty, with a final newline).
 pub fn json(sample: &Sample, rows: &[ModelPoint]) -> Result<String, CliError> {
     let doc = JsonDoc {
         material: sample.material.name(),
         donors: json_dopants(&sample.donors),
         acceptors: json_dopants(&sample.acceptors),
+        hall_factor_n_source: sources(sample).0.key(),
+        hall_factor_p_source: sources(sample).1.key(),
         rows: rows.iter().map(JsonRow).collect(),
     };
     let mut text = serde_json::to_string_pretty(&doc)
@@ -303,6 +328,12 @@ pub fn table(sample: &Sample, rows: &[ModelPoint]) -> String {
         describe(&sample.donors),
         describe(&sample.acceptors)
     );
+    let (source_n, source_p) = sources(sample);
+    text.push_str(&format!(
+        "# hall_factor_n: {}\n# hall_factor_p: {}\n",
+        source_n.citation(),
+        source_p.citation()
+    ));
     text.push_str(&line(shown.iter().map(|c| c.name).collect()));
     for row in &cells {
         text.push_str(&line(row.iter().map(String::as_str).collect()));
@@ -313,7 +344,7 @@ pub fn table(sample: &Sample, rows: &[ModelPoint]) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::physics::{Material, Species};
+    use crate::physics::{HallFactorSource, Material, Species};
 
     fn point(t_k: f64, piezo: Option<f64>) -> ModelPoint {
         ModelPoint {
@@ -327,11 +358,15 @@ mod tests {
             fermi_from_ev_ev: 0.86,
             mu_n_cm2_vs: 1350.25,
             mu_p_cm2_vs: 480.0,
+            mu_n_per_free_carrier_cm2_vs: 1350.25,
+            mu_p_per_free_carrier_cm2_vs: 480.0,
             rho_ohm_cm: 4.62,
             hall_coefficient_cm3_c: -7.3e3,
             piezo_factor: piezo,
             hall_factor_n: 1.18,
             hall_factor_p: 0.75,
+            hall_factor_n_source: HallFactorSource::OhtaSakata1978,
+            hall_factor_p_source: HallFactorSource::LinEtAl1981,
             hall_mobility_cm2_vs: -1593.0,
         }
     }
@@ -386,9 +421,20 @@ mod tests {
         let text = table(&sample(), &[point(300.0, None), point(1000.0, None)]);
         let lines: Vec<&str> = text.lines().collect();
         assert!(lines[0].contains("donors (cm^-3): P=1e15"), "{}", lines[0]);
-        assert!(!lines[1].contains("piezo_factor"));
-        assert_eq!(lines[1].len(), lines[2].len(), "header and rows align");
-        assert_eq!(lines[2].len(), lines[3].len(), "rows align");
+        // Lines 1 and 2 name the Hall-factor sources (published data for Si).
+        assert!(
+            lines[1].starts_with("# hall_factor_n: Si electrons"),
+            "{}",
+            lines[1]
+        );
+        assert!(
+            lines[2].starts_with("# hall_factor_p: Si holes"),
+            "{}",
+            lines[2]
+        );
+        assert!(!lines[3].contains("piezo_factor"));
+        assert_eq!(lines[3].len(), lines[4].len(), "header and rows align");
+        assert_eq!(lines[4].len(), lines[5].len(), "rows align");
         let with = table(&sample(), &[point(300.0, Some(1.0))]);
         assert!(with.contains("piezo_factor"));
     }

@@ -11,6 +11,7 @@ use super::error::ElementError;
 use super::model::{ElementModel, ElementState};
 use super::output::Excitation;
 use super::spec::{ElementKind, ElementSpec, ExcitationMode};
+use crate::physics::HallFactorSource;
 use crate::physics::constants::ZERO_C_K;
 use serde::Serialize;
 
@@ -59,6 +60,9 @@ pub struct DriftRow {
     /// Hall mobility |R_H|/rho in cm^2/(V s) (Hall plates only).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub hall_mobility_cm2_vs: Option<f64>,
+    /// Hall factor of the plate's majority carrier (Hall plates only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub hall_factor: Option<f64>,
 }
 
 /// Temperature coefficients at the reference temperature.
@@ -88,6 +92,9 @@ pub struct DriftSummary {
     pub tco_cc_ppm_fs_per_k: f64,
     /// One ADC step in ppm of the reference span (spec's drive).
     pub adc_lsb_ppm_fs: f64,
+    /// Source of the Hall factor behind the plate's drift (Hall plates only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub hall_factor_source: Option<HallFactorSource>,
 }
 
 /// A drift curve: rows over temperature and the coefficients at the reference.
@@ -182,6 +189,10 @@ pub fn drift_curve_of(
         tco_cv_ppm_fs_per_k: tco(drives.cv, refs.cv),
         tco_cc_ppm_fs_per_k: tco(drives.cc, refs.cc),
         adc_lsb_ppm_fs: 1e6 * adc_lsb_v / refs.own.abs(),
+        hall_factor_source: match &reference {
+            ElementState::Hall(h) => Some(h.hall_factor_source),
+            ElementState::Bridge(_) => None,
+        },
     };
     Ok(DriftCurve {
         kind,
@@ -195,12 +206,13 @@ fn row(state: &ElementState, t_c: f64, fs: f64, drives: &Drives, refs: &RefSpans
     let (span_cv, offset_cv) = span_offset(state, fs, drives.cv);
     let (span_cc, offset_cc) = span_offset(state, fs, drives.cc);
     let at_zero = state.response(0.0, drives.own);
-    let (piezo_factor, hall_coefficient_cm3_c, hall_mobility_cm2_vs) = match state {
-        ElementState::Bridge(b) => (Some(b.arms[0].piezo_factor), None, None),
+    let (piezo_factor, hall_coefficient_cm3_c, hall_mobility_cm2_vs, hall_factor) = match state {
+        ElementState::Bridge(b) => (Some(b.arms[0].piezo_factor), None, None, None),
         ElementState::Hall(h) => (
             None,
             Some(h.hall_coefficient_cm3_c),
             Some(h.hall_mobility_cm2_vs),
+            Some(h.hall_factor),
         ),
     };
     DriftRow {
@@ -221,5 +233,6 @@ fn row(state: &ElementState, t_c: f64, fs: f64, drives: &Drives, refs: &RefSpans
         piezo_factor,
         hall_coefficient_cm3_c,
         hall_mobility_cm2_vs,
+        hall_factor,
     }
 }

@@ -3,7 +3,9 @@
 //! Hall scattering factor r_H) and resistivity.
 //!
 //! Current bias: V_H = G * R_H * I * B / t, so S_I = G * R_H / t follows
-//! r_H / n in the extrinsic range and falls once intrinsic carriers matter.
+//! r_H / n in the extrinsic range and falls once intrinsic carriers matter;
+//! r_H(T) is the model's Hall factor (published temperature curves for Si,
+//! `physics::hall_factor`), and its source is part of the state and output.
 //! Voltage bias: I = V / R_in with R_in = rho * (L / W) / t, so
 //! V_H = G * (R_H / rho) * (W / L) * V * B: S_V = G * mu_H * W / L follows the
 //! Hall mobility mu_H = |R_H| / rho (standard Hall-plate relations, e.g.
@@ -19,7 +21,7 @@ use super::hall_spec::HallSpec;
 use super::output::{ElementOutput, Excitation};
 use super::sample::{dopant_kind, region_sample};
 use crate::physics::constants::ZERO_C_K;
-use crate::physics::{DopantKind, Sample};
+use crate::physics::{DopantKind, HallFactorSource, Sample};
 
 /// The plate at one temperature.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -32,6 +34,10 @@ pub struct HallState {
     pub hall_coefficient_cm3_c: f64,
     /// Hall mobility |R_H| / rho in cm^2/(V s).
     pub hall_mobility_cm2_vs: f64,
+    /// Hall factor of the majority carrier (dimensionless).
+    pub hall_factor: f64,
+    /// Where that Hall factor comes from (published data or theory).
+    pub hall_factor_source: HallFactorSource,
     /// Input resistance between the bias contacts in ohms.
     pub resistance_ohm: f64,
     /// Current-bias sensitivity S_I = G R_H / t in V/(A T), sign set so that
@@ -114,23 +120,32 @@ impl HallModel {
             t_k,
             source,
         })?;
+        let hall_factor = if self.polarity > 0.0 {
+            (point.hall_factor_p, point.hall_factor_p_source)
+        } else {
+            (point.hall_factor_n, point.hall_factor_n_source)
+        };
         Ok(plate_state(
             &self.spec,
             self.polarity,
             t_k,
             point.rho_ohm_cm,
             point.hall_coefficient_cm3_c,
+            hall_factor,
         ))
     }
 }
 
-/// The circuit side of the plate from resistivity and Hall coefficient.
+/// The circuit side of the plate from resistivity and Hall coefficient
+/// (`hall_factor`: the majority carrier's factor and its source, carried
+/// through for the output).
 pub(crate) fn plate_state(
     spec: &HallSpec,
     polarity: f64,
     t_k: f64,
     rho_ohm_cm: f64,
     r_h_cm3_c: f64,
+    hall_factor: (f64, HallFactorSource),
 ) -> HallState {
     let p = &spec.plate;
     let t_cm = p.thickness_um * 1e-4;
@@ -143,6 +158,8 @@ pub(crate) fn plate_state(
         rho_ohm_cm,
         hall_coefficient_cm3_c: r_h_cm3_c,
         hall_mobility_cm2_vs: r_h_cm3_c.abs() / rho_ohm_cm,
+        hall_factor: hall_factor.0,
+        hall_factor_source: hall_factor.1,
         resistance_ohm: rho_ohm_cm * p.squares() / t_cm,
         sensitivity_i_v_per_a_t: s_i,
         sensitivity_v_per_t: s_v,
@@ -171,7 +188,14 @@ mod tests {
         // plate at the same current gives the same Hall voltage whichever
         // source sets that current; 1e-12 allows rounding only.
         let spec = hall_example();
-        let s = plate_state(&spec, -1.0, 300.0, 1.0, -625.0);
+        let s = plate_state(
+            &spec,
+            -1.0,
+            300.0,
+            1.0,
+            -625.0,
+            (1.0, HallFactorSource::Theory),
+        );
         let r = s.resistance_ohm;
         let by_i = s.response(100.0, Excitation::CurrentA(1e-3));
         let by_v = s.response(100.0, Excitation::VoltageV(1e-3 * r));
@@ -201,7 +225,14 @@ mod tests {
         let mut spec = hall_example();
         spec.plate.geometry_factor = 0.7;
         spec.plate.thickness_um = 5.0;
-        let s = plate_state(&spec, -1.0, 300.0, 1.0, -625.0);
+        let s = plate_state(
+            &spec,
+            -1.0,
+            300.0,
+            1.0,
+            -625.0,
+            (1.0, HallFactorSource::Theory),
+        );
         let got = s.sensitivity_i_v_per_a_t;
         assert!(
             (got - 87.5).abs() <= 1e-12 * 87.5,

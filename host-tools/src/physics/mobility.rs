@@ -34,7 +34,12 @@
 //! Our pairing:
 //! - scattering centres `N = N_D,total + N_A,total` (as fitted);
 //! - band carriers `n, p` from the carrier solver (neutral fraction included);
-//! - Si drift mobility `mu = mu_Masetti/Arora(N, T) * N / N_ion(N, T_fit)`,
+//! - the published mobility `mu_Masetti/Arora(N, T)` is reported as
+//!   `mu_n_cm2_vs` / `mu_p_cm2_vs`: what a user compares with published
+//!   mobility curves (B 1e18 cm^-3 at 300 K: 160 cm^2/Vs, Masetti Table I);
+//! - the conductivity and Hall coefficient use the per-free-carrier mobility
+//!   `mu_per_free_carrier = mu_Masetti/Arora(N, T) * N / N_ion(N, T_fit)`
+//!   (`mu_n_per_free_carrier_cm2_vs`, `mu_p_per_free_carrier_cm2_vs`),
 //!   where `N_ion(N, T_fit)` is the ionized density our own carrier model
 //!   gives for the data set behind each Masetti parameter set (P-doped for
 //!   electrons, B-doped for holes) at `T_fit = clamp(T, 200 K, 500 K)`.
@@ -77,13 +82,23 @@ use super::dopant::{Dopant, Species};
 use super::material::Material;
 use super::model::Sample;
 
-/// Electron and hole drift mobilities in cm^2/(V s), with their lattice-limited parts.
+/// Electron and hole drift mobilities in cm^2/(V s): the published value at
+/// the total dopant density, the per-free-carrier value the conductivity
+/// uses (module docs, pairing), and the lattice-limited parts.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Mobility {
-    /// Electron drift mobility in cm^2/(V s).
+    /// Electron drift mobility of the published model at the total dopant
+    /// density, in cm^2/(V s): the value to compare with published curves.
     pub mu_n_cm2_vs: f64,
-    /// Hole drift mobility in cm^2/(V s).
+    /// Hole drift mobility of the published model at the total dopant
+    /// density, in cm^2/(V s).
     pub mu_p_cm2_vs: f64,
+    /// Electron mobility per free (band) electron, in cm^2/(V s):
+    /// `sigma_n = q n mu_n_per_free_carrier` with `n` from the
+    /// incomplete-ionization solver. Equal to `mu_n_cm2_vs` except in Si.
+    pub mu_n_per_free_carrier_cm2_vs: f64,
+    /// Hole mobility per free (band) hole, in cm^2/(V s).
+    pub mu_p_per_free_carrier_cm2_vs: f64,
     /// Electron mobility with lattice scattering only, in cm^2/(V s).
     pub mu_n_lattice_cm2_vs: f64,
     /// Hole mobility with lattice scattering only, in cm^2/(V s).
@@ -369,6 +384,8 @@ pub fn mobility_for_density(material: Material, n_total_cm3: f64, t_k: f64) -> M
     Mobility {
         mu_n_cm2_vs: e.total_cm2_vs,
         mu_p_cm2_vs: h.total_cm2_vs,
+        mu_n_per_free_carrier_cm2_vs: e.total_cm2_vs,
+        mu_p_per_free_carrier_cm2_vs: h.total_cm2_vs,
         mu_n_lattice_cm2_vs: e.lattice_cm2_vs,
         mu_p_lattice_cm2_vs: h.lattice_cm2_vs,
     }
@@ -391,18 +408,21 @@ fn caughey_thomas_sets(
 /// Drift mobilities for the material at the solved state.
 ///
 /// Scattering centres are the total chemical dopant density
-/// `donors_total + acceptors_total`; for Si the published mobility is
-/// divided by the fit's ionized fraction (module docs, pairing).
+/// `donors_total + acceptors_total`. The published mobility stays in
+/// `mu_n_cm2_vs` / `mu_p_cm2_vs`; for Si the per-free-carrier mobility is
+/// the published one divided by the fit's ionized fraction (module docs,
+/// pairing), elsewhere the two are equal.
 pub fn drift_mobility(material: Material, state: &CarrierState) -> Mobility {
     let n_total_cm3 = state.donors_total_cm3 + state.acceptors_total_cm3;
     let mut m = mobility_for_density(material, n_total_cm3, state.t_k);
     if material == Material::Si {
         let t_k = state.t_k;
-        m.mu_n_cm2_vs = (m.mu_n_cm2_vs
+        m.mu_n_per_free_carrier_cm2_vs = (m.mu_n_cm2_vs
             * fit_convention_factor(FitSet::Electrons, n_total_cm3, t_k))
         .min(m.mu_n_lattice_cm2_vs);
-        m.mu_p_cm2_vs = (m.mu_p_cm2_vs * fit_convention_factor(FitSet::Holes, n_total_cm3, t_k))
-            .min(m.mu_p_lattice_cm2_vs);
+        m.mu_p_per_free_carrier_cm2_vs = (m.mu_p_cm2_vs
+            * fit_convention_factor(FitSet::Holes, n_total_cm3, t_k))
+        .min(m.mu_p_lattice_cm2_vs);
     }
     m
 }

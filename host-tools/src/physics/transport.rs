@@ -2,8 +2,8 @@
 //! scattering factor per carrier.
 //!
 //! # Conductivity
-//! `sigma = q (n mu_n + p mu_p)`, `rho = 1 / sigma` (drift mobilities from
-//! [`super::mobility`], densities from [`super::carriers`]).
+//! `sigma = q (n mu_n + p mu_p)`, `rho = 1 / sigma` (per-free-carrier drift
+//! mobilities from [`super::mobility`], densities from [`super::carriers`]).
 //!
 //! # Hall coefficient (low field, two carriers)
 //! `R_H = (r_p p mu_p^2 - r_n n mu_n^2) / (q (n mu_n + p mu_p)^2)` in cm^3/C
@@ -32,12 +32,10 @@
 //!   memory). Spherical Γ-valley electrons (GaAs, InSb, InAs) and all holes
 //!   use `r_A = 1`.
 //!
-//! Known limitation: holes in Si have a warped, non-parabolic valence band
-//! that pulls their measured Hall factor below 1 at room temperature (about
-//! 0.7..0.8 in published band-structure calculations; recalled from memory).
-//! The scalar relaxation-time model above cannot produce that; p-type Hall
-//! coefficients of Si are therefore high by up to ~40 %. The demo Hall plate
-//! is n-type.
+//! This theory is the fallback for materials without published Hall-factor
+//! data; Si uses published temperature curves ([`super::hall_factor`]):
+//! the theory gives 0.91 (electrons) and 1.06 (holes) for lightly doped Si
+//! at 300 K against published 1.15 and 0.7..0.8.
 //!
 //! # Quadrature
 //! Substituting `x = u^2` removes the half-integer powers, leaving smooth
@@ -50,6 +48,7 @@ use std::sync::OnceLock;
 
 use super::carriers::CarrierState;
 use super::constants::Q_C;
+use super::hall_factor::{HallFactorSource, hall_factor};
 use super::material::Material;
 use super::mobility::Mobility;
 
@@ -62,10 +61,14 @@ pub struct Transport {
     pub rho_ohm_cm: f64,
     /// Hall coefficient in cm^3/C (negative for electron conduction).
     pub hall_coefficient_cm3_c: f64,
-    /// Hall factor of electrons `r_A r_S` (dimensionless).
+    /// Hall factor of electrons (dimensionless; published data or `r_A r_S`).
     pub hall_factor_n: f64,
-    /// Hall factor of holes `r_A r_S` (dimensionless).
+    /// Hall factor of holes (dimensionless; published data or `r_A r_S`).
     pub hall_factor_p: f64,
+    /// Where the electron Hall factor comes from.
+    pub hall_factor_n_source: HallFactorSource,
+    /// Where the hole Hall factor comes from.
+    pub hall_factor_p_source: HallFactorSource,
     /// Hall mobility `|R_H| sigma` in cm^2/(V s).
     pub hall_mobility_cm2_vs: f64,
 }
@@ -260,23 +263,32 @@ pub fn reduced_fermi_level(state: &CarrierState, carrier: Carrier) -> f64 {
 }
 
 /// Conductivity, resistivity, Hall coefficient, Hall factors and Hall mobility
-/// of `material` at the solved `state` with drift mobilities `mobility`.
+/// of `material` at the solved `state` with mobilities `mobility` (the
+/// per-free-carrier ones pair with the band densities; the published ones
+/// set the theory's impurity share).
 pub fn transport(material: Material, state: &CarrierState, mobility: &Mobility) -> Transport {
     let (n, p) = (state.n_cm3, state.p_cm3);
-    let (mu_n, mu_p) = (mobility.mu_n_cm2_vs, mobility.mu_p_cm2_vs);
+    let (mu_n, mu_p) = (
+        mobility.mu_n_per_free_carrier_cm2_vs,
+        mobility.mu_p_per_free_carrier_cm2_vs,
+    );
     let sigma = conductivity_s_cm(n, p, mu_n, mu_p);
-    let r_n = anisotropy_factor(material, Carrier::Electron)
-        * hall_scattering_factor(
-            mu_n,
-            mobility.mu_n_lattice_cm2_vs,
-            reduced_fermi_level(state, Carrier::Electron),
-        );
-    let r_p = anisotropy_factor(material, Carrier::Hole)
-        * hall_scattering_factor(
-            mu_p,
-            mobility.mu_p_lattice_cm2_vs,
-            reduced_fermi_level(state, Carrier::Hole),
-        );
+    let (r_n, source_n) = hall_factor(
+        material,
+        Carrier::Electron,
+        state.t_k,
+        mobility.mu_n_cm2_vs,
+        mobility.mu_n_lattice_cm2_vs,
+        reduced_fermi_level(state, Carrier::Electron),
+    );
+    let (r_p, source_p) = hall_factor(
+        material,
+        Carrier::Hole,
+        state.t_k,
+        mobility.mu_p_cm2_vs,
+        mobility.mu_p_lattice_cm2_vs,
+        reduced_fermi_level(state, Carrier::Hole),
+    );
     let r_h = hall_coefficient_cm3_c(n, p, mu_n, mu_p, r_n, r_p);
     Transport {
         sigma_s_cm: sigma,
@@ -284,6 +296,8 @@ pub fn transport(material: Material, state: &CarrierState, mobility: &Mobility) 
         hall_coefficient_cm3_c: r_h,
         hall_factor_n: r_n,
         hall_factor_p: r_p,
+        hall_factor_n_source: source_n,
+        hall_factor_p_source: source_p,
         hall_mobility_cm2_vs: r_h.abs() * sigma,
     }
 }

@@ -201,6 +201,7 @@ mod tests {
             piezo_factor: Some(1.0),
             hall_coefficient_cm3_c: None,
             hall_mobility_cm2_vs: None,
+            hall_factor: None,
         }
     }
 
@@ -221,6 +222,7 @@ mod tests {
                 tco_cv_ppm_fs_per_k: 2.0,
                 tco_cc_ppm_fs_per_k: 3.0,
                 adc_lsb_ppm_fs: 0.1,
+                hall_factor_source: None,
             },
         }
     }

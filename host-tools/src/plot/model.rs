@@ -377,11 +377,15 @@ mod tests {
             fermi_from_ev_ev: 0.9,
             mu_n_cm2_vs: 1400.0 * (t_k / 300.0).powf(-2.4),
             mu_p_cm2_vs: 470.0 * (t_k / 300.0).powf(-2.2),
+            mu_n_per_free_carrier_cm2_vs: 1400.0 * (t_k / 300.0).powf(-2.4),
+            mu_p_per_free_carrier_cm2_vs: 470.0 * (t_k / 300.0).powf(-2.2),
             rho_ohm_cm: 1.0 / (1.602e-19 * n_cm3 * 1400.0),
             hall_coefficient_cm3_c: -1.0 / (1.602e-19 * n_cm3),
             piezo_factor: Some(1.0),
             hall_factor_n: 1.18,
             hall_factor_p: 0.75,
+            hall_factor_n_source: crate::physics::HallFactorSource::OhtaSakata1978,
+            hall_factor_p_source: crate::physics::HallFactorSource::LinEtAl1981,
             hall_mobility_cm2_vs: -1593.0,
         }
     }
