@@ -7,6 +7,7 @@ pub mod arrhenius_check;
 pub mod arrhenius_model;
 pub mod cli;
 pub mod element;
+pub mod gdb_remote;
 pub mod physics;
 pub mod plot;
 pub mod station;

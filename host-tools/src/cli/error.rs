@@ -11,6 +11,9 @@ pub enum CliError {
     /// The command ran but a check it performs failed, e.g. verification over
     /// budget (exit 1). The report was already printed.
     CheckFailed(String),
+    /// The target or its debug server could not be reached, or the
+    /// connection broke (exit 3). The message names the step.
+    Target(String),
     /// Standard output was closed by its reader (`semidrift model | head`):
     /// a normal end, exit 0 and no message.
     OutputClosed,
@@ -33,6 +36,7 @@ impl CliError {
             CliError::Input(_) => 2,
             CliError::CheckFailed(_) => 1,
             CliError::OutputClosed => 0,
+            CliError::Target(_) => 3,
         }
     }
 }
@@ -40,7 +44,7 @@ impl CliError {
 impl fmt::Display for CliError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            CliError::Input(m) | CliError::CheckFailed(m) => f.write_str(m),
+            CliError::Input(m) | CliError::CheckFailed(m) | CliError::Target(m) => f.write_str(m),
             CliError::OutputClosed => f.write_str("standard output closed"),
         }
     }

@@ -2,7 +2,8 @@
 //!
 //! Each subcommand lives in its own file with a `clap::Args` struct and a
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
-//! Exit codes: 0 success, 1 a check failed, 2 bad input or usage.
+//! Exit codes: 0 success, 1 a check failed, 2 bad input or usage, 3 the
+//! target or its debug server could not be reached (`flash`).
 
 mod apply;
 mod arrhenius;
@@ -10,6 +11,7 @@ mod calibrate;
 mod demo;
 pub mod element;
 mod error;
+mod flash;
 mod model;
 mod plot;
 mod qualify;
@@ -85,6 +87,9 @@ pub enum Command {
     /// Compensate recorded rows with a part file or table image.
     #[command(after_help = CAUTIONS)]
     Apply(apply::ApplyArgs),
+    /// Write a table image into a part through a debug server and read it back.
+    #[command(after_help = CAUTIONS)]
+    Flash(flash::FlashArgs),
     /// Run the whole station chain on both demo scenarios.
     #[command(after_help = CAUTIONS)]
     Demo(demo::DemoArgs),
@@ -140,6 +145,7 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Table(args) => table::run(args, out),
         Command::Verify(args) => verify::run(args, out),
         Command::Apply(args) => apply::run(args, out),
+        Command::Flash(args) => flash::run(args, out),
         Command::Demo(args) => demo::run(args, out),
     }
 }

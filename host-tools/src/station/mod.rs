@@ -17,6 +17,7 @@ pub mod demo;
 pub mod design;
 pub mod export;
 pub mod fit;
+pub mod flash;
 pub mod image_eval;
 pub mod limits;
 pub mod linalg;
