@@ -200,6 +200,11 @@ fn chain(dir: &Path, spec: &str, cal_spec: &str, want_simulated: bool) {
         &["table", &part, "--budget", budget, "--out", &d("t.bin")],
     );
     assert!(text.contains(LINE_CAUTION), "table:\n{text}");
+    // The image's own bytes carry the mark (header flag bit 2) exactly when
+    // the part was fitted to simulated data.
+    let image = std::fs::read(d("t.bin")).unwrap();
+    let view = compensate::TableView::parse(&image).unwrap();
+    assert_eq!(view.simulated(), want_simulated, "image flag");
     for (format, file, comment) in [("c", "t.h", "/* "), ("rust", "t.rs", "// ")] {
         ok_in(
             dir,
