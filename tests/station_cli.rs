@@ -170,6 +170,75 @@ fn verify_over_budget_exits_1() {
     assert_eq!(v["pass"], false);
 }
 
+/// `verify` decides against `budget - fit - temperature - runtime`: a budget
+/// 3 ppm below the measured table error plus the other terms must fail, one
+/// 3 ppm above must pass. The fit term is checked against the part file's
+/// own numbers (the rule of `station::budget`: fewer than four calibration
+/// temperatures count the fit residual or the stated model error, whichever
+/// is larger); a sign flipped on any term moves the allowance by twice that
+/// term (here 44 ppm for the fit, 63 ppm for the temperature term), far
+/// beyond the 3 ppm margins.
+#[test]
+fn verify_fails_just_over_and_passes_just_under_the_budget() {
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    let verify = |budget: Option<f64>| {
+        let mut args = vec!["verify".to_string(), "t.bin".into(), "--against".into()];
+        args.push(part.clone());
+        args.push("--json".into());
+        if let Some(b) = budget {
+            args.push("--budget".into());
+            // Shortest round-trip form: the binary reads back the same f64.
+            args.push(format!("{b}"));
+        }
+        let refs: Vec<&str> = args.iter().map(String::as_str).collect();
+        let o = run_in(d.path(), &refs);
+        let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+        (o.status.code(), v, stderr(&o))
+    };
+    let (code, v, err) = verify(None);
+    assert_eq!(code, Some(0), "{err}");
+    let p: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join(&part)).unwrap()).unwrap();
+    assert_eq!(p["holdouts"].as_array().unwrap().len(), 3, "{p}");
+    let fit_expected = p["fit_max_ppm"]
+        .as_f64()
+        .unwrap()
+        .max(p["scenario"]["model_error_ppm"].as_f64().unwrap_or(0.0));
+    let terms = &v["terms"];
+    let term = |name: &str| terms[name].as_f64().unwrap();
+    assert_eq!(term("fit_residual_ppm"), fit_expected, "{v}");
+    assert_eq!(terms["cross_validation_budgeted"], false, "{v}");
+    // The terms this test relies on are large enough to show a flipped sign.
+    assert!(
+        term("fit_residual_ppm") > 3.0 && term("temperature_ppm") > 3.0,
+        "{v}"
+    );
+    let measured = v["max_error_ppm"].as_f64().unwrap();
+    let others = term("fit_residual_ppm") + term("temperature_ppm") + term("runtime_model_ppm");
+    for (margin_ppm, pass) in [(-3.0, false), (3.0, true)] {
+        let budget = measured + others + margin_ppm;
+        let (code, v, err) = verify(Some(budget));
+        assert_eq!(
+            code,
+            Some(if pass { 0 } else { 1 }),
+            "budget {budget} (measured {measured} + terms {others} {margin_ppm:+}): {err}"
+        );
+        assert_eq!(v["pass"], pass, "{v}");
+        // The allowance is the measured error plus the margin; the only
+        // error is the rounding of a few additions of numbers below 1000
+        // (~1e-13 ppm), so 1e-9 ppm is generous and far below the margin.
+        let allowance = v["table_allowance_ppm"].as_f64().unwrap();
+        assert!(
+            (allowance - (measured + margin_ppm)).abs() < 1e-9,
+            "allowance {allowance}, expected {}",
+            measured + margin_ppm
+        );
+        assert_eq!(v["max_error_ppm"].as_f64().unwrap(), measured);
+    }
+}
+
 #[test]
 fn bad_rows_are_named_and_other_parts_still_calibrate() {
     let d = tempfile::tempdir().unwrap();
