@@ -239,6 +239,76 @@ fn verify_fails_just_over_and_passes_just_under_the_budget() {
     }
 }
 
+/// An image with one gain node raised by 1 % and its CRC recomputed (as a
+/// careless or malicious edit would leave it) passes the parser, so only
+/// `verify` can refuse it: exit 1, the dense error at that node's
+/// temperature and full-scale stimulus, far over the allowance. The same
+/// edit without a new CRC is refused earlier, by the parser (exit 2).
+#[test]
+fn verify_refuses_a_re_signed_image_with_one_value_changed() {
+    use compensate::TableView;
+    use compensate::image::layout::{AXIS_LEN, HEADER_LEN, WORD};
+    use compensate::interp::Nodes;
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    let img = std::fs::read(d.path().join("t.bin")).unwrap();
+    let view = TableView::parse(&img).unwrap();
+    let t = view.tables_q().expect("the default table of this lot is Q");
+    let n_t = view.temperature_nodes();
+    assert_eq!(n_t, 3, "the middle node below is node 1");
+    // Layout (compensate crate docs): header, thermometer (axis + n_sig
+    // words), channels (axis, then offset, gain, quadratic columns).
+    let gain_at = HEADER_LEN + AXIS_LEN + view.thermometer_nodes() * WORD + AXIS_LEN + n_t * WORD;
+    let node = gain_at + WORD;
+    let old = i32::from_le_bytes(img[node..node + 4].try_into().unwrap());
+    assert_eq!(old, t.gain.node(1), "offset of gain node 1");
+    let node_t_c =
+        f64::from(t.temperature.start() + t.temperature.step()) / f64::from(t.q.temperature).exp2();
+    let mut bad = img.clone();
+    let new = (f64::from(old) * 1.01).round() as i32;
+    bad[node..node + 4].copy_from_slice(&new.to_le_bytes());
+    std::fs::write(d.path().join("unsigned.bin"), &bad).unwrap();
+    let body = bad.len() - 4;
+    let crc = compensate::crc::crc32(&bad[..body]);
+    bad[body..].copy_from_slice(&crc.to_le_bytes());
+    std::fs::write(d.path().join("resigned.bin"), &bad).unwrap();
+
+    let o = run_in(d.path(), &["verify", "unsigned.bin", "--against", &part]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).to_lowercase().contains("crc"), "{}", stderr(&o));
+
+    let o = run_in(
+        d.path(),
+        &["verify", "resigned.bin", "--against", &part, "--json"],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("resigned.bin: table error")
+            && stderr(&o).contains("exceeds the allowance"),
+        "{}",
+        stderr(&o)
+    );
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["pass"], false);
+    // 1 % of the gain is 10 000 ppm of span at the full-scale stimulus
+    // (10 bar of a 0..10 bar span); the table's own error (254 ppm on this
+    // part, see `table`) can only take a few hundred ppm off it.
+    let max = v["max_error_ppm"].as_f64().unwrap();
+    assert!((9_000.0..11_000.0).contains(&max), "{v}");
+    assert_eq!(v["worst_stimulus"].as_f64(), Some(10.0), "{v}");
+    // The edit peaks at the node and falls off over the 52.5 K node
+    // spacing (quadratically near the node); the table's own error, which
+    // slopes by tens of ppm per kelvin there, moves the peak of the sum off
+    // the node: measured 2.8 K. 6 K (about twice that, a ninth of the
+    // spacing) still tells this node from any other point of the range.
+    let worst = v["worst_t_c"].as_f64().unwrap();
+    assert!(
+        (worst - node_t_c).abs() < 6.0,
+        "worst at {worst} C, node at {node_t_c} C"
+    );
+}
+
 #[test]
 fn bad_rows_are_named_and_other_parts_still_calibrate() {
     let d = tempfile::tempdir().unwrap();
