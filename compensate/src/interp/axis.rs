@@ -523,6 +523,7 @@ mod tests {
         // to the last interval, 65 536 are refused whatever the step.
         let axis = AxisQ::new(0, 4, 65_535).ok_or("65 535 nodes are valid")?;
         assert_eq!(axis.len(), 65_535);
+        assert!(!axis.is_empty(), "a Q axis always has nodes");
         assert_eq!(axis.end(), 4 * 65_534);
         let cases = [
             // (x, index, frac_q16, clamped)
