@@ -54,8 +54,8 @@ wanted() {
 ARGS=("$@")
 out_root=target/mutants
 mkdir -p "$out_root"
-missed_all="$out_root/missed.txt"
-: >"$missed_all"
+missed_all=$(mktemp)
+trap 'rm -f "$missed_all"' EXIT
 
 run_group() {
     local name=$1 package=$2
