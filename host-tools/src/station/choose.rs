@@ -294,3 +294,137 @@ pub fn candidates(
     });
     Ok(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::super::bound::tests::parts;
+    use super::super::model_shapes::shapes_for;
+    use super::super::scenario::Scenario;
+    use super::*;
+
+    #[test]
+    fn smallest_matches_a_linear_scan() {
+        // err(n) falls with n; the reference is the first n in 2..=max with
+        // err(n) <= target, found by trying every n. Integer-valued errors
+        // make ties with the target exact.
+        let errs: [(&str, fn(usize) -> f64); 3] = [
+            ("1000/n^2", |n| (1000 / (n * n)) as f64),
+            ("60/n", |n| (60 / n) as f64),
+            ("step at 37", |n| if n < 37 { 5.0 } else { 1.0 }),
+        ];
+        for (name, f) in errs {
+            for target in [0.0, 1.0, 2.0, 3.0, 7.0, 10.0, 30.0, 250.0, 1000.0] {
+                for max in [2usize, 3, 17, 64, 100, 4096] {
+                    let want = (2..=max).find(|&n| f(n) <= target);
+                    let mut calls = 0u32;
+                    let got = smallest(target, max, &mut |n| {
+                        calls += 1;
+                        assert!((2..=max).contains(&n), "{name}: asked for {n}");
+                        Ok(f(n))
+                    })
+                    .unwrap();
+                    assert_eq!(got, want, "{name}, target {target}, max {max}");
+                    // Doubling then bisection: at most 2 log2(max) + 2
+                    // evaluations (a linear walk would take up to max).
+                    let bound = 2 * (usize::BITS - max.leading_zeros()) + 2;
+                    assert!(calls <= bound, "{name}: {calls} calls for max {max}");
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn search_grid_spans_the_range_and_the_stimulus_ends() {
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        // The well logger: -20..85 C, 0..10 bar (scenario.rs).
+        for (two_d, n_s) in [(false, 3), (true, SEARCH_STIMULI_2D)] {
+            let (t, s) = search_grid(&frame, two_d);
+            assert_eq!(t.len(), 1001);
+            assert_eq!((t[0], t[1000]), (-20.0, 85.0));
+            // Uniform: 105 K over 1000 intervals.
+            assert!((t[1] - t[0] - 0.105).abs() < 1e-12, "{}", t[1] - t[0]);
+            assert_eq!(s.len(), n_s);
+            assert_eq!((s[0], s[n_s - 1]), (0.0, 10.0));
+        }
+        assert_eq!(search_grid(&frame, false).1, vec![0.0, 5.0, 10.0]);
+    }
+
+    #[test]
+    fn chosen_plan_meets_the_allowance_and_one_size_smaller_does_not() {
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        let allowance = 300.0;
+        let target = SEARCH_SHARE * allowance;
+        for (interp, format) in [
+            (InterpKind::Linear, NumFormat::Q),
+            (InterpKind::MonotoneCubic, NumFormat::F32),
+        ] {
+            let c = smallest_plan(
+                &frame,
+                interp,
+                format,
+                AxisKind::Temperature,
+                allowance,
+                "S",
+                "bar",
+            )
+            .unwrap();
+            let grid = search_grid(&frame, false);
+            let (image, stats) = try_plan(&frame, &c.plan, "S", "bar", &grid).unwrap();
+            assert_eq!(c.bytes, image.len());
+            assert_eq!(c.max_error_ppm, stats.max_error_ppm);
+            assert!(c.max_error_ppm <= target, "{c:?}");
+            assert!(c.max_error_ppm > 0.0, "{c:?}");
+            // On a grid 10x denser in temperature and with 11 stimuli the
+            // error stays inside the whole allowance: the 10 % the search
+            // keeps back covers points between its grid lines.
+            let dense = (
+                linspace(frame.t_lo_c, frame.t_hi_c, 10_001),
+                linspace(frame.fs_lo, frame.fs_hi, 11),
+            );
+            let (_, d) = try_plan(&frame, &c.plan, "S", "bar", &dense).unwrap();
+            assert!(d.max_error_ppm <= allowance, "{c:?}: dense {d:?}");
+            // The next smaller plan the search would try (every axis to
+            // 9/10) misses the target: the plan is not oversized.
+            let mut smaller = c.plan;
+            smaller.n_t = (c.plan.n_t * 9 / 10).max(2);
+            smaller.n_sig = (c.plan.n_sig * 9 / 10).max(2);
+            assert_ne!(smaller, c.plan, "{c:?}");
+            let (_, s) = try_plan(&frame, &smaller, "S", "bar", &grid).unwrap();
+            assert!(s.max_error_ppm > target, "{smaller:?}: {s:?}");
+        }
+    }
+
+    #[test]
+    fn candidates_are_least_flash_first() {
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        let all = candidates(&frame, 300.0, "S", "bar", Restrict::default()).unwrap();
+        // Two interpolations (no bow) x two formats x two axes.
+        assert_eq!(all.len(), 8);
+        for w in all.windows(2) {
+            let key = |c: &Candidate| {
+                (
+                    c.bytes,
+                    c.plan.format == NumFormat::F32,
+                    c.plan.axis == AxisKind::Temperature,
+                )
+            };
+            assert!(key(&w[0]) <= key(&w[1]), "{:?} before {:?}", w[0], w[1]);
+            if key(&w[0]) == key(&w[1]) {
+                assert!(w[0].max_error_ppm <= w[1].max_error_ppm);
+            }
+        }
+        let q_only = Restrict {
+            format: Some(NumFormat::Q),
+            ..Restrict::default()
+        };
+        let q = candidates(&frame, 300.0, "S", "bar", q_only).unwrap();
+        assert_eq!(q.len(), 4);
+        assert!(q.iter().all(|c| c.plan.format == NumFormat::Q));
+    }
+}
