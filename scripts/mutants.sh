@@ -67,8 +67,11 @@ run_group() {
     done
     mapfile -t files < <(wanted "${files[@]}")
     [ ${#files[@]} -eq 0 ] && return 0
-    local file_args=() f
+    local file_args=() test_args=() f
     for f in "${files[@]}"; do file_args+=(--file "$f"); done
+    # As cargo arguments (not after `--`), so that the build of each mutant
+    # is limited to these test targets too.
+    for f in "${tests[@]}"; do test_args+=("--cargo-arg=$f"); done
     echo "== mutants: $name (${files[*]}) =="
     # Exit code 2 means missed mutants, judged below against the list; 3
     # means some mutants made the tests hang (an endless loop), which a
@@ -76,7 +79,7 @@ run_group() {
     set +e
     nice -n 10 cargo mutants --package "$package" "${file_args[@]}" \
         --test-package "$package" --copy-target=true -j 1 --no-times \
-        -o "$out_root/$name" -- "${tests[@]}"
+        "${test_args[@]}" -o "$out_root/$name"
     local rc=$?
     set -e
     if [ $rc -ne 0 ] && [ $rc -ne 2 ] && [ $rc -ne 3 ]; then
