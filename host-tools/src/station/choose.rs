@@ -307,7 +307,8 @@ mod tests {
         // err(n) falls with n; the reference is the first n in 2..=max with
         // err(n) <= target, found by trying every n. Integer-valued errors
         // make ties with the target exact.
-        let errs: [(&str, fn(usize) -> f64); 3] = [
+        type ErrFn = fn(usize) -> f64;
+        let errs: [(&str, ErrFn); 3] = [
             ("1000/n^2", |n| (1000 / (n * n)) as f64),
             ("60/n", |n| (60 / n) as f64),
             ("step at 37", |n| if n < 37 { 5.0 } else { 1.0 }),
