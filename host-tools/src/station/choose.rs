@@ -308,26 +308,41 @@ mod tests {
         // err(n) <= target, found by trying every n. Integer-valued errors
         // make ties with the target exact.
         type ErrFn = fn(usize) -> f64;
-        let errs: [(&str, ErrFn); 3] = [
+        let errs: [(&str, ErrFn); 7] = [
             ("1000/n^2", |n| (1000 / (n * n)) as f64),
             ("60/n", |n| (60 / n) as f64),
             ("step at 37", |n| if n < 37 { 5.0 } else { 1.0 }),
+            // Answers one above a doubling step (3, 5, 17, 33): the
+            // bisection starts just above a value the doubling has tried.
+            ("step at 3", |n| if n < 3 { 5.0 } else { 1.0 }),
+            ("step at 5", |n| if n < 5 { 5.0 } else { 1.0 }),
+            ("step at 17", |n| if n < 17 { 5.0 } else { 1.0 }),
+            ("step at 33", |n| if n < 33 { 5.0 } else { 1.0 }),
         ];
         for (name, f) in errs {
             for target in [0.0, 1.0, 2.0, 3.0, 7.0, 10.0, 30.0, 250.0, 1000.0] {
                 for max in [2usize, 3, 17, 64, 100, 4096] {
                     let want = (2..=max).find(|&n| f(n) <= target);
-                    let mut calls = 0u32;
+                    let mut asked = Vec::new();
                     let got = smallest(target, max, &mut |n| {
-                        calls += 1;
                         assert!((2..=max).contains(&n), "{name}: asked for {n}");
+                        asked.push(n);
                         Ok(f(n))
                     })
                     .unwrap();
                     assert_eq!(got, want, "{name}, target {target}, max {max}");
-                    // Doubling then bisection: at most 2 log2(max) + 2
-                    // evaluations (a linear walk would take up to max).
-                    let bound = 2 * (usize::BITS - max.leading_zeros()) + 2;
+                    // Each evaluation builds and runs an image: doubling
+                    // then bisection asks for no size twice, and at most
+                    // 2 log2(max) + 2 sizes (a linear walk: up to max).
+                    let calls = asked.len();
+                    asked.sort_unstable();
+                    asked.dedup();
+                    assert_eq!(
+                        asked.len(),
+                        calls,
+                        "{name}, target {target}: a size asked twice"
+                    );
+                    let bound = 2 * (usize::BITS - max.leading_zeros()) as usize + 2;
                     assert!(calls <= bound, "{name}: {calls} calls for max {max}");
                 }
             }
@@ -357,12 +372,17 @@ mod tests {
         let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
         let curves = shapes_for(&part.scenario).unwrap();
         let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
-        let allowance = 300.0;
-        let target = SEARCH_SHARE * allowance;
-        for (interp, format) in [
-            (InterpKind::Linear, NumFormat::Q),
-            (InterpKind::MonotoneCubic, NumFormat::F32),
+        // Several allowances: the 10 % the search keeps back shows as a
+        // chosen error at most 0.9 of each, whatever the node steps.
+        for (interp, format, allowance) in [
+            (InterpKind::Linear, NumFormat::Q, 40.0),
+            (InterpKind::Linear, NumFormat::Q, 60.0),
+            (InterpKind::Linear, NumFormat::Q, 100.0),
+            (InterpKind::Linear, NumFormat::F32, 150.0),
+            (InterpKind::Linear, NumFormat::Q, 300.0),
+            (InterpKind::MonotoneCubic, NumFormat::F32, 300.0),
         ] {
+            let target = SEARCH_SHARE * allowance;
             let c = smallest_plan(
                 &frame,
                 interp,
@@ -373,6 +393,9 @@ mod tests {
                 "bar",
             )
             .unwrap();
+            // A 1-D interpolation gets no 2-D correction.
+            assert_eq!(c.plan.n_raw, 0, "{c:?}");
+            assert_eq!((c.plan.interpolation, c.plan.format), (interp, format));
             let grid = search_grid(&frame, false);
             let (image, stats) = try_plan(&frame, &c.plan, "S", "bar", &grid).unwrap();
             assert_eq!(c.bytes, image.len());
@@ -400,6 +423,28 @@ mod tests {
     }
 
     #[test]
+    fn images_carry_the_span_as_full_scale() {
+        // The image's full scale is the stimulus span, fs_hi - fs_lo: with
+        // a range that does not start at 0 (2..10 bar), 8 bar.
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let mut frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        frame.fs_lo = 2.0;
+        let plan = TablePlan {
+            interpolation: InterpKind::Linear,
+            format: NumFormat::Q,
+            n_t: 8,
+            n_sig: 8,
+            n_raw: 0,
+            axis: AxisKind::Temperature,
+        };
+        let grid = search_grid(&frame, false);
+        let (image, _) = try_plan(&frame, &plan, "S", "bar", &grid).unwrap();
+        let view = compensate::TableView::parse(&image).unwrap();
+        assert_eq!(view.full_scale(), 8.0);
+    }
+
+    #[test]
     fn candidates_are_least_flash_first() {
         let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
         let curves = shapes_for(&part.scenario).unwrap();
@@ -416,6 +461,7 @@ mod tests {
                 )
             };
             assert!(key(&w[0]) <= key(&w[1]), "{:?} before {:?}", w[0], w[1]);
+            assert_eq!(w[0].plan.n_raw, 0, "no bow, no 2-D correction");
             if key(&w[0]) == key(&w[1]) {
                 assert!(w[0].max_error_ppm <= w[1].max_error_ppm);
             }
