@@ -423,6 +423,50 @@ mod tests {
     }
 
     #[test]
+    fn a_bow_over_the_target_is_refused_before_any_1d_search() {
+        let mut part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        // Mid-scale bow 8e-4 of span at 25 C, -4e-6 per K: largest at
+        // -20 C, 8e-4 + 4e-6 * 45 = 9.8e-4, i.e. 980 ppm.
+        part.scenario.bow = Some(super::super::bow::Bow {
+            mid_rel: 8e-4,
+            mid_rel_per_k: -4e-6,
+        });
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        let bow = frame.nonlinearity_ppm();
+        // Sum of two terms rounded once each: ~1e-13 ppm.
+        assert!((bow - 980.0).abs() < 1e-9, "{bow}");
+        let try_1d = |allowance: f64| {
+            smallest_plan(
+                &frame,
+                InterpKind::Linear,
+                NumFormat::Q,
+                AxisKind::Temperature,
+                allowance,
+                "S",
+                "bar",
+            )
+        };
+        // 0.9 x 980 exceeds the target 0.9 x 500: refused at once, with
+        // the bow as the best a 1-D table can do.
+        assert_eq!(
+            try_1d(500.0),
+            Err(ChooseError::Unreachable {
+                allowance_ppm: 500.0,
+                best_ppm: bow
+            })
+        );
+        // With the allowance equal to the bow the shortcut does not apply
+        // (strictly greater only): the search runs and finds no size.
+        match try_1d(bow) {
+            Err(ChooseError::Unreachable { best_ppm, .. }) => {
+                assert!(best_ppm.is_nan(), "{best_ppm}");
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
     fn images_carry_the_span_as_full_scale() {
         // The image's full scale is the stimulus span, fs_hi - fs_lo: with
         // a range that does not start at 0 (2..10 bar), 8 bar.
