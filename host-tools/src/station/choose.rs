@@ -282,17 +282,18 @@ pub fn candidates(
             best_ppm: f64::NAN,
         }));
     }
-    out.sort_by(|x, y| {
-        x.bytes
-            .cmp(&y.bytes)
-            .then((x.plan.format == NumFormat::F32).cmp(&(y.plan.format == NumFormat::F32)))
-            // Then the signal axis: one look-up per temperature update.
-            .then(
-                (x.plan.axis == AxisKind::Temperature).cmp(&(y.plan.axis == AxisKind::Temperature)),
-            )
-            .then(x.max_error_ppm.total_cmp(&y.max_error_ppm))
-    });
+    out.sort_by(least_flash_first);
     Ok(out)
+}
+
+/// The order of [`candidates`]: fewer bytes, then Q before f32, then the
+/// signal axis (one look-up per temperature update), then the smaller error.
+fn least_flash_first(x: &Candidate, y: &Candidate) -> std::cmp::Ordering {
+    x.bytes
+        .cmp(&y.bytes)
+        .then((x.plan.format == NumFormat::F32).cmp(&(y.plan.format == NumFormat::F32)))
+        .then((x.plan.axis == AxisKind::Temperature).cmp(&(y.plan.axis == AxisKind::Temperature)))
+        .then(x.max_error_ppm.total_cmp(&y.max_error_ppm))
 }
 
 #[cfg(test)]
@@ -486,6 +487,42 @@ mod tests {
         let (image, _) = try_plan(&frame, &plan, "S", "bar", &grid).unwrap();
         let view = compensate::TableView::parse(&image).unwrap();
         assert_eq!(view.full_scale(), 8.0);
+    }
+
+    #[test]
+    fn order_is_bytes_then_q_then_signal_axis_then_error() {
+        let c = |bytes, format, axis, err| Candidate {
+            plan: TablePlan {
+                interpolation: InterpKind::Linear,
+                format,
+                n_t: 4,
+                n_sig: 4,
+                n_raw: 0,
+                axis,
+            },
+            bytes,
+            max_error_ppm: err,
+        };
+        use AxisKind::{Signal, Temperature};
+        use NumFormat::{F32, Q};
+        use std::cmp::Ordering::{Greater, Less};
+        // (x, y, order): each rule decides against every later one.
+        let cases = [
+            (c(100, F32, Temperature, 9.0), c(104, Q, Signal, 1.0), Less),
+            (c(100, Q, Temperature, 9.0), c(100, F32, Signal, 1.0), Less),
+            (c(100, Q, Signal, 9.0), c(100, Q, Temperature, 1.0), Less),
+            (c(100, Q, Temperature, 9.0), c(100, Q, Signal, 1.0), Greater),
+            (c(100, Q, Signal, 1.0), c(100, Q, Signal, 9.0), Less),
+            (
+                c(100, Q, Temperature, 9.0),
+                c(100, Q, Temperature, 1.0),
+                Greater,
+            ),
+        ];
+        for (x, y, want) in cases {
+            assert_eq!(least_flash_first(&x, &y), want, "{x:?} vs {y:?}");
+            assert_eq!(least_flash_first(&y, &x), want.reverse(), "{y:?} vs {x:?}");
+        }
     }
 
     #[test]
