@@ -2,7 +2,8 @@
 # Installs, idempotently, what the tests need on a fresh Debian machine:
 # the pinned Rust toolchain with its targets (rust-toolchain.toml), QEMU for
 # Cortex-M and the cross binutils (Debian packages), and Python's mpmath for the
-# reference check. Fails loudly if something cannot be installed.
+# reference check; with SEMIDRIFT_SLOW=1 also cargo-mutants (scripts/mutants.sh).
+# Fails loudly if something cannot be installed.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -39,3 +40,8 @@ if ! python3 -c 'import mpmath' >/dev/null 2>&1; then
     python3 -m pip install --quiet mpmath
 fi
 python3 -c 'import mpmath; print("mpmath", mpmath.__version__)'
+
+if [ "${SEMIDRIFT_SLOW:-}" = "1" ]; then
+    scripts/mutants.sh --install
+    cargo mutants --version
+fi

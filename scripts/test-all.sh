@@ -5,7 +5,8 @@
 # Python/mpmath reference check and the QEMU firmware runs), docs, and the
 # cross builds of the runtime crate.
 #
-# Long sweeps and fuzzing are opt-in: SEMIDRIFT_SLOW=1 scripts/test-all.sh
+# Long sweeps, fuzzing and mutation testing are opt-in:
+# SEMIDRIFT_SLOW=1 scripts/test-all.sh
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -37,6 +38,11 @@ RUSTDOCFLAGS="-D warnings" cargo doc --workspace --no-deps --locked
 
 step "host tests (workspace, including firmware runs under QEMU)"
 cargo test --workspace --locked
+
+if [ "${SEMIDRIFT_SLOW:-}" = "1" ]; then
+    step "mutation testing (slow; scripts/mutants.sh)"
+    scripts/mutants.sh
+fi
 
 echo
 echo "test-all: every check passed"

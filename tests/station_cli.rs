@@ -170,6 +170,145 @@ fn verify_over_budget_exits_1() {
     assert_eq!(v["pass"], false);
 }
 
+/// `verify` decides against `budget - fit - temperature - runtime`: a budget
+/// 3 ppm below the measured table error plus the other terms must fail, one
+/// 3 ppm above must pass. The fit term is checked against the part file's
+/// own numbers (the rule of `station::budget`: fewer than four calibration
+/// temperatures count the fit residual or the stated model error, whichever
+/// is larger); a sign flipped on any term moves the allowance by twice that
+/// term (here 44 ppm for the fit, 63 ppm for the temperature term), far
+/// beyond the 3 ppm margins.
+#[test]
+fn verify_fails_just_over_and_passes_just_under_the_budget() {
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    let verify = |budget: Option<f64>| {
+        let mut args = vec!["verify".to_string(), "t.bin".into(), "--against".into()];
+        args.push(part.clone());
+        args.push("--json".into());
+        if let Some(b) = budget {
+            args.push("--budget".into());
+            // Shortest round-trip form: the binary reads back the same f64.
+            args.push(format!("{b}"));
+        }
+        let refs: Vec<&str> = args.iter().map(String::as_str).collect();
+        let o = run_in(d.path(), &refs);
+        let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+        (o.status.code(), v, stderr(&o))
+    };
+    let (code, v, err) = verify(None);
+    assert_eq!(code, Some(0), "{err}");
+    let p: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.path().join(&part)).unwrap()).unwrap();
+    assert_eq!(p["holdouts"].as_array().unwrap().len(), 3, "{p}");
+    let fit_expected = p["fit_max_ppm"]
+        .as_f64()
+        .unwrap()
+        .max(p["scenario"]["model_error_ppm"].as_f64().unwrap_or(0.0));
+    let terms = &v["terms"];
+    let term = |name: &str| terms[name].as_f64().unwrap();
+    assert_eq!(term("fit_residual_ppm"), fit_expected, "{v}");
+    assert_eq!(terms["cross_validation_budgeted"], false, "{v}");
+    // The terms this test relies on are large enough to show a flipped sign.
+    assert!(
+        term("fit_residual_ppm") > 3.0 && term("temperature_ppm") > 3.0,
+        "{v}"
+    );
+    let measured = v["max_error_ppm"].as_f64().unwrap();
+    let others = term("fit_residual_ppm") + term("temperature_ppm") + term("runtime_model_ppm");
+    for (margin_ppm, pass) in [(-3.0, false), (3.0, true)] {
+        let budget = measured + others + margin_ppm;
+        let (code, v, err) = verify(Some(budget));
+        assert_eq!(
+            code,
+            Some(if pass { 0 } else { 1 }),
+            "budget {budget} (measured {measured} + terms {others} {margin_ppm:+}): {err}"
+        );
+        assert_eq!(v["pass"], pass, "{v}");
+        // The allowance is the measured error plus the margin; the only
+        // error is the rounding of a few additions of numbers below 1000
+        // (~1e-13 ppm), so 1e-9 ppm is generous and far below the margin.
+        let allowance = v["table_allowance_ppm"].as_f64().unwrap();
+        assert!(
+            (allowance - (measured + margin_ppm)).abs() < 1e-9,
+            "allowance {allowance}, expected {}",
+            measured + margin_ppm
+        );
+        assert_eq!(v["max_error_ppm"].as_f64().unwrap(), measured);
+    }
+}
+
+/// An image with one gain node raised by 1 % and its CRC recomputed (as a
+/// careless or malicious edit would leave it) passes the parser, so only
+/// `verify` can refuse it: exit 1, the dense error at that node's
+/// temperature and full-scale stimulus, far over the allowance. The same
+/// edit without a new CRC is refused earlier, by the parser (exit 2).
+#[test]
+fn verify_refuses_a_re_signed_image_with_one_value_changed() {
+    use compensate::TableView;
+    use compensate::image::layout::{AXIS_LEN, HEADER_LEN, WORD};
+    use compensate::interp::Nodes;
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    let img = std::fs::read(d.path().join("t.bin")).unwrap();
+    let view = TableView::parse(&img).unwrap();
+    let t = view.tables_q().expect("the default table of this lot is Q");
+    let n_t = view.temperature_nodes();
+    assert_eq!(n_t, 3, "the middle node below is node 1");
+    // Layout (compensate crate docs): header, thermometer (axis + n_sig
+    // words), channels (axis, then offset, gain, quadratic columns).
+    let gain_at = HEADER_LEN + AXIS_LEN + view.thermometer_nodes() * WORD + AXIS_LEN + n_t * WORD;
+    let node = gain_at + WORD;
+    let old = i32::from_le_bytes(img[node..node + 4].try_into().unwrap());
+    assert_eq!(old, t.gain.node(1), "offset of gain node 1");
+    let node_t_c =
+        f64::from(t.temperature.start() + t.temperature.step()) / f64::from(t.q.temperature).exp2();
+    let mut bad = img.clone();
+    let new = (f64::from(old) * 1.01).round() as i32;
+    bad[node..node + 4].copy_from_slice(&new.to_le_bytes());
+    std::fs::write(d.path().join("unsigned.bin"), &bad).unwrap();
+    let body = bad.len() - 4;
+    let crc = compensate::crc::crc32(&bad[..body]);
+    bad[body..].copy_from_slice(&crc.to_le_bytes());
+    std::fs::write(d.path().join("resigned.bin"), &bad).unwrap();
+
+    let o = run_in(d.path(), &["verify", "unsigned.bin", "--against", &part]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).to_lowercase().contains("crc"), "{}", stderr(&o));
+
+    let o = run_in(
+        d.path(),
+        &["verify", "resigned.bin", "--against", &part, "--json"],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("resigned.bin: table error")
+            && stderr(&o).contains("exceeds the allowance"),
+        "{}",
+        stderr(&o)
+    );
+    let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    assert_eq!(v["pass"], false);
+    // 1 % of the gain is 10 000 ppm of span at the full-scale stimulus
+    // (10 bar of a 0..10 bar span); the table's own error (254 ppm on this
+    // part, see `table`) can only take a few hundred ppm off it.
+    let max = v["max_error_ppm"].as_f64().unwrap();
+    assert!((9_000.0..11_000.0).contains(&max), "{v}");
+    assert_eq!(v["worst_stimulus"].as_f64(), Some(10.0), "{v}");
+    // The edit peaks at the node and falls off over the 52.5 K node
+    // spacing (quadratically near the node); the table's own error, which
+    // slopes by tens of ppm per kelvin there, moves the peak of the sum off
+    // the node: measured 2.8 K. 6 K (about twice that, a ninth of the
+    // spacing) still tells this node from any other point of the range.
+    let worst = v["worst_t_c"].as_f64().unwrap();
+    assert!(
+        (worst - node_t_c).abs() < 6.0,
+        "worst at {worst} C, node at {node_t_c} C"
+    );
+}
+
 #[test]
 fn bad_rows_are_named_and_other_parts_still_calibrate() {
     let d = tempfile::tempdir().unwrap();

@@ -247,6 +247,28 @@ fn each_defect_has_its_own_error() {
             },
         ),
         (
+            // 1e6 + k * 0.01 rounds to 1e6 in f32 (spacing 0.0625 there):
+            // the nodes collapse although every number is finite.
+            "channel axis step below f32 spacing",
+            Box::new(move |i| {
+                put_f32(i, chan, 1.0e6);
+                put_f32(i, chan + 4, 0.01);
+            }),
+            ImageError::BadAxis {
+                section: Section::Channels,
+            },
+        ),
+        (
+            "thermometer axis step below f32 spacing",
+            Box::new(move |i| {
+                put_f32(i, therm, 1.0e6);
+                put_f32(i, therm + 4, 0.01);
+            }),
+            ImageError::BadAxis {
+                section: Section::Thermometer,
+            },
+        ),
+        (
             "grid axis infinite",
             Box::new(move |i| put_f32(i, grid, f32::NEG_INFINITY)),
             ImageError::BadAxis {

@@ -175,6 +175,40 @@ mod tests {
         Ok(())
     }
 
+    #[test]
+    fn f32_axis_table() {
+        // 1e6 lies in [2^19, 2^20), where f32 values are 2^(19 - 23) =
+        // 0.0625 apart (IEEE 754 binary32: 24-bit significand): a step of
+        // 0.0625 gives distinct nodes, a step of 0.01 rounds 1e6 + 0.01
+        // back to 1e6 and the nodes collapse.
+        // (start, step, len, accepted)
+        let cases = [
+            (-40.0f32, 5.0f32, 34usize, true),
+            (1.0e6, 0.0625, 3, true),
+            (1.0e6, 0.01, 2, false),
+            (1.0e6, 0.01, 3, false),
+            (1.0e6, 0.01, 200, false),
+            // One node: nothing to compare, but the step is still checked.
+            (1.0, 1.0, 1, true),
+            (1.0, 0.0, 1, false),
+            (1.0, -1.0, 1, false),
+            (f32::NAN, 1.0, 1, false),
+            (f32::INFINITY, 1.0, 1, false),
+            (1.0, f32::NAN, 1, false),
+            (1.0, f32::INFINITY, 1, false),
+            // Finite start and step, last node overflows to infinity.
+            (3.0e38, 3.0e38, 2, false),
+            (0.0, 0.0, 3, false),
+        ];
+        for (start, step, len, ok) in cases {
+            assert_eq!(
+                f32_axis_ok(start, step, len),
+                ok,
+                "f32_axis_ok({start}, {step}, {len})"
+            );
+        }
+    }
+
     /// Counts around every limit of the rules (0, 30, 62, the shifts).
     const COUNTS: [u8; 12] = [0, 1, 2, 12, 29, 30, 31, 32, 61, 62, 63, 255];
 

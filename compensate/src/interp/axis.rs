@@ -477,6 +477,78 @@ mod tests {
     }
 
     #[test]
+    fn f32_end_is_the_last_node() {
+        // (start, step, len, end = start + (len - 1) step): every value is
+        // a small dyadic rational, so the f32 arithmetic is exact and the
+        // comparison bit for bit. One node or none: the first node.
+        let cases = [
+            (-40.0f32, 5.0f32, 34usize, 125.0f32),
+            (2.5, 0.25, 2, 2.75),
+            (-8.0, 3.0, 3, -2.0),
+            (7.0, 3.0, 1, 7.0),
+            (7.0, 3.0, 0, 7.0),
+        ];
+        for (start, step, len, end) in cases {
+            let got = Axis { start, step, len }.end();
+            assert_eq!(
+                got.to_bits(),
+                end.to_bits(),
+                "Axis {{ {start}, {step}, {len} }}.end(): got {got}, expected {end}"
+            );
+        }
+    }
+
+    #[test]
+    fn q_end_is_the_last_node() -> Result<(), &'static str> {
+        // (start, step, len, end = start + (len - 1) step), exact integers,
+        // including an axis wholly below zero and one ending at i32::MAX.
+        let cases = [
+            (-40 << 16, 5 << 16, 34usize, 125 << 16),
+            (-1000, 7, 3, -986),
+            (i32::MIN, 1 << 30, 3, 0),
+            (i32::MAX - 3, 1, 4, i32::MAX),
+        ];
+        for (start, step, len, end) in cases {
+            let got = AxisQ::new(start, step, len).ok_or("valid geometry")?.end();
+            assert_eq!(got, end, "AxisQ::new({start}, {step}, {len}).end()");
+        }
+        Ok(())
+    }
+
+    #[test]
+    fn q_axis_takes_at_most_65_535_nodes() -> Result<(), &'static str> {
+        // The node count is capped at u16::MAX (the header stores counts
+        // in 16 bits, and the Q0.16 position bound of `InsideQ::locate`
+        // assumes len - 1 < 2^16): 65 535 nodes are accepted and located
+        // to the last interval, 65 536 are refused whatever the step.
+        let axis = AxisQ::new(0, 4, 65_535).ok_or("65 535 nodes are valid")?;
+        assert_eq!(axis.len(), 65_535);
+        assert!(!axis.is_empty(), "a Q axis always has nodes");
+        assert_eq!(axis.end(), 4 * 65_534);
+        let cases = [
+            // (x, index, frac_q16, clamped)
+            (4 * 65_533 + 2, 65_533, 32_768, false),
+            (4 * 65_534 - 1, 65_533, 49_152, false),
+            (4 * 65_534, 65_534, 0, false),
+            (4 * 65_534 + 1, 65_534, 0, true),
+        ];
+        for (x, index, frac_q16, clamped) in cases {
+            let got = axis.locate(x);
+            let want = PositionQ {
+                index,
+                frac_q16,
+                clamped,
+            };
+            assert_eq!(got, want, "locate({x}): got {got:?}, expected {want:?}");
+        }
+        assert!(AxisQ::new(0, 4, 65_536).is_none());
+        assert!(AxisQ::new(0, 1, 65_536).is_none());
+        assert!(AxisQ::span(0, 1, 65_536).is_none());
+        assert_eq!(AxisQ::span(0, 1, 65_535), Some(65_534));
+        Ok(())
+    }
+
+    #[test]
     fn q_axis_rejects_bad_geometry() {
         assert!(AxisQ::new(0, 0, 4).is_none());
         assert!(AxisQ::new(0, -1, 4).is_none());

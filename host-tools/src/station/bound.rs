@@ -324,7 +324,7 @@ fn correction_bound(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
 }
 
 #[cfg(test)]
-mod tests {
+pub(super) mod tests {
     use super::super::bow::Bow;
     use super::super::calibrate::calibrate_part;
     use super::super::chamber::ChamberRow;
@@ -339,7 +339,7 @@ mod tests {
     use super::*;
 
     /// Parts of `scenario` calibrated at its usual three chamber temperatures.
-    fn parts(scenario: &Scenario, count: usize, seed: u64) -> Vec<PartFile> {
+    pub(in super::super) fn parts(scenario: &Scenario, count: usize, seed: u64) -> Vec<PartFile> {
         let curves = shapes_for(scenario).unwrap();
         let truths = draw_parts(scenario, count, seed);
         let plan = Plan {

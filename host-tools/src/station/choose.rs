@@ -282,15 +282,277 @@ pub fn candidates(
             best_ppm: f64::NAN,
         }));
     }
-    out.sort_by(|x, y| {
-        x.bytes
-            .cmp(&y.bytes)
-            .then((x.plan.format == NumFormat::F32).cmp(&(y.plan.format == NumFormat::F32)))
-            // Then the signal axis: one look-up per temperature update.
-            .then(
-                (x.plan.axis == AxisKind::Temperature).cmp(&(y.plan.axis == AxisKind::Temperature)),
-            )
-            .then(x.max_error_ppm.total_cmp(&y.max_error_ppm))
-    });
+    out.sort_by(least_flash_first);
     Ok(out)
+}
+
+/// The order of [`candidates`]: fewer bytes, then Q before f32, then the
+/// signal axis (one look-up per temperature update), then the smaller error.
+fn least_flash_first(x: &Candidate, y: &Candidate) -> std::cmp::Ordering {
+    x.bytes
+        .cmp(&y.bytes)
+        .then((x.plan.format == NumFormat::F32).cmp(&(y.plan.format == NumFormat::F32)))
+        .then((x.plan.axis == AxisKind::Temperature).cmp(&(y.plan.axis == AxisKind::Temperature)))
+        .then(x.max_error_ppm.total_cmp(&y.max_error_ppm))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::bound::tests::parts;
+    use super::super::model_shapes::shapes_for;
+    use super::super::scenario::Scenario;
+    use super::*;
+
+    #[test]
+    fn smallest_matches_a_linear_scan() {
+        // err(n) falls with n; the reference is the first n in 2..=max with
+        // err(n) <= target, found by trying every n. Integer-valued errors
+        // make ties with the target exact.
+        type ErrFn = fn(usize) -> f64;
+        let errs: [(&str, ErrFn); 7] = [
+            ("1000/n^2", |n| (1000 / (n * n)) as f64),
+            ("60/n", |n| (60 / n) as f64),
+            ("step at 37", |n| if n < 37 { 5.0 } else { 1.0 }),
+            // Answers one above a doubling step (3, 5, 17, 33): the
+            // bisection starts just above a value the doubling has tried.
+            ("step at 3", |n| if n < 3 { 5.0 } else { 1.0 }),
+            ("step at 5", |n| if n < 5 { 5.0 } else { 1.0 }),
+            ("step at 17", |n| if n < 17 { 5.0 } else { 1.0 }),
+            ("step at 33", |n| if n < 33 { 5.0 } else { 1.0 }),
+        ];
+        for (name, f) in errs {
+            for target in [0.0, 1.0, 2.0, 3.0, 7.0, 10.0, 30.0, 250.0, 1000.0] {
+                for max in [2usize, 3, 17, 64, 100, 4096] {
+                    let want = (2..=max).find(|&n| f(n) <= target);
+                    let mut asked = Vec::new();
+                    let got = smallest(target, max, &mut |n| {
+                        assert!((2..=max).contains(&n), "{name}: asked for {n}");
+                        asked.push(n);
+                        Ok(f(n))
+                    })
+                    .unwrap();
+                    assert_eq!(got, want, "{name}, target {target}, max {max}");
+                    // Each evaluation builds and runs an image: doubling
+                    // then bisection asks for no size twice, and at most
+                    // 2 log2(max) + 2 sizes (a linear walk: up to max).
+                    let calls = asked.len();
+                    asked.sort_unstable();
+                    asked.dedup();
+                    assert_eq!(
+                        asked.len(),
+                        calls,
+                        "{name}, target {target}: a size asked twice"
+                    );
+                    let bound = 2 * (usize::BITS - max.leading_zeros()) as usize + 2;
+                    assert!(calls <= bound, "{name}: {calls} calls for max {max}");
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn search_grid_spans_the_range_and_the_stimulus_ends() {
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        // The well logger: -20..85 C, 0..10 bar (scenario.rs).
+        for (two_d, n_s) in [(false, 3), (true, SEARCH_STIMULI_2D)] {
+            let (t, s) = search_grid(&frame, two_d);
+            assert_eq!(t.len(), 1001);
+            assert_eq!((t[0], t[1000]), (-20.0, 85.0));
+            // Uniform: 105 K over 1000 intervals.
+            assert!((t[1] - t[0] - 0.105).abs() < 1e-12, "{}", t[1] - t[0]);
+            assert_eq!(s.len(), n_s);
+            assert_eq!((s[0], s[n_s - 1]), (0.0, 10.0));
+        }
+        assert_eq!(search_grid(&frame, false).1, vec![0.0, 5.0, 10.0]);
+    }
+
+    #[test]
+    fn chosen_plan_meets_the_allowance_and_one_size_smaller_does_not() {
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        // Several allowances: the 10 % the search keeps back shows as a
+        // chosen error at most 0.9 of each, whatever the node steps.
+        for (interp, format, allowance) in [
+            (InterpKind::Linear, NumFormat::Q, 40.0),
+            (InterpKind::Linear, NumFormat::Q, 60.0),
+            (InterpKind::Linear, NumFormat::Q, 100.0),
+            (InterpKind::Linear, NumFormat::F32, 150.0),
+            (InterpKind::Linear, NumFormat::Q, 300.0),
+            (InterpKind::MonotoneCubic, NumFormat::F32, 300.0),
+        ] {
+            let target = SEARCH_SHARE * allowance;
+            let c = smallest_plan(
+                &frame,
+                interp,
+                format,
+                AxisKind::Temperature,
+                allowance,
+                "S",
+                "bar",
+            )
+            .unwrap();
+            // A 1-D interpolation gets no 2-D correction.
+            assert_eq!(c.plan.n_raw, 0, "{c:?}");
+            assert_eq!((c.plan.interpolation, c.plan.format), (interp, format));
+            let grid = search_grid(&frame, false);
+            let (image, stats) = try_plan(&frame, &c.plan, "S", "bar", &grid).unwrap();
+            assert_eq!(c.bytes, image.len());
+            assert_eq!(c.max_error_ppm, stats.max_error_ppm);
+            assert!(c.max_error_ppm <= target, "{c:?}");
+            assert!(c.max_error_ppm > 0.0, "{c:?}");
+            // On a grid 10x denser in temperature and with 11 stimuli the
+            // error stays inside the whole allowance: the 10 % the search
+            // keeps back covers points between its grid lines.
+            let dense = (
+                linspace(frame.t_lo_c, frame.t_hi_c, 10_001),
+                linspace(frame.fs_lo, frame.fs_hi, 11),
+            );
+            let (_, d) = try_plan(&frame, &c.plan, "S", "bar", &dense).unwrap();
+            assert!(d.max_error_ppm <= allowance, "{c:?}: dense {d:?}");
+            // The next smaller plan the search would try (every axis to
+            // 9/10) misses the target: the plan is not oversized.
+            let mut smaller = c.plan;
+            smaller.n_t = (c.plan.n_t * 9 / 10).max(2);
+            smaller.n_sig = (c.plan.n_sig * 9 / 10).max(2);
+            assert_ne!(smaller, c.plan, "{c:?}");
+            let (_, s) = try_plan(&frame, &smaller, "S", "bar", &grid).unwrap();
+            assert!(s.max_error_ppm > target, "{smaller:?}: {s:?}");
+        }
+    }
+
+    #[test]
+    fn a_bow_over_the_target_is_refused_before_any_1d_search() {
+        let mut part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        // Mid-scale bow 8e-4 of span at 25 C, -4e-6 per K: largest at
+        // -20 C, 8e-4 + 4e-6 * 45 = 9.8e-4, i.e. 980 ppm.
+        part.scenario.bow = Some(super::super::bow::Bow {
+            mid_rel: 8e-4,
+            mid_rel_per_k: -4e-6,
+        });
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        let bow = frame.nonlinearity_ppm();
+        // Sum of two terms rounded once each: ~1e-13 ppm.
+        assert!((bow - 980.0).abs() < 1e-9, "{bow}");
+        let try_1d = |allowance: f64| {
+            smallest_plan(
+                &frame,
+                InterpKind::Linear,
+                NumFormat::Q,
+                AxisKind::Temperature,
+                allowance,
+                "S",
+                "bar",
+            )
+        };
+        // 0.9 x 980 exceeds the target 0.9 x 500: refused at once, with
+        // the bow as the best a 1-D table can do.
+        assert_eq!(
+            try_1d(500.0),
+            Err(ChooseError::Unreachable {
+                allowance_ppm: 500.0,
+                best_ppm: bow
+            })
+        );
+        // With the allowance equal to the bow the shortcut does not apply
+        // (strictly greater only): the search runs and finds no size.
+        match try_1d(bow) {
+            Err(ChooseError::Unreachable { best_ppm, .. }) => {
+                assert!(best_ppm.is_nan(), "{best_ppm}");
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn images_carry_the_span_as_full_scale() {
+        // The image's full scale is the stimulus span, fs_hi - fs_lo: with
+        // a range that does not start at 0 (2..10 bar), 8 bar.
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let mut frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        frame.fs_lo = 2.0;
+        let plan = TablePlan {
+            interpolation: InterpKind::Linear,
+            format: NumFormat::Q,
+            n_t: 8,
+            n_sig: 8,
+            n_raw: 0,
+            axis: AxisKind::Temperature,
+        };
+        let grid = search_grid(&frame, false);
+        let (image, _) = try_plan(&frame, &plan, "S", "bar", &grid).unwrap();
+        let view = compensate::TableView::parse(&image).unwrap();
+        assert_eq!(view.full_scale(), 8.0);
+    }
+
+    #[test]
+    fn order_is_bytes_then_q_then_signal_axis_then_error() {
+        let c = |bytes, format, axis, err| Candidate {
+            plan: TablePlan {
+                interpolation: InterpKind::Linear,
+                format,
+                n_t: 4,
+                n_sig: 4,
+                n_raw: 0,
+                axis,
+            },
+            bytes,
+            max_error_ppm: err,
+        };
+        use AxisKind::{Signal, Temperature};
+        use NumFormat::{F32, Q};
+        use std::cmp::Ordering::{Greater, Less};
+        // (x, y, order): each rule decides against every later one.
+        let cases = [
+            (c(100, F32, Temperature, 9.0), c(104, Q, Signal, 1.0), Less),
+            (c(100, Q, Temperature, 9.0), c(100, F32, Signal, 1.0), Less),
+            (c(100, Q, Signal, 9.0), c(100, Q, Temperature, 1.0), Less),
+            (c(100, Q, Temperature, 9.0), c(100, Q, Signal, 1.0), Greater),
+            (c(100, Q, Signal, 1.0), c(100, Q, Signal, 9.0), Less),
+            (
+                c(100, Q, Temperature, 9.0),
+                c(100, Q, Temperature, 1.0),
+                Greater,
+            ),
+        ];
+        for (x, y, want) in cases {
+            assert_eq!(least_flash_first(&x, &y), want, "{x:?} vs {y:?}");
+            assert_eq!(least_flash_first(&y, &x), want.reverse(), "{y:?} vs {x:?}");
+        }
+    }
+
+    #[test]
+    fn candidates_are_least_flash_first() {
+        let part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let frame = TableFrame::new(&part, part.model(&curves)).unwrap();
+        let all = candidates(&frame, 300.0, "S", "bar", Restrict::default()).unwrap();
+        // Two interpolations (no bow) x two formats x two axes.
+        assert_eq!(all.len(), 8);
+        for w in all.windows(2) {
+            let key = |c: &Candidate| {
+                (
+                    c.bytes,
+                    c.plan.format == NumFormat::F32,
+                    c.plan.axis == AxisKind::Temperature,
+                )
+            };
+            assert!(key(&w[0]) <= key(&w[1]), "{:?} before {:?}", w[0], w[1]);
+            assert_eq!(w[0].plan.n_raw, 0, "no bow, no 2-D correction");
+            if key(&w[0]) == key(&w[1]) {
+                assert!(w[0].max_error_ppm <= w[1].max_error_ppm);
+            }
+        }
+        let q_only = Restrict {
+            format: Some(NumFormat::Q),
+            ..Restrict::default()
+        };
+        let q = candidates(&frame, 300.0, "S", "bar", q_only).unwrap();
+        assert_eq!(q.len(), 4);
+        assert!(q.iter().all(|c| c.plan.format == NumFormat::Q));
+    }
 }
