@@ -94,7 +94,7 @@ pub fn measure(
 }
 
 /// Writes the chamber CSV of a `count`-part lot ([`draw_parts`] and
-/// [`measure`]) to `out`, the same bytes as [`chamber::to_csv_bytes`] of
+/// [`measure`]) to `out`, the same bytes as [`super::chamber::to_csv_bytes`] of
 /// their rows, drawing and measuring 1 000 parts at a time so that memory
 /// stays bounded whatever the lot size. Returns the number of rows.
 pub fn write_lot(
