@@ -81,7 +81,8 @@ fn base() -> &'static (Scenario, Vec<ChamberRow>, Vec<Vec<u8>>) {
                 rows: rows.clone(),
                 ..ChamberData::default()
             };
-            let fitted = lot::calibrate_lot(&scenario, &curves, &data, true);
+            let fitted =
+                lot::calibrate_lot(&scenario, &curves, &data, &host_tools::station::lot::Silent);
             let part = fitted.iter().find(|p| p.is_ok()).expect("a part fits");
             for format in [NumFormat::F32, NumFormat::Q] {
                 for interpolation in [
@@ -463,7 +464,13 @@ fn lots_with_degenerate_data_always_finish_with_one_file_per_part() {
                 let serials = data.by_serial().len();
                 let t0 = Instant::now();
                 let on_design = (k % 2 == 1).then_some(&design);
-                let parts = lot::calibrate_lot_with(scenario, &curves, &data, on_design, true);
+                let parts = lot::calibrate_lot_with(
+                    scenario,
+                    &curves,
+                    &data,
+                    on_design,
+                    &host_tools::station::lot::Silent,
+                );
                 let took = t0.elapsed();
                 assert_eq!(parts.len(), serials, "lot {k}: one part file per serial");
                 progress.fetch_add(1, Ordering::Relaxed);

@@ -40,7 +40,12 @@ fn run(scenario: &Scenario, n: usize, seed: u64) -> Comparison {
         rows: measure(scenario, &parts, &check, seed).unwrap(),
         ..ChamberData::default()
     };
-    let fitted = calibrate_lot(scenario, &curves, &cal_rows, true);
+    let fitted = calibrate_lot(
+        scenario,
+        &curves,
+        &cal_rows,
+        &host_tools::station::lot::Silent,
+    );
     compare(&fitted, &curves, &check_rows)
 }
 
@@ -93,7 +98,7 @@ fn comparison_skips_parts_that_did_not_calibrate() {
         rows: measure(&scenario, &parts, &cal, 5).unwrap(),
         ..ChamberData::default()
     };
-    let fitted = calibrate_lot(&scenario, &curves, &rows, true);
+    let fitted = calibrate_lot(&scenario, &curves, &rows, &host_tools::station::lot::Silent);
     let c = compare(&fitted, &curves, &rows);
     assert_eq!((c.parts, c.skipped), (0, 2), "{c:?}");
 }

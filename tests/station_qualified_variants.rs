@@ -74,8 +74,14 @@ fn qualified_design_holds_on_every_truth_variant() {
                 stimuli: sc.check_stimuli(),
             },
         );
-        let physics = calibrate_lot(&sc, &curves, &cal, true);
-        let fitted = calibrate_lot_with(&sc, &curves, &cal, Some(&d), true);
+        let physics = calibrate_lot(&sc, &curves, &cal, &host_tools::station::lot::Silent);
+        let fitted = calibrate_lot_with(
+            &sc,
+            &curves,
+            &cal,
+            Some(&d),
+            &host_tools::station::lot::Silent,
+        );
         let ok: Vec<_> = fitted.iter().filter(|p| p.is_ok()).collect();
         let p = compare(&physics, &curves, &check);
         let q = compare_qualified(&fitted, &curves, &check);

@@ -49,7 +49,15 @@ fn qualify(c: &mut Criterion) {
         ..ChamberData::default()
     };
     group.bench_function("calibrate_1000_parts_on_design", |b| {
-        b.iter(|| calibrate_lot_with(&sc, &curves, &data, Some(&d), true))
+        b.iter(|| {
+            calibrate_lot_with(
+                &sc,
+                &curves,
+                &data,
+                Some(&d),
+                &host_tools::station::lot::Silent,
+            )
+        })
     });
     group.finish();
 }

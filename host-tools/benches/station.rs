@@ -31,7 +31,7 @@ fn station(c: &mut Criterion) {
         .sample_size(10)
         .measurement_time(Duration::from_secs(20));
     group.bench_function("calibrate_1000_parts", |b| {
-        b.iter(|| calibrate_lot(&sc, &curves, &data, true))
+        b.iter(|| calibrate_lot(&sc, &curves, &data, &host_tools::station::lot::Silent))
     });
     let fitted = calibrate_lot(
         &sc,
@@ -40,7 +40,7 @@ fn station(c: &mut Criterion) {
             rows: data.rows[..9].to_vec(),
             ..ChamberData::default()
         },
-        true,
+        &host_tools::station::lot::Silent,
     );
     let part = &fitted[0];
     let model = PartModel {

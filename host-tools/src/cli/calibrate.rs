@@ -58,7 +58,13 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
             data.errors.len()
         )));
     }
-    let parts = lot::calibrate_lot_with(&scenario, &curves, &data, design.as_ref(), args.quiet);
+    let parts = lot::calibrate_lot_with(
+        &scenario,
+        &curves,
+        &data,
+        design.as_ref(),
+        &super::progress::Bar::new(args.quiet),
+    );
     let mut bad = Vec::new();
     let mut unwritten = Vec::new();
     for p in &parts {

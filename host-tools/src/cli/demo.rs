@@ -32,8 +32,13 @@ pub fn run(args: DemoArgs, out: &mut dyn Write) -> Result<(), CliError> {
         Scenario::battery_current().with_demo_truth(),
     ] {
         let dir = args.out_dir.join(&scenario.name);
-        let s = run_scenario(&scenario, args.parts, &dir, args.quiet)
-            .map_err(|e| CliError::Input(e.to_string()))?;
+        let s = run_scenario(
+            &scenario,
+            args.parts,
+            &dir,
+            &super::progress::Bar::new(args.quiet),
+        )
+        .map_err(|e| CliError::Input(e.to_string()))?;
         summaries.push(s);
     }
     let text = summary_text(&summaries);

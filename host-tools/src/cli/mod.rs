@@ -14,6 +14,7 @@ mod error;
 mod flash;
 mod model;
 mod plot;
+mod progress;
 mod qualify;
 pub mod range;
 pub mod sample_args;

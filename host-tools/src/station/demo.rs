@@ -8,7 +8,7 @@ use super::compare::{Comparison, QualifiedComparison, compare, compare_qualified
 use super::curves::ShapeCurves;
 use super::design::{self, DesignFile, ProductionPlan};
 use super::export::{ExportFormat, export_with};
-use super::lot::{calibrate_lot, calibrate_lot_with, progress};
+use super::lot::{Progress, calibrate_lot, calibrate_lot_with};
 use super::model_shapes::shapes_for;
 use super::output::{OutputError, to_json_bytes, write_atomic};
 use super::part_file::PartFile;
@@ -156,7 +156,7 @@ pub fn run_scenario(
     scenario: &Scenario,
     parts_n: usize,
     dir: &Path,
-    quiet: bool,
+    progress: &dyn Progress,
 ) -> Result<ScenarioSummary, DemoError> {
     let curves = step(scenario, shapes_for(scenario))?;
     let design = qualify_lot(scenario, &curves, dir)?;
@@ -185,7 +185,7 @@ pub fn run_scenario(
 
     // Physics-only fits (for the comparison) and fits on the design (the
     // parts that get tables).
-    let physics: Vec<PartFile> = calibrate_lot(scenario, &curves, &cal, quiet);
+    let physics: Vec<PartFile> = calibrate_lot(scenario, &curves, &cal, progress);
     for p in &physics {
         write_atomic(
             &dir.join("parts-physics")
@@ -193,7 +193,8 @@ pub fn run_scenario(
             &p.to_bytes(),
         )?;
     }
-    let fitted: Vec<PartFile> = calibrate_lot_with(scenario, &curves, &cal, Some(&design), quiet);
+    let fitted: Vec<PartFile> =
+        calibrate_lot_with(scenario, &curves, &cal, Some(&design), progress);
     for p in &fitted {
         write_atomic(
             &dir.join("parts").join(format!("{}.part.json", p.serial)),
@@ -220,7 +221,7 @@ pub fn run_scenario(
     write_atomic(&dir.join("plots").join("lot-error.svg"), lot_svg.as_bytes())?;
 
     let ok: Vec<&PartFile> = fitted.iter().filter(|p| p.is_ok()).collect();
-    let bar = progress(ok.len(), quiet, "tables");
+    progress.begin(ok.len(), "tables");
     let tables: Vec<Result<BuiltTable, String>> = ok
         .par_iter()
         .map(|p| {
@@ -237,11 +238,11 @@ pub fn run_scenario(
                     Ok((p.serial.clone(), o.image, v))
                 })
                 .map_err(|e| format!("{}: {e}", p.serial));
-            bar.inc(1);
+            progress.advance();
             r
         })
         .collect();
-    bar.finish_and_clear();
+    progress.end();
     let mut bytes = (usize::MAX, 0usize);
     let mut verified_pass = 0;
     let mut verify_max: f64 = 0.0;

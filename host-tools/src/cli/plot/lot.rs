@@ -115,7 +115,7 @@ fn calibrate_csv(spec_arg: &str, csv: &Path) -> Result<Vec<PartFile>, CliError> 
     }
     let curves = model_shapes::shapes_for(&scenario)
         .map_err(|e| CliError::Input(format!("{spec_arg}: full model: {e}")))?;
-    Ok(lot::calibrate_lot(&scenario, &curves, &data, true))
+    Ok(lot::calibrate_lot(&scenario, &curves, &data, &lot::Silent))
 }
 
 /// Writes the error plot of `parts` on the rows of `chamber_csv`.
