@@ -8,6 +8,7 @@
 mod apply;
 mod arrhenius;
 mod calibrate;
+mod choices;
 mod demo;
 pub mod element;
 mod error;

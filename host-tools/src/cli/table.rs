@@ -2,10 +2,11 @@
 //! the budget, its budget terms, and the export for flashing.
 
 use super::CliError;
+use super::choices::{AxisArg, ExportFormatArg, InterpArg, NumFormatArg, SignalUnitArg};
 use crate::station::choose::Restrict;
 use crate::station::export::{ExportFormat, export_with};
 use crate::station::part_file::PartFile;
-use crate::station::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
+use crate::station::table::AxisKind;
 use crate::station::{output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -23,8 +24,8 @@ pub struct TableArgs {
     #[arg(long, allow_negative_numbers = true)]
     pub budget: Option<f64>,
     /// Export format.
-    #[arg(long, value_enum, default_value_t = ExportFormat::Bin)]
-    pub format: ExportFormat,
+    #[arg(long, value_enum, default_value_t = ExportFormatArg::Bin)]
+    pub format: ExportFormatArg,
     /// Flash address of the image (Intel HEX), e.g. 0x0800F000.
     #[arg(long, default_value = "0x08000000", value_parser = parse_address)]
     pub address: u32,
@@ -40,22 +41,22 @@ pub struct TableArgs {
     /// Use only this number format (e.g. `q` for a part without an FPU)
     /// [default: the least flash of both].
     #[arg(long, value_enum, value_name = "FORMAT")]
-    pub number_format: Option<NumFormat>,
+    pub number_format: Option<NumFormatArg>,
     /// Use only this interpolation [default: the least flash of linear,
     /// monotone cubic and, for an element with a bow, 2-D].
     #[arg(long, value_enum, value_name = "KIND")]
-    pub interpolation: Option<InterpKind>,
+    pub interpolation: Option<InterpArg>,
     /// Temperature signal the image takes: `ohm` (the spec's units, as the
     /// chamber CSV records it) or `adc-code` (whole codes of the spec's
     /// temperature-signal ADC, as firmware reads them).
-    #[arg(long, value_enum, default_value_t = SignalUnit::Ohm, value_name = "UNIT")]
-    pub signal_unit: SignalUnit,
+    #[arg(long, value_enum, default_value_t = SignalUnitArg::Ohm, value_name = "UNIT")]
+    pub signal_unit: SignalUnitArg,
     /// Tabulate the correction over this axis only: `temperature` (a
     /// thermometer map, then the channels over degrees Celsius) or `signal`
     /// (the channels directly over the temperature signal: one look-up per
     /// temperature update on the part) [default: the least flash of both].
     #[arg(long, value_enum, value_name = "AXIS")]
-    pub channel_axis: Option<AxisKind>,
+    pub channel_axis: Option<AxisArg>,
 }
 
 /// Parses a decimal or 0x-prefixed hexadecimal address.
@@ -162,20 +163,22 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let budget = budget_ppm(args.budget, &part, &args.part)?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let restrict = Restrict {
-        interpolation: args.interpolation,
-        format: args.number_format,
-        axis: args.channel_axis,
+        interpolation: args.interpolation.map(Into::into),
+        format: args.number_format.map(Into::into),
+        axis: args.channel_axis.map(Into::into),
     };
-    let outcome = pipeline::build_table_with(&part, &curves, budget, restrict, args.signal_unit)
-        .map_err(|e| match e {
-            pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
-                CliError::CheckFailed(format!("{}: {e}", args.part.display()))
-            }
-            other => CliError::Input(format!("{}: {other}", args.part.display())),
-        })?;
+    let outcome =
+        pipeline::build_table_with(&part, &curves, budget, restrict, args.signal_unit.into())
+            .map_err(|e| match e {
+                pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
+                    CliError::CheckFailed(format!("{}: {e}", args.part.display()))
+                }
+                other => CliError::Input(format!("{}: {other}", args.part.display())),
+            })?;
+    let format: ExportFormat = args.format.into();
     let bytes = export_with(
         &outcome.image,
-        args.format,
+        format,
         &args.name,
         args.address,
         part.scenario.simulated,
@@ -189,7 +192,7 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let path = args.out.clone().unwrap_or_else(|| {
         args.part
             .with_extension("")
-            .with_extension(args.format.extension())
+            .with_extension(format.extension())
     });
     let mut inputs = vec![args.part.as_path()];
     inputs.extend(args.design.as_deref());

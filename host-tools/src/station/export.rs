@@ -15,7 +15,7 @@
 use std::fmt::Write as _;
 
 /// Output format of an exported image.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum ExportFormat {
     /// The image bytes unchanged (`.bin`).

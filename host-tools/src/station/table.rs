@@ -16,9 +16,7 @@ use compensate::image::{
 use compensate::interp::Interpolation;
 
 /// Number format of an image.
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, clap::ValueEnum,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum NumFormat {
     /// IEEE binary32 (FPU parts).
@@ -28,9 +26,7 @@ pub enum NumFormat {
 }
 
 /// Interpolation between nodes.
-#[derive(
-    Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize, clap::ValueEnum,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum InterpKind {
     /// Piecewise linear.
@@ -54,17 +50,7 @@ impl InterpKind {
 }
 
 /// What the image's thermometer takes as its temperature signal.
-#[derive(
-    Debug,
-    Clone,
-    Copy,
-    PartialEq,
-    Eq,
-    Default,
-    serde::Serialize,
-    serde::Deserialize,
-    clap::ValueEnum,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum SignalUnit {
     /// The signal in the spec's units (ohm), as the chamber CSV records it.
@@ -77,17 +63,7 @@ pub enum SignalUnit {
 }
 
 /// What a table's correction channels are tabulated over.
-#[derive(
-    Debug,
-    Clone,
-    Copy,
-    PartialEq,
-    Eq,
-    Default,
-    serde::Serialize,
-    serde::Deserialize,
-    clap::ValueEnum,
-)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum AxisKind {
     /// Over temperature, after a thermometer map of its own: two look-ups
