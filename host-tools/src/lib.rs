@@ -6,6 +6,7 @@ pub mod arrhenius;
 pub mod arrhenius_check;
 pub mod arrhenius_model;
 pub mod cli;
+pub mod demo;
 pub mod element;
 pub mod gdb_remote;
 pub mod physics;

@@ -1,7 +1,7 @@
 //! `semidrift demo`: the whole station chain on both demo scenarios.
 
 use super::CliError;
-use crate::station::demo::{run_scenario, summary_text};
+use crate::demo::{run_scenario, summary_text};
 use crate::station::output::write_atomic;
 use crate::station::scenario::Scenario;
 use std::io::Write;

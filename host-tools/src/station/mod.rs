@@ -13,7 +13,6 @@ pub mod chamber;
 pub mod choose;
 pub mod compare;
 pub mod curves;
-pub mod demo;
 pub mod design;
 pub mod export;
 pub mod fit;

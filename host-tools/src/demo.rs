@@ -2,21 +2,21 @@
 //! scenarios, everything written under one folder, byte-identical from run to
 //! run (fixed seeds, sorted outputs, no timestamps, deterministic reductions).
 
-use super::apply::{ImageCompensation, apply_rows};
-use super::chamber::{self, ChamberData};
-use super::compare::{Comparison, QualifiedComparison, compare, compare_qualified};
-use super::curves::ShapeCurves;
-use super::design::{self, DesignFile, ProductionPlan};
-use super::export::{ExportFormat, export_with};
-use super::lot::{Progress, calibrate_lot, calibrate_lot_with};
-use super::model_shapes::shapes_for;
-use super::output::{OutputError, to_json_bytes, write_atomic};
-use super::part_file::PartFile;
-use super::pipeline::{self, DENSE_STIMULI, DENSE_TEMPS};
-use super::scenario::Scenario;
-use super::simulate::{Plan, draw_parts, measure};
-use super::spec::to_toml;
 use crate::plot::station::{comparison_series, error_svg, table_series};
+use crate::station::apply::{ImageCompensation, apply_rows};
+use crate::station::chamber::{self, ChamberData};
+use crate::station::compare::{Comparison, QualifiedComparison, compare, compare_qualified};
+use crate::station::curves::ShapeCurves;
+use crate::station::design::{self, DesignFile, ProductionPlan};
+use crate::station::export::{ExportFormat, export_with};
+use crate::station::lot::{Progress, calibrate_lot, calibrate_lot_with};
+use crate::station::model_shapes::shapes_for;
+use crate::station::output::{OutputError, to_json_bytes, write_atomic};
+use crate::station::part_file::PartFile;
+use crate::station::pipeline::{self, DENSE_STIMULI, DENSE_TEMPS};
+use crate::station::scenario::Scenario;
+use crate::station::simulate::{Plan, draw_parts, measure};
+use crate::station::spec::to_toml;
 use rayon::prelude::*;
 use std::path::Path;
 
@@ -319,7 +319,7 @@ pub fn run_scenario(
     let summary = ScenarioSummary {
         scenario: scenario.name.clone(),
         simulated: scenario.simulated,
-        caution: super::output::caution_for(scenario.simulated),
+        caution: crate::station::output::caution_for(scenario.simulated),
         parts: parts.len(),
         calibrated: ok.len(),
         cal_temps_c: scenario.cal_temps_c.clone(),
@@ -410,7 +410,7 @@ pub fn summary_text(summaries: &[ScenarioSummary]) -> String {
     // Every demo scenario is simulated (built-in, invented data).
     s.push_str(&format!(
         "simulated: true\n{}\n",
-        super::output::caution_for(true)
+        crate::station::output::caution_for(true)
     ));
     s
 }
