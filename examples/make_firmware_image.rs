@@ -11,13 +11,13 @@
 //! semidrift table parts/WELL-0001.part.json --format bin --budget 100 \
 //!     --number-format q --interpolation linear --signal-unit adc-code \
 //!     --channel-axis signal --out q.bin
-//! semidrift table parts/WELL-0001.part.json --format bin --budget 30 \
+//! semidrift table parts/WELL-0001.part.json --format bin --budget 33 \
 //!     --number-format f32 --interpolation linear --signal-unit adc-code \
 //!     --channel-axis signal --out f32_fine.bin
 //! ```
 //!
-//! (run in-process through `host_tools::cli`, in a temporary folder), then
-//! records a stream from the same simulated part (`host_tools::station::
+//! (the same steps through the library: `simulate::measure`,
+//! `lot::calibrate_lot`, `pipeline::build_table_with`), then records a stream from the same simulated part (`host_tools::station::
 //! simulate`, the code behind `simulate`):
 //!
 //! - `examples/firmware/data/well_level_f32.bin`: f32 table image (Cortex-M4F path),
@@ -331,16 +331,6 @@ fn sweep_source(sweep: &[SweepDegree], end: SweepEnd) -> String {
     out
 }
 
-/// Runs one `semidrift` command in-process; panics with its message on failure.
-fn semidrift(args: &[&str]) -> String {
-    let mut out = Vec::new();
-    let mut argv = vec!["semidrift"];
-    argv.extend_from_slice(args);
-    let code = host_tools::cli::run_with_args(argv, &mut out);
-    assert_eq!(code, 0, "semidrift {args:?} failed (exit {code})");
-    String::from_utf8_lossy(&out).into_owned()
-}
-
 /// Pressure in bar and chamber temperature in degrees Celsius of simulated
 /// sample `i` of the ramp (`i < STREAM_LEN - 4`): a chamber-style ramp from
 /// -20 C to 85 C and back while the pressure cycles over the range.
@@ -407,61 +397,47 @@ fn stream(scenario: &Scenario, q_image: &[u8]) -> String {
     out
 }
 
-/// Runs the chain in a temporary folder and returns the files (deterministic).
+/// Runs the station chain through the library (the steps `semidrift
+/// simulate`, `calibrate` and `table --signal-unit adc-code --channel-axis
+/// signal --interpolation linear` take) and returns the files
+/// (deterministic).
 pub fn build() -> FirmwareData {
-    let dir = tempfile::tempdir().expect("temporary folder");
-    let p = |name: &str| dir.path().join(name).display().to_string();
-    let seed = SEED.to_string();
-    semidrift(&[
-        "simulate",
-        "well-logger",
-        "--parts",
-        "1",
-        "--seed",
-        &seed,
-        "--out",
-        &p("cal.csv"),
-        "--write-spec",
-        &p("well.toml"),
-    ]);
-    semidrift(&[
-        "calibrate",
-        &p("well.toml"),
-        &p("cal.csv"),
-        "--out-dir",
-        &p("parts"),
-        "--quiet",
-    ]);
-    let part = p("parts/WELL-0001.part.json");
-    for (format, budget, name) in [
-        ("f32", TABLE_BUDGET_PPM, "f32"),
-        ("q", TABLE_BUDGET_PPM, "q"),
-        ("f32", FINE_TABLE_BUDGET_PPM, "f32_fine"),
-    ] {
-        semidrift(&[
-            "table",
-            &part,
-            "--format",
-            "bin",
-            "--budget",
-            budget,
-            "--number-format",
-            format,
-            "--interpolation",
-            "linear",
-            "--signal-unit",
-            "adc-code",
-            "--channel-axis",
-            "signal",
-            "--out",
-            &p(&format!("{name}.bin")),
-        ]);
-    }
-    let read = |name: &str| std::fs::read(p(name)).unwrap_or_else(|e| panic!("{name}: {e}"));
-    let (f32_image, q_image) = (read("f32.bin"), read("q.bin"));
-    let f32_fine_image = read("f32_fine.bin");
+    use host_tools::station::chamber::ChamberData;
+    use host_tools::station::choose::Restrict;
+    use host_tools::station::lot::{Silent, calibrate_lot};
+    use host_tools::station::pipeline::build_table_with;
+    use host_tools::station::table::{AxisKind, InterpKind, NumFormat};
+    // The scenario file `simulate --write-spec` writes: the built-in one,
+    // marked simulated.
+    let scenario = Scenario::well_logger().marked_simulated();
+    let plan = Plan {
+        temps_c: scenario.cal_temps_c.clone(),
+        stimuli: scenario.stimuli.clone(),
+    };
+    let parts = draw_parts(&scenario, 1, SEED);
+    let data = ChamberData {
+        rows: measure(&scenario, &parts, &plan, SEED).unwrap_or_else(|e| panic!("simulate: {e}")),
+        ..ChamberData::default()
+    };
+    let curves = part_shapes(&scenario);
+    let mut fitted = calibrate_lot(&scenario, &curves, &data, &Silent);
+    let part = fitted.remove(0);
+    assert!(part.is_ok(), "calibrate: {}", part.status);
+    let image = |format: NumFormat, budget: &str| {
+        let restrict = Restrict {
+            interpolation: Some(InterpKind::Linear),
+            format: Some(format),
+            axis: Some(AxisKind::Signal),
+        };
+        let budget: f64 = budget.parse().expect("budget is a number");
+        build_table_with(&part, &curves, budget, restrict, SignalUnit::AdcCode)
+            .unwrap_or_else(|e| panic!("table {format:?} at {budget} ppm: {e}"))
+            .image
+    };
+    let f32_image = image(NumFormat::F32, TABLE_BUDGET_PPM);
+    let q_image = image(NumFormat::Q, TABLE_BUDGET_PPM);
+    let f32_fine_image = image(NumFormat::F32, FINE_TABLE_BUDGET_PPM);
     let stream_csv = stream(&Scenario::well_logger(), &q_image);
-    let part = PartFile::read(Path::new(&part)).unwrap_or_else(|e| panic!("{e}"));
     let (poly, mut poly_rs) = poly_source(&part, &f32_image, &q_image);
     poly_rs += &fine_source(&part, &f32_fine_image);
     FirmwareData {
@@ -473,6 +449,12 @@ pub fn build() -> FirmwareData {
         part,
         poly,
     }
+}
+
+/// The full model's shapes for `scenario`.
+fn part_shapes(scenario: &Scenario) -> host_tools::station::curves::ShapeCurves {
+    host_tools::station::model_shapes::shapes_for(scenario)
+        .unwrap_or_else(|e| panic!("full model: {e}"))
 }
 
 /// Folder the firmware embeds its data from.
