@@ -248,21 +248,25 @@ fn parse_record(
 }
 
 /// Writes rows as a chamber CSV (columns in [`COLUMNS`] order, shortest
-/// round-trip floats), the same bytes for the same rows.
+/// round-trip floats, quoted by `csv::Writer` where a field needs it), the
+/// same bytes for the same rows.
 pub fn to_csv_bytes(rows: &[ChamberRow]) -> Vec<u8> {
-    let mut text = COLUMNS.join(",");
-    text.push('\n');
+    let mut w = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .from_writer(Vec::with_capacity(64 * (rows.len() + 1)));
+    // Writing into a Vec cannot fail; a failure would be a csv bug, and the
+    // rows written so far are still returned.
+    let _ = w.write_record(COLUMNS);
     for r in rows {
-        text.push_str(&format!(
-            "{},{},{},{},{}\n",
-            r.serial,
-            fmt_f64(r.chamber_c),
-            fmt_f64(r.stimulus),
-            fmt_f64(r.output),
-            fmt_f64(r.temp_signal)
-        ));
+        let _ = w.write_record([
+            r.serial.as_str(),
+            &fmt_f64(r.chamber_c),
+            &fmt_f64(r.stimulus),
+            &fmt_f64(r.output),
+            &fmt_f64(r.temp_signal),
+        ]);
     }
-    text.into_bytes()
+    w.into_inner().unwrap_or_default()
 }
 
 #[cfg(test)]
@@ -341,6 +345,7 @@ mod tests {
             })
             .collect();
         let bytes = to_csv_bytes(&rows);
+        assert!(bytes.starts_with(b"serial,chamber_c,stimulus,output,temp_signal\nS0,-20,0,"));
         let back = read_bytes("rt.csv", &bytes).unwrap();
         assert_eq!(back.rows, rows);
         assert_eq!(to_csv_bytes(&back.rows), bytes);
