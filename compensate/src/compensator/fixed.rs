@@ -28,6 +28,21 @@ pub struct ReadingQ {
     pub status: Status,
 }
 
+// The ARMv6-M load-reach limits the layout comments rely on, checked at
+// compile time where the layout is the firmware's (32-bit targets; the
+// cross builds of the test command compile them): byte loads reach offsets
+// 0..=31, halfword loads 0..=62, word loads 0..=124 from the base register.
+#[cfg(target_pointer_width = "32")]
+const _: () = {
+    use core::mem::{offset_of, size_of};
+    type C = FixedCompensator<'static>;
+    assert!(offset_of!(C, temp_status) + size_of::<Status>() <= 32);
+    assert!(offset_of!(C, short_scale) + short_scale::SHORT_SCALE_BYTES_END <= 32);
+    assert!(offset_of!(C, short) + offset_of!(ShortUpdateQ<'static>, nodes) <= 62);
+    assert!(offset_of!(C, short) + size_of::<ShortUpdateQ<'static>>() <= 128);
+    assert!(offset_of!(C, cell) + size_of::<CellQ>() <= 128);
+};
+
 /// Integer compensator running on a parsed Q-format [`TableView`].
 // `repr(C)` with the per-sample fields first, then those of the short
 // temperature update: ARMv6-M word loads reach only 124 bytes past a base

@@ -117,6 +117,11 @@ pub(super) struct ShortScale {
     half: u32,
 }
 
+/// Offset, within [`ShortScale`], of the last byte an ARMv6-M byte load
+/// must reach (`shift_c`, right after `shift`), checked at compile time.
+pub(super) const SHORT_SCALE_BYTES_END: usize = core::mem::offset_of!(ShortScale, shift_c) + 1;
+const _: () = assert!(core::mem::offset_of!(ShortScale, shift) == 0 && SHORT_SCALE_BYTES_END == 2);
+
 /// `2^30`, the bias taken off the rounding half-LSB in the low partial sum
 /// of [`ShortScale::narrow`].
 const LOW_BIAS: i32 = 1 << 30;
