@@ -1,6 +1,11 @@
 //! The integer fixed-point compensator, for parts without an FPU
 //! (Cortex-M0/M0+, RV32IMC). Pure integer arithmetic: bit-exact on every
 //! target, so the host reproduces the firmware's output exactly.
+//!
+//! It has the f32 compensator's structure (short update, interval cache,
+//! general update) but not its code: every arithmetic step differs (Q
+//! formats, rounding, saturation) and its fields are laid out for ARMv6-M
+//! load reach, so a generic form would cost both hot paths.
 #![deny(clippy::arithmetic_side_effects)]
 
 use super::CompensatorError;

@@ -1,4 +1,9 @@
 //! The f32 compensator, for parts with an FPU (Cortex-M4F and up).
+//!
+//! It has the integer compensator's structure (short update, interval
+//! cache, general update) but not its code: the two differ in every
+//! arithmetic step and in field layout (the integer one is laid out for
+//! ARMv6-M load reach), so a generic form would cost both hot paths.
 
 use super::CompensatorError;
 use crate::Status;
