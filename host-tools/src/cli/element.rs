@@ -233,10 +233,9 @@ const CSV_COLUMNS: [&str; 18] = [
 ];
 
 fn write_csv(out: &mut dyn Write, curve: &DriftCurve) -> std::io::Result<()> {
-    writeln!(out, "{}", CSV_COLUMNS.join(","))?;
     let opt = |v: Option<f64>| v.map(|x| x.to_string()).unwrap_or_default();
-    for r in &curve.rows {
-        let fields = [
+    let rows = curve.rows.iter().map(|r| {
+        [
             r.t_c.to_string(),
             r.t_k.to_string(),
             r.span_v.to_string(),
@@ -255,10 +254,9 @@ fn write_csv(out: &mut dyn Write, curve: &DriftCurve) -> std::io::Result<()> {
             opt(r.hall_coefficient_cm3_c),
             opt(r.hall_mobility_cm2_vs),
             opt(r.hall_factor),
-        ];
-        writeln!(out, "{}", fields.join(","))?;
-    }
-    Ok(())
+        ]
+    });
+    out.write_all(crate::station::output::csv_text(&CSV_COLUMNS, rows).as_bytes())
 }
 
 fn write_text(

@@ -256,21 +256,17 @@ pub fn json(sample: &Sample, rows: &[ModelPoint]) -> Result<String, CliError> {
 /// Renders CSV: header with the contract names; temperatures in shortest
 /// exact form, other values with ten significant digits; empty when absent.
 pub fn csv(rows: &[ModelPoint]) -> String {
-    let mut text = COLUMNS.iter().map(|c| c.name).collect::<Vec<_>>().join(",");
-    text.push('\n');
-    for row in rows {
-        let cells: Vec<String> = COLUMNS
-            .iter()
-            .map(|c| match value(c, row) {
+    let header: Vec<&str> = COLUMNS.iter().map(|c| c.name).collect();
+    crate::station::output::csv_text(
+        &header,
+        rows.iter().map(|row| {
+            COLUMNS.iter().map(move |c| match value(c, row) {
                 None => String::new(),
                 Some(v) if c.name.starts_with("t_") => format!("{v}"),
                 Some(v) => format!("{v:.9e}"),
             })
-            .collect();
-        text.push_str(&cells.join(","));
-        text.push('\n');
-    }
-    text
+        }),
+    )
 }
 
 /// Renders the aligned human-readable table, with a line describing the sample.

@@ -222,6 +222,25 @@ pub fn remove_stale_temporaries(dir: &Path) {
     }
 }
 
+/// CSV text through `csv::Writer` (quoting where a field needs it, `\n`
+/// line ends): a header and rows of already formatted fields.
+pub fn csv_text<R, F>(header: &[&str], rows: R) -> String
+where
+    R: IntoIterator<Item = F>,
+    F: IntoIterator<Item = String>,
+{
+    let mut w = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .flexible(true)
+        .from_writer(Vec::new());
+    // Writing into a Vec cannot fail.
+    let _ = w.write_record(header);
+    for row in rows {
+        let _ = w.write_record(row.into_iter().collect::<Vec<String>>());
+    }
+    String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
+}
+
 /// Formats a float in its shortest round-trip decimal form (Rust's `Display`),
 /// which depends only on the value, never on locale or platform; non-finite
 /// values become `nan`, `inf`, `-inf`.
@@ -339,6 +358,24 @@ mod tests {
         ] {
             assert_eq!(path_in(dir.path(), name).is_ok(), ok, "{name:?}");
         }
+    }
+
+    #[test]
+    fn csv_text_quotes_what_needs_it_and_round_trips() {
+        let text = csv_text(
+            &["serial", "x"],
+            [
+                vec!["A,1".to_string(), "2".to_string()],
+                vec!["say \"hi\"".to_string(), String::new()],
+            ],
+        );
+        assert_eq!(text, "serial,x\n\"A,1\",2\n\"say \"\"hi\"\"\",\n");
+        let mut r = csv::Reader::from_reader(text.as_bytes());
+        let back: Vec<Vec<String>> = r
+            .records()
+            .map(|rec| rec.unwrap().iter().map(str::to_string).collect())
+            .collect();
+        assert_eq!(back, vec![vec!["A,1", "2"], vec!["say \"hi\"", ""]]);
     }
 
     #[test]
