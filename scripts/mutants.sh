@@ -11,7 +11,7 @@
 # Slow (a build and a test run per mutant): `SEMIDRIFT_SLOW=1
 # scripts/test-all.sh` runs it, or run it alone. Arguments narrow it to
 # some of the files below:
-#   scripts/mutants.sh host-tools/src/station/budget.rs
+#   scripts/mutants.sh host-tools/src/station/tables/budget.rs
 # `scripts/mutants.sh --install` only installs cargo-mutants.
 set -euo pipefail
 export LC_ALL=C
@@ -34,7 +34,7 @@ fi
 # that no test anywhere could catch it.
 COMPENSATE_FILES=(compensate/src/image/validate.rs compensate/src/crc.rs compensate/src/interp/axis.rs)
 COMPENSATE_TESTS=(--lib --test image_rejects --test image_props --test interp_props)
-STATION_FILES=(host-tools/src/station/budget.rs host-tools/src/station/bound.rs host-tools/src/station/choose.rs)
+STATION_FILES=(host-tools/src/station/tables/budget.rs host-tools/src/station/tables/bound.rs host-tools/src/station/tables/choose.rs)
 STATION_TESTS=(--lib)
 
 wanted() {

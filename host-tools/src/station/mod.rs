@@ -4,35 +4,21 @@
 //! Data flow: [`chamber`] rows --[`fit`]--> part files --> table image
 //! --[`export`]--> flash; every file goes through [`output::write_atomic`].
 
-pub mod apply;
-pub mod bound;
-pub mod bow;
-pub mod budget;
-pub mod calibrate;
-pub mod chamber;
-pub mod choose;
-pub mod compare;
-pub mod curves;
+pub mod baseline;
+pub mod checks;
 pub mod design;
-pub mod export;
-pub mod fit;
-pub mod flash;
-pub mod image_eval;
-pub mod limits;
-pub mod linalg;
-pub mod lot;
-pub mod model_shapes;
-pub mod output;
-pub mod part_file;
-pub mod part_model;
-pub mod pipeline;
-pub mod poly_baseline;
-pub mod poly_sweep;
-pub mod polynomial;
-pub mod remainder;
-pub mod scenario;
-pub mod simulate;
-pub mod spec;
-pub mod table;
-pub mod table_grid;
-pub mod truth;
+pub mod files;
+pub mod fitting;
+pub mod inputs;
+pub mod simulated;
+pub mod tables;
+
+// Every stage module at the station level too, so that paths name the
+// concept (`station::chamber`), whatever the stage folder.
+pub use baseline::{poly_baseline, poly_sweep, polynomial};
+pub use checks::{apply, compare};
+pub use files::{export, flash, output};
+pub use fitting::{calibrate, curves, fit, linalg, lot, model_shapes, part_file, part_model};
+pub use inputs::{chamber, limits, scenario, spec};
+pub use simulated::{simulate, truth};
+pub use tables::{bound, bow, budget, choose, image_eval, pipeline, remainder, table, table_grid};

@@ -1,8 +1,8 @@
 //! The full model's temperature shapes for a scenario's nominal die.
 
-use super::curves::{OffsetShape, ShapeCurves, ShapePoint};
-use super::scenario::{ElementKind, Scenario};
 use crate::physics::{self, ModelError};
+use crate::station::curves::{OffsetShape, ShapeCurves, ShapePoint};
+use crate::station::scenario::{ElementKind, Scenario};
 
 /// Coldest tabulated temperature, C: 20 K below the coldest data-sheet range.
 pub const GRID_MIN_C: f64 = -60.0;

@@ -8,7 +8,7 @@
 //! same integer code to, so ADC quantization is not counted as table
 //! error, while everything the image and its arithmetic add is.
 
-use super::table::TableFrame;
+use crate::station::table::TableFrame;
 use compensate::image::NumberFormat;
 use compensate::{Compensator, FixedCompensator, ImageError, TableView};
 use rayon::prelude::*;

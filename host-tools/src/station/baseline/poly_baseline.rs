@@ -22,9 +22,9 @@
 //! runs the firmware's own source on the host and requires bit-identical
 //! results on the dense grid.
 
-use super::image_eval::{ErrorStats, linspace};
-use super::pipeline::{DENSE_STIMULI, DENSE_TEMPS};
-use super::table::{SignalUnit, TableFrame};
+use crate::station::image_eval::{ErrorStats, linspace};
+use crate::station::pipeline::{DENSE_STIMULI, DENSE_TEMPS};
+use crate::station::table::{SignalUnit, TableFrame};
 use nalgebra::{DMatrix, DVector};
 use rayon::prelude::*;
 
@@ -163,7 +163,7 @@ impl PolyFit {
             }
             b[n] = p.reference;
         }
-        let (c, condition) = match super::linalg::svd_bounded(a, true, true) {
+        let (c, condition) = match crate::station::linalg::svd_bounded(a, true, true) {
             Some(svd) => {
                 let condition = svd.singular_values.max() / svd.singular_values.min();
                 let cutoff = 1e-12 * svd.singular_values.max();

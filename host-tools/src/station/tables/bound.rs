@@ -1,5 +1,5 @@
 //! Analytic interpolation-error bound of a table plan, to report beside the
-//! dense sampling: the remainder formulas of [`super::remainder`] per node
+//! dense sampling: the remainder formulas of [`crate::station::remainder`] per node
 //! interval, with derivative maxima of the fitted part model, carried to the
 //! reading and multiplied by [`SAFETY_FACTOR`].
 //!
@@ -23,8 +23,8 @@
 //! signal(T)'s by series reversion, so no root finding enters a difference
 //! quotient.
 
-use super::remainder::{Column, central_differences, inverse_derivatives};
-use super::table::{AxisKind, SignalUnit, TableFrame, TablePlan};
+use crate::station::remainder::{Column, central_differences, inverse_derivatives};
+use crate::station::table::{AxisKind, SignalUnit, TableFrame, TablePlan};
 
 /// Factor on the whole bound. It covers what the first-order composition and
 /// the sampled kernels leave out: the kernel maximum between its 64 sample
@@ -42,7 +42,7 @@ const MIN_CELLS: usize = 2000;
 
 /// Step of the first-derivative quotients, K: 1e-3 K keeps truncation
 /// (~1e-7 relative) and rounding (~1e-13 relative) far below the f'
-/// variation the kernels sum (as [`super::curves::ShapeCurves::slope`]).
+/// variation the kernels sum (as [`crate::station::curves::ShapeCurves::slope`]).
 const SLOPE_STEP_K: f64 = 1e-3;
 
 /// One column of the table, parametrised by temperature: node argument
@@ -325,18 +325,18 @@ fn correction_bound(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
 
 #[cfg(test)]
 pub(super) mod tests {
-    use super::super::bow::Bow;
-    use super::super::calibrate::calibrate_part;
-    use super::super::chamber::ChamberRow;
-    use super::super::image_eval::{evaluate, linspace};
-    use super::super::model_shapes::shapes_for;
-    use super::super::part_file::PartFile;
-    use super::super::part_model::PartModel;
-    use super::super::pipeline::dense_counts;
-    use super::super::scenario::Scenario;
-    use super::super::simulate::{Plan, draw_parts, measure};
-    use super::super::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
     use super::*;
+    use crate::station::bow::Bow;
+    use crate::station::calibrate::calibrate_part;
+    use crate::station::chamber::ChamberRow;
+    use crate::station::image_eval::{evaluate, linspace};
+    use crate::station::model_shapes::shapes_for;
+    use crate::station::part_file::PartFile;
+    use crate::station::part_model::PartModel;
+    use crate::station::pipeline::dense_counts;
+    use crate::station::scenario::Scenario;
+    use crate::station::simulate::{Plan, draw_parts, measure};
+    use crate::station::table::{AxisKind, InterpKind, NumFormat, SignalUnit};
 
     /// Parts of `scenario` calibrated at its usual three chamber temperatures.
     pub(in super::super) fn parts(scenario: &Scenario, count: usize, seed: u64) -> Vec<PartFile> {

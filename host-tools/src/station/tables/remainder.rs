@@ -37,7 +37,7 @@
 //! second order; the bound carries exactly that, with no assumption of the
 //! O(h^3) slope accuracy of smooth monotone data.
 
-use super::table::InterpKind;
+use crate::station::table::InterpKind;
 
 /// What the bound needs of one tabulated function on a uniform node axis.
 #[derive(Debug, Clone, PartialEq)]

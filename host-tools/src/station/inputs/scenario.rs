@@ -5,9 +5,9 @@
 //! All numbers here are invented for the demo scenarios (simulated data,
 //! never a measurement); the physics they feed is the full model's.
 
-use super::bow::Bow;
-use super::truth::TruthModels;
 use crate::physics::{Dopant, Material, Sample, Species};
+use crate::station::bow::Bow;
+use crate::station::truth::TruthModels;
 
 /// The kind of sense element.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
@@ -101,7 +101,7 @@ pub struct Scenario {
     /// element), read as not simulated.
     #[serde(default)]
     pub simulated: bool,
-    /// Caution carried with simulated data ([`super::output::SIMULATED_CAUTION`];
+    /// Caution carried with simulated data ([`crate::station::output::SIMULATED_CAUTION`];
     /// empty, and not written, when not simulated).
     #[serde(default, skip_serializing_if = "String::is_empty")]
     pub caution: String,
@@ -186,7 +186,7 @@ impl Scenario {
     /// span at mid-scale, 0.03 % part to part, -0.15 %/K relative; Hall
     /// plate 0.02 %, 0.01 %, -0.15 %/K).
     pub fn with_demo_truth(mut self) -> Scenario {
-        self.truth = super::truth::VARIANTS[0].1;
+        self.truth = crate::station::truth::VARIANTS[0].1;
         let (mean, sd) = match self.kind {
             ElementKind::Bridge => (1e-3, 3e-4),
             ElementKind::HallPlate => (2e-4, 1e-4),
@@ -200,7 +200,7 @@ impl Scenario {
     /// The scenario marked as describing simulated data (see [`Scenario::simulated`]).
     pub fn marked_simulated(mut self) -> Scenario {
         self.simulated = true;
-        self.caution = super::output::SIMULATED_CAUTION.into();
+        self.caution = crate::station::output::SIMULATED_CAUTION.into();
         self
     }
 
@@ -244,7 +244,7 @@ impl Scenario {
         Scenario {
             name: "well".into(),
             simulated: true,
-            caution: super::output::SIMULATED_CAUTION.into(),
+            caution: crate::station::output::SIMULATED_CAUTION.into(),
             kind: ElementKind::Bridge,
             sample: Sample {
                 material: Material::Si,
@@ -318,7 +318,7 @@ impl Scenario {
         Scenario {
             name: "battery".into(),
             simulated: true,
-            caution: super::output::SIMULATED_CAUTION.into(),
+            caution: crate::station::output::SIMULATED_CAUTION.into(),
             kind: ElementKind::HallPlate,
             sample: Sample {
                 material: Material::Si,
@@ -390,8 +390,8 @@ impl Scenario {
     /// temperature limits, non-empty plans, ADC bits in
     /// [`MIN_ADC_BITS`]..=[`MAX_ADC_BITS`], a budget in (0, 1e6] ppm.
     pub fn check(&self) -> Result<(), crate::element::spec::Invalid> {
-        use super::limits::{self, MAX_PLAN_POINTS};
         use crate::element::spec::Invalid;
+        use crate::station::limits::{self, MAX_PLAN_POINTS};
         let bad = |field: &str, message: String| Err(Invalid::new(field, message));
         let finite = |field: &str, x: f64| {
             if x.is_finite() {

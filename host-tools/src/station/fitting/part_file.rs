@@ -5,12 +5,12 @@
 //! the same fit gives the same bytes. Non-finite numbers (the covariance of an
 //! ill-conditioned fit) are written as `null`.
 
-use super::design::basis::Family;
-use super::design::model::{DesignCore, FamilyFit};
-use super::output::to_json_bytes;
-use super::part_model::PartParams;
-use super::polynomial::PolyCal;
-use super::scenario::Scenario;
+use crate::station::design::basis::Family;
+use crate::station::design::model::{DesignCore, FamilyFit};
+use crate::station::output::to_json_bytes;
+use crate::station::part_model::PartParams;
+use crate::station::polynomial::PolyCal;
+use crate::station::scenario::Scenario;
 use std::path::Path;
 
 /// Format tag written into every part file.
@@ -36,7 +36,7 @@ pub struct FitPoint {
 }
 
 /// One leave-one-temperature-out refit, judged at the temperature left out
-/// (see [`super::calibrate::cross_validate`]).
+/// (see [`crate::station::calibrate::cross_validate`]).
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct HoldOut {
     /// The chamber temperature left out, C.
@@ -199,12 +199,15 @@ impl PartFile {
     /// Reads a part file.
     pub fn read(path: &Path) -> Result<PartFile, PartFileError> {
         let file = path.display().to_string();
-        let text =
-            super::limits::read_text_capped(path, super::limits::MAX_JSON_BYTES, "part file")
-                .map_err(|message| PartFileError::Io {
-                    file: file.clone(),
-                    message,
-                })?;
+        let text = crate::station::limits::read_text_capped(
+            path,
+            crate::station::limits::MAX_JSON_BYTES,
+            "part file",
+        )
+        .map_err(|message| PartFileError::Io {
+            file: file.clone(),
+            message,
+        })?;
         Self::parse(&file, &text)
     }
 

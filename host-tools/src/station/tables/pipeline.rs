@@ -1,14 +1,14 @@
 //! The station steps as library calls, shared by the CLI and the demo:
 //! table building to a budget and verification of an image against a part.
 
-use super::bound::interpolation_bound_ppm;
-use super::budget::{BudgetTerms, PartTerms};
-use super::choose::{Candidate, ChooseError, Restrict, candidates, try_plan};
-use super::curves::ShapeCurves;
-use super::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperature};
-use super::model_shapes::shapes_for;
-use super::part_file::PartFile;
-use super::table::{
+use crate::station::bound::interpolation_bound_ppm;
+use crate::station::budget::{BudgetTerms, PartTerms};
+use crate::station::choose::{Candidate, ChooseError, Restrict, candidates, try_plan};
+use crate::station::curves::ShapeCurves;
+use crate::station::image_eval::{ErrorStats, EvalError, evaluate, linspace, per_temperature};
+use crate::station::model_shapes::shapes_for;
+use crate::station::part_file::PartFile;
+use crate::station::table::{
     AxisKind, InterpKind, NumFormat, SignalUnit, TableError, TableFrame, TablePlan,
 };
 use compensate::TableView;
@@ -132,7 +132,7 @@ pub fn check_image_for_part(view: &TableView<'_>, part: &PartFile) -> Result<(),
             ),
         );
     }
-    let unit = super::table::unit(&part.scenario.stimulus_unit);
+    let unit = crate::station::table::unit(&part.scenario.stimulus_unit);
     if view.unit() != unit {
         return mismatch(
             "unit",
@@ -216,7 +216,7 @@ pub struct TableOutcome {
     pub analytic_bound_ppm: f64,
     /// Whether the part was fitted to simulated data (its scenario's `simulated`).
     pub simulated: bool,
-    /// Caution ([`super::output::caution_for`]).
+    /// Caution ([`crate::station::output::caution_for`]).
     pub caution: String,
     /// The image.
     #[serde(skip)]
@@ -339,7 +339,7 @@ pub fn build_table_for_allowance_with(
     let mut plan = list[0].plan;
     let grid = dense_grid(frame, &plan);
     let (mut image, mut dense) = try_plan(frame, &plan, serial, unit, &grid)?;
-    while dense.max_error_ppm > allowance_ppm && plan.n_t < super::choose::MAX_NODES {
+    while dense.max_error_ppm > allowance_ppm && plan.n_t < crate::station::choose::MAX_NODES {
         plan.n_t += plan.n_t.div_ceil(10);
         plan.n_sig += plan.n_sig.div_ceil(10);
         plan.n_raw += plan.n_raw.div_ceil(10);
@@ -359,7 +359,7 @@ pub fn build_table_for_allowance_with(
         dense,
         analytic_bound_ppm: interpolation_bound_ppm(frame, &plan),
         simulated: part.scenario.simulated,
-        caution: super::output::caution_for(part.scenario.simulated),
+        caution: crate::station::output::caution_for(part.scenario.simulated),
         image,
     })
 }
@@ -397,7 +397,7 @@ pub struct VerifyReport {
     pub pass: bool,
     /// Whether the part was fitted to simulated data (its scenario's `simulated`).
     pub simulated: bool,
-    /// Caution ([`super::output::caution_for`]).
+    /// Caution ([`crate::station::output::caution_for`]).
     pub caution: String,
 }
 
@@ -504,6 +504,6 @@ pub fn verify(
         bytes: image.len(),
         pass: dense.max_error_ppm <= allowance,
         simulated: part.scenario.simulated,
-        caution: super::output::caution_for(part.scenario.simulated),
+        caution: crate::station::output::caution_for(part.scenario.simulated),
     })
 }

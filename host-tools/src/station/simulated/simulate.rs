@@ -3,10 +3,10 @@
 //! rows. Seeded and byte-reproducible regardless of thread count: every part
 //! draws from its own ChaCha stream, selected by the part index.
 
-use super::chamber::ChamberRow;
-use super::scenario::{Adc, Scenario};
-use super::truth::{PartTruth, Truth};
 use crate::physics::ModelError;
+use crate::station::chamber::ChamberRow;
+use crate::station::scenario::{Adc, Scenario};
+use crate::station::truth::{PartTruth, Truth};
 use rand::SeedableRng;
 use rand_chacha::ChaCha12Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -94,7 +94,7 @@ pub fn measure(
 }
 
 /// Writes the chamber CSV of a `count`-part lot ([`draw_parts`] and
-/// [`measure`]) to `out`, the same bytes as [`super::chamber::to_csv_bytes`] of
+/// [`measure`]) to `out`, the same bytes as [`crate::station::chamber::to_csv_bytes`] of
 /// their rows, drawing and measuring 1 000 parts at a time so that memory
 /// stays bounded whatever the lot size. Returns the number of rows.
 pub fn write_lot(
@@ -122,7 +122,7 @@ fn write_lot_in_chunks(
         let end = (first + chunk.max(1)).min(count);
         let parts = draw_part_range(scenario, first..end, seed);
         let rows = measure_with(scenario, &truth, &parts, first, plan, seed)?;
-        let bytes = super::chamber::to_csv_bytes(&rows);
+        let bytes = crate::station::chamber::to_csv_bytes(&rows);
         // Every chunk's bytes start with the header line; the file has one.
         let body = if first == 0 {
             &bytes[..]
@@ -202,7 +202,7 @@ mod tests {
         };
         let parts = draw_parts(&scenario, 5, 7);
         let whole =
-            super::super::chamber::to_csv_bytes(&measure(&scenario, &parts, &plan, 7).unwrap());
+            crate::station::chamber::to_csv_bytes(&measure(&scenario, &parts, &plan, 7).unwrap());
         for chunk in [1, 2, 5, 1000] {
             let mut bytes = Vec::new();
             let rows = write_lot_in_chunks(&scenario, 5, &plan, 7, &mut bytes, chunk).unwrap();

@@ -1,8 +1,8 @@
 //! The error budget of a compensated part, term by term (the terms `table`
 //! prints, docs/station.md), all in ppm of full-scale span.
 
-use super::part_file::PartFile;
-use super::table::TableFrame;
+use crate::station::part_file::PartFile;
+use crate::station::table::TableFrame;
 
 /// Coverage factor applied to the temperature-signal uncertainty: 3 sigma
 /// makes the term a near-worst case for Gaussian noise (common practice).
@@ -162,12 +162,12 @@ impl PartTerms {
 
 #[cfg(test)]
 mod tests {
-    use super::super::curves::{OffsetShape, ShapeCurves};
-    use super::super::part_file::{HoldOut, PART_FORMAT};
-    use super::super::part_model::{PartModel, PartParams};
-    use super::super::scenario::Scenario;
-    use super::super::table::SignalUnit;
     use super::*;
+    use crate::station::curves::{OffsetShape, ShapeCurves};
+    use crate::station::part_file::{HoldOut, PART_FORMAT};
+    use crate::station::part_model::{PartModel, PartParams};
+    use crate::station::scenario::Scenario;
+    use crate::station::table::SignalUnit;
 
     /// Shapes that are zero at every temperature: the part model reduces to
     /// `offset = offset_tc * (T - 25)` and

@@ -5,9 +5,9 @@
 //! scenario of the same kind (lot spread, chamber plan and the simulated
 //! truth's extra effects stay the built-in ones).
 
-use super::scenario::Scenario;
 use crate::element::{ElementSpec, parse_spec};
 use crate::physics::{Dopant, Sample};
+use crate::station::scenario::Scenario;
 use std::path::Path;
 
 /// Names of the built-in scenarios.
@@ -44,7 +44,7 @@ pub fn to_toml(scenario: &Scenario) -> String {
          # Invented demo data; units are in the field names and docs of\n\
          # host_tools::station::scenario::Scenario.\n\
          # {}.\n{body}",
-        super::output::caution_for(scenario.simulated)
+        crate::station::output::caution_for(scenario.simulated)
     )
 }
 
@@ -54,9 +54,9 @@ pub fn load(arg: &str) -> Result<Scenario, SpecLoadError> {
         return Ok(s);
     }
     let path = Path::new(arg);
-    let text = super::limits::read_text_capped(
+    let text = crate::station::limits::read_text_capped(
         path,
-        super::limits::MAX_TOML_BYTES,
+        crate::station::limits::MAX_TOML_BYTES,
         "scenario or element spec",
     )
     .map_err(|message| SpecLoadError {

@@ -2,8 +2,8 @@
 //! output and its exact inverse with the bow included, and the 2-D
 //! correction (temperature x raw code) that a bilinear grid stores.
 
-use super::bow::Bow;
-use super::table::{TableFrame, TablePlan};
+use crate::station::bow::Bow;
+use crate::station::table::{TableFrame, TablePlan};
 
 impl TableFrame<'_> {
     /// Mid-scale nonlinearity at `t_c`, fraction of span: the part's own

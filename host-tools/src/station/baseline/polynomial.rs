@@ -6,7 +6,7 @@
 //! 8 stored coefficients per part (2 + 3 + 3). Solved by linear least squares
 //! (SVD), so it is exact through the points whenever it can be.
 
-use super::chamber::ChamberRow;
+use crate::station::chamber::ChamberRow;
 use nalgebra::{DMatrix, DVector};
 
 /// Temperature about which the polynomials are centred (conditioning only).
@@ -27,7 +27,7 @@ pub struct PolyCal {
 }
 
 /// The polynomial's nonlinearity: a terminal-based parabola in the stimulus
-/// (as [`super::bow::Bow`]) whose mid-scale deviation is linear in
+/// (as [`crate::station::bow::Bow`]) whose mid-scale deviation is linear in
 /// temperature, `mid[0] + mid[1] u`.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct PolyBow {
@@ -62,7 +62,7 @@ fn distinct(values: impl Iterator<Item = f64>) -> usize {
 
 fn lstsq(a: DMatrix<f64>, b: DVector<f64>) -> DVector<f64> {
     let n = a.ncols();
-    super::linalg::lstsq(a, &b).unwrap_or_else(|| DVector::from_element(n, f64::NAN))
+    crate::station::linalg::lstsq(a, &b).unwrap_or_else(|| DVector::from_element(n, f64::NAN))
 }
 
 impl PolyCal {
@@ -108,7 +108,7 @@ impl PolyCal {
     /// the mid-scale deviation at each chamber temperature (3 stimuli or
     /// more); 10 stored numbers. Without 3 stimuli anywhere, [`PolyCal::fit`].
     pub fn fit_with_bow(rows: &[&ChamberRow], fs: (f64, f64)) -> Result<PolyCal, PolyError> {
-        let (steps, _) = super::design::reduce::reduce(rows, fs);
+        let (steps, _) = crate::station::design::reduce::reduce(rows, fs);
         let pts: Vec<(f64, f64)> = steps
             .iter()
             .filter_map(|s| s.bow.map(|b| (s.chamber_c - T_CENTER_C, b)))
@@ -162,8 +162,8 @@ impl PolyCal {
 }
 
 impl PolyBow {
-    fn at(&self, t_c: f64) -> super::bow::Bow {
-        super::bow::Bow::constant(self.mid[0] + self.mid[1] * (t_c - T_CENTER_C))
+    fn at(&self, t_c: f64) -> crate::station::bow::Bow {
+        crate::station::bow::Bow::constant(self.mid[0] + self.mid[1] * (t_c - T_CENTER_C))
     }
 
     /// The stimulus the terminal line sees at `t_c`.

@@ -10,14 +10,14 @@
 //! the fit. The Q form is made when its coefficients fit i32 and measured
 //! bit-exactly as the integer firmware runs it.
 //!
-//! [`equal_accuracy`]: super::poly_baseline::equal_accuracy
-//! [`baseline_of_degree`]: super::poly_baseline::baseline_of_degree
+//! [`equal_accuracy`]: crate::station::poly_baseline::equal_accuracy
+//! [`baseline_of_degree`]: crate::station::poly_baseline::baseline_of_degree
 
-use super::image_eval::ErrorStats;
-use super::poly_baseline::{
+use crate::station::image_eval::ErrorStats;
+use crate::station::poly_baseline::{
     MAX_CONDITION, Point, PolyF32Form, PolyFit, PolyQForm, error_stats, out_bits,
 };
-use super::table::TableFrame;
+use crate::station::table::TableFrame;
 
 /// One degree of a sweep.
 #[derive(Debug, Clone, PartialEq)]

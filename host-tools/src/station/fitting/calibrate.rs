@@ -5,10 +5,10 @@
 //! 1. Thermometer: `signal = signal_ref * exp(beta * L(T) + curv * L(T)^2)`
 //!    on the pairs (chamber temperature, temperature signal), L the full
 //!    model's log-resistivity ratio. `beta` and `curv` absorb a model TCR and
-//!    curvature that are off (see [`super::part_model`]); the residual is
+//!    curvature that are off (see [`crate::station::part_model`]); the residual is
 //!    reported in kelvin.
 //! 2. Output: offset and sensitivity shapes of the full model (see
-//!    [`super::part_model`]) against the temperature the fitted thermometer
+//!    [`crate::station::part_model`]) against the temperature the fitted thermometer
 //!    reads from each row's own signal, the same temperature the firmware
 //!    will see, so chamber set-point errors do not enter the fit.
 //! 3. Cross-validation: each calibration temperature in turn is left out,
@@ -28,13 +28,13 @@
 //!    (on the well-logger lot it reads ~2 K where the full thermometer is
 //!    within ~0.02 K), so it is not a budget term.
 
-use super::chamber::ChamberRow;
-use super::curves::ShapeCurves;
-use super::fit::{FitOptions, FitProblem, FitResult, FitStatus, fit};
-use super::part_file::{FitPoint, HoldOut, PART_FORMAT, PartFile, finite};
-use super::part_model::{PARAM_NAMES, PartModel, PartParams};
-use super::polynomial::PolyCal;
-use super::scenario::{ElementKind, Scenario};
+use crate::station::chamber::ChamberRow;
+use crate::station::curves::ShapeCurves;
+use crate::station::fit::{FitOptions, FitProblem, FitResult, FitStatus, fit};
+use crate::station::part_file::{FitPoint, HoldOut, PART_FORMAT, PartFile, finite};
+use crate::station::part_model::{PARAM_NAMES, PartModel, PartParams};
+use crate::station::polynomial::PolyCal;
+use crate::station::scenario::{ElementKind, Scenario};
 
 /// The output parameters fitted per element kind (indices into offset_ref,
 /// mismatch, offset_tc_per_k, sens_ref, doping_shift, span_tc_per_k,
@@ -514,9 +514,9 @@ mod tests {
         }
     }
 
-    use super::super::model_shapes::shapes_for;
-    use super::super::simulate::{Plan, draw_parts, measure};
     use super::*;
+    use crate::station::model_shapes::shapes_for;
+    use crate::station::simulate::{Plan, draw_parts, measure};
 
     #[test]
     fn three_temperatures_fit_and_two_are_reported_ill_conditioned() {

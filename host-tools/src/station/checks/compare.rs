@@ -2,10 +2,10 @@
 //! polynomial, on the same lot and the same calibration points, judged at
 //! held-out temperatures inside and outside the calibrated span.
 
-use super::apply::{ModelCompensation, PolyCompensation, apply_rows};
-use super::chamber::ChamberData;
-use super::curves::ShapeCurves;
-use super::part_file::PartFile;
+use crate::station::apply::{ModelCompensation, PolyCompensation, apply_rows};
+use crate::station::chamber::ChamberData;
+use crate::station::curves::ShapeCurves;
+use crate::station::part_file::PartFile;
 
 /// Worst-case errors of one method, ppm of span.
 #[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
@@ -52,7 +52,7 @@ pub struct Comparison {
     pub by_temperature: Vec<[f64; 4]>,
     /// Whether any compared part was fitted to simulated data.
     pub simulated: bool,
-    /// Caution ([`super::output::caution_for`]).
+    /// Caution ([`crate::station::output::caution_for`]).
     pub caution: String,
 }
 
@@ -72,7 +72,7 @@ pub fn compare(parts: &[PartFile], curves: &ShapeCurves, check: &ChamberData) ->
         simulated: parts.iter().any(|p| p.scenario.simulated),
         caution: String::new(),
     };
-    out.caution = super::output::caution_for(out.simulated);
+    out.caution = crate::station::output::caution_for(out.simulated);
     let mut by_t: std::collections::BTreeMap<u64, [f64; 4]> = std::collections::BTreeMap::new();
     for part in parts {
         let (Some(poly), Some(rows), true) = (
@@ -136,7 +136,7 @@ pub struct QualifiedComparison {
     pub by_temperature: Vec<[f64; 3]>,
     /// Whether any compared part was fitted to simulated data.
     pub simulated: bool,
-    /// Caution ([`super::output::caution_for`]).
+    /// Caution ([`crate::station::output::caution_for`]).
     pub caution: String,
 }
 
@@ -158,7 +158,7 @@ pub fn compare_qualified(
         simulated: parts.iter().any(|p| p.scenario.simulated),
         caution: String::new(),
     };
-    out.caution = super::output::caution_for(out.simulated);
+    out.caution = crate::station::output::caution_for(out.simulated);
     let mut by_t: std::collections::BTreeMap<u64, [f64; 3]> = std::collections::BTreeMap::new();
     for part in parts {
         let (Some(poly), Some(rows), Some(d), true) = (

@@ -6,7 +6,7 @@
 //! the element spec. A bad row is reported with file, line and column and
 //! skipped; the other rows (and so the other parts) are still used.
 
-use super::output::fmt_f64;
+use crate::station::output::fmt_f64;
 use std::collections::BTreeMap;
 use std::path::Path;
 
@@ -101,11 +101,15 @@ impl ChamberData {
 /// Reads a chamber CSV from a file.
 pub fn read_file(path: &Path) -> Result<ChamberData, ChamberError> {
     let name = path.display().to_string();
-    let bytes = super::limits::read_capped(path, super::limits::MAX_CSV_BYTES, "chamber CSV")
-        .map_err(|message| ChamberError::Io {
-            file: name.clone(),
-            message,
-        })?;
+    let bytes = crate::station::limits::read_capped(
+        path,
+        crate::station::limits::MAX_CSV_BYTES,
+        "chamber CSV",
+    )
+    .map_err(|message| ChamberError::Io {
+        file: name.clone(),
+        message,
+    })?;
     read_bytes(&name, &bytes)
 }
 
@@ -223,7 +227,7 @@ fn parse_record(
     index: &[usize; 5],
 ) -> Result<(String, [f64; 4]), (&'static str, String)> {
     let serial = record.get(index[0]).unwrap_or("");
-    super::limits::check_serial(serial).map_err(|m| ("serial", m))?;
+    crate::station::limits::check_serial(serial).map_err(|m| ("serial", m))?;
     let mut values = [0.0; 4];
     for (k, value) in values.iter_mut().enumerate() {
         let field = COLUMNS[k + 1];
@@ -237,9 +241,9 @@ fn parse_record(
             return Err((field, format!("'{text}' is not finite")));
         }
         let check = if k == 0 {
-            super::limits::check_temperature_c(x)
+            crate::station::limits::check_temperature_c(x)
         } else {
-            super::limits::check_reading(x)
+            crate::station::limits::check_reading(x)
         };
         check.map_err(|m| (field, m))?;
         *value = x;

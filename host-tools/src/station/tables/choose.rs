@@ -4,8 +4,8 @@
 //! fewest temperature, thermometer (and raw-signal) nodes whose image (run with the runtime crate's code) stays
 //! within the allowance; then the smallest image wins.
 
-use super::image_eval::{ErrorStats, EvalError, evaluate, linspace};
-use super::table::{AxisKind, InterpKind, NumFormat, TableError, TableFrame, TablePlan};
+use crate::station::image_eval::{ErrorStats, EvalError, evaluate, linspace};
+use crate::station::table::{AxisKind, InterpKind, NumFormat, TableError, TableFrame, TablePlan};
 
 /// Most nodes tried per axis before giving up.
 pub const MAX_NODES: usize = 4096;
@@ -298,10 +298,10 @@ fn least_flash_first(x: &Candidate, y: &Candidate) -> std::cmp::Ordering {
 
 #[cfg(test)]
 mod tests {
-    use super::super::bound::tests::parts;
-    use super::super::model_shapes::shapes_for;
-    use super::super::scenario::Scenario;
     use super::*;
+    use crate::station::bound::tests::parts;
+    use crate::station::model_shapes::shapes_for;
+    use crate::station::scenario::Scenario;
 
     #[test]
     fn smallest_matches_a_linear_scan() {
@@ -428,7 +428,7 @@ mod tests {
         let mut part = parts(&Scenario::well_logger(), 1, 7).remove(0);
         // Mid-scale bow 8e-4 of span at 25 C, -4e-6 per K: largest at
         // -20 C, 8e-4 + 4e-6 * 45 = 9.8e-4, i.e. 980 ppm.
-        part.scenario.bow = Some(super::super::bow::Bow {
+        part.scenario.bow = Some(crate::station::bow::Bow {
             mid_rel: 8e-4,
             mid_rel_per_k: -4e-6,
         });

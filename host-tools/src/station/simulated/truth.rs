@@ -2,7 +2,7 @@
 //! effects the fitted model deliberately does NOT contain, so that comparing
 //! calibrations on simulated lots is not circular.
 //!
-//! Effects in the truth but not in the fitted model ([`super::part_model`]):
+//! Effects in the truth but not in the fitted model ([`crate::station::part_model`]):
 //! 1. **Another published resistivity model** ([`ResistivityTruth`]), never
 //!    the full model's incomplete ionization (Altermatt 2006) with the
 //!    Masetti/Arora mobility:
@@ -45,7 +45,7 @@
 //!    over -60..160 C, in fraction of span.
 //! 5. **Nonlinearity in the stimulus per part**: a terminal-based parabola in
 //!    the normalised stimulus (zero at both full-scale ends, like
-//!    [`super::bow::Bow::apparent`]) whose mid-scale deviation is drawn per
+//!    [`crate::station::bow::Bow::apparent`]) whose mid-scale deviation is drawn per
 //!    part (`Spread::nonlinearity_rel` +/- `nonlinearity_sd_rel`) and changes
 //!    linearly with temperature by a relative rate drawn per part around
 //!    `Spread::nonlinearity_per_k` with a one-sigma of 20 % of that mean
@@ -62,11 +62,11 @@
 //! Process spread: part doping, arm-to-arm doping and geometry mismatch,
 //! thickness (diaphragm or plate), Hall geometry factor, misalignment.
 
-use super::scenario::{ElementKind, Scenario};
 use crate::physics::constants::Q_C;
 use crate::physics::dopant::dopant_level;
 use crate::physics::mobility::{CaugheyThomasParams, caughey_thomas};
 use crate::physics::{self, Material, ModelError, Sample};
+use crate::station::scenario::{ElementKind, Scenario};
 use rand::Rng;
 use rand_distr::{Distribution, StandardNormal};
 
@@ -790,7 +790,7 @@ mod tests {
         // sample sd within 10 % of 3e-4 (sd of a sample sd ~ 1.6 %), the
         // per-K mean within 4 x 0.2 x 1.5e-3 / sqrt(2000) = 2.7e-5 of -1.5e-3.
         let sc = Scenario::well_logger().with_demo_truth();
-        let parts = super::super::simulate::draw_parts(&sc, 2000, 5);
+        let parts = crate::station::simulate::draw_parts(&sc, 2000, 5);
         let n = parts.len() as f64;
         let mean = parts.iter().map(|p| p.nonlinearity[0]).sum::<f64>() / n;
         let sd = (parts

@@ -204,7 +204,7 @@ pub fn fit<P: FitProblem + ?Sized>(problem: &P, initial: &[f64], options: FitOpt
     }
     // Bounded: a Jacobian of degenerate data (all-zero outputs, subnormal or
     // huge readings) must give "ill-conditioned", never a hang.
-    let condition = match super::linalg::singular_values(scaled) {
+    let condition = match crate::station::linalg::singular_values(scaled) {
         Some(sv) if n > 0 => {
             let smax = sv.iter().copied().fold(0.0, f64::max);
             let smin = sv.iter().copied().fold(f64::INFINITY, f64::min);

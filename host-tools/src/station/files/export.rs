@@ -5,8 +5,8 @@
 //! so equal inputs give byte-identical files.
 //!
 //! The Rust source and the C header carry the station's caution as a comment
-//! line ([`super::output::CAUTION`]) and, for an image made from a simulated
-//! part, a second one ([`super::output::SIMULATED_CAUTION`]). Intel HEX has
+//! line ([`crate::station::output::CAUTION`]) and, for an image made from a simulated
+//! part, a second one ([`crate::station::output::SIMULATED_CAUTION`]). Intel HEX has
 //! no comment record and a line that is not a record may be refused by a
 //! flashing tool, so a `.hex` carries no comment: check the part file's
 //! `scenario.simulated` (or the `table --json` report's `simulated`) before
@@ -88,9 +88,9 @@ pub fn export_with(
 
 /// The caution comment lines of an exported header, without comment markers.
 fn caution_lines(simulated: bool) -> Vec<&'static str> {
-    let mut lines = vec![super::output::CAUTION];
+    let mut lines = vec![crate::station::output::CAUTION];
     if simulated {
-        lines.push(super::output::SIMULATED_CAUTION);
+        lines.push(crate::station::output::SIMULATED_CAUTION);
     }
     lines
 }

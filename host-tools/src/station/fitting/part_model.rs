@@ -29,9 +29,9 @@
 //!   doping derivative (effective doping = nominal * exp(doping_shift)), and a
 //!   small linear residual term for packaging stress the physics leaves out.
 
-use super::curves::{OffsetShape, ShapeCurves};
-use super::design::model::DesignPartModel;
-use super::part_file::PartFile;
+use crate::station::curves::{OffsetShape, ShapeCurves};
+use crate::station::design::model::DesignPartModel;
+use crate::station::part_file::PartFile;
 
 /// Names of the fitted parameters, in [`PartParams::to_vec`] order.
 pub const PARAM_NAMES: [&str; 11] = [
@@ -171,7 +171,7 @@ impl PartModel<'_> {
     /// range the nearest end is returned (the firmware clamps the same way).
     pub fn temperature(&self, signal: f64) -> f64 {
         let c = self.curves;
-        super::design::model::bisect(&|t| self.signal(t) - signal, c.t0_c, c.t_max_c())
+        crate::station::design::model::bisect(&|t| self.signal(t) - signal, c.t0_c, c.t_max_c())
     }
 
     /// d(signal)/dT at `t_c`, per kelvin.
@@ -284,7 +284,7 @@ impl<'a> FittedModel<'a> {
 
 impl PartFile {
     /// The part's fitted model on `curves` (the full model's shapes of its
-    /// scenario, [`super::model_shapes::shapes_for`]).
+    /// scenario, [`crate::station::model_shapes::shapes_for`]).
     pub fn model<'a>(&'a self, curves: &'a ShapeCurves) -> FittedModel<'a> {
         match &self.design {
             Some(d) => DesignPartModel::new(&d.core, curves, &d.fit).into(),
@@ -299,8 +299,8 @@ impl PartFile {
 
 #[cfg(test)]
 mod tests {
-    use super::super::curves::ShapePoint;
     use super::*;
+    use crate::station::curves::ShapePoint;
 
     fn curves() -> ShapeCurves {
         ShapeCurves::build(

@@ -1,11 +1,11 @@
 //! Compensating recorded raw rows the way the firmware does, and the error of
 //! each row against its reference stimulus in ppm of span.
 
-use super::bow::Bow;
-use super::chamber::ChamberRow;
-use super::curves::ShapeCurves;
-use super::part_file::PartFile;
-use super::part_model::FittedModel;
+use crate::station::bow::Bow;
+use crate::station::chamber::ChamberRow;
+use crate::station::curves::ShapeCurves;
+use crate::station::part_file::PartFile;
+use crate::station::part_model::FittedModel;
 
 /// One compensated row.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -88,7 +88,7 @@ impl Compensation for ModelCompensation<'_> {
 }
 
 /// The usual-practice polynomial stored in the part file.
-pub struct PolyCompensation(pub super::polynomial::PolyCal);
+pub struct PolyCompensation(pub crate::station::polynomial::PolyCal);
 
 impl Compensation for PolyCompensation {
     fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {

@@ -3,13 +3,13 @@
 //! never touches the terminal), results in serial order whatever the thread
 //! scheduling.
 
-use super::calibrate::calibrate_part;
-use super::chamber::ChamberData;
-use super::curves::ShapeCurves;
-use super::design::DesignFile;
-use super::design::calibrate::calibrate_on_design;
-use super::part_file::PartFile;
-use super::scenario::Scenario;
+use crate::station::calibrate::calibrate_part;
+use crate::station::chamber::ChamberData;
+use crate::station::curves::ShapeCurves;
+use crate::station::design::DesignFile;
+use crate::station::design::calibrate::calibrate_on_design;
+use crate::station::part_file::PartFile;
+use crate::station::scenario::Scenario;
 use rayon::prelude::*;
 
 /// Receives the progress of a long step (called from worker threads).
@@ -46,7 +46,7 @@ pub fn calibrate_lot_with(
     design: Option<&DesignFile>,
     progress: &dyn Progress,
 ) -> Vec<PartFile> {
-    let groups: Vec<(&str, Vec<&super::chamber::ChamberRow>)> =
+    let groups: Vec<(&str, Vec<&crate::station::chamber::ChamberRow>)> =
         data.by_serial().into_iter().collect();
     progress.begin(groups.len(), "calibrating");
     let parts: Vec<PartFile> = groups

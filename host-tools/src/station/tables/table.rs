@@ -6,9 +6,9 @@
 //! `T = thermometer(signal)`; the columns hold the fitted model's offset in
 //! ADC codes and `lsb / sensitivity` in stimulus units per code.
 
-use super::bow::Bow;
-use super::part_file::PartFile;
-use super::part_model::FittedModel;
+use crate::station::bow::Bow;
+use crate::station::part_file::PartFile;
+use crate::station::part_model::FittedModel;
 use compensate::ImageBuilder;
 use compensate::image::{
     AxisSpec, ChannelAxis, GridSpec, MapSpec, QFormat, RawLimits, SignalKind, Unit,
