@@ -166,7 +166,7 @@ pub fn write_atomic_with(
         _ => PathBuf::from("."),
     };
     std::fs::create_dir_all(&dir).map_err(io)?;
-    remove_stale_temporaries(&dir);
+    remove_stale_temporaries_once(&dir);
     // The destination's extension follows `.tmp`: encoders that pick the
     // format from the name (PNG) see it.
     let suffix = match path.extension().and_then(|e| e.to_str()) {
@@ -191,6 +191,24 @@ pub fn write_atomic_with(
     tmp.as_file().sync_all().map_err(io)?;
     tmp.persist(path).map_err(|e| io(e.error))?;
     Ok(())
+}
+
+/// [`remove_stale_temporaries`] for the first write into `dir` in this
+/// process only: `calibrate` writes a thousand part files into one folder,
+/// and scanning it before each would cost a thousand directory listings.
+fn remove_stale_temporaries_once(dir: &Path) {
+    use std::collections::HashSet;
+    use std::sync::{Mutex, OnceLock};
+    static CLEANED: OnceLock<Mutex<HashSet<PathBuf>>> = OnceLock::new();
+    let key = std::path::absolute(dir).unwrap_or_else(|_| dir.to_path_buf());
+    let first = CLEANED
+        .get_or_init(|| Mutex::new(HashSet::new()))
+        .lock()
+        .map(|mut seen| seen.insert(key))
+        .unwrap_or(true);
+    if first {
+        remove_stale_temporaries(dir);
+    }
 }
 
 /// Removes `.semidrift-PID-*.tmp*` files in `dir` whose process no longer
