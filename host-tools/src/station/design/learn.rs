@@ -25,10 +25,10 @@ use super::super::curves::ShapeCurves;
 use super::super::scenario::Scenario;
 use super::basis::{BasisSpec, Family, MAX_BASIS, dot};
 use super::model::{
-    ALL_MODES, DesignCore, DesignPartModel, FamilyCurves, MAX_MODES, PartFit, fit_steps,
+    ALL_MODES, DesignCore, DesignPartModel, FamilyCurves, FamilyFit, MAX_MODES, PartFit, fit_rows,
     fit_thermometer, thermometer_reading,
 };
-use super::reduce::{SAME_STEP_K, Step, reduce};
+use super::reduce::{ReadFrame, SAME_STEP_K, Step, reduce, reduce_read};
 use nalgebra::{DMatrix, DVector};
 
 /// Fewest parts a qualification lot may have (modes and cross-validation
@@ -235,10 +235,34 @@ fn choose_lambda(
     parts: &[Vec<(f64, f64)>],
     scale: f64,
 ) -> f64 {
+    use rayon::prelude::*;
     let mut best = (f64::INFINITY, LAMBDAS[LAMBDAS.len() - 1]);
     for &lambda in &LAMBDAS {
-        let mut sse = 0.0;
-        for pts in parts {
+        // Per part in parallel, summed in order (the same bits every run).
+        let per_part: Vec<f64> = parts
+            .par_iter()
+            .map(|pts| part_loo_sse(basis, curves, f, pts, lambda, scale))
+            .collect();
+        let sse: f64 = per_part.iter().sum();
+        if sse < best.0 {
+            best = (sse, lambda);
+        }
+    }
+    best.1
+}
+
+/// Sum of squared leave-one-temperature-out errors of one part's ridge fit.
+fn part_loo_sse(
+    basis: &BasisSpec,
+    curves: &ShapeCurves,
+    f: Family,
+    pts: &[(f64, f64)],
+    lambda: f64,
+    scale: f64,
+) -> f64 {
+    let mut sse = 0.0;
+    {
+        {
             for k in 0..pts.len() {
                 let rest: Vec<(f64, f64)> = pts
                     .iter()
@@ -253,11 +277,8 @@ fn choose_lambda(
                 sse += if e.is_finite() { e * e } else { f64::INFINITY };
             }
         }
-        if sse < best.0 {
-            best = (sse, lambda);
-        }
     }
-    best.1
+    sse
 }
 
 /// Mean weights, mode weights, and (variance share, score sd) per mode.
@@ -406,10 +427,6 @@ type CvResults = Vec<(Vec<(f64, f64)>, f64, Option<PartFit>)>;
 /// part's thermometer mode coefficients.
 type PartWeights = (Vec<[Vec<f64>; 4]>, [f64; 4], Vec<Vec<f64>>, [f64; 4]);
 
-/// A part's offset, span and nonlinearity points, and its thermometer mode
-/// coefficients.
-type OutputPoints = ([Vec<(f64, f64)>; 3], Vec<f64>);
-
 /// One choice of the thermometer's mode count, cross-validated.
 struct AxisRun {
     score: f64,
@@ -549,6 +566,9 @@ impl Lot<'_> {
     /// Per-part basis weights of every family and the ridge weights, with
     /// output curves taken against the thermometer production would fit
     /// (`k_axis` modes, reference and modes from the plan's temperatures).
+    /// Two passes: the first takes each step's outputs as measured; the
+    /// second moves them to the step's read temperature along the part's
+    /// first-pass curves ([`super::reduce::reduce_read`]), as production does.
     fn part_weights(&self, k_axis: usize) -> PartWeights {
         let mut weights: Vec<[Vec<f64>; 4]> = self
             .therm_w
@@ -559,8 +579,7 @@ impl Lot<'_> {
         let mut noise = [self.therm_noise, 0.0, 0.0, 0.0];
         let (mut tcore, _) = self.core_from(None, &weights, lambdas, &[], noise);
         tcore.families[0].modes_used = k_axis;
-        let mut therm: Vec<Vec<f64>> = Vec::new();
-        let points: Vec<OutputPoints> = self
+        let therm_fits: Vec<FamilyFit> = self
             .parts
             .iter()
             .map(|p| {
@@ -570,36 +589,95 @@ impl Lot<'_> {
                     .copied()
                     .filter(|s| self.is_plan_t(s.chamber_c))
                     .collect();
-                let fit = fit_thermometer(&tcore, self.curves, &at_plan, k_axis);
-                let t_read: Vec<f64> = p
-                    .steps
-                    .iter()
-                    .map(|s| thermometer_reading(&tcore, self.curves, &fit, s.signal))
-                    .collect();
-                let on = |g: &dyn Fn(&Step) -> Option<f64>| -> Vec<(f64, f64)> {
-                    p.steps
-                        .iter()
-                        .zip(&t_read)
-                        .filter_map(|(s, &t)| g(s).map(|y| (t, y)))
-                        .collect()
-                };
-                (
-                    [
-                        on(&|s| Some(s.offset / self.span_scale)),
-                        on(&|s| Some(s.sens.abs().ln())),
-                        on(&|s| s.bow),
-                    ],
-                    fit.values.get(1..).unwrap_or(&[]).to_vec(),
-                )
+                fit_thermometer(&tcore, self.curves, &at_plan, k_axis)
             })
             .collect();
-        therm.extend(points.iter().map(|p| p.1.clone()));
+        let therm: Vec<Vec<f64>> = therm_fits
+            .iter()
+            .map(|f| f.values.get(1..).unwrap_or(&[]).to_vec())
+            .collect();
+        // A part's offset, span and nonlinearity points against its read
+        // temperature.
+        let points_of = |steps: &[Step], fit: &FamilyFit| -> [Vec<(f64, f64)>; 3] {
+            let t_read: Vec<f64> = steps
+                .iter()
+                .map(|s| thermometer_reading(&tcore, self.curves, fit, s.signal))
+                .collect();
+            let on = |g: &dyn Fn(&Step) -> Option<f64>| -> Vec<(f64, f64)> {
+                steps
+                    .iter()
+                    .zip(&t_read)
+                    .filter_map(|(s, &t)| g(s).map(|y| (t, y)))
+                    .collect()
+            };
+            [
+                on(&|s| Some(s.offset / self.span_scale)),
+                on(&|s| Some(s.sens.abs().ln())),
+                on(&|s| s.bow),
+            ]
+        };
+        let first: Vec<[Vec<(f64, f64)>; 3]> = self
+            .parts
+            .iter()
+            .zip(&therm_fits)
+            .map(|(p, fit)| points_of(&p.steps, fit))
+            .collect();
+        // First pass: each part's curves from its steps as measured.
+        let mut curves_1: Vec<[(f64, Vec<f64>); 3]> = vec![Default::default(); first.len()];
         for f in [Family::Offset, Family::Span, Family::Bow] {
-            let k = f.index();
-            let pts: Vec<Vec<(f64, f64)>> = points.iter().map(|p| p.0[k - 1].clone()).collect();
+            let k = f.index() - 1;
+            let pts: Vec<Vec<(f64, f64)>> = first.iter().map(|p| p[k].clone()).collect();
             let scale = data_scale(&pts);
             let lam = choose_lambda(&self.basis, self.curves, f, &pts, scale);
-            lambdas[k] = lam;
+            lambdas[f.index()] = lam;
+            for (c, p) in curves_1.iter_mut().zip(&pts) {
+                c[k] = ridge(&self.basis, self.curves, f, p, lam, scale);
+            }
+        }
+        // Second pass: steps in the read-temperature frame.
+        let points: Vec<[Vec<(f64, f64)>; 3]> = self
+            .parts
+            .iter()
+            .zip(&therm_fits)
+            .zip(&curves_1)
+            .map(|((p, fit), c1)| {
+                let slope = |f: Family, t: f64| {
+                    let w = &c1[f.index() - 1].1;
+                    if w.len() != self.basis.len(f) {
+                        return 0.0;
+                    }
+                    let h = 0.25;
+                    let mut b = [0.0; MAX_BASIS];
+                    self.basis.eval(self.curves, f, t + h, &mut b);
+                    let hi = dot(w, &b);
+                    self.basis.eval(self.curves, f, t - h, &mut b);
+                    (hi - dot(w, &b)) / (2.0 * h)
+                };
+                let frame = ReadFrame {
+                    t_of_signal: &|s| thermometer_reading(&tcore, self.curves, fit, s),
+                    slopes: &|t| {
+                        [
+                            self.span_scale * slope(Family::Offset, t),
+                            slope(Family::Span, t),
+                            slope(Family::Bow, t),
+                        ]
+                    },
+                };
+                let (steps, _) = reduce_read(&p.rows, self.fs, Some(&frame));
+                if steps.len() == p.steps.len() {
+                    points_of(&steps, fit)
+                } else {
+                    points_of(&p.steps, fit)
+                }
+            })
+            .collect();
+        for f in [Family::Offset, Family::Span, Family::Bow] {
+            let k = f.index();
+            let pts: Vec<Vec<(f64, f64)>> = points.iter().map(|p| p[k - 1].clone()).collect();
+            let scale = data_scale(&pts);
+            // The first pass's ridge weight: the frame moves the points by
+            // a few ppm of span, far less than what tells the weights apart.
+            let lam = lambdas[k];
             let (mut sse, mut cnt) = (0.0, 0usize);
             for (w, p) in weights.iter_mut().zip(&pts) {
                 let (r, fitted) = ridge(&self.basis, self.curves, f, p, lam, scale);
@@ -630,8 +708,7 @@ impl Lot<'_> {
             .map(|(p, core)| {
                 let prod: Vec<&ChamberRow> =
                     p.rows.iter().copied().filter(|r| self.in_plan(r)).collect();
-                let (steps, skipped) = reduce(&prod, self.fs);
-                let Ok(fit) = fit_steps(core, self.curves, steps, skipped, modes) else {
+                let Ok(fit) = fit_rows(core, self.curves, &prod, modes) else {
                     return (Vec::new(), f64::INFINITY, None);
                 };
                 let model = DesignPartModel::new(core, self.curves, &fit.families);

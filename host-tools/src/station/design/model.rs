@@ -13,7 +13,7 @@
 use super::super::chamber::ChamberRow;
 use super::super::curves::ShapeCurves;
 use super::basis::{BasisSpec, Family, MAX_BASIS, dot};
-use super::reduce::{Step, reduce};
+use super::reduce::{ReadFrame, Step, reduce, reduce_read};
 use nalgebra::{DMatrix, DVector};
 
 /// Most variation modes a design keeps per family.
@@ -232,8 +232,7 @@ pub fn fit_part_with(
     rows: &[&ChamberRow],
     modes: [usize; 4],
 ) -> Result<PartFit, DesignFitError> {
-    let (steps, skipped) = reduce(rows, core.stimulus_fs);
-    fit_steps(core, curves, steps, skipped, modes)
+    fit_rows(core, curves, rows, modes)
 }
 
 /// Fits one part's rows with the design's own mode counts.
@@ -256,14 +255,33 @@ impl DesignCore {
     }
 }
 
-/// [`fit_part_with`] on already reduced steps.
-pub fn fit_steps(
+/// Slopes of the design's curves before a part's own modes (lot mean plus
+/// the coupling to the part's thermometer coefficients `therm`) at `t_c`:
+/// d offset/dT in output units per K, d ln|sens|/dT and d bow/dT per K
+/// (central differences over +/-0.25 K, half the shapes' 0.5 K grid step).
+fn base_slopes(core: &DesignCore, curves: &ShapeCurves, therm: &[f64], t_c: f64) -> [f64; 3] {
+    let h = 0.25;
+    let slope = |f: Family| {
+        let w = base_weights(core.family(f), therm);
+        (core.curve(curves, f, &w, t_c + h) - core.curve(curves, f, &w, t_c - h)) / (2.0 * h)
+    };
+    [
+        core.span_scale * slope(Family::Offset),
+        slope(Family::Span),
+        if core.bow { slope(Family::Bow) } else { 0.0 },
+    ]
+}
+
+/// [`fit_part_with`]: the thermometer from the steps' mid-scale signals,
+/// then the output curves from steps reduced in the read-temperature frame
+/// of that thermometer (see [`super::reduce`]).
+pub fn fit_rows(
     core: &DesignCore,
     curves: &ShapeCurves,
-    steps: Vec<Step>,
-    skipped: Vec<(f64, String)>,
+    rows: &[&ChamberRow],
     modes: [usize; 4],
 ) -> Result<PartFit, DesignFitError> {
+    let (steps, skipped) = reduce(rows, core.stimulus_fs);
     if steps.len() < 2 {
         return Err(DesignFitError::TooFewTemperatures {
             temperatures: steps.len(),
@@ -282,11 +300,22 @@ pub fn fit_steps(
         )));
     }
     let (provisional, c0) = fit_thermometer_cond(core, curves, &steps, modes[0]);
+    let therm = provisional.values.get(1..).unwrap_or(&[]).to_vec();
+    let frame = ReadFrame {
+        t_of_signal: &|s| thermometer_reading(core, curves, &provisional, s),
+        slopes: &|t| base_slopes(core, curves, &therm, t),
+    };
+    let (framed, framed_skipped) = reduce_read(rows, core.stimulus_fs, Some(&frame));
+    // The frame moves outputs only; the same steps come back.
+    let (steps, skipped) = if framed.len() == steps.len() {
+        (framed, framed_skipped)
+    } else {
+        (steps, skipped)
+    };
     let read: Vec<f64> = steps
         .iter()
         .map(|s| thermometer_reading(core, curves, &provisional, s.signal))
         .collect();
-    let therm = provisional.values.get(1..).unwrap_or(&[]).to_vec();
     let pts = |g: &dyn Fn(&Step) -> Option<f64>| -> Vec<(f64, f64)> {
         steps
             .iter()
