@@ -153,7 +153,6 @@ pub fn smallest_plan(
         .into_iter()
         .filter(|&k| max[k] > 0 && !(k == 1 && axis == AxisKind::Signal))
         .collect();
-    let axes = searched.len();
     // A part whose nonlinearity alone exceeds the target cannot be served by
     // a 1-D table at any size: say so before the search walks every size up
     // to the limit.
@@ -164,41 +163,14 @@ pub fn smallest_plan(
     if !two_d && 0.9 * bow_ppm > target {
         return Err(unreachable(bow_ppm));
     }
-    let mut n = [0usize; 3];
-    for &k in &searched {
-        let found = smallest(target / axes as f64, max[k], &mut |j| {
-            let mut m = fine;
-            m[k] = j;
-            eval(plan(m))
-        })?;
-        n[k] = found.ok_or_else(|| unreachable(f64::NAN))?;
-    }
-    // The errors add at worst; usually they partly cancel, so shrink all
-    // together while the plan still meets the target, then grow if not.
-    let mut e = eval(plan(n))?;
-    while e > target {
-        if searched.iter().all(|&k| n[k] >= max[k]) {
-            return Err(unreachable(e));
-        }
-        for &k in &searched {
-            n[k] = (n[k] + n[k].div_ceil(10)).min(max[k]);
-        }
-        e = eval(plan(n))?;
-    }
-    loop {
-        let mut m = n;
-        for &k in &searched {
-            m[k] = (n[k] * 9 / 10).max(2);
-        }
-        if m == n {
-            break;
-        }
-        let e2 = eval(plan(m))?;
-        if e2 > target {
-            break;
-        }
-        (n, e) = (m, e2);
-    }
+    let (n, e) = joint_search(
+        &searched,
+        fine,
+        max,
+        target,
+        &mut |m| eval(plan(m)),
+        &unreachable,
+    )?;
     let p = plan(n);
     let bytes = frame
         .build(&p, serial, unit, frame.fs_hi - frame.fs_lo)?
@@ -208,6 +180,58 @@ pub fn smallest_plan(
         bytes,
         max_error_ppm: e,
     })
+}
+
+/// The node-count search of [`smallest_plan`] over the `searched` axes:
+/// each axis alone (the others at `fine`) against an equal share of
+/// `target`; then all grown together by a tenth while the errors together
+/// miss the target (up to `max`), and shrunk together by a tenth while the
+/// plan still meets it. Returns the counts and their error.
+fn joint_search(
+    searched: &[usize],
+    fine: [usize; 3],
+    max: [usize; 3],
+    target: f64,
+    eval: &mut dyn FnMut([usize; 3]) -> Result<f64, ChooseError>,
+    unreachable: &dyn Fn(f64) -> ChooseError,
+) -> Result<([usize; 3], f64), ChooseError> {
+    let axes = searched.len();
+    let mut n = [0usize; 3];
+    for &k in searched {
+        let found = smallest(target / axes as f64, max[k], &mut |j| {
+            let mut m = fine;
+            m[k] = j;
+            eval(m)
+        })?;
+        n[k] = found.ok_or_else(|| unreachable(f64::NAN))?;
+    }
+    // The errors add at worst; usually they partly cancel, so shrink all
+    // together while the plan still meets the target, then grow if not.
+    let mut e = eval(n)?;
+    while e > target {
+        if searched.iter().all(|&k| n[k] >= max[k]) {
+            return Err(unreachable(e));
+        }
+        for &k in searched {
+            n[k] = (n[k] + n[k].div_ceil(10)).min(max[k]);
+        }
+        e = eval(n)?;
+    }
+    loop {
+        let mut m = n;
+        for &k in searched {
+            m[k] = (n[k] * 9 / 10).max(2);
+        }
+        if m == n {
+            break;
+        }
+        let e2 = eval(m)?;
+        if e2 > target {
+            break;
+        }
+        (n, e) = (m, e2);
+    }
+    Ok((n, e))
 }
 
 /// Limits the chooser to one interpolation and/or one number format (a
@@ -302,6 +326,114 @@ mod tests {
     use crate::station::bound::tests::parts;
     use crate::station::model_shapes::shapes_for;
     use crate::station::scenario::Scenario;
+
+    /// [`joint_search`] on two axes with error `e`, target `target`, node
+    /// limit `max_1` on the second axis; (counts, error) or the error's best.
+    fn joint(
+        e: fn([usize; 3]) -> f64,
+        target: f64,
+        max_1: usize,
+    ) -> Result<([usize; 3], f64), f64> {
+        let unreachable = |best| ChooseError::Unreachable {
+            allowance_ppm: target,
+            best_ppm: best,
+        };
+        let mut calls = 0;
+        joint_search(
+            &[0, 1],
+            [FINE_NODES, FINE_NODES, 0],
+            [MAX_NODES, max_1, 0],
+            target,
+            &mut |m| {
+                calls += 1;
+                assert!(calls < 10_000, "search does not end");
+                Ok(e(m))
+            },
+            &unreachable,
+        )
+        .map_err(|err| match err {
+            ChooseError::Unreachable { best_ppm, .. } => best_ppm,
+            other => panic!("{other}"),
+        })
+    }
+
+    #[test]
+    fn joint_search_grows_all_axes_when_the_errors_together_miss() {
+        // e = 100/n0 + 100/n1, plus 5 when neither axis is at the fine
+        // count (errors that the separate searches cannot see). Target 10:
+        // each axis alone needs 100/j + 100/1024 <= 5, so j = 21. Together
+        // 9.52 + 5 > 10: grow by ceil(n/10): 24, 27, 30, 33, 37, 41, where
+        // 2 * 100/41 + 5 = 9.878 <= 10. Shrinking by a tenth gives 36:
+        // 10.56 > 10, so the search stops at 41.
+        fn e(m: [usize; 3]) -> f64 {
+            let cross = if m[0] < FINE_NODES && m[1] < FINE_NODES {
+                5.0
+            } else {
+                0.0
+            };
+            100.0 / m[0] as f64 + 100.0 / m[1] as f64 + cross
+        }
+        let (n, err) = joint(e, 10.0, MAX_NODES).unwrap();
+        assert_eq!(n, [41, 41, 0]);
+        assert_eq!(err, e(n));
+        // With the second axis limited to 24 nodes the first keeps growing
+        // alone: 100/n0 <= 10 - 5 - 100/24 = 0.833 first at n0 = 127 (33,
+        // 37, 41, 46, 51, 57, 63, 70, 77, 85, 94, 104, 115, 127).
+        let (n, _) = joint(e, 10.0, 24).unwrap();
+        assert_eq!(n, [127, 24, 0]);
+        // Limited to 20 nodes on the second axis, its own search fails
+        // (100/20 + 100/1024 > 5): unreachable, best unknown.
+        assert!(joint(e, 10.0, 20).unwrap_err().is_nan());
+        // A cross term of 9.99 (absent only while an axis sits at the fine
+        // count of a separate search) needs 100/n0 + 100/n1 <= 0.01, which
+        // even 4096 nodes on both axes miss: unreachable, with the error
+        // there. (The growth from 21 by tenths never lands on 1024.)
+        fn e2(m: [usize; 3]) -> f64 {
+            let cross = if m[0] != FINE_NODES && m[1] != FINE_NODES {
+                9.99
+            } else {
+                0.0
+            };
+            100.0 / m[0] as f64 + 100.0 / m[1] as f64 + cross
+        }
+        let best = joint(e2, 10.0, MAX_NODES).unwrap_err();
+        assert_eq!(best, e2([MAX_NODES, MAX_NODES, 0]));
+    }
+
+    #[test]
+    fn joint_search_accepts_an_error_equal_to_the_target() {
+        // f(n) = 0 at the fine count and beyond, 1 from 20 nodes, 5 below;
+        // e = f(n0) + f(n1) + 2 when neither axis is fine. Target 4: each
+        // axis alone needs f(j) <= 2, so j = 20; together 1 + 1 + 2 = 4
+        // meets the target exactly (no growth), and 18 nodes give 12.
+        fn f(n: usize) -> f64 {
+            if n >= FINE_NODES {
+                0.0
+            } else if n >= 20 {
+                1.0
+            } else {
+                5.0
+            }
+        }
+        fn e(m: [usize; 3]) -> f64 {
+            let cross = if m[0] < FINE_NODES && m[1] < FINE_NODES {
+                2.0
+            } else {
+                0.0
+            };
+            f(m[0]) + f(m[1]) + cross
+        }
+        assert_eq!(joint(e, 4.0, MAX_NODES).unwrap(), ([20, 20, 0], 4.0));
+        // g(n) = 1 from 20 nodes and 2 below: shrinking keeps the error at
+        // exactly the target 4 (2 + 2, no cross term), so the search goes
+        // down to two nodes on each axis (20, 18, 16, 14, 12, 10, 9, 8, 7,
+        // 6, 5, 4, 3, 2).
+        fn g(m: [usize; 3]) -> f64 {
+            let h = |n: usize| if n >= 20 { 1.0 } else { 2.0 };
+            h(m[0]) + h(m[1])
+        }
+        assert_eq!(joint(g, 4.0, MAX_NODES).unwrap(), ([2, 2, 0], 4.0));
+    }
 
     #[test]
     fn smallest_matches_a_linear_scan() {
