@@ -261,22 +261,18 @@ fn part_loo_sse(
     scale: f64,
 ) -> f64 {
     let mut sse = 0.0;
-    {
-        {
-            for k in 0..pts.len() {
-                let rest: Vec<(f64, f64)> = pts
-                    .iter()
-                    .enumerate()
-                    .filter(|(i, _)| *i != k)
-                    .map(|(_, p)| *p)
-                    .collect();
-                let (r, w) = ridge(basis, curves, f, &rest, lambda, scale);
-                let mut b = [0.0; MAX_BASIS];
-                basis.eval(curves, f, pts[k].0, &mut b);
-                let e = (r + dot(&w, &b) - pts[k].1) / scale;
-                sse += if e.is_finite() { e * e } else { f64::INFINITY };
-            }
-        }
+    for k in 0..pts.len() {
+        let rest: Vec<(f64, f64)> = pts
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| *i != k)
+            .map(|(_, p)| *p)
+            .collect();
+        let (r, w) = ridge(basis, curves, f, &rest, lambda, scale);
+        let mut b = [0.0; MAX_BASIS];
+        basis.eval(curves, f, pts[k].0, &mut b);
+        let e = (r + dot(&w, &b) - pts[k].1) / scale;
+        sse += if e.is_finite() { e * e } else { f64::INFINITY };
     }
     sse
 }
