@@ -63,7 +63,7 @@ cflags=(
     -Wa,-I,"$root/examples/firmware/data"
 )
 ldflags=(
-    -nostdlib -nostartfiles -Wl,--gc-sections
+    -nostdlib -nostartfiles -Wl,--gc-sections -Wl,-z,noexecstack
     -Wl,-T,"$root/examples/firmware/$memory" -Wl,-T,"$here/sections.ld"
 )
 for prog in "${programs[@]}"; do

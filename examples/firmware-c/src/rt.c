@@ -1,9 +1,13 @@
 /* Vector table, reset handler, fault handlers and semihosting (ARM
-   semihosting: BKPT 0xAB with the operation in r0 and its argument in r1;
-   SYS_WRITE0 prints a NUL-terminated string, SYS_EXIT ends the emulation). */
+   semihosting: BKPT 0xAB with the operation in r0 and a pointer to its
+   arguments in r1; SYS_OPEN of ":tt" gives the host's standard output,
+   SYS_WRITE writes to it, SYS_EXIT ends the emulation). */
 #include "rt.h"
 
-#define SYS_WRITE0 0x04
+#define SYS_OPEN 0x01
+#define SYS_WRITE 0x05
+/* SYS_OPEN mode "w": the console's standard output. */
+#define OPEN_MODE_W 4
 #define SYS_EXIT 0x18
 /* ADP_Stopped_ApplicationExit: QEMU exits with status 0. */
 #define ADP_APPLICATION_EXIT 0x20026
@@ -76,12 +80,19 @@ void sd_line_hex32(sd_line *l, uint32_t v)
     sd_line_str(l, text);
 }
 
+/* Handle of the host's standard output; -1 until opened. */
+static int stdout_handle = -1;
+
 void sd_line_print(sd_line *l)
 {
-    l->text[l->len] = '\0';
+    if (stdout_handle < 0) {
+        static const char tt[] = ":tt";
+        const uint32_t open_args[3] = {(uint32_t)tt, OPEN_MODE_W, sizeof tt - 1};
+        stdout_handle = semihost(SYS_OPEN, open_args);
+    }
     sd_line_str(l, "\n");
-    l->text[l->len] = '\0';
-    semihost(SYS_WRITE0, l->text);
+    const uint32_t write_args[3] = {(uint32_t)stdout_handle, (uint32_t)l->text, (uint32_t)l->len};
+    semihost(SYS_WRITE, write_args);
     l->len = 0;
 }
 
