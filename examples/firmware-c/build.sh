@@ -40,7 +40,7 @@ command -v arm-none-eabi-gcc >/dev/null 2>&1 || {
 
 cargo_args=(build --quiet --locked -p compensate-ffi --profile firmware-c --target "$target")
 out=$root/target/firmware-c/$target
-programs=(main)
+programs=(main bench flashuse flashref)
 target_dir=$root/target
 if [ "$selftest" = "--nopanic-selftest" ]; then
     # Its own cargo target dir, so the normal library is never replaced.

@@ -4,7 +4,7 @@
 use compensate::{FixedCompensator, TableView};
 
 use crate::state::{SdQState, TAG_Q, image_bytes, init, slot, slot_mut};
-use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, compensator_status, image_status};
+use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, image_status};
 
 /// One compensated integer sample.
 #[repr(C)]
@@ -49,11 +49,13 @@ pub unsafe extern "C" fn sd_q_init(
 ) -> SdStatus {
     // SAFETY: the caller's contract above covers both blocks.
     unsafe {
-        init(state, state_bytes, TAG_Q, || {
-            let bytes = image_bytes(image, image_len)?;
-            let view = TableView::parse_q(bytes).map_err(image_status)?;
-            FixedCompensator::new(&view).map_err(compensator_status)
-        })
+        init(
+            state,
+            state_bytes,
+            TAG_Q,
+            || TableView::parse_q(image_bytes(image, image_len)?).map_err(image_status),
+            FixedCompensator::new,
+        )
     }
 }
 

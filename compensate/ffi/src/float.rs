@@ -3,7 +3,7 @@
 use compensate::{Compensator, TableView};
 
 use crate::state::{SdF32State, TAG_F32, image_bytes, init, slot, slot_mut};
-use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, compensator_status, image_status};
+use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, image_status};
 
 /// One compensated f32 sample.
 #[repr(C)]
@@ -47,11 +47,13 @@ pub unsafe extern "C" fn sd_f32_init(
 ) -> SdStatus {
     // SAFETY: the caller's contract above covers both blocks.
     unsafe {
-        init(state, state_bytes, TAG_F32, || {
-            let bytes = image_bytes(image, image_len)?;
-            let view = TableView::parse(bytes).map_err(image_status)?;
-            Compensator::new(&view).map_err(compensator_status)
-        })
+        init(
+            state,
+            state_bytes,
+            TAG_F32,
+            || TableView::parse(image_bytes(image, image_len)?).map_err(image_status),
+            Compensator::new,
+        )
     }
 }
 

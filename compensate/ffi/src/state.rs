@@ -1,13 +1,13 @@
 //! The caller-owned state blocks and the checks every entry point makes on
 //! a state pointer before it reads through it.
 
-use core::mem::{align_of, size_of};
+use core::mem::{MaybeUninit, align_of, size_of};
 
-use compensate::{Compensator, FixedCompensator};
+use compensate::{Compensator, CompensatorError, FixedCompensator, TableView};
 
 use crate::status::{
     SD_ERR_LENGTH_RANGE, SD_ERR_MISALIGNED_STATE, SD_ERR_NOT_INITIALISED, SD_ERR_NULL_POINTER,
-    SD_ERR_STATE_TOO_SMALL, SD_OK, SdStatus,
+    SD_ERR_STATE_TOO_SMALL, SD_OK, SdStatus, compensator_status,
 };
 
 /// Alignment in bytes every state block needs (its address must be a
@@ -52,16 +52,18 @@ pub struct SdQState {
 #[repr(C)]
 pub(crate) struct Slot<C> {
     tag: u32,
-    pub(crate) comp: C,
+    comp: C,
 }
 
 /// Tag of a block that holds no compensator (written first by every init,
 /// so that a failed init leaves the block not initialised).
 const TAG_NONE: u32 = 0;
-/// Tag of a block filled by `sd_f32_init` ("SDF1" in ASCII, little-endian).
-pub(crate) const TAG_F32: u32 = u32::from_le_bytes(*b"SDF1");
-/// Tag of a block filled by `sd_q_init` ("SDQ1").
-pub(crate) const TAG_Q: u32 = u32::from_le_bytes(*b"SDQ1");
+/// Tag of a block filled by `sd_f32_init`. Tags have the byte pattern
+/// `0xXYXYXYXY`, which ARMv7-M compares with one instruction (a Thumb-2
+/// modified immediate), where another word needs two more to load.
+pub(crate) const TAG_F32: u32 = 0xF3F3_F3F3;
+/// Tag of a block filled by `sd_q_init`.
+pub(crate) const TAG_Q: u32 = 0xA9A9_A9A9;
 
 // The header's constants hold each compensator on the target being built,
 // and waste no more than the padding to the next alignment step.
@@ -77,16 +79,34 @@ const _: () = {
     assert!(align_of::<SdF32State>() == SD_STATE_ALIGN);
 };
 
-/// Null and alignment checks of a state pointer.
+/// Null and alignment checks of a state pointer; the common path is a
+/// shift and a compare with zero, each with a branch to one cold function.
 #[inline(always)]
 fn check_address<S>(state: *const S) -> Result<(), SdStatus> {
-    if state.is_null() {
-        return Err(SD_ERR_NULL_POINTER);
-    }
-    if state.addr() & (SD_STATE_ALIGN - 1) != 0 {
-        return Err(SD_ERR_MISALIGNED_STATE);
+    let addr = state.addr();
+    if addr & (SD_STATE_ALIGN - 1) != 0 || addr == 0 {
+        return Err(address_error(addr));
     }
     Ok(())
+}
+
+/// Which of the two address checks failed (off the common path).
+#[cold]
+#[inline(never)]
+fn address_error(addr: usize) -> SdStatus {
+    if addr == 0 {
+        SD_ERR_NULL_POINTER
+    } else {
+        SD_ERR_MISALIGNED_STATE
+    }
+}
+
+/// The status of a block whose tag is not the expected one (off the
+/// common path).
+#[cold]
+#[inline(never)]
+fn not_initialised() -> SdStatus {
+    SD_ERR_NOT_INITIALISED
 }
 
 /// The compensator in a state block filled by the init whose tag is `tag`.
@@ -105,7 +125,7 @@ pub(crate) unsafe fn slot<'s, S, C>(state: *const S, tag: u32) -> Result<&'s C, 
     // any bit pattern is a valid u32.
     let found = unsafe { core::ptr::addr_of!((*slot).tag).read() };
     if found != tag {
-        return Err(SD_ERR_NOT_INITIALISED);
+        return Err(not_initialised());
     }
     // SAFETY: only `init` writes `tag`, and only after writing a valid
     // `C` into the same block; the image the compensator borrows stays
@@ -124,7 +144,7 @@ pub(crate) unsafe fn slot_mut<'s, S, C>(state: *mut S, tag: u32) -> Result<&'s m
     // SAFETY: as in `slot`.
     let found = unsafe { core::ptr::addr_of!((*slot).tag).read() };
     if found != tag {
-        return Err(SD_ERR_NOT_INITIALISED);
+        return Err(not_initialised());
     }
     // SAFETY: as in `slot`; exclusive by the caller's contract.
     Ok(unsafe { &mut (*slot).comp })
@@ -149,8 +169,9 @@ pub(crate) unsafe fn image_bytes<'a>(image: *const u8, len: usize) -> Result<&'a
     Ok(unsafe { core::slice::from_raw_parts(image, len) })
 }
 
-/// Fills a state block: checks the block, marks it not initialised, makes
-/// the compensator with `make` and, on success, writes it with `tag`.
+/// Fills a state block: checks the block, marks it not initialised, gets
+/// the table view from `view`, builds the compensator with `new`, copies
+/// it into the block and writes `tag`.
 ///
 /// # Safety
 /// A non-null, aligned `state` must point to `state_bytes` writable bytes
@@ -159,7 +180,8 @@ pub(crate) unsafe fn init<S, C>(
     state: *mut S,
     state_bytes: usize,
     tag: u32,
-    make: impl FnOnce() -> Result<C, SdStatus>,
+    view: impl FnOnce() -> Result<TableView<'static>, SdStatus>,
+    new: fn(&TableView<'static>) -> Result<C, CompensatorError>,
 ) -> SdStatus {
     if let Err(e) = check_address(state) {
         return e;
@@ -171,12 +193,48 @@ pub(crate) unsafe fn init<S, C>(
     // SAFETY: non-null, aligned, and `state_bytes >= size_of::<S>()`
     // writable bytes hold a `Slot<C>` (compile-time assertion above).
     unsafe { core::ptr::addr_of_mut!((*slot).tag).write(TAG_NONE) };
-    match make() {
+    let view = match view() {
+        Ok(v) => v,
+        Err(e) => return e,
+    };
+    // Matched by reference, so that the compensator is copied once, from
+    // where `new` built it.
+    match &new(&view) {
         Ok(comp) => {
-            // SAFETY: as above; a whole `Slot<C>` is written at once.
-            unsafe { slot.write(Slot { tag, comp }) };
+            // SAFETY: as above; the tag is written after the compensator.
+            unsafe {
+                copy_words(comp, core::ptr::addr_of_mut!((*slot).comp));
+                core::ptr::addr_of_mut!((*slot).tag).write(tag);
+            }
             SD_OK
         }
-        Err(e) => e,
+        Err(e) => compensator_status(*e),
+    }
+}
+
+/// Copies `*src` to `dst` one 32-bit word at a time, in a loop.
+///
+/// A plain copy of a compensator (over 200 bytes) is a call to `memcpy`,
+/// which would link compiler-builtins' general `memcpy` and
+/// `__aeabi_memcpy4` (about 0.9 KiB of flash on a Cortex-M) into firmware
+/// that needs neither. Volatile accesses keep the compiler from turning
+/// the loop back into that call, and a word count it cannot see keeps it
+/// from unrolling the loop into more code than `memcpy` itself. It runs
+/// once per initialisation.
+///
+/// # Safety
+/// `dst` must be valid for writing a `T` and aligned for it.
+unsafe fn copy_words<T>(src: &T, dst: *mut T) {
+    const {
+        assert!(align_of::<T>() >= 4 && size_of::<T>().is_multiple_of(4));
+    }
+    let from = core::ptr::from_ref(src).cast::<MaybeUninit<u32>>();
+    let to = dst.cast::<MaybeUninit<u32>>();
+    let words = core::hint::black_box(size_of::<T>() / 4);
+    for k in 0..words.min(size_of::<T>() / 4) {
+        // SAFETY: both `T`s span `size_of::<T>() / 4` aligned words (the
+        // assertion above, and `k` stays below that count), and a
+        // `MaybeUninit` may hold a padding byte.
+        unsafe { to.add(k).write_volatile(from.add(k).read_volatile()) };
     }
 }

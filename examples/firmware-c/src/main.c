@@ -23,7 +23,8 @@ static int validate(const char *name, const uint8_t *image, size_t len, int q_on
 {
     sd_image_info info;
     sd_status rc = q_only ? sd_image_check_q(image, len, &info) : sd_image_check(image, len, &info);
-    sd_line l = {.len = 0};
+    sd_line l;
+    l.len = 0;
     sd_line_str(&l, "image ");
     sd_line_str(&l, name);
     if (rc == SD_OK) {
@@ -57,7 +58,8 @@ static uint8_t copy[COPY_BYTES];
 static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
 {
     if (len > COPY_BYTES) {
-        sd_line l = {.len = 0};
+        sd_line l;
+        l.len = 0;
         sd_line_str(&l, "error: image larger than the copy buffer");
         sd_line_print(&l);
         return 0;
@@ -70,7 +72,8 @@ static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
     sd_status init = sd_q_init(&refused, sizeof refused, copy, len);
     sd_reading_q r = {.value = 0, .flags = 0};
     sd_status sample = sd_q_compensate(&refused, 1000000, &r);
-    sd_line l = {.len = 0};
+    sd_line l;
+    l.len = 0;
     sd_line_str(&l, "corrupted init status=");
     sd_line_i32(&l, init);
     sd_line_str(&l, " (");
@@ -98,7 +101,8 @@ void sd_main(void)
     ok &= sd_f32_init(&floating, sizeof floating, sd_image_f32, f_len) == SD_OK;
 #endif
     if (!corrupt_copy_is_refused(sd_image_q, q_len)) {
-        sd_line l = {.len = 0};
+        sd_line l;
+        l.len = 0;
         sd_line_str(&l, "error: a corrupted image was not refused");
         sd_line_print(&l);
         ok = 0;
@@ -106,7 +110,8 @@ void sd_main(void)
 
     int32_t n = sd_stream_read(sd_stream_csv, samples, SD_STREAM_SAMPLES);
     if (n < 0) {
-        sd_line l = {.len = 0};
+        sd_line l;
+        l.len = 0;
         sd_line_str(&l, "error: well_level_stream.csv line ");
         sd_line_i32(&l, -n);
         sd_line_str(&l, ": expected raw_code,temp_code");
@@ -122,7 +127,8 @@ void sd_main(void)
         ok &= sd_q_compensate(&fixed, s.raw_code, &q) == SD_OK;
         ok &= sd_q_temperature_q(&fixed, &t_q) == SD_OK;
 
-        sd_line l = {.len = 0};
+        sd_line l;
+        l.len = 0;
         sd_line_str(&l, "sample ");
         sd_line_i32(&l, i);
         sd_line_str(&l, " raw=");
@@ -164,7 +170,8 @@ void sd_main(void)
         sd_line_u32(&l, tq);
         sd_line_print(&l);
     }
-    sd_line l = {.len = 0};
+    sd_line l;
+    l.len = 0;
     sd_line_str(&l, "done samples=");
     sd_line_i32(&l, n);
     sd_line_str(&l, ok ? " ok=true" : " ok=false");

@@ -98,7 +98,8 @@ void sd_line_print(sd_line *l)
 
 static void print_fault(const char *what)
 {
-    sd_line l = {.len = 0};
+    sd_line l;
+    l.len = 0;
     sd_line_str(&l, "error: ");
     sd_line_str(&l, what);
     sd_line_print(&l);
