@@ -8,7 +8,7 @@
 static int probe(const sd_probe_inputs *in)
 {
 #if defined(__ARM_FP)
-    static sd_f32_state state;
+    sd_f32_state state; /* on the stack, as the Rust probe's compensator */
     sd_reading_f32 r;
     uint8_t flags = 0;
     if (sd_f32_init(&state, sizeof state, in->image, in->image_len) != SD_OK ||
@@ -18,7 +18,7 @@ static int probe(const sd_probe_inputs *in)
     }
     volatile float value = r.value;
 #else
-    static sd_q_state state;
+    sd_q_state state; /* on the stack, as the Rust probe's compensator */
     sd_reading_q r;
     uint8_t flags = 0;
     if (sd_q_init(&state, sizeof state, in->image, in->image_len) != SD_OK ||
