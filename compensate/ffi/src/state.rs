@@ -32,8 +32,10 @@ pub const SD_Q_STATE_BYTES: usize = 464;
 
 /// Caller-owned storage of one f32 compensator: declare one (static, or on
 /// a stack that outlives its use) and pass its address and `sizeof` to
-/// `sd_f32_init`. Its contents are private; zero-filled storage reads as
-/// "not initialised".
+/// `sd_f32_init`. Its contents are private. Calls before the first
+/// successful init are refused by a tag word in the block: keep a block
+/// zero-filled until then (static storage is), since leftover stack
+/// contents could match the tag by chance.
 #[repr(C, align(8))]
 pub struct SdF32State {
     /// Private to the library.

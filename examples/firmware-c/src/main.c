@@ -12,6 +12,12 @@
 #include "rt.h"
 #include "semidrift_compensate.h"
 
+/* The header's constants describe the types the C compiler lays out. */
+_Static_assert(sizeof(sd_f32_state) == SD_F32_STATE_BYTES, "sd_f32_state size");
+_Static_assert(sizeof(sd_q_state) == SD_Q_STATE_BYTES, "sd_q_state size");
+_Static_assert(_Alignof(sd_f32_state) == SD_STATE_ALIGN, "sd_f32_state alignment");
+_Static_assert(_Alignof(sd_q_state) == SD_STATE_ALIGN, "sd_q_state alignment");
+
 static sd_q_state fixed;
 #if defined(__ARM_FP)
 static sd_f32_state floating;
