@@ -11,84 +11,22 @@
 //! message saying how to install them (scripts/install-prereqs.sh); it never
 //! skips silently.
 
+#[path = "common/qemu.rs"]
+mod qemu;
+
+use qemu::{TARGETS, require_tool, run_checked, run_qemu};
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Command;
 use std::sync::{Mutex, OnceLock};
-use std::time::Duration;
 
 /// Folder of the firmware package.
 fn firmware_dir() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/firmware")
 }
 
-/// Upper bound on one QEMU run. The demo firmware executes well under 1e8
-/// instructions (about a second of emulation); 60 s only catches a hang.
-const QEMU_TIMEOUT: Duration = Duration::from_secs(60);
-
-/// QEMU machine and CPU for a target triple, as in examples/firmware/.cargo/config.toml.
-fn machine(target: &str) -> (&'static str, &'static str) {
-    match target {
-        "thumbv7em-none-eabihf" => ("mps2-an386", "cortex-m4"),
-        "thumbv6m-none-eabi" => ("microbit", "cortex-m0"),
-        other => panic!("no QEMU machine for target {other}"),
-    }
-}
-
-fn require_tool(program: &str, arg: &str) {
-    match Command::new(program).arg(arg).output() {
-        Ok(o) if o.status.success() => {}
-        Ok(o) => panic!(
-            "`{program} {arg}` failed ({}): {}\nrun scripts/install-prereqs.sh",
-            o.status,
-            String::from_utf8_lossy(&o.stderr)
-        ),
-        Err(e) => panic!(
-            "`{program}` not found ({e}); the firmware tests need it: \
-             run scripts/install-prereqs.sh (Debian packages qemu-system-arm, binutils-arm-none-eabi)"
-        ),
-    }
-}
-
-/// A `cargo` command for the firmware package with the outer cargo's
-/// environment removed: the inner build must not inherit the outer target
-/// dir, flags or target, but keeps the same toolchain (RUSTUP_TOOLCHAIN).
+/// A `cargo` command for the firmware package (see [`qemu::inner_cargo`]).
 fn inner_cargo() -> Command {
-    let cargo = std::env::var_os("CARGO").unwrap_or_else(|| "cargo".into());
-    let mut cmd = Command::new(cargo);
-    cmd.current_dir(firmware_dir());
-    for (key, _) in std::env::vars_os() {
-        let Some(key) = key.to_str() else { continue };
-        let keep =
-            key == "CARGO_HOME" || key.starts_with("CARGO_NET_") || key.starts_with("CARGO_HTTP_");
-        if (key.starts_with("CARGO_") && !keep)
-            || matches!(
-                key,
-                "RUSTFLAGS"
-                    | "RUSTDOCFLAGS"
-                    | "RUSTC"
-                    | "RUSTC_WRAPPER"
-                    | "RUSTC_WORKSPACE_WRAPPER"
-                    | "RUSTDOC"
-            )
-        {
-            cmd.env_remove(key);
-        }
-    }
-    cmd
-}
-
-fn run_checked(cmd: &mut Command, what: &str) -> Output {
-    let out = cmd
-        .output()
-        .unwrap_or_else(|e| panic!("{what}: cannot start: {e}"));
-    assert!(
-        out.status.success(),
-        "{what} failed ({}):\n--- stdout\n{}\n--- stderr\n{}",
-        out.status,
-        String::from_utf8_lossy(&out.stdout),
-        String::from_utf8_lossy(&out.stderr)
-    );
-    out
+    qemu::inner_cargo(&firmware_dir())
 }
 
 /// Serialises the inner builds of this test process and remembers which
@@ -100,9 +38,6 @@ fn build_lock() -> std::sync::MutexGuard<'static, Vec<String>> {
         .lock()
         .unwrap_or_else(|e| e.into_inner())
 }
-
-/// Both firmware targets.
-const TARGETS: [&str; 2] = ["thumbv7em-none-eabihf", "thumbv6m-none-eabi"];
 
 /// Builds every firmware binary for both targets in release, in one cargo
 /// invocation so the two targets compile in parallel (once per test
@@ -138,28 +73,6 @@ fn build_firmware(target: &str) -> PathBuf {
     );
     built.extend(TARGETS.iter().map(|t| t.to_string()));
     dir
-}
-
-/// Runs `elf` under QEMU for `target` with `-icount` (as the cargo runner
-/// does), killed after [`QEMU_TIMEOUT`]; returns exit success and stdout.
-fn run_qemu(target: &str, elf: &Path) -> (bool, String, String) {
-    require_tool("qemu-system-arm", "--version");
-    require_tool("timeout", "--version");
-    let (machine, cpu) = machine(target);
-    let out = Command::new("timeout")
-        .arg(QEMU_TIMEOUT.as_secs().to_string())
-        .args(["qemu-system-arm", "-machine", machine, "-cpu", cpu])
-        .args(["-nographic", "-monitor", "none", "-serial", "null"])
-        .args(["-semihosting-config", "enable=on,target=native"])
-        .args(["-icount", "shift=0,align=off,sleep=off", "-kernel"])
-        .arg(elf)
-        .output()
-        .unwrap_or_else(|e| panic!("cannot start qemu-system-arm: {e}"));
-    (
-        out.status.success(),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
 }
 
 #[allow(dead_code)]

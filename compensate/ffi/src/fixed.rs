@@ -1,0 +1,175 @@
+//! The integer (Q format) compensator (parts without an FPU) through the
+//! C ABI: bit-exact with the host's verification.
+
+use compensate::{FixedCompensator, TableView};
+
+use crate::state::{SdQState, TAG_Q, image_bytes, init, slot, slot_mut};
+use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, image_status};
+
+/// One compensated integer sample.
+#[repr(C)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct SdReadingQ {
+    /// Measurand in the image's unit times 2^`frac_output` (see
+    /// `sd_image_info`); 0 when the state has no valid table.
+    pub value: i32,
+    /// `SD_FLAG_*` bits of this sample, including those of the last
+    /// temperature update; 0 means within the calibrated domain.
+    pub flags: u8,
+}
+
+/// Checks a Q-format table image and makes an integer compensator from it
+/// in the caller's state block. No f32 check of the image is linked for
+/// this call (a part without FPU pays for none).
+///
+/// `state` must be aligned to `SD_STATE_ALIGN` and `state_bytes` at least
+/// `SD_Q_STATE_BYTES` (pass `sizeof(sd_q_state)`). The image (`image_len`
+/// bytes at `image`, exactly the image's declared length) must stay in
+/// place and unchanged while the state is used.
+///
+/// Until the first temperature update, samples carry
+/// `SD_FLAG_NO_TEMPERATURE`.
+///
+/// Returns `SD_OK`, or `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE`,
+/// `SD_ERR_STATE_TOO_SMALL`, `SD_ERR_LENGTH_RANGE`, `SD_ERR_SHORT_BUFFER`,
+/// `SD_ERR_CORRUPT_IMAGE`, `SD_ERR_INVALID_IMAGE`, `SD_ERR_WRONG_FORMAT`
+/// (an f32 image), `SD_ERR_UNSUPPORTED`. On any error after the state
+/// checks the block reads as not initialised.
+///
+/// # Safety
+/// `state` (if non-null and aligned) must point to `state_bytes` writable
+/// bytes; `image` (if non-null) to `image_len` readable bytes that outlive
+/// every use of the state.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_q_init(
+    state: *mut SdQState,
+    state_bytes: usize,
+    image: *const u8,
+    image_len: usize,
+) -> SdStatus {
+    // SAFETY: the caller's contract above covers both blocks.
+    unsafe {
+        init(
+            state,
+            state_bytes,
+            TAG_Q,
+            || TableView::parse_q(image_bytes(image, image_len)?).map_err(image_status),
+            FixedCompensator::new,
+        )
+    }
+}
+
+/// Takes a new temperature signal and caches the coefficients at it.
+///
+/// `signal_q` is the temperature signal times 2^`frac_signal` (an image
+/// with a thermometer or over the signal axis; the demo images: the
+/// bridge's resistance as a 24-bit ADC code, `frac_signal` 0), or degrees
+/// Celsius times 2^`frac_temperature` (an image without thermometer). A
+/// signal outside the image's plausible range flags
+/// `SD_FLAG_SENSOR_FAULT`; outside the table axis it is clamped and flags
+/// `SD_FLAG_TEMPERATURE_CLAMPED`.
+///
+/// `flags` (may be NULL) receives the update's `SD_FLAG_*` bits.
+/// Returns `SD_OK`, `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+/// `SD_ERR_NOT_INITIALISED`.
+///
+/// # Safety
+/// `state` (if non-null and aligned) must point to an `sd_q_state` used by
+/// no one else during the call; `flags` (if non-null) to a writable byte.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_q_update_temperature(
+    state: *mut SdQState,
+    signal_q: i32,
+    flags: *mut u8,
+) -> SdStatus {
+    // SAFETY: the caller's contract above.
+    match unsafe { slot_mut::<_, FixedCompensator<'static>>(state, TAG_Q) } {
+        Ok(c) => {
+            let s = c.update_temperature(signal_q);
+            if !flags.is_null() {
+                // SAFETY: non-null and writable by the caller's contract.
+                unsafe { flags.write(s.bits()) };
+            }
+            SD_OK
+        }
+        Err(e) => e,
+    }
+}
+
+/// Compensates one raw sample (integer ADC code) at the cached
+/// temperature.
+///
+/// Writes the reading to `out`: the measurand times 2^`frac_output` and
+/// its `SD_FLAG_*` bits (rail codes flag `SD_FLAG_SENSOR_FAULT`, codes
+/// outside the calibrated range `SD_FLAG_INPUT_OUT_OF_RANGE`, a result
+/// beyond int32 `SD_FLAG_SATURATED`).
+/// Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `out`),
+/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+///
+/// # Safety
+/// `state` (if non-null and aligned) must point to an `sd_q_state` not
+/// written during the call; `out` (if non-null) to a writable
+/// `sd_reading_q`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_q_compensate(
+    state: *const SdQState,
+    raw: i32,
+    out: *mut SdReadingQ,
+) -> SdStatus {
+    if out.is_null() {
+        return SD_ERR_NULL_POINTER;
+    }
+    #[cfg(feature = "nopanic-selftest")]
+    selftest_panic(raw);
+    // SAFETY: the caller's contract above.
+    match unsafe { slot::<_, FixedCompensator<'static>>(state, TAG_Q) } {
+        Ok(c) => {
+            let r = c.compensate_sample(raw);
+            // SAFETY: non-null and writable by the caller's contract.
+            unsafe {
+                out.write(SdReadingQ {
+                    value: r.value,
+                    flags: r.status.bits(),
+                });
+            }
+            SD_OK
+        }
+        Err(e) => e,
+    }
+}
+
+/// A reachable panic, so that the no-panic link can be shown to fail.
+#[cfg(feature = "nopanic-selftest")]
+#[allow(clippy::panic)]
+fn selftest_panic(raw: i32) {
+    if core::hint::black_box(raw) == i32::MIN {
+        panic!("nopanic self-test");
+    }
+}
+
+/// Temperature of the cached coefficients in degrees Celsius times
+/// 2^`frac_temperature` (through the image's thermometer column, clamped to
+/// the table's ends on an image over the signal axis); costs one table
+/// look-up, so call it when the temperature is wanted, not per sample.
+///
+/// Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `t_q`),
+/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+///
+/// # Safety
+/// As `sd_q_compensate`; `t_q` (if non-null) must point to a writable
+/// int32.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_q_temperature_q(state: *const SdQState, t_q: *mut i32) -> SdStatus {
+    if t_q.is_null() {
+        return SD_ERR_NULL_POINTER;
+    }
+    // SAFETY: the caller's contract above.
+    match unsafe { slot::<_, FixedCompensator<'static>>(state, TAG_Q) } {
+        Ok(c) => {
+            // SAFETY: non-null and writable by the caller's contract.
+            unsafe { t_q.write(c.temperature_q()) };
+            SD_OK
+        }
+        Err(e) => e,
+    }
+}

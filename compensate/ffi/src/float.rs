@@ -1,0 +1,161 @@
+//! The f32 compensator (parts with an FPU) through the C ABI.
+
+use compensate::{Compensator, TableView};
+
+use crate::state::{SdF32State, TAG_F32, image_bytes, init, slot, slot_mut};
+use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, image_status};
+
+/// One compensated f32 sample.
+#[repr(C)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SdReadingF32 {
+    /// Measurand in the image's unit (for example bar); 0 when the input
+    /// was NaN or the state has no valid table.
+    pub value: f32,
+    /// `SD_FLAG_*` bits of this sample, including those of the last
+    /// temperature update; 0 means within the calibrated domain.
+    pub flags: u8,
+}
+
+/// Checks an f32 table image and makes an f32 compensator from it in the
+/// caller's state block.
+///
+/// `state` must be aligned to `SD_STATE_ALIGN` and `state_bytes` at least
+/// `SD_F32_STATE_BYTES` (pass `sizeof(sd_f32_state)`). The image
+/// (`image_len` bytes at `image`, exactly the image's declared length)
+/// must stay in place and unchanged while the state is used.
+///
+/// Until the first temperature update, samples carry
+/// `SD_FLAG_NO_TEMPERATURE`.
+///
+/// Returns `SD_OK`, or `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE`,
+/// `SD_ERR_STATE_TOO_SMALL`, `SD_ERR_LENGTH_RANGE`, `SD_ERR_SHORT_BUFFER`,
+/// `SD_ERR_CORRUPT_IMAGE`, `SD_ERR_INVALID_IMAGE`, `SD_ERR_WRONG_FORMAT`
+/// (a Q image), `SD_ERR_UNSUPPORTED`. On any error after the state checks
+/// the block reads as not initialised.
+///
+/// # Safety
+/// `state` (if non-null and aligned) must point to `state_bytes` writable
+/// bytes; `image` (if non-null) to `image_len` readable bytes that outlive
+/// every use of the state.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_f32_init(
+    state: *mut SdF32State,
+    state_bytes: usize,
+    image: *const u8,
+    image_len: usize,
+) -> SdStatus {
+    // SAFETY: the caller's contract above covers both blocks.
+    unsafe {
+        init(
+            state,
+            state_bytes,
+            TAG_F32,
+            || TableView::parse(image_bytes(image, image_len)?).map_err(image_status),
+            Compensator::new,
+        )
+    }
+}
+
+/// Takes a new temperature signal and caches the coefficients at it.
+///
+/// `signal` is in the image's temperature-signal unit: degrees Celsius,
+/// ohm, or ADC code (the demo images: the bridge's resistance as a 24-bit
+/// ADC code). A signal outside the image's plausible range flags
+/// `SD_FLAG_SENSOR_FAULT`; outside the table axis, it is clamped and flags
+/// `SD_FLAG_TEMPERATURE_CLAMPED`; NaN or infinite keeps the previous
+/// coefficients and flags `SD_FLAG_NAN_INPUT` until a valid update.
+///
+/// `flags` (may be NULL) receives the update's `SD_FLAG_*` bits.
+/// Returns `SD_OK`, `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+/// `SD_ERR_NOT_INITIALISED`.
+///
+/// # Safety
+/// `state` (if non-null and aligned) must point to an `sd_f32_state`
+/// used by no one else during the call; `flags` (if non-null) to a
+/// writable byte.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_f32_update_temperature(
+    state: *mut SdF32State,
+    signal: f32,
+    flags: *mut u8,
+) -> SdStatus {
+    // SAFETY: the caller's contract above.
+    match unsafe { slot_mut::<_, Compensator<'static>>(state, TAG_F32) } {
+        Ok(c) => {
+            let s = c.update_temperature(signal);
+            if !flags.is_null() {
+                // SAFETY: non-null and writable by the caller's contract.
+                unsafe { flags.write(s.bits()) };
+            }
+            SD_OK
+        }
+        Err(e) => e,
+    }
+}
+
+/// Compensates one raw sample (ADC code as a float, on the scale of the
+/// image's offset channel) at the cached temperature.
+///
+/// Writes the reading to `out`: the measurand in the image's unit and its
+/// `SD_FLAG_*` bits (rail codes flag `SD_FLAG_SENSOR_FAULT`, codes outside
+/// the calibrated range `SD_FLAG_INPUT_OUT_OF_RANGE`).
+/// Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `out`),
+/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+///
+/// # Safety
+/// `state` (if non-null and aligned) must point to an `sd_f32_state` not
+/// written during the call; `out` (if non-null) to a writable
+/// `sd_reading_f32`.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_f32_compensate(
+    state: *const SdF32State,
+    raw: f32,
+    out: *mut SdReadingF32,
+) -> SdStatus {
+    if out.is_null() {
+        return SD_ERR_NULL_POINTER;
+    }
+    // SAFETY: the caller's contract above.
+    match unsafe { slot::<_, Compensator<'static>>(state, TAG_F32) } {
+        Ok(c) => {
+            let r = c.compensate_sample(raw);
+            // SAFETY: non-null and writable by the caller's contract.
+            unsafe {
+                out.write(SdReadingF32 {
+                    value: r.value,
+                    flags: r.status.bits(),
+                });
+            }
+            SD_OK
+        }
+        Err(e) => e,
+    }
+}
+
+/// Temperature of the cached coefficients in degrees Celsius (through the
+/// image's thermometer column, clamped to the table's ends on an image over
+/// the signal axis); costs one table look-up, so call it when the
+/// temperature is wanted, not per sample.
+///
+/// Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `t_c`),
+/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+///
+/// # Safety
+/// As `sd_f32_compensate`; `t_c` (if non-null) must point to a writable
+/// float.
+#[unsafe(no_mangle)]
+pub unsafe extern "C" fn sd_f32_temperature_c(state: *const SdF32State, t_c: *mut f32) -> SdStatus {
+    if t_c.is_null() {
+        return SD_ERR_NULL_POINTER;
+    }
+    // SAFETY: the caller's contract above.
+    match unsafe { slot::<_, Compensator<'static>>(state, TAG_F32) } {
+        Ok(c) => {
+            // SAFETY: non-null and writable by the caller's contract.
+            unsafe { t_c.write(c.temperature_c()) };
+            SD_OK
+        }
+        Err(e) => e,
+    }
+}

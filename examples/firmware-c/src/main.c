@@ -1,0 +1,189 @@
+/* Demo firmware in C: checks the embedded table images through the C API
+   of the compensate crate, shows that a copy with one flipped bit is
+   refused, replays the recorded stream through the compensators and
+   prints one line per sample in the Rust firmware's format (f32 results as
+   bit patterns, integer results as raw int32), so that
+   tests/firmware_c_qemu.rs can require the two to agree bit for bit.
+   Exits 0 when every check passed, 1 otherwise.
+
+   On the Cortex-M4F both paths run; on the Cortex-M0 (no FPU) only the
+   integer one, as in the Rust firmware. */
+#include "data.h"
+#include "rt.h"
+#include "semidrift_compensate.h"
+
+/* The header's constants describe the types the C compiler lays out. */
+_Static_assert(sizeof(sd_f32_state) == SD_F32_STATE_BYTES, "sd_f32_state size");
+_Static_assert(sizeof(sd_q_state) == SD_Q_STATE_BYTES, "sd_q_state size");
+_Static_assert(_Alignof(sd_f32_state) == SD_STATE_ALIGN, "sd_f32_state alignment");
+_Static_assert(_Alignof(sd_q_state) == SD_STATE_ALIGN, "sd_q_state alignment");
+
+static sd_q_state fixed;
+#if defined(__ARM_FP)
+static sd_f32_state floating;
+#endif
+
+/* Prints "image NAME ok bytes=.. t_nodes=.. sig_nodes=.. channels=..", as
+   the Rust firmware, or the refusal; returns whether the image is valid. */
+static int validate(const char *name, const uint8_t *image, size_t len, int q_only)
+{
+    sd_image_info info;
+    sd_status rc = q_only ? sd_image_check_q(image, len, &info) : sd_image_check(image, len, &info);
+    sd_line l;
+    l.len = 0;
+    sd_line_str(&l, "image ");
+    sd_line_str(&l, name);
+    if (rc == SD_OK) {
+        sd_line_str(&l, " ok bytes=");
+        sd_line_u32(&l, (uint32_t)len);
+        sd_line_str(&l, " t_nodes=");
+        sd_line_u32(&l, info.temperature_nodes);
+        sd_line_str(&l, " sig_nodes=");
+        sd_line_u32(&l, info.thermometer_nodes);
+        sd_line_str(&l, " channels=");
+        sd_line_u32(&l, info.channels);
+    } else {
+        sd_line_str(&l, " rejected: status=");
+        sd_line_i32(&l, rc);
+        sd_line_str(&l, " (");
+        sd_line_str(&l, sd_status_name(rc));
+        sd_line_str(&l, ")");
+    }
+    sd_line_print(&l);
+    return rc == SD_OK;
+}
+
+/* Room for the damaged copy (the demo images are 364 bytes). */
+#define COPY_BYTES 2048
+static uint8_t copy[COPY_BYTES];
+
+/* Flips one bit in the middle of a copy of the Q image (a byte of the gain
+   column: only the CRC can catch it) and checks that initialising a state
+   from it fails with SD_ERR_CORRUPT_IMAGE and that the state then refuses
+   to compensate with SD_ERR_NOT_INITIALISED. */
+static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
+{
+    if (len > COPY_BYTES) {
+        sd_line l;
+        l.len = 0;
+        sd_line_str(&l, "error: image larger than the copy buffer");
+        sd_line_print(&l);
+        return 0;
+    }
+    for (size_t k = 0; k < len; k++) {
+        copy[k] = image[k];
+    }
+    copy[len / 2] ^= 0x10u;
+    static sd_q_state refused;
+    sd_status init = sd_q_init(&refused, sizeof refused, copy, len);
+    sd_reading_q r = {.value = 0, .flags = 0};
+    sd_status sample = sd_q_compensate(&refused, 1000000, &r);
+    sd_line l;
+    l.len = 0;
+    sd_line_str(&l, "corrupted init status=");
+    sd_line_i32(&l, init);
+    sd_line_str(&l, " (");
+    sd_line_str(&l, sd_status_name(init));
+    sd_line_str(&l, ") sample status=");
+    sd_line_i32(&l, sample);
+    sd_line_str(&l, " (");
+    sd_line_str(&l, sd_status_name(sample));
+    sd_line_str(&l, ")");
+    sd_line_print(&l);
+    return init == SD_ERR_CORRUPT_IMAGE && sample == SD_ERR_NOT_INITIALISED;
+}
+
+static sd_sample samples[SD_STREAM_SAMPLES];
+
+void sd_main(void)
+{
+    int ok = 1;
+    size_t q_len = (size_t)(sd_image_q_end - sd_image_q);
+    ok &= validate("q", sd_image_q, q_len, 1);
+    ok &= sd_q_init(&fixed, sizeof fixed, sd_image_q, q_len) == SD_OK;
+#if defined(__ARM_FP)
+    size_t f_len = (size_t)(sd_image_f32_end - sd_image_f32);
+    ok &= validate("f32", sd_image_f32, f_len, 0);
+    ok &= sd_f32_init(&floating, sizeof floating, sd_image_f32, f_len) == SD_OK;
+#endif
+    if (!corrupt_copy_is_refused(sd_image_q, q_len)) {
+        sd_line l;
+        l.len = 0;
+        sd_line_str(&l, "error: a corrupted image was not refused");
+        sd_line_print(&l);
+        ok = 0;
+    }
+
+    int32_t n = sd_stream_read(sd_stream_csv, samples, SD_STREAM_SAMPLES);
+    if (n < 0) {
+        sd_line l;
+        l.len = 0;
+        sd_line_str(&l, "error: well_level_stream.csv line ");
+        sd_line_i32(&l, -n);
+        sd_line_str(&l, ": expected raw_code,temp_code");
+        sd_line_print(&l);
+        sd_exit_failure();
+    }
+    for (int32_t i = 0; i < n; i++) {
+        const sd_sample s = samples[i];
+        uint8_t tq = 0;
+        sd_reading_q q = {.value = 0, .flags = 0};
+        int32_t t_q = 0;
+        ok &= sd_q_update_temperature(&fixed, s.temp_code, &tq) == SD_OK;
+        ok &= sd_q_compensate(&fixed, s.raw_code, &q) == SD_OK;
+        ok &= sd_q_temperature_q(&fixed, &t_q) == SD_OK;
+
+        sd_line l;
+        l.len = 0;
+        sd_line_str(&l, "sample ");
+        sd_line_i32(&l, i);
+        sd_line_str(&l, " raw=");
+        sd_line_i32(&l, s.raw_code);
+        sd_line_str(&l, " temp=");
+        sd_line_i32(&l, s.temp_code);
+#if defined(__ARM_FP)
+        uint8_t tf = 0;
+        sd_reading_f32 f = {.value = 0.0f, .flags = 0};
+        float t_c = 0.0f;
+        ok &= sd_f32_update_temperature(&floating, (float)s.temp_code, &tf) == SD_OK;
+        ok &= sd_f32_compensate(&floating, (float)s.raw_code, &f) == SD_OK;
+        ok &= sd_f32_temperature_c(&floating, &t_c) == SD_OK;
+        union {
+            float f;
+            uint32_t u;
+        } bits;
+        sd_line_str(&l, " t_c=");
+        bits.f = t_c;
+        sd_line_hex32(&l, bits.u);
+        sd_line_str(&l, " t_q=");
+        sd_line_i32(&l, t_q);
+        sd_line_str(&l, " f32=");
+        bits.f = f.value;
+        sd_line_hex32(&l, bits.u);
+        sd_line_str(&l, " f32_status=");
+        sd_line_u32(&l, f.flags);
+        sd_line_str(&l, " f32_temp_status=");
+        sd_line_u32(&l, tf);
+#else
+        sd_line_str(&l, " t_q=");
+        sd_line_i32(&l, t_q);
+#endif
+        sd_line_str(&l, " q=");
+        sd_line_i32(&l, q.value);
+        sd_line_str(&l, " q_status=");
+        sd_line_u32(&l, q.flags);
+        sd_line_str(&l, " q_temp_status=");
+        sd_line_u32(&l, tq);
+        sd_line_print(&l);
+    }
+    sd_line l;
+    l.len = 0;
+    sd_line_str(&l, "done samples=");
+    sd_line_i32(&l, n);
+    sd_line_str(&l, ok ? " ok=true" : " ok=false");
+    sd_line_print(&l);
+    if (ok) {
+        sd_exit_success();
+    }
+    sd_exit_failure();
+}
