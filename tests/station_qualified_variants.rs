@@ -131,11 +131,13 @@ fn qualified_design_holds_on_every_truth_variant() {
         // Every part of the lot is accepted on its design (none is an
         // outlier: they come from the same process as the qualification lot).
         assert_eq!(ok.len(), n, "{name}: {} of {n} accepted", ok.len());
-        // Margins for a 20-part draw over the 100-part figures in the
-        // docs/qualification.md (inside 34..57, -40..125 C 113..239 ppm): 2x inside, 2x
-        // overall, and the design beats the equal-memory polynomial 20x.
-        assert!(q.qualified.inside_ppm < 120.0, "{name}: {q:?}");
-        assert!(all(q.qualified) < 500.0, "{name}: {q:?}");
+        // The acceptance figures of a qualified design: 50 ppm of span
+        // inside -20..85 C, 400 ppm over -40..125 C. The 20 parts are the
+        // first 20 of the 100-part lot of docs/qualification.md (the same
+        // seed), whose worst are 29..40 and 111..231 ppm; the design
+        // beats the equal-memory polynomial 20x.
+        assert!(q.qualified.inside_ppm <= 50.0, "{name}: {q:?}");
+        assert!(all(q.qualified) <= 400.0, "{name}: {q:?}");
         assert!(
             all(q.polynomial) > 20.0 * all(q.qualified),
             "{name}: polynomial {:?} vs {:?}",
