@@ -1,0 +1,196 @@
+//! The end-of-line check's judgement: the device's results for a part's
+//! check rows against the host's `apply` on the same image (the runtime
+//! crate's own code) and against the reference stimulus.
+//!
+//! Agreement. A Q image must agree bit for bit: integer arithmetic has one
+//! right answer. An f32 image must agree within f32 rounding: this
+//! firmware and the host run the same Rust code in IEEE 754 binary32 with
+//! round-to-nearest, and rustc never fuses `a * b + c` unless asked, so the
+//! results are expected bit-identical (and were, on both emulated boards);
+//! the tolerance is for a part firmware built otherwise (another compiler,
+//! fused multiply-add, another order of the interpolation's operations).
+//! Such an evaluation may round each of the offset's two interpolation
+//! steps differently (half a unit in the last place each, so one unit of
+//! the offset, which the subtraction `raw - offset` passes on at full
+//! size), and the gain and the product once more each (a unit of the
+//! value's magnitude each): `|gain| ulp(max(|raw|, |offset|)) + 2
+//! ulp(|value|)`, [`value_tolerance`]. The temperature read interpolates
+//! the same way: two units of its own magnitude plus the change one unit
+//! of the signal makes, [`F32_TEMPERATURE_ULPS`]. Statuses must be equal.
+//! A table byte changed in flash moves the results by whole table steps,
+//! far outside these bounds.
+//!
+//! Error. The device's value against the row's reference stimulus, in ppm
+//! of span as `apply` computes it, judged against the part's budget for
+//! rows inside the table's domain (runtime status OK) and off the ADC's
+//! rails; other rows are reported, not judged.
+
+use crate::station::apply::{ImageCompensation, RuntimeInput, RuntimeOutput, status_text};
+use crate::station::chamber::ChamberRow;
+use crate::station::part_file::PartFile;
+use compensate::image::NumberFormat;
+
+/// Units in the last place of the temperature that a differently rounded
+/// f32 interpolation may move it, besides one unit of the signal: two
+/// roundings (product and sum of the linear step), half a unit each, and
+/// as much again for the position's own rounding.
+pub const F32_TEMPERATURE_ULPS: f32 = 2.0;
+
+/// The distance from `x` to the next f32 away from zero.
+pub fn ulp(x: f32) -> f32 {
+    let a = x.abs();
+    if !a.is_finite() {
+        return f32::NAN;
+    }
+    f32::from_bits(a.to_bits() + 1) - a
+}
+
+/// Tolerance on an f32 value: `|gain| ulp(max(|raw|, |offset|)) + 2 ulp(|value|)`.
+pub fn value_tolerance(raw: f32, offset: f32, gain: f32, value: f32) -> f32 {
+    gain.abs() * ulp(raw.abs().max(offset.abs())) + 2.0 * ulp(value)
+}
+
+/// One check row, as the device and the host computed it.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct EolRow {
+    /// 1-based line of the row in the check CSV.
+    pub line: usize,
+    /// Chamber set point, C.
+    pub chamber_c: f64,
+    /// Reference stimulus.
+    pub stimulus: f64,
+    /// The device's compensated value.
+    pub device_value: f64,
+    /// The host's (`apply`'s) value from the same image.
+    pub host_value: f64,
+    /// The device's temperature, C.
+    pub device_t_c: f64,
+    /// The host's temperature, C.
+    pub host_t_c: f64,
+    /// Value difference, device minus host: Q codes for a Q image, f32
+    /// units in the last place (signed distance in representable numbers)
+    /// for an f32 image.
+    pub value_diff: i64,
+    /// The device's runtime status flags (empty when OK).
+    #[serde(skip_serializing_if = "String::is_empty")]
+    pub device_status: String,
+    /// Whether device and host agree (bit for bit, or within the f32 tolerance).
+    pub agrees: bool,
+    /// Error of the device's value against the stimulus, ppm of span.
+    pub error_ppm: f64,
+    /// Whether the row is judged against the budget (status OK, off the rails).
+    pub judged: bool,
+}
+
+/// The end-of-line report (`eol --json`).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct EolReport {
+    /// Part serial.
+    pub serial: String,
+    /// `q` or `f32`.
+    pub number_format: &'static str,
+    /// Rows run.
+    pub rows: usize,
+    /// Rows where the device and the host disagree.
+    pub mismatches: usize,
+    /// Largest |value difference| (Q codes or f32 units in the last place).
+    pub max_value_diff: i64,
+    /// Rows judged against the budget.
+    pub judged: usize,
+    /// Worst |error| over the judged rows, ppm of span.
+    pub max_abs_error_ppm: f64,
+    /// The part's budget, ppm of span.
+    pub budget_ppm: f64,
+    /// No mismatch and every judged row within budget (and at least one judged).
+    pub pass: bool,
+    /// Every row.
+    pub row_results: Vec<EolRow>,
+}
+
+/// Signed distance between two f32 in representable numbers.
+fn ordered(x: f32) -> i64 {
+    let b = i64::from(x.to_bits() as i32);
+    if b < 0 { i64::from(i32::MIN) - b } else { b }
+}
+
+/// Compares the device's `device` results for `rows` (run with `inputs`)
+/// with the host's, and the device's values with the stimulus.
+pub fn judge(
+    part: &PartFile,
+    image: &ImageCompensation,
+    rows: &[&ChamberRow],
+    inputs: &[RuntimeInput],
+    device: &[RuntimeOutput],
+) -> EolReport {
+    let fs = part.scenario.fs_width();
+    let budget = part.scenario.budget_ppm;
+    let q = image.format() == NumberFormat::Q;
+    let mut out = Vec::with_capacity(rows.len());
+    for ((r, input), dev) in rows.iter().zip(inputs).zip(device) {
+        let host = image.run(*input);
+        let (dv, dt) = image.decode(*dev);
+        let (hv, ht, agrees, diff) = match host {
+            None => (f64::NAN, f64::NAN, false, i64::MAX),
+            Some(h) => {
+                let (hv, ht) = image.decode(h);
+                if q {
+                    let diff = i64::from(dev.value_word as i32) - i64::from(h.value_word as i32);
+                    (hv, ht, *dev == h, diff)
+                } else {
+                    let (dvf, hvf) = (
+                        f32::from_bits(dev.value_word),
+                        f32::from_bits(h.value_word),
+                    );
+                    let (dtf, htf) = (
+                        f32::from_bits(dev.temperature_word),
+                        f32::from_bits(h.temperature_word),
+                    );
+                    let (offset, gain) = image.coefficients(*input);
+                    let raw = f32::from_bits(input.raw_word);
+                    let t_step = image.temperature_step(*input);
+                    let value_ok = dv == hv
+                        || (dvf - hvf).abs() <= value_tolerance(raw, offset, gain, hvf);
+                    let t_ok = dt == ht
+                        || (dtf - htf).abs()
+                            <= F32_TEMPERATURE_ULPS * ulp(htf) + t_step;
+                    let same_status = dev.status_bits == h.status_bits;
+                    (hv, ht, value_ok && t_ok && same_status, ordered(dvf) - ordered(hvf))
+                }
+            }
+        };
+        let error_ppm = (dv - r.stimulus) / fs * 1e6;
+        let judged = dev.status_bits == 0 && !part.scenario.output_adc.at_rail(r.output);
+        out.push(EolRow {
+            line: r.line,
+            chamber_c: r.chamber_c,
+            stimulus: r.stimulus,
+            device_value: dv,
+            host_value: hv,
+            device_t_c: dt,
+            host_t_c: ht,
+            value_diff: diff,
+            device_status: status_text(dev.status_bits),
+            agrees,
+            error_ppm,
+            judged,
+        });
+    }
+    let mismatches = out.iter().filter(|r| !r.agrees).count() + rows.len().abs_diff(device.len());
+    let judged: Vec<&EolRow> = out.iter().filter(|r| r.judged).collect();
+    let max = judged
+        .iter()
+        .fold(0.0f64, |m, r| m.max(r.error_ppm.abs()));
+    let pass = mismatches == 0 && !judged.is_empty() && judged.iter().all(|r| r.error_ppm.abs() <= budget);
+    EolReport {
+        serial: part.serial.clone(),
+        number_format: if q { "q" } else { "f32" },
+        rows: out.len(),
+        mismatches,
+        max_value_diff: out.iter().map(|r| r.value_diff.abs()).max().unwrap_or(0),
+        judged: judged.len(),
+        max_abs_error_ppm: max,
+        budget_ppm: budget,
+        pass,
+        row_results: out,
+    }
+}
