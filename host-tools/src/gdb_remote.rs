@@ -426,6 +426,18 @@ impl Remote {
         }
     }
 
+    /// Executes one instruction (`s`) and waits for the stop.
+    pub fn step(&mut self) -> Result<(), RemoteError> {
+        let reply = self.request("single step", b"s")?;
+        match reply.first() {
+            Some(b'S' | b'T') => Ok(()),
+            _ => Err(RemoteError::Refused {
+                step: "single step".into(),
+                reply: String::from_utf8_lossy(&reply).into_owned(),
+            }),
+        }
+    }
+
     /// Lets the target run (`c`) and waits up to `timeout` for it to stop
     /// (a breakpoint or a signal). A target that exits (`W`/`X` replies) or
     /// does not stop in time is an error naming `step`.

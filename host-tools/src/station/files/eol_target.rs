@@ -179,6 +179,8 @@ pub struct DeviceRun {
 struct Mailbox<'a> {
     remote: &'a mut Remote,
     symbols: FirmwareSymbols,
+    /// Breakpoint type in use at the ready function.
+    breakpoint: u8,
 }
 
 impl Mailbox<'_> {
@@ -214,7 +216,15 @@ impl Mailbox<'_> {
     }
 
     /// Runs the core to its next halt, which must be the ready function.
+    /// Halted on the breakpoint itself, it first steps off it with the
+    /// breakpoint removed (a server stops again at once otherwise).
     fn run_to_ready(&mut self, step: &str) -> Result<(), EolTargetError> {
+        if self.remote.read_pc()? == self.symbols.ready {
+            self.remote
+                .remove_breakpoint(self.symbols.ready, self.breakpoint)?;
+            self.remote.step()?;
+            self.breakpoint = self.remote.insert_breakpoint(self.symbols.ready)?;
+        }
         self.remote.continue_until_stop(step, RUN_TIMEOUT)?;
         let pc = self.remote.read_pc()?;
         if pc != self.symbols.ready {
@@ -253,6 +263,7 @@ pub fn run_rows(
     let mut mb = Mailbox {
         remote: &mut remote,
         symbols,
+        breakpoint,
     };
     // From reset (or wherever it was) to the ready function: the firmware
     // has then filled its identification words.
@@ -319,6 +330,7 @@ pub fn run_rows(
             status_bits: w[2] as u8,
         }));
     }
+    let breakpoint = mb.breakpoint;
     remote.remove_breakpoint(symbols.ready, breakpoint)?;
     Ok(DeviceRun {
         outputs,
