@@ -441,7 +441,11 @@ impl Remote {
     /// Lets the target run (`c`) and waits up to `timeout` for it to stop
     /// (a breakpoint or a signal). A target that exits (`W`/`X` replies) or
     /// does not stop in time is an error naming `step`.
-    pub fn continue_until_stop(&mut self, step: &str, timeout: Duration) -> Result<(), RemoteError> {
+    pub fn continue_until_stop(
+        &mut self,
+        step: &str,
+        timeout: Duration,
+    ) -> Result<(), RemoteError> {
         self.send_packet(step, b"c")?;
         let deadline = Instant::now() + timeout;
         let reply = loop {

@@ -82,7 +82,8 @@ pub fn run(args: EolArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let elf_shown = args.firmware.display().to_string();
     let elf = read_capped(&args.firmware, MAX_ELF_BYTES, "firmware ELF")
         .map_err(|m| CliError::Input(format!("{elf_shown}: {m}")))?;
-    let symbols = firmware_symbols(&elf).map_err(|e| CliError::Input(format!("{elf_shown}: {e}")))?;
+    let symbols =
+        firmware_symbols(&elf).map_err(|e| CliError::Input(format!("{elf_shown}: {e}")))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
     super::report_rows(&data);
     if let Some(e) = data.errors.first() {

@@ -137,10 +137,7 @@ pub fn judge(
                     let diff = i64::from(dev.value_word as i32) - i64::from(h.value_word as i32);
                     (hv, ht, *dev == h, diff)
                 } else {
-                    let (dvf, hvf) = (
-                        f32::from_bits(dev.value_word),
-                        f32::from_bits(h.value_word),
-                    );
+                    let (dvf, hvf) = (f32::from_bits(dev.value_word), f32::from_bits(h.value_word));
                     let (dtf, htf) = (
                         f32::from_bits(dev.temperature_word),
                         f32::from_bits(h.temperature_word),
@@ -148,13 +145,17 @@ pub fn judge(
                     let (offset, gain) = image.coefficients(*input);
                     let raw = f32::from_bits(input.raw_word);
                     let t_step = image.temperature_step(*input);
-                    let value_ok = dv == hv
-                        || (dvf - hvf).abs() <= value_tolerance(raw, offset, gain, hvf);
-                    let t_ok = dt == ht
-                        || (dtf - htf).abs()
-                            <= F32_TEMPERATURE_ULPS * ulp(htf) + t_step;
+                    let value_ok =
+                        dv == hv || (dvf - hvf).abs() <= value_tolerance(raw, offset, gain, hvf);
+                    let t_ok =
+                        dt == ht || (dtf - htf).abs() <= F32_TEMPERATURE_ULPS * ulp(htf) + t_step;
                     let same_status = dev.status_bits == h.status_bits;
-                    (hv, ht, value_ok && t_ok && same_status, ordered(dvf) - ordered(hvf))
+                    (
+                        hv,
+                        ht,
+                        value_ok && t_ok && same_status,
+                        ordered(dvf) - ordered(hvf),
+                    )
                 }
             }
         };
@@ -177,10 +178,9 @@ pub fn judge(
     }
     let mismatches = out.iter().filter(|r| !r.agrees).count() + rows.len().abs_diff(device.len());
     let judged: Vec<&EolRow> = out.iter().filter(|r| r.judged).collect();
-    let max = judged
-        .iter()
-        .fold(0.0f64, |m, r| m.max(r.error_ppm.abs()));
-    let pass = mismatches == 0 && !judged.is_empty() && judged.iter().all(|r| r.error_ppm.abs() <= budget);
+    let max = judged.iter().fold(0.0f64, |m, r| m.max(r.error_ppm.abs()));
+    let pass =
+        mismatches == 0 && !judged.is_empty() && judged.iter().all(|r| r.error_ppm.abs() <= budget);
     EolReport {
         serial: part.serial.clone(),
         number_format: if q { "q" } else { "f32" },

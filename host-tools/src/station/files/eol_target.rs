@@ -162,6 +162,25 @@ pub fn firmware_symbols(elf: &[u8]) -> Result<FirmwareSymbols, EolTargetError> {
     })
 }
 
+/// Refuses `count` words from word `first` unless all lie inside the
+/// mailbox symbol's range: the only memory `run_rows` writes.
+pub fn check_in_mailbox(
+    symbols: &FirmwareSymbols,
+    first: u32,
+    count: usize,
+) -> Result<(), EolTargetError> {
+    let end = u64::from(first) + count as u64;
+    if end * 4 > u64::from(symbols.mailbox_bytes) {
+        return Err(EolTargetError::OutsideMailbox {
+            mailbox: symbols.mailbox,
+            mailbox_bytes: symbols.mailbox_bytes,
+            first,
+            end,
+        });
+    }
+    Ok(())
+}
+
 /// What the device computed, and how it was asked.
 #[derive(Debug, Clone)]
 pub struct DeviceRun {
@@ -200,15 +219,7 @@ impl Mailbox<'_> {
 
     /// Writes words from `first`, refusing anything past the mailbox.
     fn write(&mut self, first: u32, words: &[u32]) -> Result<(), EolTargetError> {
-        let end = u64::from(first) + words.len() as u64;
-        if end * 4 > u64::from(self.symbols.mailbox_bytes) {
-            return Err(EolTargetError::OutsideMailbox {
-                mailbox: self.symbols.mailbox,
-                mailbox_bytes: self.symbols.mailbox_bytes,
-                first,
-                end,
-            });
-        }
+        check_in_mailbox(&self.symbols, first, words.len())?;
         let bytes: Vec<u8> = words.iter().flat_map(|w| w.to_le_bytes()).collect();
         self.remote
             .write_memory(self.word_address(first), &bytes)
@@ -274,7 +285,11 @@ pub fn run_rows(
     let at = |i: u32| head[i as usize];
     let (magic, version, capacity) = (at(MAGIC), at(VERSION), at(ROW_CAPACITY));
     let fits = u64::from(INPUTS + 5 * capacity) * 4 <= u64::from(symbols.mailbox_bytes);
-    if magic != MAGIC_WORD || version != VERSION_WORD || capacity == 0 || capacity > MAX_CAPACITY || !fits
+    if magic != MAGIC_WORD
+        || version != VERSION_WORD
+        || capacity == 0
+        || capacity > MAX_CAPACITY
+        || !fits
     {
         return Err(EolTargetError::NoFirmware {
             mailbox: symbols.mailbox,
@@ -338,4 +353,41 @@ pub fn run_rows(
         capacity,
         breakpoint,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn writes_stay_inside_the_mailbox() {
+        let symbols = FirmwareSymbols {
+            mailbox: 0x2000_0000,
+            mailbox_bytes: 40,
+            ready: 0x100,
+        };
+        // 10 words fit exactly; one more word, or a start past the end, does not.
+        assert!(check_in_mailbox(&symbols, 0, 10).is_ok());
+        assert!(check_in_mailbox(&symbols, 9, 1).is_ok());
+        assert!(matches!(
+            check_in_mailbox(&symbols, 9, 2),
+            Err(EolTargetError::OutsideMailbox { end: 11, .. })
+        ));
+        assert!(check_in_mailbox(&symbols, u32::MAX, 1).is_err());
+    }
+
+    #[test]
+    fn symbols_come_only_from_an_arm_elf_with_both_names() {
+        let not_elf = firmware_symbols(b"SDRT not an ELF");
+        assert!(matches!(not_elf, Err(EolTargetError::Symbols(m)) if m.contains("not an ELF")));
+        // This test executable is an ELF, but not a 32-bit ARM one.
+        if cfg!(target_os = "linux") {
+            let me = std::fs::read(std::env::current_exe().unwrap()).unwrap();
+            let host = firmware_symbols(&me);
+            assert!(
+                matches!(&host, Err(EolTargetError::Symbols(m)) if m.contains("not for 32-bit ARM")),
+                "{host:?}"
+            );
+        }
+    }
 }
