@@ -109,6 +109,12 @@ fn flash_read_back_and_faults_on_both_boards() {
         let report: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
         assert_eq!(report["bytes"], image.len(), "{machine}");
         assert_eq!(report["written"], true);
+        // The override is on stderr and in the report.
+        assert_eq!(
+            report["overrides"],
+            serde_json::json!(["--allow-simulated"])
+        );
+        assert!(String::from_utf8_lossy(&o.stderr).contains("made from simulated data"));
         // The target's memory holds the image (read with our own client).
         let mut r = Remote::connect(&server).unwrap();
         r.halt().unwrap();

@@ -97,7 +97,10 @@ fn reply(result: u32, args: core::fmt::Arguments) {
     };
     let _ = m.write_fmt(args);
     for (k, w) in m.bytes.chunks_exact(4).enumerate() {
-        set(mb::MESSAGE + k, u32::from_le_bytes([w[0], w[1], w[2], w[3]]));
+        set(
+            mb::MESSAGE + k,
+            u32::from_le_bytes([w[0], w[1], w[2], w[3]]),
+        );
     }
     set(mb::RESULT, result);
 }

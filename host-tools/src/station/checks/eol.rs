@@ -17,6 +17,10 @@
 //! ulp(|value|)`, [`value_tolerance`]. The temperature read interpolates
 //! the same way: two units of its own magnitude plus the change one unit
 //! of the signal makes, [`F32_TEMPERATURE_ULPS`]. Statuses must be equal.
+//! The bound is derived for the offset-gain pipeline (what linear and
+//! cubic images without quadratic channel or 2-D correction run); the
+//! quadratic and 2-D terms add roundings of small corrections, which a
+//! firmware built otherwise could push past it on such images.
 //! A table byte changed in flash moves the results by whole table steps,
 //! far outside these bounds.
 //!
@@ -48,6 +52,12 @@ pub fn ulp(x: f32) -> f32 {
 /// Tolerance on an f32 value: `|gain| ulp(max(|raw|, |offset|)) + 2 ulp(|value|)`.
 pub fn value_tolerance(raw: f32, offset: f32, gain: f32, value: f32) -> f32 {
     gain.abs() * ulp(raw.abs().max(offset.abs())) + 2.0 * ulp(value)
+}
+
+/// Whether a device's f32 result agrees with the host's: the same bits, or
+/// within `tolerance` (never for NaN).
+pub fn f32_agrees(device: f32, host: f32, tolerance: f32) -> bool {
+    device.to_bits() == host.to_bits() || (device - host).abs() <= tolerance
 }
 
 /// One check row, as the device and the host computed it.
@@ -107,7 +117,8 @@ pub struct EolReport {
     pub row_results: Vec<EolRow>,
 }
 
-/// Signed distance between two f32 in representable numbers.
+/// Position of an f32 in the ordered sequence of f32 values (both zeros
+/// at 0): differences are distances in units in the last place.
 fn ordered(x: f32) -> i64 {
     let b = i64::from(x.to_bits() as i32);
     if b < 0 { i64::from(i32::MIN) - b } else { b }
@@ -145,10 +156,8 @@ pub fn judge(
                     let (offset, gain) = image.coefficients(*input);
                     let raw = f32::from_bits(input.raw_word);
                     let t_step = image.temperature_step(*input);
-                    let value_ok =
-                        dv == hv || (dvf - hvf).abs() <= value_tolerance(raw, offset, gain, hvf);
-                    let t_ok =
-                        dt == ht || (dtf - htf).abs() <= F32_TEMPERATURE_ULPS * ulp(htf) + t_step;
+                    let value_ok = f32_agrees(dvf, hvf, value_tolerance(raw, offset, gain, hvf));
+                    let t_ok = f32_agrees(dtf, htf, F32_TEMPERATURE_ULPS * ulp(htf) + t_step);
                     let same_status = dev.status_bits == h.status_bits;
                     (
                         hv,
@@ -192,5 +201,55 @@ pub fn judge(
         budget_ppm: budget,
         pass,
         row_results: out,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn units_in_the_last_place_and_distances() {
+        // (x, ulp(x)) by hand: 2^-23 at 1, 2^-22 at 2 and -2, the smallest
+        // subnormal at 0, 1 at 2^23 (where ADC codes of 24 bits live).
+        for (x, want) in [
+            (1.0f32, f32::EPSILON),
+            (2.0, 2.0 * f32::EPSILON),
+            (-2.0, 2.0 * f32::EPSILON),
+            (0.0, f32::from_bits(1)),
+            (8_388_608.0, 1.0),
+        ] {
+            assert_eq!(ulp(x), want, "ulp({x})");
+        }
+        assert!(ulp(f32::INFINITY).is_nan());
+        // Distances in representable numbers, across zero included.
+        assert_eq!(ordered(1.0f32.next_up()) - ordered(1.0), 1);
+        assert_eq!(ordered(0.0), ordered(-0.0));
+        assert_eq!(ordered(f32::from_bits(1)) - ordered(-f32::from_bits(1)), 2);
+        assert_eq!(ordered(2.0) - ordered(1.0), 1 << 23);
+    }
+
+    #[test]
+    fn f32_agreement_and_its_failures() {
+        // Tolerance for raw 8e6 codes, offset 7.9e6, gain 1e-6 bar/code,
+        // value 0.1 bar: 1e-6 * ulp(8e6) = 1e-6 * 0.5, plus 2 ulp(0.1).
+        let tol = value_tolerance(8.0e6, 7.9e6, 1e-6, 0.1);
+        let want = 1e-6 * 0.5 + 2.0 * ulp(0.1);
+        assert!((tol - want).abs() <= ulp(want), "{tol} vs {want}");
+        // (device, host, tolerance, agrees)
+        for (d, h, t, agrees) in [
+            (0.1f32, 0.1f32, 0.0f32, true),
+            (0.1f32.next_up(), 0.1, tol, true),
+            (0.1 + 2.0 * tol, 0.1, tol, false),
+            (f32::NAN, 0.1, tol, false),
+            (0.1, f32::NAN, f32::INFINITY, false),
+            (f32::NAN, f32::NAN, tol, true), // the same bits
+        ] {
+            assert_eq!(
+                f32_agrees(d, h, t),
+                agrees,
+                "device {d} host {h} tolerance {t}"
+            );
+        }
     }
 }
