@@ -224,6 +224,28 @@ fn flash_and_end_of_line_check_on_both_boards() {
             assert!(text.contains(": pass"), "{text}");
             assert!(text.contains("protects people or property"), "{text}");
         }
+        // A target left running by `flash --then resume`: halted, run to
+        // the ready point, checked.
+        let o = run(
+            p,
+            &[
+                "flash",
+                "q.bin",
+                "--gdb",
+                &server,
+                "--address",
+                address,
+                "--allow-simulated",
+                "--skip-verify",
+                "--then",
+                "resume",
+            ],
+        );
+        success(&o, "flash --then resume");
+        success(
+            &eol(p, &server, address, "q.bin", &elf, false),
+            "eol on a running target",
+        );
         // The EOL check wrote nothing into the image's range.
         success(&flash(p, &server, address, "f32.bin"), "flash");
         let check = run(
