@@ -72,6 +72,19 @@ fn lot() -> &'static Path {
             let part = format!("parts/{serial}.part.json");
             ok(&["table", &part, "--number-format", format, "--out", out]);
         }
+        // WELL-0001's check rows three times over: more rows than the
+        // mailbox holds, so they go in several requests.
+        let text = std::fs::read_to_string(p.join("check.csv")).unwrap();
+        let mut lines = text.lines();
+        let mut thrice = format!("{}\n", lines.next().unwrap());
+        let own: Vec<&str> = lines.filter(|l| l.starts_with("WELL-0001,")).collect();
+        for _ in 0..3 {
+            for l in &own {
+                thrice.push_str(l);
+                thrice.push('\n');
+            }
+        }
+        std::fs::write(p.join("check3.csv"), thrice).unwrap();
         dir
     })
     .path()
@@ -122,11 +135,24 @@ fn flash(p: &Path, server: &str, address: &str, image: &str) -> Output {
 
 /// `eol` IMAGE against WELL-0001's check rows.
 fn eol(p: &Path, server: &str, address: &str, image: &str, elf: &Path, json: bool) -> Output {
+    eol_rows(p, server, address, image, elf, json, "check.csv")
+}
+
+/// `eol` IMAGE against WELL-0001's rows of `csv`.
+fn eol_rows(
+    p: &Path,
+    server: &str,
+    address: &str,
+    image: &str,
+    elf: &Path,
+    json: bool,
+    csv: &str,
+) -> Output {
     let elf = elf.to_str().unwrap();
     let mut args = vec![
         "eol",
         image,
-        "check.csv",
+        csv,
         "--against",
         "parts/WELL-0001.part.json",
         "--gdb",
@@ -147,13 +173,13 @@ fn eol(p: &Path, server: &str, address: &str, image: &str, elf: &Path, json: boo
 /// exactly (the same code computes both), and the device's equal to the
 /// host's (bit for bit: Q always; f32 here because both sides run the same
 /// Rust code in IEEE binary32, see `station/checks/eol.rs`).
-fn agrees_with_apply(p: &Path, image: &str, report: &Value, what: &str) {
+fn agrees_with_apply(p: &Path, image: &str, csv: &str, report: &Value, what: &str) {
     let o = run(
         p,
         &[
             "apply",
             image,
-            "check.csv",
+            csv,
             "--against",
             "parts/WELL-0001.part.json",
             "--json",
@@ -216,7 +242,13 @@ fn flash_and_end_of_line_check_on_both_boards() {
             let report: Value = serde_json::from_slice(&o.stdout).unwrap();
             let format = if image == "q.bin" { "q" } else { "f32" };
             assert_eq!(report["number_format"], format);
-            agrees_with_apply(p, image, &report, &format!("{machine} {image}"));
+            agrees_with_apply(
+                p,
+                image,
+                "check.csv",
+                &report,
+                &format!("{machine} {image}"),
+            );
             // The text report says the same and carries the caution.
             let o = eol(p, &server, address, image, &elf, false);
             success(&o, "eol text");
@@ -224,6 +256,15 @@ fn flash_and_end_of_line_check_on_both_boards() {
             assert!(text.contains(": pass"), "{text}");
             assert!(text.contains("protects people or property"), "{text}");
         }
+        // Rows in several requests (the mailbox holds 64).
+        success(&flash(p, &server, address, "q.bin"), "flash");
+        let o = eol_rows(p, &server, address, "q.bin", &elf, true, "check3.csv");
+        success(&o, "eol in batches");
+        let report: Value = serde_json::from_slice(&o.stdout).unwrap();
+        let rows = report["rows"].as_u64().unwrap();
+        assert!(rows > 128, "{rows} rows");
+        assert_eq!(report["requests"].as_u64(), Some(rows.div_ceil(64)));
+        agrees_with_apply(p, "q.bin", "check3.csv", &report, "batches");
         // A target left running by `flash --then resume`: halted, run to
         // the ready point, checked.
         let o = run(

@@ -276,15 +276,39 @@ pub fn run_rows(
         symbols,
         breakpoint,
     };
+    let served = serve_all(&mut mb, image_address, image_len, inputs);
+    let breakpoint = mb.breakpoint;
+    // Leave no breakpoint behind, also after a failed check (best effort
+    // then: the first error is the one reported).
+    let removed = remote.remove_breakpoint(symbols.ready, breakpoint);
+    let (outputs, requests, capacity) = served?;
+    removed?;
+    Ok(DeviceRun {
+        outputs,
+        requests,
+        capacity,
+        breakpoint,
+    })
+}
+
+/// Runs every batch of `inputs` through the firmware behind `mb`; returns
+/// the results, the requests sent and the mailbox's capacity.
+fn serve_all(
+    mb: &mut Mailbox,
+    image_address: u32,
+    image_len: u32,
+    inputs: &[RuntimeInput],
+) -> Result<(Vec<RuntimeOutput>, usize, u32), EolTargetError> {
     // From reset (or wherever it was) to the ready function: the firmware
     // has then filled its identification words.
-    if mb.remote.read_pc()? != symbols.ready {
+    if mb.remote.read_pc()? != mb.symbols.ready {
         mb.run_to_ready("run to the ready point")?;
     }
     let head = mb.read(MAGIC, ROW_CAPACITY + 1)?;
     let at = |i: u32| head[i as usize];
     let (magic, version, capacity) = (at(MAGIC), at(VERSION), at(ROW_CAPACITY));
-    let fits = u64::from(INPUTS + 5 * capacity) * 4 <= u64::from(symbols.mailbox_bytes);
+    let fits =
+        (u64::from(INPUTS) + 5 * u64::from(capacity)) * 4 <= u64::from(mb.symbols.mailbox_bytes);
     if magic != MAGIC_WORD
         || version != VERSION_WORD
         || capacity == 0
@@ -292,8 +316,8 @@ pub fn run_rows(
         || !fits
     {
         return Err(EolTargetError::NoFirmware {
-            mailbox: symbols.mailbox,
-            mailbox_bytes: symbols.mailbox_bytes,
+            mailbox: mb.symbols.mailbox,
+            mailbox_bytes: mb.symbols.mailbox_bytes,
             magic,
             version,
         });
@@ -345,14 +369,7 @@ pub fn run_rows(
             status_bits: w[2] as u8,
         }));
     }
-    let breakpoint = mb.breakpoint;
-    remote.remove_breakpoint(symbols.ready, breakpoint)?;
-    Ok(DeviceRun {
-        outputs,
-        requests,
-        capacity,
-        breakpoint,
-    })
+    Ok((outputs, requests, capacity))
 }
 
 #[cfg(test)]
