@@ -322,6 +322,12 @@ fn flash_and_end_of_line_check_on_both_boards() {
         let o = eol(p, &server, address, "q.bin", &elf, false);
         expect(&o, 1, "the device disagrees with apply on");
         assert!(String::from_utf8_lossy(&o.stdout).contains("MISMATCH"));
+        // The same for an f32 image: outside the f32 tolerance.
+        let f32_image = std::fs::read(p.join("f32.bin")).unwrap();
+        success(&flash(p, &server, address, "f32.bin"), "flash");
+        corrupt(&server, addr, &f32_image, f32_image.len() - 7, true);
+        let o = eol(p, &server, address, "f32.bin", &elf, false);
+        expect(&o, 1, "the device disagrees with apply on");
         // Another part's image in the part.
         success(&flash(p, &server, address, "other.bin"), "flash other");
         let o = eol(p, &server, address, "q.bin", &elf, false);

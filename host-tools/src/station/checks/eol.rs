@@ -21,8 +21,10 @@
 //! cubic images without quadratic channel or 2-D correction run); the
 //! quadratic and 2-D terms add roundings of small corrections, which a
 //! firmware built otherwise could push past it on such images.
-//! A table byte changed in flash moves the results by whole table steps,
-//! far outside these bounds.
+//! A changed table byte moves the results past these bounds unless it
+//! sits in the lowest bits of a number; any change at all fails the
+//! device's own CRC check first, and the test `tests/eol_gdb.rs` changes a
+//! byte and its CRC together to show the comparison catching it.
 //!
 //! Error. The device's value against the row's reference stimulus, in ppm
 //! of span as `apply` computes it, judged against the part's budget for
