@@ -5,8 +5,10 @@
 //! then each fault with its own exit code and message: a byte corrupted in
 //! target memory (the device refuses the image, 1), a table changed in
 //! target memory with a matching CRC (the device disagrees with `apply`,
-//! 1), another part's image in the part (1), a target that runs no EOL
-//! firmware (3), no server (3), a file that is not the EOL firmware (2).
+//! 1, Q and f32), another part's image in the part (1), a target that runs
+//! no EOL firmware (3), an image address where the firmware faults (3), no
+//! server (3), a file that is not the EOL firmware (2). Rows beyond the
+//! mailbox's capacity go in several requests.
 //! Invented, simulated lot.
 
 mod common;
@@ -347,6 +349,19 @@ fn flash_and_end_of_line_check_on_both_boards() {
         success(&flash(p, &server, address, "q.bin"), "flash");
         let o = eol(p, &server, address, "q.bin", &elf, false);
         expect(&o, 3, "no end-of-line firmware answers");
+        let mut r = Remote::connect(&server).unwrap();
+        r.halt().unwrap();
+        r.write_memory(mailbox, b"SDEL").unwrap();
+        drop(r);
+        // An image address that is no memory: the Cortex-M4F board faults
+        // (the firmware's fault handler ends the program, exit 3), the
+        // microbit reads zeros (the device refuses the image, exit 1).
+        let o = eol(p, &server, "0xf0000000", "q.bin", &elf, false);
+        if machine == "mps2-an386" {
+            expect(&o, 3, "the target's program ended");
+        } else {
+            expect(&o, 1, "the device refused the image at 0xf0000000");
+        }
     }
 }
 

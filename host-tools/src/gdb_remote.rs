@@ -53,6 +53,15 @@ pub enum RemoteError {
         /// What the client was doing.
         step: String,
     },
+    /// The target's program ended (a `W` or `X` stop reply), e.g. a fault
+    /// handler that exits through semihosting.
+    #[error("{step}: the target's program ended ({reply}); did it fault?")]
+    Ended {
+        /// What the client was doing.
+        step: String,
+        /// The stop reply.
+        reply: String,
+    },
     /// The server answered with an error or something unexpected.
     #[error("{step}: server replied '{reply}'")]
     Refused {
@@ -465,11 +474,16 @@ impl Remote {
                 Err(e) => return Err(e),
             }
         };
+        let text = String::from_utf8_lossy(&reply).into_owned();
         match reply.first() {
             Some(b'S' | b'T') => Ok(()),
+            Some(b'W' | b'X') => Err(RemoteError::Ended {
+                step: step.to_string(),
+                reply: text,
+            }),
             _ => Err(RemoteError::Refused {
                 step: step.to_string(),
-                reply: String::from_utf8_lossy(&reply).into_owned(),
+                reply: text,
             }),
         }
     }
