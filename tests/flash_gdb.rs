@@ -6,67 +6,17 @@
 //! another part or an unverified image (2). Invented, simulated lot.
 
 mod common;
+#[path = "common/target.rs"]
+mod target;
 
 use common::semidrift_bin;
 use host_tools::gdb_remote::Remote;
 use std::io::{Read, Write};
-use std::net::{TcpListener, TcpStream};
+use std::net::TcpListener;
 use std::path::Path;
-use std::process::{Child, Command, Output, Stdio};
+use std::process::{Command, Output};
 use std::sync::OnceLock;
-use std::time::{Duration, Instant};
-
-/// Both boards: QEMU machine, CPU and a flash address past any firmware.
-const BOARDS: [(&str, &str, &str); 2] = [
-    ("mps2-an386", "cortex-m4", "0x00100000"),
-    ("microbit", "cortex-m0", "0x00030000"),
-];
-
-/// A halted QEMU with its gdbstub on a free loopback port, killed on drop.
-struct Qemu {
-    child: Child,
-    port: u16,
-}
-
-impl Drop for Qemu {
-    fn drop(&mut self) {
-        let _ = self.child.kill();
-        let _ = self.child.wait();
-    }
-}
-
-fn free_port() -> u16 {
-    TcpListener::bind("127.0.0.1:0")
-        .unwrap()
-        .local_addr()
-        .unwrap()
-        .port()
-}
-
-fn qemu(machine: &str, cpu: &str) -> Qemu {
-    let port = free_port();
-    let child = Command::new("qemu-system-arm")
-        .args(["-machine", machine, "-cpu", cpu])
-        .args(["-nographic", "-monitor", "none", "-serial", "null", "-S"])
-        .args(["-gdb", &format!("tcp:127.0.0.1:{port}")])
-        .stdin(Stdio::null())
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .spawn()
-        .expect("qemu-system-arm runs (scripts/install-prereqs.sh installs it)");
-    let q = Qemu { child, port };
-    let start = Instant::now();
-    while TcpStream::connect(("127.0.0.1", port)).is_err() {
-        assert!(
-            start.elapsed() < Duration::from_secs(10),
-            "QEMU gdbstub did not listen"
-        );
-        std::thread::sleep(Duration::from_millis(50));
-    }
-    // The probe connection above was accepted and closed; QEMU takes the next.
-    std::thread::sleep(Duration::from_millis(100));
-    q
-}
+use target::{BOARDS, free_port, qemu};
 
 /// A folder with a scenario, part files and the images of two parts.
 fn lot() -> &'static Path {
@@ -132,8 +82,8 @@ fn expect(o: &Output, code: i32, fragment: &str) {
 fn flash_read_back_and_faults_on_both_boards() {
     let p = lot();
     let image = std::fs::read(p.join("WELL-0001.bin")).unwrap();
-    for (machine, cpu, address) in BOARDS {
-        let q = qemu(machine, cpu);
+    for (machine, cpu, _, address) in BOARDS {
+        let q = qemu(machine, cpu, None);
         let server = format!("127.0.0.1:{}", q.port);
         let addr = u32::from_str_radix(&address[2..], 16).unwrap();
         let flash = |extra: &[&str]| {
@@ -159,6 +109,12 @@ fn flash_read_back_and_faults_on_both_boards() {
         let report: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
         assert_eq!(report["bytes"], image.len(), "{machine}");
         assert_eq!(report["written"], true);
+        // The override is on stderr and in the report.
+        assert_eq!(
+            report["overrides"],
+            serde_json::json!(["--allow-simulated"])
+        );
+        assert!(String::from_utf8_lossy(&o.stderr).contains("made from simulated data"));
         // The target's memory holds the image (read with our own client).
         let mut r = Remote::connect(&server).unwrap();
         r.halt().unwrap();

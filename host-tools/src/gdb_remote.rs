@@ -53,6 +53,15 @@ pub enum RemoteError {
         /// What the client was doing.
         step: String,
     },
+    /// The target's program ended (a `W` or `X` stop reply), e.g. a fault
+    /// handler that exits through semihosting.
+    #[error("{step}: the target's program ended ({reply}); did it fault?")]
+    Ended {
+        /// What the client was doing.
+        step: String,
+        /// The stop reply.
+        reply: String,
+    },
     /// The server answered with an error or something unexpected.
     #[error("{step}: server replied '{reply}'")]
     Refused {
@@ -202,7 +211,13 @@ impl Remote {
                     self.pending.extend_from_slice(&buf[1..n]);
                     return Ok(buf[0]);
                 }
-                Err(e) if e.kind() == ErrorKind::Interrupted => {}
+                // A read timeout shows as WouldBlock on Unix: wait on to the
+                // deadline, which then reports `timed out`.
+                Err(e)
+                    if matches!(
+                        e.kind(),
+                        ErrorKind::Interrupted | ErrorKind::WouldBlock | ErrorKind::TimedOut
+                    ) => {}
                 Err(e) => return Err(self.lost(step, e)),
             }
         }
@@ -371,6 +386,106 @@ impl Remote {
             done += n;
         }
         Ok(())
+    }
+
+    /// Sets a breakpoint at `addr` (a Thumb instruction, kind 2): a
+    /// hardware one (`Z1`, which works in flash) where the server offers it,
+    /// else a software one (`Z0`). Returns the packet type used (1 or 0).
+    pub fn insert_breakpoint(&mut self, addr: u32) -> Result<u8, RemoteError> {
+        for kind in [1u8, 0] {
+            let step = format!("set breakpoint at {addr:#010x}");
+            let reply = self.request(&step, format!("Z{kind},{addr:x},2").as_bytes())?;
+            match reply.as_slice() {
+                b"OK" => return Ok(kind),
+                // Empty: this breakpoint type is not supported.
+                b"" => continue,
+                r => {
+                    return Err(RemoteError::Refused {
+                        step,
+                        reply: String::from_utf8_lossy(r).into_owned(),
+                    });
+                }
+            }
+        }
+        Err(RemoteError::Refused {
+            step: format!("set breakpoint at {addr:#010x}"),
+            reply: "no breakpoint type supported".into(),
+        })
+    }
+
+    /// Removes a breakpoint set by [`Remote::insert_breakpoint`] (`kind` as
+    /// it returned).
+    pub fn remove_breakpoint(&mut self, addr: u32, kind: u8) -> Result<(), RemoteError> {
+        self.expect_ok(
+            &format!("remove breakpoint at {addr:#010x}"),
+            format!("z{kind},{addr:x},2").as_bytes(),
+        )
+    }
+
+    /// Reads the program counter (register 15 of the ARM register file, the
+    /// 16th word of the `g` reply, little-endian).
+    pub fn read_pc(&mut self) -> Result<u32, RemoteError> {
+        let reply = self.request("read registers", b"g")?;
+        match unhex(reply.get(120..128).unwrap_or_default()) {
+            Some(b) => Ok(u32::from_le_bytes([b[0], b[1], b[2], b[3]])),
+            None => Err(RemoteError::Refused {
+                step: "read registers".into(),
+                reply: String::from_utf8_lossy(&reply).into_owned(),
+            }),
+        }
+    }
+
+    /// Executes one instruction (`s`) and waits for the stop.
+    pub fn step(&mut self) -> Result<(), RemoteError> {
+        let reply = self.request("single step", b"s")?;
+        match reply.first() {
+            Some(b'S' | b'T') => Ok(()),
+            _ => Err(RemoteError::Refused {
+                step: "single step".into(),
+                reply: String::from_utf8_lossy(&reply).into_owned(),
+            }),
+        }
+    }
+
+    /// Lets the target run (`c`) and waits up to `timeout` for it to stop
+    /// (a breakpoint or a signal). A target that exits (`W`/`X` replies) or
+    /// does not stop in time is an error naming `step`.
+    pub fn continue_until_stop(
+        &mut self,
+        step: &str,
+        timeout: Duration,
+    ) -> Result<(), RemoteError> {
+        self.send_packet(step, b"c")?;
+        let deadline = Instant::now() + timeout;
+        let reply = loop {
+            match self.receive(step) {
+                Ok(r) => break r,
+                Err(RemoteError::Lost { message, .. })
+                    if message.contains("timed out") && Instant::now() < deadline => {}
+                Err(RemoteError::Lost { message, .. }) if message.contains("timed out") => {
+                    // Stop it, so the connection is left in a known state.
+                    let _ = self.send_raw(step, &[0x03]);
+                    return Err(RemoteError::Lost {
+                        step: step.to_string(),
+                        timeout_s: timeout.as_secs(),
+                        message: "the target did not stop".into(),
+                    });
+                }
+                Err(e) => return Err(e),
+            }
+        };
+        let text = String::from_utf8_lossy(&reply).into_owned();
+        match reply.first() {
+            Some(b'S' | b'T') => Ok(()),
+            Some(b'W' | b'X') => Err(RemoteError::Ended {
+                step: step.to_string(),
+                reply: text,
+            }),
+            _ => Err(RemoteError::Refused {
+                step: step.to_string(),
+                reply: text,
+            }),
+        }
     }
 
     /// Runs a monitor command (`qRcmd`), e.g. `system_reset` on QEMU.

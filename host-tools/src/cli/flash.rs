@@ -66,6 +66,7 @@ pub enum AfterArg {
 pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let image = super::verify::read_image(&args.image)?;
     let shown = args.image.display().to_string();
+    let mut overrides = Vec::new();
     let view = compensate::TableView::parse(&image)
         .map_err(|e| CliError::Input(format!("{shown}: not a valid table image: {e}")))?;
     if view.simulated() {
@@ -77,6 +78,7 @@ pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
         eprintln!(
             "semidrift: warning: flashing {shown}, made from simulated data (--allow-simulated)"
         );
+        overrides.push("--allow-simulated");
     }
     match &args.against {
         Some(part_path) => {
@@ -98,6 +100,7 @@ pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
         }
         None if args.skip_verify => {
             eprintln!("semidrift: warning: flashing {shown} without verification (--skip-verify)");
+            overrides.push("--skip-verify");
         }
         None => {
             return Err(CliError::option(
@@ -117,7 +120,7 @@ pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
         AfterArg::Resume => After::Resume,
         AfterArg::Reset => After::Reset,
     };
-    let report = flash(&image, &target, !args.check_only, after).map_err(|e| {
+    let mut report = flash(&image, &target, !args.check_only, after).map_err(|e| {
         let message = format!("{shown} -> {}: {e}", args.gdb);
         if e.is_check() {
             CliError::CheckFailed(message)
@@ -127,6 +130,7 @@ pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
             CliError::Target(message)
         }
     })?;
+    report.overrides = overrides;
     if args.json {
         out.write_all(&output::to_json_bytes(&report))?;
     } else {
@@ -148,6 +152,13 @@ pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
             },
             report.after
         )?;
+        if !report.overrides.is_empty() {
+            writeln!(
+                out,
+                "overridden: {} (recorded in the --json report)",
+                report.overrides.join(", ")
+            )?;
+        }
         writeln!(
             out,
             "caution: a part whose reading protects people or property needs its own qualification and end-of-line test under the standards that apply"

@@ -3,7 +3,7 @@
 //! Each subcommand lives in its own file with a `clap::Args` struct and a
 //! `run(args, out)` function returning [`CliError`]; this file only dispatches.
 //! Exit codes: 0 success, 1 a check failed, 2 bad input or usage, 3 the
-//! target or its debug server could not be reached (`flash`).
+//! target or its debug server could not be reached (`flash`, `eol`).
 
 mod apply;
 mod arrhenius;
@@ -11,6 +11,7 @@ mod calibrate;
 mod choices;
 mod demo;
 pub mod element;
+mod eol;
 mod error;
 mod flash;
 mod model;
@@ -92,6 +93,9 @@ pub enum Command {
     /// Write a table image into a part through a debug server and read it back.
     #[command(after_help = CAUTIONS)]
     Flash(flash::FlashArgs),
+    /// Run a part's check rows through its flashed image on the part itself.
+    #[command(after_help = CAUTIONS)]
+    Eol(eol::EolArgs),
     /// Run the whole station chain on both demo scenarios.
     #[command(after_help = CAUTIONS)]
     Demo(demo::DemoArgs),
@@ -148,6 +152,7 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Verify(args) => verify::run(args, out),
         Command::Apply(args) => apply::run(args, out),
         Command::Flash(args) => flash::run(args, out),
+        Command::Eol(args) => eol::run(args, out),
         Command::Demo(args) => demo::run(args, out),
     }
 }

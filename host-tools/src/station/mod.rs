@@ -16,8 +16,8 @@ pub mod tables;
 // Every stage module at the station level too, so that paths name the
 // concept (`station::chamber`), whatever the stage folder.
 pub use baseline::{poly_baseline, poly_sweep, polynomial};
-pub use checks::{apply, compare};
-pub use files::{export, flash, output};
+pub use checks::{apply, compare, eol};
+pub use files::{eol_target, export, flash, output};
 pub use fitting::{calibrate, curves, fit, linalg, lot, model_shapes, part_file, part_model};
 pub use inputs::{chamber, limits, scenario, spec};
 pub use simulated::{simulate, truth};

@@ -149,20 +149,41 @@ impl<'a> ImageCompensation<'a> {
     }
 }
 
-impl Compensation for ImageCompensation<'_> {
-    fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
-        let (s, t, _) = self.compensate_with_status(output, temp_signal);
-        (s, t)
+/// One row as the runtime crate takes it: the temperature-signal and raw
+/// words (f32 bits for an f32 image; i32 for a Q image, the signal in the
+/// image's Q format), what firmware, and the end-of-line check's mailbox,
+/// are given.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct RuntimeInput {
+    /// Temperature-signal word.
+    pub signal_word: u32,
+    /// Raw-output word.
+    pub raw_word: u32,
+}
+
+/// One row's result as the runtime crate gives it: the value and
+/// temperature words (f32 bits, or the Q values as i32) and the status bits
+/// of the temperature update and the sample together.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct RuntimeOutput {
+    /// Compensated value word.
+    pub value_word: u32,
+    /// Temperature word.
+    pub temperature_word: u32,
+    /// `Status` bits.
+    pub status_bits: u8,
+}
+
+impl ImageCompensation<'_> {
+    /// The image's number format.
+    pub fn format(&self) -> compensate::image::NumberFormat {
+        self.view.format()
     }
 
-    fn compensate_with_status(&self, output: f64, temp_signal: f64) -> (f64, f64, String) {
-        let flags = |s: compensate::Status| {
-            if s.is_ok() {
-                String::new()
-            } else {
-                s.to_string()
-            }
-        };
+    /// The runtime words for a CSV row (output and temperature signal in
+    /// the CSV's units): output to the nearest ADC code, the signal to a
+    /// code when the image takes codes, then to the image's number format.
+    pub fn runtime_input(&self, output: f64, temp_signal: f64) -> RuntimeInput {
         let raw = (output / self.lsb).round();
         let temp_signal = match self.view.signal_kind() {
             compensate::image::SignalKind::AdcCode => (temp_signal / self.signal_lsb).round(),
@@ -170,31 +191,125 @@ impl Compensation for ImageCompensation<'_> {
         };
         match self.view.format() {
             compensate::image::NumberFormat::Q => {
-                let Ok(mut c) = compensate::FixedCompensator::new(&self.view) else {
-                    return (f64::NAN, f64::NAN, "table invalid".into());
-                };
-                let q = self.view.q_format();
-                let sq = 2f64.powi(i32::from(q.signal));
-                let ts = c.update_temperature((temp_signal * sq).round() as i32);
-                let r = c.compensate_sample(raw as i32);
-                (
-                    f64::from(r.value) * 2f64.powi(-i32::from(q.output)),
-                    f64::from(c.temperature_q()) * 2f64.powi(-i32::from(q.temperature)),
-                    flags(ts | r.status),
-                )
+                let sq = 2f64.powi(i32::from(self.view.q_format().signal));
+                RuntimeInput {
+                    signal_word: ((temp_signal * sq).round() as i32) as u32,
+                    raw_word: (raw as i32) as u32,
+                }
+            }
+            _ => RuntimeInput {
+                signal_word: (temp_signal as f32).to_bits(),
+                raw_word: (raw as f32).to_bits(),
+            },
+        }
+    }
+
+    /// Runs one row on a fresh compensator, as firmware does after boot
+    /// (`None`: the image's numbers do not make a compensator).
+    pub fn run(&self, input: RuntimeInput) -> Option<RuntimeOutput> {
+        match self.view.format() {
+            compensate::image::NumberFormat::Q => {
+                let mut c = compensate::FixedCompensator::new(&self.view).ok()?;
+                let ts = c.update_temperature(input.signal_word as i32);
+                let r = c.compensate_sample(input.raw_word as i32);
+                Some(RuntimeOutput {
+                    value_word: r.value as u32,
+                    temperature_word: c.temperature_q() as u32,
+                    status_bits: (ts | r.status).bits(),
+                })
             }
             _ => {
-                let Ok(mut c) = compensate::Compensator::new(&self.view) else {
-                    return (f64::NAN, f64::NAN, "table invalid".into());
-                };
-                let ts = c.update_temperature(temp_signal as f32);
-                let r = c.compensate_sample(raw as f32);
+                let mut c = compensate::Compensator::new(&self.view).ok()?;
+                let ts = c.update_temperature(f32::from_bits(input.signal_word));
+                let r = c.compensate_sample(f32::from_bits(input.raw_word));
+                Some(RuntimeOutput {
+                    value_word: r.value.to_bits(),
+                    temperature_word: c.temperature_c().to_bits(),
+                    status_bits: (ts | r.status).bits(),
+                })
+            }
+        }
+    }
+
+    /// An f32 image's offset and gain after the temperature update of
+    /// `input` (zeros for a Q image or an image that makes no compensator).
+    pub fn coefficients(&self, input: RuntimeInput) -> (f32, f32) {
+        match compensate::Compensator::new(&self.view) {
+            Ok(mut c) => {
+                c.update_temperature(f32::from_bits(input.signal_word));
+                let (offset, gain, _) = c.coefficients();
+                (offset, gain)
+            }
+            Err(_) => (0.0, 0.0),
+        }
+    }
+
+    /// How far an f32 image's temperature read moves when the signal of
+    /// `input` moves one unit in the last place up, C (0 for a Q image).
+    pub fn temperature_step(&self, input: RuntimeInput) -> f32 {
+        let Ok(mut c) = compensate::Compensator::new(&self.view) else {
+            return 0.0;
+        };
+        let signal = f32::from_bits(input.signal_word);
+        c.update_temperature(signal);
+        let t0 = c.temperature_c();
+        c.update_temperature(signal.next_up());
+        (c.temperature_c() - t0).abs()
+    }
+
+    /// The compensated value and temperature, C, of a result in f64.
+    pub fn decode(&self, out: RuntimeOutput) -> (f64, f64) {
+        match self.view.format() {
+            compensate::image::NumberFormat::Q => {
+                let q = self.view.q_format();
                 (
-                    f64::from(r.value),
-                    f64::from(c.temperature_c()),
-                    flags(ts | r.status),
+                    f64::from(out.value_word as i32) * 2f64.powi(-i32::from(q.output)),
+                    f64::from(out.temperature_word as i32) * 2f64.powi(-i32::from(q.temperature)),
                 )
             }
+            _ => (
+                f64::from(f32::from_bits(out.value_word)),
+                f64::from(f32::from_bits(out.temperature_word)),
+            ),
+        }
+    }
+}
+
+/// The runtime's status flags as text, empty when OK.
+pub fn status_text(bits: u8) -> String {
+    use compensate::Status;
+    let s = [
+        Status::TEMPERATURE_CLAMPED,
+        Status::INPUT_OUT_OF_RANGE,
+        Status::SENSOR_FAULT,
+        Status::TABLE_INVALID,
+        Status::NAN_INPUT,
+        Status::SATURATED,
+        Status::NO_TEMPERATURE,
+    ]
+    .into_iter()
+    .filter(|f| bits & f.bits() != 0)
+    .fold(Status::OK, |a, f| a | f);
+    if s.is_ok() {
+        String::new()
+    } else {
+        s.to_string()
+    }
+}
+
+impl Compensation for ImageCompensation<'_> {
+    fn compensate(&self, output: f64, temp_signal: f64) -> (f64, f64) {
+        let (s, t, _) = self.compensate_with_status(output, temp_signal);
+        (s, t)
+    }
+
+    fn compensate_with_status(&self, output: f64, temp_signal: f64) -> (f64, f64, String) {
+        match self.run(self.runtime_input(output, temp_signal)) {
+            Some(out) => {
+                let (s, t) = self.decode(out);
+                (s, t, status_text(out.status_bits))
+            }
+            None => (f64::NAN, f64::NAN, "table invalid".into()),
         }
     }
 }

@@ -53,6 +53,9 @@ pub struct FlashReport {
     pub written: bool,
     /// What the target did afterwards.
     pub after: After,
+    /// Safety refusals overridden for this flash, by option name
+    /// (`--allow-simulated`, `--skip-verify`); set by the caller.
+    pub overrides: Vec<&'static str>,
 }
 
 /// Why a flash failed; each names the step.
@@ -199,5 +202,6 @@ pub fn flash(
         serial_checked: target.serial_address.is_some(),
         written: write,
         after,
+        overrides: Vec::new(),
     })
 }
