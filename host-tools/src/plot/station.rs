@@ -4,7 +4,7 @@
 //! `plot part|lot|table` commands draw through the same [`ErrorFigure`].
 
 use super::style::{
-    BLUE, CAPTION_PX, FONT_FAMILY, Figure, GREEN, GREY, LABEL_PX, PlotError, RED, TICK_PX,
+    BLUE, CAPTION_PX, FONT_FAMILY, Figure, GREEN, GREY, LABEL_PX, PURPLE, PlotError, RED, TICK_PX,
     figure_svg, legend, write_figure,
 };
 use crate::station::compare::{Comparison, QualifiedComparison};
@@ -89,7 +89,7 @@ impl Figure for ErrorFigure<'_> {
             .axis_desc_style((FONT_FAMILY, LABEL_PX))
             .draw()
             .map_err(PlotError::draw)?;
-        let colours = [GREY, RED, BLUE, GREEN];
+        let colours = [GREY, RED, BLUE, GREEN, PURPLE];
         for (k, (label, points)) in self.series.iter().enumerate() {
             let c = colours[k % colours.len()];
             let p: Vec<(f64, f64)> = points.iter().map(|&(t, y)| (t, y.max(lo))).collect();

@@ -33,6 +33,8 @@ pub const RED: RGBColor = RGBColor(0xc0, 0x39, 0x2b);
 pub const GREY: RGBColor = RGBColor(0x70, 0x70, 0x70);
 /// Further curves (resistivity, totals).
 pub const GREEN: RGBColor = RGBColor(0x2e, 0x8b, 0x57);
+/// A fifth curve where four are not enough (comparisons of methods).
+pub const PURPLE: RGBColor = RGBColor(0x7d, 0x3c, 0x98);
 
 /// Why a plot could not be drawn or written.
 #[derive(Debug, thiserror::Error)]
