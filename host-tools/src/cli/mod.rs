@@ -13,6 +13,7 @@ mod demo;
 pub mod element;
 mod error;
 mod flash;
+mod lot;
 mod model;
 mod plot;
 mod progress;
@@ -92,6 +93,11 @@ pub enum Command {
     /// Write a table image into a part through a debug server and read it back.
     #[command(after_help = CAUTIONS)]
     Flash(flash::FlashArgs),
+    /// The station database: resumable lot runs, status, history, release,
+    /// traceability export and the HTML lot report.
+    #[command(after_help = CAUTIONS)]
+    #[command(subcommand)]
+    Lot(lot::LotCommand),
     /// Run the whole station chain on both demo scenarios.
     #[command(after_help = CAUTIONS)]
     Demo(demo::DemoArgs),
@@ -148,6 +154,7 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Verify(args) => verify::run(args, out),
         Command::Apply(args) => apply::run(args, out),
         Command::Flash(args) => flash::run(args, out),
+        Command::Lot(args) => lot::run(args, out),
         Command::Demo(args) => demo::run(args, out),
     }
 }
