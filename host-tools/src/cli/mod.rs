@@ -18,6 +18,7 @@ mod model;
 mod plot;
 mod progress;
 mod qualify;
+mod record;
 pub mod range;
 pub mod sample_args;
 mod simulate;

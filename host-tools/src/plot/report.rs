@@ -52,14 +52,17 @@ impl Figure for BarFigure<'_> {
             .margin(15)
             .x_label_area_size(40)
             .y_label_area_size(65)
-            .build_cartesian_2d(0..n, 0.0..top)
+            .build_cartesian_2d((0..n.saturating_sub(1).max(1)).into_segmented(), 0.0..top)
             .map_err(PlotError::draw)?;
         let names: Vec<&str> = self.bars.iter().map(|b| b.0.as_str()).collect();
         chart
             .configure_mesh()
             .disable_x_mesh()
             .x_labels(n)
-            .x_label_formatter(&|k| names.get(*k).map_or(String::new(), |s| s.to_string()))
+            .x_label_formatter(&|k| match k {
+                SegmentValue::CenterOf(k) => names.get(*k).map_or(String::new(), |s| s.to_string()),
+                _ => String::new(),
+            })
             .y_desc(self.y_desc)
             .label_style((FONT_FAMILY, TICK_PX))
             .axis_desc_style((FONT_FAMILY, LABEL_PX))
@@ -67,14 +70,23 @@ impl Figure for BarFigure<'_> {
             .map_err(PlotError::draw)?;
         chart
             .draw_series(self.bars.iter().enumerate().map(|(k, b)| {
-                let mut r = Rectangle::new([(k, 0.0), (k + 1, b.1.max(0.0))], BLUE.mix(0.7).filled());
+                let mut r = Rectangle::new(
+                    [
+                        (SegmentValue::Exact(k), 0.0),
+                        (SegmentValue::Exact(k + 1), b.1.max(0.0)),
+                    ],
+                    BLUE.mix(0.7).filled(),
+                );
                 r.set_margin(0, 0, 6, 6);
                 r
             }))
             .map_err(PlotError::draw)?;
         if let Some((v, label)) = self.line {
             chart
-                .draw_series(LineSeries::new(vec![(0, v), (n, v)], RED.stroke_width(2)))
+                .draw_series(LineSeries::new(
+                    vec![(SegmentValue::Exact(0), v), (SegmentValue::Exact(n), v)],
+                    RED.stroke_width(2),
+                ))
                 .map_err(PlotError::draw)?
                 .label(label)
                 .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], RED.stroke_width(2)));
@@ -427,7 +439,6 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
         );
     }
     let _ = writeln!(w, "</table>\n</body></html>");
-    let _ = GREY;
     Ok(h)
 }
 
