@@ -95,8 +95,8 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let mut recording = match &args.db {
         Some(path) => {
             let mut db = super::lot::open_db(path)?;
-            let ids = crate::stationdb::run::begin_lot(&mut db, &input)
-                .map_err(super::lot::db_error)?;
+            let ids =
+                crate::stationdb::run::begin_lot(&mut db, &input).map_err(super::lot::db_error)?;
             Some((db, ids))
         }
         None => None,

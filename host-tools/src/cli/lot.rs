@@ -256,8 +256,8 @@ fn run_lot(args: RunArgs, out: &mut dyn Write) -> Result<(), CliError> {
             .zip(check_name.as_deref())
             .map(|((bytes, data), name)| run::CsvInput { name, bytes, data }),
     };
-    let o = run::run_lot(&mut db, &input, &super::progress::Bar::new(args.quiet))
-        .map_err(db_error)?;
+    let o =
+        run::run_lot(&mut db, &input, &super::progress::Bar::new(args.quiet)).map_err(db_error)?;
     if o.nothing_to_do() {
         writeln!(
             out,
@@ -317,14 +317,20 @@ fn status(args: StatusArgs, out: &mut dyn Write) -> Result<(), CliError> {
         info.budget_ppm,
         info.design_hash
             .as_ref()
-            .map_or(", physics-only".to_string(), |h| format!(", design {}", &h[..16.min(h.len())])),
+            .map_or(", physics-only".to_string(), |h| format!(
+                ", design {}",
+                &h[..16.min(h.len())]
+            )),
         parts.len(),
         count("released"),
         count("passed"),
         count("rejected"),
         count("calibrated")
     )?;
-    writeln!(out, "serial        state       image_crc32  verify_ppm  eol_ppm  why")?;
+    writeln!(
+        out,
+        "serial        state       image_crc32  verify_ppm  eol_ppm  why"
+    )?;
     let opt = |x: Option<f64>| x.map_or("-".to_string(), |v| format!("{v:.1}"));
     for p in &parts {
         let why = match (&p.reject_stage, &p.reject_reason) {
@@ -389,9 +395,9 @@ fn release(args: ReleaseArgs, out: &mut dyn Write) -> Result<(), CliError> {
         )?;
     }
     match (&args.serial, r.refused.first()) {
-        (Some(_), Some((s, why))) => Err(CliError::CheckFailed(format!(
-            "{s}: not released: {why}"
-        ))),
+        (Some(_), Some((s, why))) => {
+            Err(CliError::CheckFailed(format!("{s}: not released: {why}")))
+        }
         _ => Ok(()),
     }
 }

@@ -153,7 +153,9 @@ impl Figure for EnvelopeFigure<'_> {
                 .draw_series(LineSeries::new(pts.clone(), c.stroke_width(2)))
                 .map_err(PlotError::draw)?
                 .label(label)
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], c.stroke_width(2)));
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 20, y)], c.stroke_width(2))
+                });
             chart
                 .draw_series(pts.iter().map(|&p| Circle::new(p, 3, c.filled())))
                 .map_err(PlotError::draw)?;
@@ -161,7 +163,10 @@ impl Figure for EnvelopeFigure<'_> {
         for s in [1.0, -1.0] {
             let b = s * self.budget_ppm;
             let series = chart
-                .draw_series(LineSeries::new(vec![(t0, b), (t1, b)], GREY.stroke_width(1)))
+                .draw_series(LineSeries::new(
+                    vec![(t0, b), (t1, b)],
+                    GREY.stroke_width(1),
+                ))
                 .map_err(PlotError::draw)?;
             if s > 0.0 {
                 series
@@ -263,7 +268,10 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
     }
     let _ = writeln!(w, "</ul></div>");
 
-    let _ = writeln!(w, "<h2>Yield</h2>\n<table class=\"figs\"><tr><th class=\"l\">parts</th><th class=\"l\">count</th><th class=\"l\">share</th></tr>");
+    let _ = writeln!(
+        w,
+        "<h2>Yield</h2>\n<table class=\"figs\"><tr><th class=\"l\">parts</th><th class=\"l\">count</th><th class=\"l\">share</th></tr>"
+    );
     for (id, name, n) in [
         ("parts", "recorded", y.parts),
         ("fitted", "fitted", y.fitted),
@@ -346,7 +354,10 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
                 ("temperature".to_string(), t.temperature_ppm),
                 ("total".to_string(), t.total_ppm),
             ];
-            let _ = write!(w, "<p>Worst of each term over the lot's verified images, ppm of span:</p><table><tr>");
+            let _ = write!(
+                w,
+                "<p>Worst of each term over the lot's verified images, ppm of span:</p><table><tr>"
+            );
             for (n, _) in &terms {
                 let _ = write!(w, "<th>{n}</th>");
             }
@@ -367,18 +378,31 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
             );
         }
         None => {
-            let _ = writeln!(w, "<p class=\"note\">No verified image: no budget terms.</p>");
+            let _ = writeln!(
+                w,
+                "<p class=\"note\">No verified image: no budget terms.</p>"
+            );
         }
     }
 
     let _ = writeln!(w, "<h2>Outliers and rejected parts</h2>");
     let outliers = f.outliers();
     if outliers.is_empty() {
-        let _ = writeln!(w, "<p>No outlier: no part's worst error lies above the lot's upper Tukey fence (third quartile + 1.5 interquartile ranges).</p>");
+        let _ = writeln!(
+            w,
+            "<p>No outlier: no part's worst error lies above the lot's upper Tukey fence (third quartile + 1.5 interquartile ranges).</p>"
+        );
     } else {
-        let _ = writeln!(w, "<p>Worst error above the lot's upper Tukey fence (third quartile + 1.5 interquartile ranges):</p><table><tr><th class=\"l\">serial</th><th>worst ppm</th><th>fence ppm</th></tr>");
+        let _ = writeln!(
+            w,
+            "<p>Worst error above the lot's upper Tukey fence (third quartile + 1.5 interquartile ranges):</p><table><tr><th class=\"l\">serial</th><th>worst ppm</th><th>fence ppm</th></tr>"
+        );
         for (s, e, fence) in &outliers {
-            let _ = writeln!(w, "<tr><td class=\"l\">{}</td><td>{e:.1}</td><td>{fence:.1}</td></tr>", esc(s));
+            let _ = writeln!(
+                w,
+                "<tr><td class=\"l\">{}</td><td>{e:.1}</td><td>{fence:.1}</td></tr>",
+                esc(s)
+            );
         }
         let _ = writeln!(w, "</table>");
     }
@@ -386,7 +410,10 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
     if rejected.is_empty() {
         let _ = writeln!(w, "<p>No part rejected.</p>");
     } else {
-        let _ = writeln!(w, "<table id=\"rejects\"><tr><th class=\"l\">serial</th><th class=\"l\">stage</th><th class=\"l\">reason</th></tr>");
+        let _ = writeln!(
+            w,
+            "<table id=\"rejects\"><tr><th class=\"l\">serial</th><th class=\"l\">stage</th><th class=\"l\">reason</th></tr>"
+        );
         for p in rejected {
             if let Some((stage, reason)) = &p.reject {
                 let _ = writeln!(
@@ -416,14 +443,24 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
             );
         }
         None => {
-            let _ = writeln!(w, "<p>Physics-only fits (<span id=\"design\">no design</span>): their error between chamber temperatures has not been measured on a qualification lot.</p>");
+            let _ = writeln!(
+                w,
+                "<p>Physics-only fits (<span id=\"design\">no design</span>): their error between chamber temperatures has not been measured on a qualification lot.</p>"
+            );
         }
     }
     if let Some(h) = &f.calibration_sha256 {
-        let _ = writeln!(w, "<p>Calibration chamber CSV sha256 <code>{}</code>.</p>", esc(h));
+        let _ = writeln!(
+            w,
+            "<p>Calibration chamber CSV sha256 <code>{}</code>.</p>",
+            esc(h)
+        );
     }
 
-    let _ = writeln!(w, "<h2>Parts</h2>\n<table id=\"parts-table\"><tr><th class=\"l\">serial</th><th class=\"l\">state</th><th>fit rms ppm</th><th>image bytes</th><th class=\"l\">image crc32</th><th>verify max ppm</th><th>allowance ppm</th><th>end-of-line worst ppm</th></tr>");
+    let _ = writeln!(
+        w,
+        "<h2>Parts</h2>\n<table id=\"parts-table\"><tr><th class=\"l\">serial</th><th class=\"l\">state</th><th>fit rms ppm</th><th>image bytes</th><th class=\"l\">image crc32</th><th>verify max ppm</th><th>allowance ppm</th><th>end-of-line worst ppm</th></tr>"
+    );
     for p in &f.parts {
         let _ = writeln!(
             w,
@@ -459,6 +496,9 @@ mod tests {
 
     #[test]
     fn escaping_covers_markup() {
-        assert_eq!(esc("<a href=\"x\">&'"), "&lt;a href=&quot;x&quot;&gt;&amp;&#39;");
+        assert_eq!(
+            esc("<a href=\"x\">&'"),
+            "&lt;a href=&quot;x&quot;&gt;&amp;&#39;"
+        );
     }
 }

@@ -92,7 +92,11 @@ pub struct YieldCounts {
 
 impl LotFigures {
     /// Builds the figures of a recorded lot.
-    pub fn from_records(info: &LotInfo, parts: &[PartRecord], design: Option<DesignFigures>) -> Self {
+    pub fn from_records(
+        info: &LotInfo,
+        parts: &[PartRecord],
+        design: Option<DesignFigures>,
+    ) -> Self {
         let scenario = crate::station::spec::parse_text("lot scenario", &info.scenario_toml).ok();
         LotFigures {
             lot: info.name.clone(),

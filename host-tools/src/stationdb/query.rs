@@ -1,8 +1,8 @@
 //! Reading the station database: a lot's status part by part, a serial's
 //! history, release of the images that passed, traceability records.
 
-use super::schema::{Db, DbError, NOW_SQL};
 use super::TOOL_VERSION;
+use super::schema::{Db, DbError, NOW_SQL};
 use rusqlite::{OptionalExtension, params};
 
 /// A lot's recorded facts.
@@ -286,7 +286,10 @@ pub fn release(db: &mut Db, lot: &str, serial: Option<&str>) -> Result<ReleaseOu
         .transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)
         .map_err(wrap)?;
     let mut out = ReleaseOutcome::default();
-    for p in parts.iter().filter(|p| serial.is_none_or(|s| p.serial == s)) {
+    for p in parts
+        .iter()
+        .filter(|p| serial.is_none_or(|s| p.serial == s))
+    {
         if p.released_at.is_some() {
             out.already.push(p.serial.clone());
             continue;

@@ -151,7 +151,11 @@ pub fn find_run(c: &Connection, csv_sha256: &str) -> rusqlite::Result<Option<Run
 }
 
 /// The lot's chamber run of `kind`, if recorded: (row id, CSV hash).
-pub fn lot_run(c: &Connection, lot_id: i64, kind: RunKind) -> rusqlite::Result<Option<(i64, String)>> {
+pub fn lot_run(
+    c: &Connection,
+    lot_id: i64,
+    kind: RunKind,
+) -> rusqlite::Result<Option<(i64, String)>> {
     c.query_row(
         "SELECT id, csv_sha256 FROM chamber_runs WHERE lot_id = ? AND kind = ? ORDER BY id LIMIT 1",
         params![lot_id, kind.as_str()],
@@ -375,7 +379,10 @@ pub fn insert_reject(
 }
 
 /// The newest fit whose part file has these bytes' hash: (fit id, lot id).
-pub fn fit_by_part_bytes(c: &Connection, part_bytes: &[u8]) -> rusqlite::Result<Option<(i64, i64)>> {
+pub fn fit_by_part_bytes(
+    c: &Connection,
+    part_bytes: &[u8],
+) -> rusqlite::Result<Option<(i64, i64)>> {
     c.query_row(
         "SELECT id, lot_id FROM fits WHERE part_sha256 = ? ORDER BY id DESC LIMIT 1",
         [sha256_hex(part_bytes)],

@@ -263,8 +263,8 @@ pub fn record_part(db: &mut Db, ids: LotIds, r: &PartResult) -> Result<bool, DbE
     if exists > 0 {
         return Ok(false);
     }
-    let fit_id =
-        record::insert_fit(&tx, ids.lot_id, ids.run_id, ids.design_id, &r.part, now).map_err(wrap)?;
+    let fit_id = record::insert_fit(&tx, ids.lot_id, ids.run_id, ids.design_id, &r.part, now)
+        .map_err(wrap)?;
     if let Some(image) = &r.image {
         let image_id = record::insert_image(&tx, fit_id, image, now).map_err(wrap)?;
         if let Some(v) = &r.verify {
@@ -304,7 +304,11 @@ pub fn begin_lot(db: &mut Db, input: &LotRunInput<'_>) -> Result<LotIds, DbError
     let lot = record::find_lot(&tx, input.lot).map_err(wrap)?;
     // Every refusal before the first write: a refused run changes nothing.
     for (hash, kind, csv) in [
-        (Some(&cal_hash), RunKind::Calibration, Some(input.calibration)),
+        (
+            Some(&cal_hash),
+            RunKind::Calibration,
+            Some(input.calibration),
+        ),
         (check_hash.as_ref(), RunKind::Check, input.check),
     ] {
         let (Some(hash), Some(csv)) = (hash, csv) else {
@@ -363,8 +367,9 @@ pub fn begin_lot(db: &mut Db, input: &LotRunInput<'_>) -> Result<LotIds, DbError
         let given = input.design.map(|d| d.hash.clone());
         if recorded != given {
             let show = |h: &Option<String>| {
-                h.as_ref()
-                    .map_or("no design".to_string(), |h| format!("design {}", &h[..16.min(h.len())]))
+                h.as_ref().map_or("no design".to_string(), |h| {
+                    format!("design {}", &h[..16.min(h.len())])
+                })
             };
             return Err(refuse(format!(
                 "lot '{}' is fitted on {}, this run gives {}",
@@ -380,8 +385,15 @@ pub fn begin_lot(db: &mut Db, input: &LotRunInput<'_>) -> Result<LotIds, DbError
     };
     let lot_id = match &lot {
         Some(l) => l.id,
-        None => record::insert_lot(&tx, input.lot, input.scenario, input.budget_ppm, design_id, now)
-            .map_err(wrap)?,
+        None => record::insert_lot(
+            &tx,
+            input.lot,
+            input.scenario,
+            input.budget_ppm,
+            design_id,
+            now,
+        )
+        .map_err(wrap)?,
     };
     let mut run_ids = [None, None];
     for (k, (kind, csv)) in [

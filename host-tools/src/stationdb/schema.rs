@@ -235,7 +235,8 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
             | OpenFlags::SQLITE_OPEN_NO_MUTEX,
     )
     .map_err(|e| corrupt(path, e))?;
-    conn.busy_timeout(BUSY_TIMEOUT).map_err(|e| corrupt(path, e))?;
+    conn.busy_timeout(BUSY_TIMEOUT)
+        .map_err(|e| corrupt(path, e))?;
     // Read-only questions first: nothing is written to a file we refuse.
     let app_id: i32 = conn
         .query_row("PRAGMA application_id", [], |r| r.get(0))
@@ -285,7 +286,11 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
     db.conn
         .execute_batch("PRAGMA foreign_keys=ON; PRAGMA synchronous=NORMAL;")
         .map_err(|e| db.err(e))?;
-    migrate(&mut db)?;
+    if version < SCHEMA_VERSION || app_id != APPLICATION_ID {
+        // Only a file that lacks something is written to: opening an
+        // up-to-date database changes nothing in it.
+        migrate(&mut db)?;
+    }
     Ok(db)
 }
 
