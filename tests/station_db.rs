@@ -74,9 +74,12 @@ fn count(c: &Connection, sql: &str) -> i64 {
     c.query_row(sql, [], |r| r.get(0)).unwrap()
 }
 
-/// (serial, part sha256, image crc32, verification pass, eol pass) of
-/// every part, in serial order: what two runs of one lot must agree on.
-fn lot_rows(db: &Path) -> Vec<(String, String, Option<i64>, Option<i64>, Option<i64>)> {
+/// (serial, part sha256, image crc32, verification pass, eol pass).
+type LotRow = (String, String, Option<i64>, Option<i64>, Option<i64>);
+
+/// Every part's [`LotRow`], in serial order: what two runs of one lot must
+/// agree on.
+fn lot_rows(db: &Path) -> Vec<LotRow> {
     let c = Connection::open(db).unwrap();
     let mut st = c
         .prepare(

@@ -183,7 +183,7 @@ impl Figure for EnvelopeFigure<'_> {
 pub fn histogram(values: &[f64], budget_ppm: f64) -> Vec<(String, f64)> {
     let hi = values.iter().copied().fold(budget_ppm, f64::max).max(1e-9);
     let w = hi / HISTOGRAM_BINS as f64;
-    let mut counts = vec![0usize; HISTOGRAM_BINS];
+    let mut counts = [0usize; HISTOGRAM_BINS];
     for &v in values {
         let k = ((v / w).floor().max(0.0) as usize).min(HISTOGRAM_BINS - 1);
         counts[k] += 1;

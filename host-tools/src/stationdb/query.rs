@@ -270,10 +270,10 @@ pub struct ReleaseOutcome {
 /// lists the others with the reason. One transaction.
 pub fn release(db: &mut Db, lot: &str, serial: Option<&str>) -> Result<ReleaseOutcome, DbError> {
     let (_, parts) = lot_status(db, lot)?;
-    if let Some(s) = serial {
-        if !parts.iter().any(|p| p.serial == s) {
-            return Err(db.refuse(format!("lot '{lot}' has no part '{s}'")));
-        }
+    if let Some(s) = serial
+        && !parts.iter().any(|p| p.serial == s)
+    {
+        return Err(db.refuse(format!("lot '{lot}' has no part '{s}'")));
     }
     let now = db.fixed_time.clone();
     let path = db.path.clone();
@@ -381,9 +381,11 @@ pub fn history(db: &Db, serial: &str) -> Result<Vec<HistoryEvent>, DbError> {
     Ok(rows)
 }
 
-/// Every stored image of a lot with its part file: (serial, part JSON,
-/// image bytes), in serial order.
-pub fn stored_images(db: &Db, lot: &str) -> Result<Vec<(String, Vec<u8>, Vec<u8>)>, DbError> {
+/// A stored image with its part: (serial, part JSON, image bytes).
+pub type StoredImage = (String, Vec<u8>, Vec<u8>);
+
+/// Every stored image of a lot with its part file, in serial order.
+pub fn stored_images(db: &Db, lot: &str) -> Result<Vec<StoredImage>, DbError> {
     let (lot_id, _) = lot_info(db, lot)?;
     let mut st = db
         .conn

@@ -334,18 +334,17 @@ pub fn begin_lot(db: &mut Db, input: &LotRunInput<'_>) -> Result<LotIds, DbError
                 )));
             }
         }
-        if let Some(l) = &lot {
-            if let Some((_, h)) = record::lot_run(&tx, l.id, kind).map_err(wrap)? {
-                if &h != hash {
-                    return Err(refuse(format!(
-                        "{}: lot '{}' was run on another {} CSV (sha256 {}); name a new lot with --lot",
-                        csv.name,
-                        l.name,
-                        kind.as_str(),
-                        &h[..16]
-                    )));
-                }
-            }
+        if let Some(l) = &lot
+            && let Some((_, h)) = record::lot_run(&tx, l.id, kind).map_err(wrap)?
+            && &h != hash
+        {
+            return Err(refuse(format!(
+                "{}: lot '{}' was run on another {} CSV (sha256 {}); name a new lot with --lot",
+                csv.name,
+                l.name,
+                kind.as_str(),
+                &h[..16]
+            )));
         }
     }
     if let Some(l) = &lot {
