@@ -350,6 +350,27 @@ mod tests {
     }
 
     #[test]
+    fn recorded_time_is_the_fixed_clock_when_set() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = open(&dir.path().join("t.sqlite")).unwrap();
+        let at = |fixed: Option<&str>| -> String {
+            db.conn
+                .query_row(&format!("SELECT {NOW_SQL}"), [fixed], |r| r.get(0))
+                .unwrap()
+        };
+        assert_eq!(
+            at(Some("2026-01-01T00:00:00.000Z")),
+            "2026-01-01T00:00:00.000Z"
+        );
+        // SQLite's clock: ISO 8601 UTC with milliseconds, 24 characters.
+        let now = at(None);
+        assert!(
+            now.len() == 24 && now.ends_with('Z') && now.as_bytes()[10] == b'T',
+            "{now}"
+        );
+    }
+
+    #[test]
     fn foreign_newer_and_garbage_files_are_refused_unchanged() {
         let dir = tempfile::tempdir().unwrap();
         let foreign = dir.path().join("f.sqlite");
