@@ -97,6 +97,11 @@ fn lot_rows(db: &Path) -> Vec<LotRow> {
     .unwrap()
 }
 
+fn parts_with_images(db: &Path) -> i64 {
+    let c = Connection::open(db).unwrap();
+    count(&c, "SELECT count(*) FROM images")
+}
+
 #[test]
 fn killed_lot_run_resumes_without_loss_or_duplicate() {
     let parts = if slow() { 1000 } else { 40 };
@@ -166,7 +171,13 @@ fn killed_lot_run_resumes_without_loss_or_duplicate() {
     drop(c);
     // Every stored image re-verified against its stored part.
     let check = ok_in(d, &["lot", "check", "lot", "--db", "station.sqlite"]);
-    assert!(check.contains("integrity_check: ok"), "{check}");
+    let images = parts_with_images(&d.join("station.sqlite"));
+    assert!(
+        check.contains(&format!(
+            "{images} stored images, {images} pass verify, 0 disagree"
+        )) && check.contains("integrity_check: ok"),
+        "{check}"
+    );
 
     if !slow() {
         // The same lot without interruption records the same parts, images
@@ -358,6 +369,10 @@ fn queries_release_only_verified_and_checked_images() {
         ),
         eligible.len() as i64
     );
+
+    // Rejected images re-verify as recorded: the check passes.
+    let check = ok_in(d, &["lot", "check", "q", "--db", "s.sqlite"]);
+    assert!(check.contains(" 0 disagree"), "{check}");
 
     let csv = ok_in(d, &["lot", "export", "q", "--db", "s.sqlite"]);
     assert_eq!(csv.lines().count(), 11, "{csv}");

@@ -43,8 +43,9 @@ pub enum LotCommand {
     /// A self-contained HTML lot report (no network, plots inline).
     #[command(after_help = super::CAUTIONS)]
     Report(ReportArgs),
-    /// Re-verify every stored image of a lot against its stored part and
-    /// check the database's integrity.
+    /// Re-verify every stored image of a lot against its stored part (exit
+    /// 1 when a verdict differs from the record) and check the database's
+    /// integrity.
     #[command(after_help = super::CAUTIONS)]
     Check(CheckArgs),
 }
@@ -443,13 +444,14 @@ fn check(args: CheckArgs, out: &mut dyn Write) -> Result<(), CliError> {
         .conn
         .query_row("PRAGMA integrity_check", [], |r| r.get(0))
         .map_err(|e| db_error(db.err(e)))?;
-    let stored = query::stored_images(&db, &args.lot).map_err(db_error)?;
+    let (budget, stored) = query::stored_images(&db, &args.lot).map_err(db_error)?;
     let mut failed = Vec::new();
+    let mut disagree = Vec::new();
     let mut curves_by_scenario = std::collections::BTreeMap::new();
-    for (serial, part_json, image) in &stored {
+    for s in &stored {
         let part = crate::station::part_file::PartFile::parse(
-            &format!("{}: part {serial}", args.db.db.display()),
-            &String::from_utf8_lossy(part_json),
+            &format!("{}: part {}", args.db.db.display(), s.serial),
+            &String::from_utf8_lossy(&s.part_json),
         )
         .map_err(|e| CliError::Input(e.to_string()))?;
         let key = crate::station::spec::to_toml(&part.scenario);
@@ -458,40 +460,57 @@ fn check(args: CheckArgs, out: &mut dyn Write) -> Result<(), CliError> {
             curves_by_scenario.insert(key.clone(), c);
         }
         let curves = &curves_by_scenario[&key];
-        let budget = part.scenario.budget_ppm;
-        let crc_ok = compensate::TableView::parse(image).is_ok();
+        // Parsing checks the image's CRC-32 before anything is evaluated.
         let verdict = pipeline::verify(
-            image,
+            &s.image,
             &part,
             curves,
             budget,
             pipeline::DENSE_TEMPS,
             pipeline::DENSE_STIMULI,
         );
-        match verdict {
-            Ok(v) if crc_ok && v.pass => {}
-            Ok(v) => failed.push(format!(
-                "{serial}: {:.1} ppm over allowance {:.1} ppm",
-                v.max_error_ppm, v.table_allowance_ppm
-            )),
-            Err(e) => failed.push(format!("{serial}: {e}")),
+        let pass = match verdict {
+            Ok(v) if v.pass => true,
+            Ok(v) => {
+                failed.push(format!(
+                    "{}: {:.1} ppm over allowance {:.1} ppm",
+                    s.serial, v.max_error_ppm, v.table_allowance_ppm
+                ));
+                false
+            }
+            Err(e) => {
+                failed.push(format!("{}: {e}", s.serial));
+                false
+            }
+        };
+        if s.verify_pass.is_some_and(|recorded| recorded != pass) {
+            disagree.push(s.serial.clone());
         }
     }
     for f in &failed {
-        writeln!(out, "{f}")?;
+        writeln!(out, "fails verify: {f}")?;
+    }
+    for s in &disagree {
+        writeln!(
+            out,
+            "{s}: re-verification disagrees with the recorded verdict"
+        )?;
     }
     writeln!(
         out,
-        "lot '{}': {} stored images, {} pass verify; integrity_check: {integrity}",
+        "lot '{}': {} stored images, {} pass verify, {} disagree with their record; integrity_check: {integrity}",
         args.lot,
         stored.len(),
-        stored.len() - failed.len()
+        stored.len() - failed.len(),
+        disagree.len()
     )?;
-    if integrity != "ok" || !failed.is_empty() {
+    // A stored image that fails verify was recorded as rejected: only a
+    // verdict that changed, or a damaged file, fails the check.
+    if integrity != "ok" || !disagree.is_empty() {
         return Err(CliError::CheckFailed(format!(
-            "lot '{}': {} image(s) fail verify, integrity_check {integrity}",
+            "lot '{}': {} image(s) re-verify differently from their record, integrity_check {integrity}",
             args.lot,
-            failed.len()
+            disagree.len()
         )));
     }
     Ok(())

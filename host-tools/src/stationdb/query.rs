@@ -381,22 +381,44 @@ pub fn history(db: &Db, serial: &str) -> Result<Vec<HistoryEvent>, DbError> {
     Ok(rows)
 }
 
-/// A stored image with its part: (serial, part JSON, image bytes).
-pub type StoredImage = (String, Vec<u8>, Vec<u8>);
+/// A stored image with its part and its recorded verification.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StoredImage {
+    /// Serial.
+    pub serial: String,
+    /// The part file's bytes.
+    pub part_json: Vec<u8>,
+    /// The image's bytes.
+    pub image: Vec<u8>,
+    /// Recorded verdict of its latest verification, if any.
+    pub verify_pass: Option<bool>,
+}
 
-/// Every stored image of a lot with its part file, in serial order.
-pub fn stored_images(db: &Db, lot: &str) -> Result<Vec<StoredImage>, DbError> {
-    let (lot_id, _) = lot_info(db, lot)?;
+/// The lot's budget and every stored image of it with its part file, in
+/// serial order.
+pub fn stored_images(db: &Db, lot: &str) -> Result<(f64, Vec<StoredImage>), DbError> {
+    let (lot_id, info) = lot_info(db, lot)?;
     let mut st = db
         .conn
         .prepare(
-            "SELECT f.serial, f.part_json, i.bytes FROM images i JOIN fits f ON f.id = i.fit_id
+            "SELECT f.serial, f.part_json, i.bytes,
+                    (SELECT pass FROM verifications WHERE image_id = i.id ORDER BY id DESC LIMIT 1)
+             FROM images i JOIN fits f ON f.id = i.fit_id
              WHERE f.lot_id = ? ORDER BY f.serial, i.id",
         )
         .map_err(|e| db.err(e))?;
-    st.query_map([lot_id], |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)))
+    let images = st
+        .query_map([lot_id], |r| {
+            Ok(StoredImage {
+                serial: r.get(0)?,
+                part_json: r.get(1)?,
+                image: r.get(2)?,
+                verify_pass: r.get(3)?,
+            })
+        })
         .and_then(|rows| rows.collect::<Result<Vec<_>, _>>())
-        .map_err(|e| db.err(e))
+        .map_err(|e| db.err(e))?;
+    Ok((info.budget_ppm, images))
 }
 
 /// The lot's traceability records as CSV (one row per part, the columns of
