@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Installs, idempotently, what the tests need on a fresh Debian machine:
 # the pinned Rust toolchain with its targets (rust-toolchain.toml), QEMU for
-# Cortex-M, the cross binutils and C compiler (Debian packages), and Python's mpmath for the
+# Cortex-M, the cross binutils and C compiler and headless Chromium (Debian
+# packages), and Python's mpmath for the
 # reference check; with SEMIDRIFT_SLOW=1 also cargo-mutants (scripts/mutants.sh).
 # Fails loudly if something cannot be installed.
 set -euo pipefail
@@ -27,6 +28,8 @@ command -v qemu-system-arm >/dev/null 2>&1 || need_apt+=(qemu-system-arm)
 command -v arm-none-eabi-size >/dev/null 2>&1 || need_apt+=(binutils-arm-none-eabi)
 # The C firmware example (examples/firmware-c) and its tests.
 command -v arm-none-eabi-gcc >/dev/null 2>&1 || need_apt+=(gcc-arm-none-eabi)
+# Headless browser of the lot-report test (tests/lot_report_browser.rs).
+command -v chromium >/dev/null 2>&1 || need_apt+=(chromium)
 if ((${#need_apt[@]})); then
     if [ "$(id -u)" -ne 0 ] && ! command -v sudo >/dev/null 2>&1; then
         echo "install-prereqs: need ${need_apt[*]} (Debian packages) but not root and no sudo" >&2
@@ -37,6 +40,7 @@ if ((${#need_apt[@]})); then
     DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq --no-install-recommends "${need_apt[@]}"
 fi
 qemu-system-arm --version | head -1
+chromium --version
 
 if ! python3 -c 'import mpmath' >/dev/null 2>&1; then
     python3 -m pip install --quiet mpmath

@@ -50,6 +50,7 @@ fn every_subcommand_help_carries_the_caution() {
         "table",
         "verify",
         "apply",
+        "lot",
         "demo",
     ] {
         assert!(
@@ -74,8 +75,8 @@ fn every_subcommand_help_carries_the_caution() {
             checked += 1;
         }
     }
-    // 11 subcommands and 5 plot kinds.
-    assert!(checked >= 16, "only {checked} help texts checked");
+    // 12 subcommands, 5 plot kinds and 7 lot commands.
+    assert!(checked >= 24, "only {checked} help texts checked");
 }
 
 fn read_json(path: &Path) -> Value {

@@ -2,8 +2,8 @@
 //! scenarios, everything written under one folder, byte-identical from run to
 //! run (fixed seeds, sorted outputs, no timestamps, deterministic reductions).
 
+use crate::plot::report::lot_report_html;
 use crate::plot::station::{comparison_series, error_svg, table_series};
-use crate::station::apply::{ImageCompensation, apply_rows};
 use crate::station::chamber::{self, ChamberData};
 use crate::station::compare::{Comparison, QualifiedComparison, compare, compare_qualified};
 use crate::station::curves::ShapeCurves;
@@ -17,6 +17,10 @@ use crate::station::pipeline::{self, DENSE_STIMULI, DENSE_TEMPS};
 use crate::station::scenario::Scenario;
 use crate::station::simulate::{Plan, draw_parts, measure};
 use crate::station::spec::to_toml;
+use crate::stationdb::figures::{DesignFigures, LotFigures, PartFigures, cautions};
+use crate::stationdb::query::Terms;
+use crate::stationdb::record::{EolCheck, image_crc, sha256_hex};
+use crate::stationdb::run::eol_check;
 use rayon::prelude::*;
 use std::path::Path;
 
@@ -166,10 +170,8 @@ pub fn run_scenario(
     let (cal_plan, check_plan) = chamber_plans(scenario);
     let cal_rows = step(scenario, measure(scenario, &parts, &cal_plan, DEMO_SEED))?;
     let check_rows = step(scenario, measure(scenario, &parts, &check_plan, DEMO_SEED))?;
-    write_atomic(
-        &dir.join("chamber-calibration.csv"),
-        &chamber::to_csv_bytes(&cal_rows),
-    )?;
+    let cal_csv = chamber::to_csv_bytes(&cal_rows);
+    write_atomic(&dir.join("chamber-calibration.csv"), &cal_csv)?;
     write_atomic(
         &dir.join("chamber-check.csv"),
         &chamber::to_csv_bytes(&check_rows),
@@ -248,7 +250,11 @@ pub fn run_scenario(
     let mut verify_max: f64 = 0.0;
     let mut image_check_max: f64 = 0.0;
     let groups = check.by_serial();
-    let (lo, hi) = scenario.range_c;
+    let mut report_parts: Vec<PartFigures> = fitted
+        .iter()
+        .filter(|p| !p.is_ok())
+        .map(|p| rejected_figures(p, "fit", &p.status))
+        .collect();
     for (k, t) in tables.iter().enumerate() {
         let (serial, image, report) = match t {
             Ok(x) => x,
@@ -258,6 +264,7 @@ pub fn run_scenario(
                         .join(format!("{}.error.txt", ok[k].serial)),
                     format!("{e}\n").as_bytes(),
                 )?;
+                report_parts.push(rejected_figures(ok[k], "table", e));
                 continue;
             }
         };
@@ -298,24 +305,36 @@ pub fn run_scenario(
             }
         }
         let part = ok[k];
-        if let Some(rows) = groups.get(part.serial.as_str()) {
-            let inside: Vec<&chamber::ChamberRow> = rows
-                .iter()
-                .copied()
-                .filter(|r| r.chamber_c >= lo && r.chamber_c <= hi)
-                .collect();
-            let comp = step(
+        let eol = match groups.get(part.serial.as_str()) {
+            Some(rows) => Some(step(
                 scenario,
-                ImageCompensation::new(image, scenario.output_adc.lsb(), scenario.signal_adc.lsb()),
-            )?;
-            for r in apply_rows(part, &curves, &comp, &inside) {
-                if r.clipped {
-                    continue;
-                }
-                image_check_max = image_check_max.max(r.error_ppm.abs());
-            }
+                eol_check(part, &curves, image, rows, scenario.budget_ppm),
+            )?),
+            None => None,
+        };
+        if let Some(e) = &eol {
+            image_check_max = image_check_max.max(e.max_error_ppm);
         }
+        report_parts.push(part_figures(part, image, report, eol.as_ref()));
     }
+    report_parts.sort_by(|a, b| a.serial.cmp(&b.serial));
+    let figures = LotFigures {
+        lot: format!("{} demo lot", scenario.name),
+        scenario: scenario.name.clone(),
+        simulated: scenario.simulated,
+        cautions: cautions(scenario.simulated),
+        budget_ppm: scenario.budget_ppm,
+        range_c: scenario.range_c,
+        design: Some(DesignFigures {
+            hash: design.hash.clone(),
+            qualification_parts: Some(design.qualification.parts),
+            model_error_ppm: Some(model_error_ppm),
+        }),
+        calibration_sha256: Some(sha256_hex(&cal_csv)),
+        parts: report_parts,
+    };
+    let html = step(scenario, lot_report_html(&figures))?;
+    write_atomic(&dir.join("report.html"), html.as_bytes())?;
     let summary = ScenarioSummary {
         scenario: scenario.name.clone(),
         simulated: scenario.simulated,
@@ -336,6 +355,81 @@ pub fn run_scenario(
     };
     write_atomic(&dir.join("summary.json"), &to_json_bytes(&summary))?;
     Ok(summary)
+}
+
+/// A part the demo rejected, as the lot report shows it.
+fn rejected_figures(part: &PartFile, stage: &str, reason: &str) -> PartFigures {
+    PartFigures {
+        serial: part.serial.clone(),
+        state: "rejected".to_string(),
+        fit_rms_ppm: part.fit_rms_ppm.is_finite().then_some(part.fit_rms_ppm),
+        image_bytes: None,
+        image_crc32: None,
+        verify_max_ppm: None,
+        allowance_ppm: None,
+        eol_max_ppm: None,
+        terms: None,
+        envelope: Vec::new(),
+        reject: Some((stage.to_string(), reason.to_string())),
+    }
+}
+
+/// A part with its verified image (and end-of-line check), as the lot
+/// report shows it; `passed` when both checks passed (the demo releases
+/// nothing).
+fn part_figures(
+    part: &PartFile,
+    image: &[u8],
+    v: &pipeline::VerifyReport,
+    eol: Option<&EolCheck>,
+) -> PartFigures {
+    let reject = if !v.pass {
+        Some((
+            "verify".to_string(),
+            format!(
+                "table error {:.1} ppm exceeds the allowance {:.1} ppm",
+                v.max_error_ppm, v.table_allowance_ppm
+            ),
+        ))
+    } else {
+        match eol {
+            Some(e) if !e.pass => Some((
+                "end-of-line".to_string(),
+                format!(
+                    "worst error {:.1} ppm at held-out temperatures exceeds the budget {:.1} ppm",
+                    e.max_error_ppm, e.limit_ppm
+                ),
+            )),
+            Some(_) => None,
+            None => Some(("end-of-line".to_string(), "no check rows".to_string())),
+        }
+    };
+    let t = &v.terms;
+    PartFigures {
+        serial: part.serial.clone(),
+        state: if reject.is_some() {
+            "rejected"
+        } else {
+            "passed"
+        }
+        .to_string(),
+        fit_rms_ppm: part.fit_rms_ppm.is_finite().then_some(part.fit_rms_ppm),
+        image_bytes: Some(image.len() as i64),
+        image_crc32: Some(format!("{:08x}", image_crc(image))),
+        verify_max_ppm: Some(v.max_error_ppm),
+        allowance_ppm: Some(v.table_allowance_ppm),
+        eol_max_ppm: eol.map(|e| e.max_error_ppm),
+        terms: Some(Terms {
+            interpolation_ppm: t.interpolation_ppm,
+            quantization_ppm: t.quantization_ppm,
+            runtime_model_ppm: t.runtime_model_ppm,
+            fit_residual_ppm: t.fit_residual_ppm,
+            temperature_ppm: t.temperature_ppm,
+            total_ppm: t.total_ppm,
+        }),
+        envelope: eol.map(|e| e.envelope.clone()).unwrap_or_default(),
+        reject,
+    }
 }
 
 /// Formats the printed summary of the demo.

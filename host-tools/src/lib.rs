@@ -12,3 +12,4 @@ pub mod gdb_remote;
 pub mod physics;
 pub mod plot;
 pub mod station;
+pub mod stationdb;

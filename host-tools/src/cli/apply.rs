@@ -27,6 +27,12 @@ pub struct ApplyArgs {
     /// JSON on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Station database: record this run as the part's end-of-line check of
+    /// the image (rows inside the operating range judged against the
+    /// scenario's budget; the image must be the first argument and its part
+    /// recorded there).
+    #[arg(long)]
+    pub db: Option<PathBuf>,
 }
 
 /// The `--json` report.
@@ -76,6 +82,17 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         args.part_or_image.clone()
     };
     let part = read_part_for(&part_path, args.design.as_deref())?;
+    let mut recording = match &args.db {
+        Some(_) if !is_image => {
+            return Err(CliError::option(
+                "--db",
+                &args.part_or_image.display().to_string(),
+                "an end-of-line check is of a table image: give the image, with --against PART",
+            ));
+        }
+        Some(db) => Some(super::record::prepare(db, &part_path)?),
+        None => None,
+    };
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
     super::report_rows(&data);
@@ -116,6 +133,17 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         &model_comp
     };
     let applied = apply_rows(&part, &curves, method, &rows);
+    if let Some((db, fit_id)) = &mut recording {
+        let check = crate::stationdb::run::eol_check(
+            &part,
+            &curves,
+            &first,
+            &rows,
+            part.scenario.budget_ppm,
+        )
+        .map_err(|e| CliError::Input(format!("{}: {e}", args.part_or_image.display())))?;
+        super::record::eol(db, *fit_id, &first, &check)?;
+    }
     // Rows on the ADC's rails are reported (flag `clipped`) but not judged.
     let max = applied
         .iter()

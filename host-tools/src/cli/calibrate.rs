@@ -25,6 +25,14 @@ pub struct CalibrateArgs {
     /// No progress bar.
     #[arg(long, short)]
     pub quiet: bool,
+    /// Station database: also record the chamber run (CSV content hash),
+    /// the design and every part's fit under the lot.
+    #[arg(long)]
+    pub db: Option<PathBuf>,
+    /// Lot name in the database [default: the CSV's file name without
+    /// extension].
+    #[arg(long, requires = "db")]
+    pub lot: Option<String>,
 }
 
 /// Runs `semidrift calibrate`. Exit 2 if rows were bad (the good parts are
@@ -58,6 +66,41 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
             data.errors.len()
         )));
     }
+    // The database's refusals (a CSV recorded under another lot, a lot of
+    // other inputs) come before any part file is written.
+    let csv_bytes = match &args.db {
+        Some(_) => std::fs::read(&args.csv)
+            .map_err(|e| CliError::Input(format!("{}: {e}", args.csv.display())))?,
+        None => Vec::new(),
+    };
+    let lot_name = args.lot.clone().unwrap_or_else(|| {
+        args.csv
+            .file_stem()
+            .map_or("lot".to_string(), |s| s.to_string_lossy().to_string())
+    });
+    let csv_name = args.csv.display().to_string();
+    let input = crate::stationdb::run::LotRunInput {
+        lot: &lot_name,
+        scenario: &scenario,
+        curves: &curves,
+        budget_ppm: scenario.budget_ppm,
+        design: design.as_ref(),
+        calibration: crate::stationdb::run::CsvInput {
+            name: &csv_name,
+            bytes: &csv_bytes,
+            data: &data,
+        },
+        check: None,
+    };
+    let mut recording = match &args.db {
+        Some(path) => {
+            let mut db = super::lot::open_db(path)?;
+            let ids =
+                crate::stationdb::run::begin_lot(&mut db, &input).map_err(super::lot::db_error)?;
+            Some((db, ids))
+        }
+        None => None,
+    };
     let parts = lot::calibrate_lot_with(
         &scenario,
         &curves,
@@ -65,6 +108,21 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         design.as_ref(),
         &super::progress::Bar::new(args.quiet),
     );
+    let mut recorded = 0;
+    if let Some((db, ids)) = &mut recording {
+        for p in &parts {
+            let r = crate::stationdb::run::PartResult {
+                part: p.clone(),
+                image: None,
+                verify: None,
+                eol: None,
+                reject: (!p.is_ok()).then(|| ("fit", p.status.clone())),
+            };
+            if crate::stationdb::run::record_part(db, *ids, &r).map_err(super::lot::db_error)? {
+                recorded += 1;
+            }
+        }
+    }
     let mut bad = Vec::new();
     let mut unwritten = Vec::new();
     for p in &parts {
@@ -103,6 +161,14 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         parts.len() - unwritten.len(),
         args.out_dir.display()
     )?;
+    if let Some((db, _)) = &recording {
+        writeln!(
+            out,
+            "{recorded} fits recorded in {} under lot '{lot_name}' ({} already there)",
+            db.path.display(),
+            parts.len() - recorded
+        )?;
+    }
     match &design {
         Some(d) => writeln!(
             out,

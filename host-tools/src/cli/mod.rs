@@ -14,11 +14,13 @@ pub mod element;
 mod eol;
 mod error;
 mod flash;
+mod lot;
 mod model;
 mod plot;
 mod progress;
 mod qualify;
 pub mod range;
+mod record;
 pub mod sample_args;
 mod simulate;
 mod table;
@@ -96,6 +98,11 @@ pub enum Command {
     /// Run a part's check rows through its flashed image on the part itself.
     #[command(after_help = CAUTIONS)]
     Eol(eol::EolArgs),
+    /// The station database: resumable lot runs, status, history, release,
+    /// traceability export and the HTML lot report.
+    #[command(after_help = CAUTIONS)]
+    #[command(subcommand)]
+    Lot(lot::LotCommand),
     /// Run the whole station chain on both demo scenarios.
     #[command(after_help = CAUTIONS)]
     Demo(demo::DemoArgs),
@@ -153,6 +160,7 @@ fn dispatch(command: Command, out: &mut dyn Write) -> Result<(), CliError> {
         Command::Apply(args) => apply::run(args, out),
         Command::Flash(args) => flash::run(args, out),
         Command::Eol(args) => eol::run(args, out),
+        Command::Lot(args) => lot::run(args, out),
         Command::Demo(args) => demo::run(args, out),
     }
 }

@@ -57,6 +57,10 @@ pub struct TableArgs {
     /// temperature update on the part) [default: the least flash of both].
     #[arg(long, value_enum, value_name = "AXIS")]
     pub channel_axis: Option<AxisArg>,
+    /// Station database: also record the image (bytes and CRC) under the
+    /// part's recorded fit (the part file must be recorded there).
+    #[arg(long)]
+    pub db: Option<PathBuf>,
 }
 
 /// Parses a decimal or 0x-prefixed hexadecimal address.
@@ -161,6 +165,10 @@ pub fn budget_ppm(
 pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part_for(&args.part, args.design.as_deref())?;
     let budget = budget_ppm(args.budget, &part, &args.part)?;
+    let mut recording = match &args.db {
+        Some(db) => Some(super::record::prepare(db, &args.part)?),
+        None => None,
+    };
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let restrict = Restrict {
         interpolation: args.interpolation.map(Into::into),
@@ -198,6 +206,9 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
     inputs.extend(args.design.as_deref());
     output::check_not_input(&path, &inputs)?;
     output::write_atomic(&path, &bytes).map_err(|e| CliError::Input(e.to_string()))?;
+    if let Some((db, fit_id)) = &mut recording {
+        super::record::image(db, *fit_id, &outcome.image)?;
+    }
     if args.json {
         out.write_all(&output::to_json_bytes(&outcome))?;
         return Ok(());

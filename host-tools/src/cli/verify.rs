@@ -33,12 +33,20 @@ pub struct VerifyArgs {
     /// JSON report on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Station database: also record the verification (and the image, if
+    /// new) under the part's recorded fit.
+    #[arg(long)]
+    pub db: Option<PathBuf>,
 }
 
 /// Runs `semidrift verify`; exit 1 when over budget.
 pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let part = read_part_for(&args.against, args.design.as_deref())?;
     let image = read_image(&args.image)?;
+    let mut recording = match &args.db {
+        Some(db) => Some(super::record::prepare(db, &args.against)?),
+        None => None,
+    };
     let budget = super::table::budget_ppm(args.budget, &part, &args.against)?;
     let (temps_default, stimuli_default) = compensate::TableView::parse(&image)
         .map(|v| pipeline::dense_counts(&pipeline::plan_of(&v)))
@@ -75,6 +83,9 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             )),
             e => CliError::Input(format!("{}: {e}", args.image.display())),
         })?;
+    if let Some((db, fit_id)) = &mut recording {
+        super::record::verification(db, *fit_id, &image, &report)?;
+    }
     if args.json {
         out.write_all(&output::to_json_bytes(&report))?;
     } else {

@@ -10,6 +10,7 @@
 
 pub mod element;
 pub mod model;
+pub mod report;
 pub mod station;
 pub mod style;
 
