@@ -296,6 +296,7 @@ fn flash_and_end_of_line_check_on_both_boards() {
             &[
                 "flash",
                 "f32.bin",
+                // Same flash call as above, with the f32 image.
                 "--gdb",
                 &server,
                 "--address",

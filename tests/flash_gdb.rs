@@ -18,6 +18,7 @@ use std::process::{Command, Output};
 use std::sync::OnceLock;
 use target::{BOARDS, free_port, qemu};
 
+// Same steps as the lots of eol_gdb.rs, hostile_input.rs: each builds what its faults need.
 /// A folder with a scenario, part files and the images of two parts.
 fn lot() -> &'static Path {
     static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();

@@ -93,6 +93,7 @@ fn lot() -> &'static Lot {
             "--out",
             "check.csv",
         ]);
+        // Same steps as the lots of eol_gdb.rs, flash_gdb.rs: here three parts, f32 images.
         ok(&[
             "calibrate",
             "spec.toml",
@@ -540,6 +541,7 @@ fn scenario_nonsense_is_refused_at_load_with_line_and_key() {
             "noise_rms = nan",
             "output_adc.noise_rms",
         ),
+        // Table-driven: one row per scenario field made bad, so the rows share their shape.
         ("range = 0.0515625", "range = 0.0", "output_adc.range"),
         (
             "resistance_ohm = 5000.0",
@@ -753,6 +755,7 @@ fn smaller_cases_header_only_repeats_clamped_rows_closed_stdout_stale_temporarie
         text(&o.stderr)
     );
     // A closed standard output is a normal end.
+    // Same model arguments as tests/cli_model.rs: here with a closed standard output.
     let mut child = Command::new(semidrift_bin())
         .args([
             "model",

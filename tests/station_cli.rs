@@ -41,6 +41,7 @@ fn chain(dir: &Path) -> String {
     ok_in(
         dir,
         &[
+            // Same calibrate call as tests/cli_plot_station.rs: each test file builds its own lot.
             "calibrate",
             "well.toml",
             "cal.csv",
@@ -600,6 +601,7 @@ fn signal_axis_images_verify_and_apply() {
                 .unwrap();
         assert_eq!(v["pass"], true, "{axis}: {v}");
         assert_eq!(v["plan"]["axis"].as_str().unwrap_or("temperature"), axis);
+        // Same verify-then-apply steps as the loop above, here per plan axis.
         let a: serde_json::Value = serde_json::from_str(&ok_in(
             d,
             &["apply", file, "check.csv", "--against", part, "--json"],

@@ -56,26 +56,23 @@ pub fn stderr(o: &Output) -> String {
 
 /// Asserts success and returns stdout.
 pub fn ok(args: &[&str]) -> String {
-    let o = run(args);
-    assert!(
-        o.status.success(),
-        "semidrift {args:?} failed with {:?}: {}",
-        o.status.code(),
-        stderr(&o)
-    );
-    stdout(&o)
+    succeeded(args, &run(args))
 }
 
 /// Asserts success of a run in `dir` and returns stdout.
 pub fn ok_in(dir: &Path, args: &[&str]) -> String {
-    let o = run_in(dir, args);
+    succeeded(args, &run_in(dir, args))
+}
+
+/// Asserts that the run of `args` succeeded and returns its stdout.
+fn succeeded(args: &[&str], o: &Output) -> String {
     assert!(
         o.status.success(),
         "semidrift {args:?}: exit {:?}: {}",
         o.status.code(),
-        stderr(&o)
+        stderr(o)
     );
-    stdout(&o)
+    stdout(o)
 }
 
 /// Asserts exit code 2, empty stdout and a single-line error on stderr that

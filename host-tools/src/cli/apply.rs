@@ -17,6 +17,7 @@ pub struct ApplyArgs {
     pub part_or_image: PathBuf,
     /// Chamber CSV with the rows to compensate.
     pub csv: PathBuf,
+    // Documented options read alike across commands (verify.rs, part_file.rs); each is its own.
     /// The part file, when the first argument is an image (ADC scale and span).
     #[arg(long)]
     pub against: Option<PathBuf>,

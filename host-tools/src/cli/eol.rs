@@ -92,6 +92,7 @@ pub fn run(args: EolArgs, out: &mut dyn Write) -> Result<(), CliError> {
             data.errors.len()
         )));
     }
+    // Same row filter as in apply.rs: the rows of this part only.
     let rows: Vec<&chamber::ChamberRow> = data
         .rows
         .iter()

@@ -141,6 +141,7 @@ impl OutputProblem<'_> {
     }
 }
 
+// Same FitProblem plumbing as ThermoProblem above; the residuals differ.
 impl FitProblem for OutputProblem<'_> {
     fn param_names(&self) -> &[&'static str] {
         &self.names
@@ -297,6 +298,7 @@ fn fit_output(
     (result, params)
 }
 
+// Fit helpers end and begin alike (as in design/model.rs); the fits differ.
 /// Leave-one-temperature-out cross-validation of a part's calibration (module
 /// docs) with the part's full thermometer `th`: one [`HoldOut`] per distinct
 /// chamber temperature, ascending; empty below 3 temperatures.
@@ -418,6 +420,7 @@ pub fn calibrate_part(
     if holdout_max_ppm.is_nan() {
         status = "cross-validation: a refit without one interior temperature failed".into();
     }
+    // Same FitPoint rows as in design/calibrate.rs: the two fits use different models.
     let points: Vec<FitPoint> = rows
         .iter()
         .map(|r| {

@@ -108,6 +108,7 @@ pub struct PartFile {
     pub thermometer_max_k: f64,
     /// Temperature-signal noise referred to temperature at T_ref, K (one sigma).
     pub signal_noise_k: f64,
+    // Documented fields read alike (design/model.rs, fitting/curves.rs); each is its own.
     /// Output residual rms, ppm of span.
     pub fit_rms_ppm: f64,
     /// Largest output residual, ppm of span.
@@ -213,6 +214,7 @@ impl PartFile {
 
     /// Parses a part file's text; `file` names it in messages.
     pub fn parse(file: &str, text: &str) -> Result<PartFile, PartFileError> {
+        // Same serde error-to-field mapping as design/file.rs; each file type has its own error.
         let part: PartFile = serde_json::from_str(text).map_err(|e| {
             let message = e.to_string();
             // serde_json names missing/unknown fields in backticks.
@@ -254,6 +256,7 @@ impl PartFile {
                 message: "neither physics parameters nor a complete design fit".into(),
             });
         }
+        // Same line lookup as the design check above, for the format key.
         if part.format != PART_FORMAT {
             let line = text
                 .lines()

@@ -297,6 +297,7 @@ impl PartFile {
     }
 }
 
+// Test modules open alike (as in design/basis.rs); the tests differ.
 #[cfg(test)]
 mod tests {
     use super::*;
