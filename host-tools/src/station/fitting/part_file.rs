@@ -217,8 +217,7 @@ impl PartFile {
         // Same serde error-to-field mapping as design/file.rs; each file type has its own error.
         let part: PartFile = serde_json::from_str(text).map_err(|e| {
             let message = e.to_string();
-            // serde_json names missing/unknown fields in backticks.
-            let field = message.split('`').nth(1).unwrap_or("-").to_string();
+            let field = crate::station::limits::json_error_field(&message);
             PartFileError::Parse {
                 file: file.to_string(),
                 line: e.line(),
