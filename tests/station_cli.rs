@@ -171,6 +171,31 @@ fn verify_over_budget_exits_1() {
     assert_eq!(v["pass"], false);
 }
 
+/// `apply` on a chamber file without the part's rows is refused (exit 2)
+/// with the file, the field and the serial; no row is compensated.
+#[test]
+fn apply_without_the_parts_rows_is_refused() {
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    let check = std::fs::read_to_string(d.path().join("check.csv")).unwrap();
+    let others: String = check
+        .lines()
+        .filter(|l| !l.contains(serial.as_str()))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    assert!(others.lines().count() > 1, "other parts' rows remain");
+    std::fs::write(d.path().join("others.csv"), others).unwrap();
+    let o = run_in(d.path(), &["apply", &part, "others.csv", "--json"]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("others.csv") && err.contains("serial") && err.contains(&serial),
+        "{err}"
+    );
+    assert!(stdout(&o).is_empty());
+}
+
 /// `verify` decides against `budget - fit - temperature - runtime`: a budget
 /// 3 ppm below the measured table error plus the other terms must fail, one
 /// 3 ppm above must pass. The fit term is checked against the part file's

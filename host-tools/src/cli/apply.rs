@@ -80,19 +80,7 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
     super::report_rows(&data);
-    let rows: Vec<&chamber::ChamberRow> = data
-        .rows
-        .iter()
-        .filter(|r| r.serial == part.serial)
-        .collect();
-    if rows.is_empty() {
-        return Err(CliError::at(
-            &args.csv.display().to_string(),
-            1,
-            "serial",
-            format!("no rows for part {}", part.serial),
-        ));
-    }
+    let rows = super::part_rows(&data, &args.csv, &part.serial)?;
     let model_comp;
     let image_comp;
     let method: &dyn Compensation = if is_image {
