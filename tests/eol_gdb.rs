@@ -39,16 +39,7 @@ fn lot() -> &'static Path {
                 String::from_utf8_lossy(&o.stderr)
             );
         };
-        ok(&[
-            "simulate",
-            "well-logger",
-            "--parts",
-            "2",
-            "--out",
-            "cal.csv",
-            "--write-spec",
-            "spec.toml",
-        ]);
+        common::calibrated_lot(p, "2");
         ok(&[
             "simulate",
             "spec.toml",
@@ -57,14 +48,6 @@ fn lot() -> &'static Path {
             "--check",
             "--out",
             "check.csv",
-        ]);
-        ok(&[
-            "calibrate",
-            "spec.toml",
-            "cal.csv",
-            "--out-dir",
-            "parts",
-            "-q",
         ]);
         for (serial, format, out) in [
             ("WELL-0001", "q", "q.bin"),

@@ -18,7 +18,7 @@ use std::process::{Command, Output};
 use std::sync::OnceLock;
 use target::{BOARDS, free_port, qemu};
 
-// Same steps as the lots of eol_gdb.rs, hostile_input.rs: each builds what its faults need.
+// Same opening as eol_gdb.rs: each file keeps its own lot on common::calibrated_lot.
 /// A folder with a scenario, part files and the images of two parts.
 fn lot() -> &'static Path {
     static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();
@@ -33,24 +33,7 @@ fn lot() -> &'static Path {
                 String::from_utf8_lossy(&o.stderr)
             );
         };
-        ok(&[
-            "simulate",
-            "well-logger",
-            "--parts",
-            "2",
-            "--out",
-            "cal.csv",
-            "--write-spec",
-            "spec.toml",
-        ]);
-        ok(&[
-            "calibrate",
-            "spec.toml",
-            "cal.csv",
-            "--out-dir",
-            "parts",
-            "-q",
-        ]);
+        common::calibrated_lot(p, "2");
         for s in ["WELL-0001", "WELL-0002"] {
             ok(&[
                 "table",

@@ -74,16 +74,7 @@ fn lot() -> &'static Lot {
             let o = run(p, args);
             assert!(o.status.success(), "{args:?}: {}", text(&o.stderr));
         };
-        ok(&[
-            "simulate",
-            "well-logger",
-            "--parts",
-            "3",
-            "--out",
-            "cal.csv",
-            "--write-spec",
-            "spec.toml",
-        ]);
+        common::calibrated_lot(p, "3");
         ok(&[
             "simulate",
             "well-logger",
@@ -92,15 +83,6 @@ fn lot() -> &'static Lot {
             "--check",
             "--out",
             "check.csv",
-        ]);
-        // Same steps as the lots of eol_gdb.rs, flash_gdb.rs: here three parts, f32 images.
-        ok(&[
-            "calibrate",
-            "spec.toml",
-            "cal.csv",
-            "--out-dir",
-            "parts",
-            "-q",
         ]);
         for s in ["WELL-0001", "WELL-0002"] {
             ok(&[

@@ -75,6 +75,35 @@ fn succeeded(args: &[&str], o: &Output) -> String {
     stdout(o)
 }
 
+/// Simulates a well-logger lot of `parts` parts in `dir` (`cal.csv` and
+/// its scenario `spec.toml`) and calibrates it into `dir/parts`.
+pub fn calibrated_lot(dir: &Path, parts: &str) {
+    ok_in(
+        dir,
+        &[
+            "simulate",
+            "well-logger",
+            "--parts",
+            parts,
+            "--out",
+            "cal.csv",
+            "--write-spec",
+            "spec.toml",
+        ],
+    );
+    ok_in(
+        dir,
+        &[
+            "calibrate",
+            "spec.toml",
+            "cal.csv",
+            "--out-dir",
+            "parts",
+            "-q",
+        ],
+    );
+}
+
 /// Asserts exit code 2, empty stdout and a single-line error on stderr that
 /// contains every fragment; returns that line.
 pub fn bad_input(args: &[&str], fragments: &[&str]) -> String {
