@@ -15,11 +15,11 @@ mod common;
 #[path = "common/target.rs"]
 mod target;
 
-use common::semidrift_bin;
+use common::run_in as run;
 use host_tools::gdb_remote::Remote;
 use serde_json::Value;
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 use std::sync::OnceLock;
 use target::{BOARDS, eol_firmware, free_port, qemu};
 
@@ -73,14 +73,6 @@ fn lot() -> &'static Path {
         dir
     })
     .path()
-}
-
-fn run(dir: &Path, args: &[&str]) -> Output {
-    Command::new(semidrift_bin())
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("semidrift runs")
 }
 
 #[track_caller]

@@ -9,12 +9,12 @@ mod common;
 #[path = "common/target.rs"]
 mod target;
 
-use common::semidrift_bin;
+use common::run_in as run;
 use host_tools::gdb_remote::Remote;
 use std::io::{Read, Write};
 use std::net::TcpListener;
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 use std::sync::OnceLock;
 use target::{BOARDS, free_port, qemu};
 
@@ -45,14 +45,6 @@ fn lot() -> &'static Path {
         dir
     })
     .path()
-}
-
-fn run(dir: &Path, args: &[&str]) -> Output {
-    Command::new(semidrift_bin())
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("semidrift runs")
 }
 
 #[track_caller]
