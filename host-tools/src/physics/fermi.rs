@@ -273,11 +273,7 @@ pub fn inv_f_half(y: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// Relative difference, the comparison every table below uses.
-    fn rel(a: f64, b: f64) -> f64 {
-        (a - b).abs() / b.abs()
-    }
+    use crate::physics::check::rel;
 
     #[test]
     fn rel_helper_can_fail() {

@@ -362,12 +362,8 @@ impl std::fmt::Display for Material {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::physics::check::rel;
     use crate::physics::constants::{H_J_S, K_B_J_PER_K, M0_KG};
-
-    // Test modules open alike (as in fermi.rs); the tests differ.
-    fn rel(a: f64, b: f64) -> f64 {
-        (a - b).abs() / b.abs()
-    }
 
     #[test]
     fn rel_helper_can_fail() {
