@@ -225,6 +225,12 @@ impl PartFile {
                 message,
             }
         })?;
+        // The first line that names `key`, for messages (1 when none does).
+        let line_of = |key: &str| {
+            text.lines()
+                .position(|l| l.contains(&format!("\"{key}\"")))
+                .map_or(1, |k| k + 1)
+        };
         let families_ok = part.design.as_ref().is_none_or(|d| {
             d.core.families.len() == 4
                 && d.fit.len() == 4
@@ -239,10 +245,7 @@ impl PartFile {
                 })
         });
         if part.params.is_none() && part.design.is_none() || !families_ok {
-            let line = text
-                .lines()
-                .position(|l| l.contains("\"design\""))
-                .map_or(1, |k| k + 1);
+            let line = line_of("design");
             return Err(PartFileError::Parse {
                 file: file.to_string(),
                 line,
@@ -255,12 +258,8 @@ impl PartFile {
                 message: "neither physics parameters nor a complete design fit".into(),
             });
         }
-        // Same line lookup as the design check above, for the format key.
         if part.format != PART_FORMAT {
-            let line = text
-                .lines()
-                .position(|l| l.contains("\"format\""))
-                .map_or(1, |k| k + 1);
+            let line = line_of("format");
             return Err(PartFileError::Parse {
                 file: file.to_string(),
                 line,
