@@ -420,20 +420,12 @@ pub fn calibrate_part(
     if holdout_max_ppm.is_nan() {
         status = "cross-validation: a refit without one interior temperature failed".into();
     }
-    // Same FitPoint rows as in design/calibrate.rs: the two fits use different models.
     let points: Vec<FitPoint> = rows
         .iter()
         .map(|r| {
             let t_est = thermo_model.temperature(r.temp_signal);
-            FitPoint {
-                chamber_c: r.chamber_c,
-                stimulus: r.stimulus,
-                output: r.output,
-                temp_signal: r.temp_signal,
-                t_est_c: t_est,
-                thermometer_residual_k: t_est - r.chamber_c,
-                residual_ppm: (r.output - model.output(t_est, r.stimulus)) / span * 1e6,
-            }
+            let residual_ppm = (r.output - model.output(t_est, r.stimulus)) / span * 1e6;
+            FitPoint::of(r, t_est, residual_ppm)
         })
         .collect();
 

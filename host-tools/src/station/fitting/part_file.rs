@@ -35,6 +35,22 @@ pub struct FitPoint {
     pub residual_ppm: f64,
 }
 
+impl FitPoint {
+    /// The point of chamber row `r` where the thermometer reads `t_est_c`
+    /// and the output fit leaves `residual_ppm`.
+    pub fn of(r: &crate::station::chamber::ChamberRow, t_est_c: f64, residual_ppm: f64) -> Self {
+        FitPoint {
+            chamber_c: r.chamber_c,
+            stimulus: r.stimulus,
+            output: r.output,
+            temp_signal: r.temp_signal,
+            t_est_c,
+            thermometer_residual_k: t_est_c - r.chamber_c,
+            residual_ppm,
+        }
+    }
+}
+
 /// One leave-one-temperature-out refit, judged at the temperature left out
 /// (see [`crate::station::calibrate::cross_validate`]).
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
