@@ -132,7 +132,6 @@ struct RefSpans {
 
 /// Drift curve of the element described by `spec` at `temps_c` (degrees Celsius).
 pub fn drift_curve(spec: &ElementSpec, temps_c: &[f64]) -> Result<DriftCurve, ElementError> {
-    // Same steps as cli/element.rs, which names the spec file in its errors.
     let model = ElementModel::new(spec)?;
     let common = spec.common();
     drift_curve_of(
