@@ -297,7 +297,7 @@ impl PartFile {
     }
 }
 
-// Test modules open alike (as in design/basis.rs); the tests differ.
+// Test curves built as in design/basis.rs, plus a cross term in ln_rho.
 #[cfg(test)]
 mod tests {
     use super::*;
