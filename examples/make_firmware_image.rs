@@ -100,6 +100,7 @@ const RANGE_C: (f64, f64) = (-20.0, 85.0);
 pub struct FirmwareData {
     /// f32 table image.
     pub f32_image: Vec<u8>,
+    // Documented fields read alike across structs (arrhenius.rs, design/learn.rs); each is its own.
     /// Q-format table image.
     pub q_image: Vec<u8>,
     /// The finer f32 table image ([`FINE_TABLE_BUDGET_PPM`]).

@@ -62,6 +62,7 @@ fn temperature(m: Material, frac: f64) -> f64 {
 }
 
 fn check_state(s: &Sample, st: &CarrierState) -> Result<(), TestCaseError> {
+    // Named values checked in a loop, as scenario.rs checks its spread: each its own list.
     for (name, v) in [
         ("n", st.n_cm3),
         ("p", st.p_cm3),

@@ -119,6 +119,7 @@ fn chain(dir: &Path, spec: &str, cal_spec: &str, want_simulated: bool) {
             &d("sim.toml"),
         ],
     );
+    // Same simulate call as above, here for the check rows.
     ok_in(
         dir,
         &[

@@ -427,6 +427,7 @@ fn material_other_than_si_is_refused_with_the_reason() {
 /// leave 1e-5 in ln sigma) and a gap whose linear 0 K extrapolation lies
 /// within 0.03 eV of the published one (Thurmond 1975 via
 /// `si_gap_linear_0k_ev` at the window's middle).
+// Same arguments as the tests above: each test runs `arrhenius` on its own window and material.
 #[test]
 fn model_based_extraction_on_a_mixed_window() {
     let dir = tempfile::tempdir().unwrap();

@@ -68,6 +68,7 @@ fn bad_inputs_exit_2_with_a_one_line_error_naming_option_and_value() {
     );
     bad_input(&t("200:300:0"), &["--kelvin '200:300:0'", "STEP"]);
     bad_input(&t("1:1e9:0.001"), &["--kelvin '1:1e9:0.001'", "more than"]);
+    // Refused inputs, one call each: every call names its own option and value.
     bad_input(
         &["model", "--material", "si", "--celsius", "-300"],
         &["--celsius '-300'"],

@@ -15,11 +15,11 @@ mod common;
 #[path = "common/target.rs"]
 mod target;
 
-use common::semidrift_bin;
+use common::run_in as run;
 use host_tools::gdb_remote::Remote;
 use serde_json::Value;
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 use std::sync::OnceLock;
 use target::{BOARDS, eol_firmware, free_port, qemu};
 
@@ -39,16 +39,7 @@ fn lot() -> &'static Path {
                 String::from_utf8_lossy(&o.stderr)
             );
         };
-        ok(&[
-            "simulate",
-            "well-logger",
-            "--parts",
-            "2",
-            "--out",
-            "cal.csv",
-            "--write-spec",
-            "spec.toml",
-        ]);
+        common::calibrated_lot(p, "2");
         ok(&[
             "simulate",
             "spec.toml",
@@ -57,14 +48,6 @@ fn lot() -> &'static Path {
             "--check",
             "--out",
             "check.csv",
-        ]);
-        ok(&[
-            "calibrate",
-            "spec.toml",
-            "cal.csv",
-            "--out-dir",
-            "parts",
-            "-q",
         ]);
         for (serial, format, out) in [
             ("WELL-0001", "q", "q.bin"),
@@ -90,14 +73,6 @@ fn lot() -> &'static Path {
         dir
     })
     .path()
-}
-
-fn run(dir: &Path, args: &[&str]) -> Output {
-    Command::new(semidrift_bin())
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("semidrift runs")
 }
 
 #[track_caller]
@@ -296,6 +271,7 @@ fn flash_and_end_of_line_check_on_both_boards() {
             &[
                 "flash",
                 "f32.bin",
+                // Same flash call as above, with the f32 image.
                 "--gdb",
                 &server,
                 "--address",

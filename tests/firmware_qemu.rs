@@ -99,6 +99,7 @@ fn validate_line<'a>(
 ) -> Option<TableView<'a>> {
     match TableView::parse(bytes) {
         Ok(view) => {
+            // The line examples/firmware/src/bin/main.rs prints: the expected output.
             lines.push(format!(
                 "image {name} ok bytes={} t_nodes={} sig_nodes={} channels={}",
                 bytes.len(),

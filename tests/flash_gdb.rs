@@ -9,15 +9,16 @@ mod common;
 #[path = "common/target.rs"]
 mod target;
 
-use common::semidrift_bin;
+use common::run_in as run;
 use host_tools::gdb_remote::Remote;
 use std::io::{Read, Write};
 use std::net::TcpListener;
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 use std::sync::OnceLock;
 use target::{BOARDS, free_port, qemu};
 
+// Same opening as eol_gdb.rs: each file keeps its own lot on common::calibrated_lot.
 /// A folder with a scenario, part files and the images of two parts.
 fn lot() -> &'static Path {
     static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();
@@ -32,24 +33,7 @@ fn lot() -> &'static Path {
                 String::from_utf8_lossy(&o.stderr)
             );
         };
-        ok(&[
-            "simulate",
-            "well-logger",
-            "--parts",
-            "2",
-            "--out",
-            "cal.csv",
-            "--write-spec",
-            "spec.toml",
-        ]);
-        ok(&[
-            "calibrate",
-            "spec.toml",
-            "cal.csv",
-            "--out-dir",
-            "parts",
-            "-q",
-        ]);
+        common::calibrated_lot(p, "2");
         for s in ["WELL-0001", "WELL-0002"] {
             ok(&[
                 "table",
@@ -61,14 +45,6 @@ fn lot() -> &'static Path {
         dir
     })
     .path()
-}
-
-fn run(dir: &Path, args: &[&str]) -> Output {
-    Command::new(semidrift_bin())
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("semidrift runs")
 }
 
 #[track_caller]

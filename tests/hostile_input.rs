@@ -74,16 +74,7 @@ fn lot() -> &'static Lot {
             let o = run(p, args);
             assert!(o.status.success(), "{args:?}: {}", text(&o.stderr));
         };
-        ok(&[
-            "simulate",
-            "well-logger",
-            "--parts",
-            "3",
-            "--out",
-            "cal.csv",
-            "--write-spec",
-            "spec.toml",
-        ]);
+        common::calibrated_lot(p, "3");
         ok(&[
             "simulate",
             "well-logger",
@@ -92,14 +83,6 @@ fn lot() -> &'static Lot {
             "--check",
             "--out",
             "check.csv",
-        ]);
-        ok(&[
-            "calibrate",
-            "spec.toml",
-            "cal.csv",
-            "--out-dir",
-            "parts",
-            "-q",
         ]);
         for s in ["WELL-0001", "WELL-0002"] {
             ok(&[
@@ -540,6 +523,7 @@ fn scenario_nonsense_is_refused_at_load_with_line_and_key() {
             "noise_rms = nan",
             "output_adc.noise_rms",
         ),
+        // Table-driven: one row per scenario field made bad, so the rows share their shape.
         ("range = 0.0515625", "range = 0.0", "output_adc.range"),
         (
             "resistance_ohm = 5000.0",
@@ -753,6 +737,7 @@ fn smaller_cases_header_only_repeats_clamped_rows_closed_stdout_stale_temporarie
         text(&o.stderr)
     );
     // A closed standard output is a normal end.
+    // Same model arguments as tests/cli_model.rs: here with a closed standard output.
     let mut child = Command::new(semidrift_bin())
         .args([
             "model",

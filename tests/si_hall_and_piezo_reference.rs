@@ -84,6 +84,7 @@ fn n_type_hall_coefficient_matches_published_hall_factor() {
             "N={n:e}: R_H {} vs {expected}",
             point.hall_coefficient_cm3_c
         );
+        // Relative checks read alike (as physics/model.rs): each compares its own quantity.
         let rel = point.hall_mobility_cm2_vs / (r * point.mu_n_per_free_carrier_cm2_vs) - 1.0;
         assert!(
             rel.abs() < 1e-6,
@@ -122,6 +123,7 @@ fn p_type_hall_factor_matches_published_range() {
 /// memory) and eq. 1 with their Table I boron parameters gives 160.3 (hand
 /// evaluation); 10 % around 153 covers both and fails a 20 % error (the
 /// per-free-carrier mobility, 212, is 38 % above).
+// Same relative assert as the tests above, on the mobility fields.
 #[test]
 fn mobility_fields_match_published_curves_at_total_density() {
     let point = evaluate(&si(&[], &[(Species::B, 1e18)]), 300.0).unwrap();

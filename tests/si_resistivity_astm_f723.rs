@@ -62,6 +62,7 @@ fn sample(species: Species, n_cm3: f64) -> Sample {
 /// the table entry rounded up to a whole percent plus 3 %.
 /// A double-counted neutral fraction would add +20..+25 % at 1e17..3e18
 /// (measured when the pairing was wrong) and fail every entry from 1e17 on.
+// Table rows read alike (as physics/mobility.rs's Masetti table): one row per decade.
 const TOLERANCE_PER_DECADE: [(f64, f64, f64); 6] = [
     (1e13, 0.05, 0.07),
     (1e14, 0.05, 0.07),

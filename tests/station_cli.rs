@@ -41,6 +41,7 @@ fn chain(dir: &Path) -> String {
     ok_in(
         dir,
         &[
+            // Same calibrate call as tests/cli_plot_station.rs: each test file builds its own lot.
             "calibrate",
             "well.toml",
             "cal.csv",
@@ -168,6 +169,31 @@ fn verify_over_budget_exits_1() {
     assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     assert_eq!(v["pass"], false);
+}
+
+/// `apply` on a chamber file without the part's rows is refused (exit 2)
+/// with the file, the field and the serial; no row is compensated.
+#[test]
+fn apply_without_the_parts_rows_is_refused() {
+    let d = tempfile::tempdir().unwrap();
+    let serial = chain(d.path());
+    let part = format!("parts/{serial}.part.json");
+    let check = std::fs::read_to_string(d.path().join("check.csv")).unwrap();
+    let others: String = check
+        .lines()
+        .filter(|l| !l.contains(serial.as_str()))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    assert!(others.lines().count() > 1, "other parts' rows remain");
+    std::fs::write(d.path().join("others.csv"), others).unwrap();
+    let o = run_in(d.path(), &["apply", &part, "others.csv", "--json"]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let err = stderr(&o);
+    assert!(
+        err.contains("others.csv") && err.contains("serial") && err.contains(&serial),
+        "{err}"
+    );
+    assert!(stdout(&o).is_empty());
 }
 
 /// `verify` decides against `budget - fit - temperature - runtime`: a budget
@@ -600,6 +626,7 @@ fn signal_axis_images_verify_and_apply() {
                 .unwrap();
         assert_eq!(v["pass"], true, "{axis}: {v}");
         assert_eq!(v["plan"]["axis"].as_str().unwrap_or("temperature"), axis);
+        // Same verify-then-apply steps as the loop above, here per plan axis.
         let a: serde_json::Value = serde_json::from_str(&ok_in(
             d,
             &["apply", file, "check.csv", "--against", part, "--json"],

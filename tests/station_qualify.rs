@@ -231,6 +231,7 @@ fn bad_qualification_input_is_refused_with_file_line_and_field() {
     assert!(stderr(&o).contains("field 'hash'"), "{}", stderr(&o));
     assert!(!d.join("e").exists());
     // A part fitted on one design is refused with another design.
+    // Same calibrate call as above: each test fits its own parts.
     ok_in(
         d,
         &[

@@ -66,6 +66,7 @@ impl Backend for Libm {
 /// up. Its ln (raw error up to 0.12) gets two Newton steps on exp(y) = x,
 /// its sqrt (raw error 6.1 %) two Heron steps, and powf is exp(y ln x)
 /// (raw powf error up to 16 % here).
+// Same derives as Libm above: each backend is its own zero-sized type.
 #[cfg(feature = "micromath")]
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

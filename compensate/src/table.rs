@@ -98,6 +98,7 @@ impl<const N: usize> Table1dQ<N> {
     /// The node values.
     #[must_use]
     pub const fn values(&self) -> &[i32; N] {
+        // Same accessors as the f32 table above, for i32 values.
         &self.values
     }
 

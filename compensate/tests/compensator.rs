@@ -218,6 +218,7 @@ fn fixed_statuses_and_saturation() {
             Status::SENSOR_FAULT | Status::TEMPERATURE_CLAMPED,
         ),
     ];
+    // Same cases and loop as the f32 test above in Q format: both compensators must flag alike.
     for (sig, raw, want) in cases {
         c.update_temperature(sig);
         let got = c.compensate_sample(raw).status;

@@ -258,6 +258,7 @@ fn each_defect_has_its_own_error() {
                 section: Section::Channels,
             },
         ),
+        // Table-driven: one row per refused field, so the rows share their shape.
         (
             "thermometer axis step below f32 spacing",
             Box::new(move |i| {

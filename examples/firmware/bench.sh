@@ -11,6 +11,7 @@
 set -euo pipefail
 cd "$(dirname "$0")"
 
+# Same tool check as examples/firmware-c/bench.sh: each script runs on its own.
 for tool in qemu-system-arm arm-none-eabi-size; do
     command -v "$tool" >/dev/null 2>&1 || {
         echo "bench.sh: $tool not found; run scripts/install-prereqs.sh" >&2

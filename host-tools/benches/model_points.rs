@@ -66,6 +66,7 @@ fn bench_sweeps<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {
     group.finish();
 }
 
+// Same group setup as bench_sweeps: each criterion group is set up on its own.
 /// The transport half alone (mobility, conductivity, Hall factors, Kanda) on
 /// states solved beforehand, to show how the per-point time splits.
 fn bench_transport_only<M: Measurement>(c: &mut Criterion<M>, suffix: &str) {

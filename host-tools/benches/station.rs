@@ -17,6 +17,7 @@ use std::time::Duration;
 fn station(c: &mut Criterion) {
     let sc = Scenario::well_logger();
     let curves = shapes_for(&sc).unwrap();
+    // Same production plan as benches/qualify.rs: each bench file is its own binary.
     let plan = Plan {
         temps_c: sc.cal_temps_c.clone(),
         stimuli: sc.stimuli.clone(),

@@ -74,6 +74,7 @@ pub struct ArrheniusFit {
     pub ea_ev: f64,
     /// Standard uncertainty of `ea_ev` in eV.
     pub ea_sigma_ev: f64,
+    // Documented result fields read alike across structs (design/learn.rs, make_firmware_image.rs).
     /// Prefactor temperature power `m` (fitted or fixed).
     pub prefactor_power: f64,
     /// Standard uncertainty of `m`; `None` when it was fixed.

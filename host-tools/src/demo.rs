@@ -460,30 +460,29 @@ pub fn summary_text(summaries: &[ScenarioSummary]) -> String {
             c.raw.inside_ppm,
             outside(c.raw.outside_ppm)
         ));
-        s.push_str(&format!(
-            "  held-out worst case, physics ({} coefficients): {:.0} ppm inside, {}\n",
-            c.physics_coefficients,
-            c.physics.inside_ppm,
-            outside(c.physics.outside_ppm)
-        ));
-        s.push_str(&format!(
-            "  held-out worst case, polynomial ({} coefficients): {:.0} ppm inside, {}\n",
+        let held_out = |what: &str, coefficients: usize, w: &crate::station::compare::Worst| {
+            format!(
+                "  held-out worst case, {what} ({coefficients} coefficients): {:.0} ppm inside, {}\n",
+                w.inside_ppm,
+                outside(w.outside_ppm)
+            )
+        };
+        s.push_str(&held_out("physics", c.physics_coefficients, &c.physics));
+        s.push_str(&held_out(
+            "polynomial",
             c.polynomial_coefficients,
-            c.polynomial.inside_ppm,
-            outside(c.polynomial.outside_ppm)
+            &c.polynomial,
         ));
         let q = &m.qualified;
-        s.push_str(&format!(
-            "  held-out worst case, on the design learned from a {QUALIFICATION_PARTS}-part qualification lot ({} coefficients): {:.0} ppm inside, {}\n",
+        s.push_str(&held_out(
+            &format!("on the design learned from a {QUALIFICATION_PARTS}-part qualification lot"),
             q.coefficients,
-            q.qualified.inside_ppm,
-            outside(q.qualified.outside_ppm)
+            &q.qualified,
         ));
-        s.push_str(&format!(
-            "  held-out worst case, polynomial with nonlinearity ({} coefficients): {:.0} ppm inside, {}\n",
+        s.push_str(&held_out(
+            "polynomial with nonlinearity",
             q.polynomial_coefficients,
-            q.polynomial.inside_ppm,
-            outside(q.polynomial.outside_ppm)
+            &q.polynomial,
         ));
         s.push_str(&format!(
             "  design {}: model error of the production plan {:.0} ppm (budgeted); {} of {} parts accepted on it\n",

@@ -123,6 +123,7 @@ fn output_is_byte_identical_from_run_to_run() {
 fn bad_specs_name_file_line_and_key_and_exit_2() {
     // (edit of the example, expected fragment of the one-line error)
     type Edit = fn(String) -> String;
+    // Table-driven: one row per edited field, so the rows share their shape.
     let cases: [(&str, Edit, &str); 8] = [
         (
             "hall",

@@ -56,26 +56,52 @@ pub fn stderr(o: &Output) -> String {
 
 /// Asserts success and returns stdout.
 pub fn ok(args: &[&str]) -> String {
-    let o = run(args);
-    assert!(
-        o.status.success(),
-        "semidrift {args:?} failed with {:?}: {}",
-        o.status.code(),
-        stderr(&o)
-    );
-    stdout(&o)
+    succeeded(args, &run(args))
 }
 
 /// Asserts success of a run in `dir` and returns stdout.
 pub fn ok_in(dir: &Path, args: &[&str]) -> String {
-    let o = run_in(dir, args);
+    succeeded(args, &run_in(dir, args))
+}
+
+/// Asserts that the run of `args` succeeded and returns its stdout.
+fn succeeded(args: &[&str], o: &Output) -> String {
     assert!(
         o.status.success(),
         "semidrift {args:?}: exit {:?}: {}",
         o.status.code(),
-        stderr(&o)
+        stderr(o)
     );
-    stdout(&o)
+    stdout(o)
+}
+
+/// Simulates a well-logger lot of `parts` parts in `dir` (`cal.csv` and
+/// its scenario `spec.toml`) and calibrates it into `dir/parts`.
+pub fn calibrated_lot(dir: &Path, parts: &str) {
+    ok_in(
+        dir,
+        &[
+            "simulate",
+            "well-logger",
+            "--parts",
+            parts,
+            "--out",
+            "cal.csv",
+            "--write-spec",
+            "spec.toml",
+        ],
+    );
+    ok_in(
+        dir,
+        &[
+            "calibrate",
+            "spec.toml",
+            "cal.csv",
+            "--out-dir",
+            "parts",
+            "-q",
+        ],
+    );
 }
 
 /// Asserts exit code 2, empty stdout and a single-line error on stderr that

@@ -80,6 +80,7 @@ pub unsafe extern "C" fn sd_f32_update_temperature(
     signal: f32,
     flags: *mut u8,
 ) -> SdStatus {
+    // Same shape as sd_q_* in fixed.rs: the C header has one entry point per format.
     // SAFETY: the caller's contract above.
     match unsafe { slot_mut::<_, Compensator<'static>>(state, TAG_F32) } {
         Ok(c) => {

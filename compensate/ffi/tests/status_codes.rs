@@ -57,6 +57,7 @@ fn q_state() -> Box<SdQState> {
     s
 }
 
+// Same as q_state for the f32 state: the C API has one init per number format.
 fn f32_state() -> Box<SdF32State> {
     let mut s = Box::new(SdF32State {
         opaque: [0; SD_F32_STATE_BYTES],

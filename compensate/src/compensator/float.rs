@@ -191,6 +191,7 @@ fn base_and_step(w0: [u8; 4], w1: [u8; 4]) -> (f32, f32) {
 /// Interpolates with the image's method: the linear kernel inline, the
 /// cubic one out of line.
 #[inline(always)]
+// Same shape as `interp` in fixed.rs: a generic form would change benchmarked code.
 fn interp<N: Nodes<Value = f32>>(method: Interpolation, nodes: &N, p: Position) -> f32 {
     if method.runs_linear() {
         linear(nodes, p)

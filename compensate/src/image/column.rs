@@ -54,6 +54,7 @@ impl Nodes for ColumnF32<'_> {
     }
 }
 
+// Same as ColumnF32's impl, for i32 words.
 impl Nodes for ColumnQ<'_> {
     type Value = i32;
     #[inline]

@@ -213,6 +213,7 @@ pub enum EncodeError {
         /// Values expected.
         expected: usize,
     },
+    // Error variants read alike: each names its own fields.
     /// The described image would be invalid; the written bytes were cleared.
     Invalid(ImageError),
 }

@@ -27,6 +27,7 @@ pub struct TablesF32<'a> {
     pub signal_hi: f32,
 }
 
+// Same shape as TablesF32: the Q tables carry other axis and value types.
 /// The Q-format tables of a validated Q image.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

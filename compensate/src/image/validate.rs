@@ -152,6 +152,7 @@ mod tests {
         if n_ch > 2
             && (q.quadratic + q.offset < q.gain || q.quadratic + q.offset - q.gain > MAX_SHIFT)
         {
+            // The rule of `check_frac` above, restated as the test reference it is checked against.
             return Err(ImageError::BadFracBits {
                 field: "quadratic",
                 value: q.quadratic,

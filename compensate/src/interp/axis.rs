@@ -464,6 +464,7 @@ mod tests {
             (i32::MAX, 33, 0, true),
             (i32::MIN, 0, 0, true),
         ];
+        // Same shape as the f32 cases above: the Q axis must locate the same points.
         for (x, index, frac_q16, clamped) in cases {
             let got = axis.locate(x);
             let want = PositionQ {

@@ -184,6 +184,7 @@ fn ratio_q16(num: u64, den: u64) -> u32 {
 /// exact at nodes. Tangents and the cubic are evaluated in i64 with Q0.16
 /// weights, so the result stays within a few LSB of the f32 kernel applied
 /// to the same data (see the tests).
+// Same shape as cubic_monotone in kernel_f32.rs, but integer arithmetic throughout.
 #[inline]
 pub fn cubic_monotone_q<N: Nodes<Value = i32>>(nodes: &N, p: PositionQ) -> i32 {
     let v0 = nodes.node(p.index);
@@ -373,6 +374,7 @@ mod tests {
         }
     }
 
+    // Same xorshift sweep as fixed.rs's soft_shift test, on another function.
     #[test]
     fn split_scale_matches_wide_product() {
         let mut x: u64 = 0x2545_F491_4F6C_DD1D;

@@ -112,6 +112,7 @@ impl Nodes for &[f32] {
     fn len(&self) -> usize {
         <[f32]>::len(self)
     }
+    // Same as the array impl above, for slices.
     #[inline]
     fn node(&self, i: usize) -> f32 {
         self.get(i).copied().unwrap_or(0.0)

@@ -119,6 +119,7 @@ impl<B: Backend> Model<B> {
     /// Two-carrier Hall coefficient in cm^3/C; exact formula to backend
     /// rounding given the carriers and mobilities (only its ratio to a
     /// reference temperature is bounded: [`super::bounds::HALL_RATIO_REL`]).
+    // Thin methods read alike: each forwards to its own model function.
     #[must_use]
     pub fn hall_coefficient_cm3_c(&self, t_k: f32) -> f32 {
         hall_coefficient_cm3_c::<B>(&self.prepared, t_k)

@@ -84,6 +84,7 @@ static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
     sd_line_i32(&l, init);
     sd_line_str(&l, " (");
     sd_line_str(&l, sd_status_name(init));
+    /* Status printing repeats: the line builder takes one piece per call. */
     sd_line_str(&l, ") sample status=");
     sd_line_i32(&l, sample);
     sd_line_str(&l, " (");

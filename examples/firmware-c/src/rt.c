@@ -96,6 +96,7 @@ void sd_line_print(sd_line *l)
     l->len = 0;
 }
 
+/* Same as fail() in bench.c: each program is built on its own. */
 static void print_fault(const char *what)
 {
     sd_line l;

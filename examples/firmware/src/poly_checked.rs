@@ -61,6 +61,7 @@ impl<const X: usize, const K: usize> Form for PolyF32<X, K> {
     }
 }
 
+// Same shape as PolyF32's Form: i32 arithmetic with its own scales.
 impl<const X: usize, const K: usize, const US: u32, const XS: u32> Form for PolyQ<X, K, US, XS> {
     type Num = i32;
     type Reading = ReadingQ;

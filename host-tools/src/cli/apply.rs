@@ -17,6 +17,7 @@ pub struct ApplyArgs {
     pub part_or_image: PathBuf,
     /// Chamber CSV with the rows to compensate.
     pub csv: PathBuf,
+    // Documented options read alike across commands (verify.rs, part_file.rs); each is its own.
     /// The part file, when the first argument is an image (ADC scale and span).
     #[arg(long)]
     pub against: Option<PathBuf>,
@@ -96,19 +97,7 @@ pub fn run(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(&args.csv).map_err(|e| CliError::Input(e.to_string()))?;
     super::report_rows(&data);
-    let rows: Vec<&chamber::ChamberRow> = data
-        .rows
-        .iter()
-        .filter(|r| r.serial == part.serial)
-        .collect();
-    if rows.is_empty() {
-        return Err(CliError::at(
-            &args.csv.display().to_string(),
-            1,
-            "serial",
-            format!("no rows for part {}", part.serial),
-        ));
-    }
+    let rows = super::part_rows(&data, &args.csv, &part.serial)?;
     let model_comp;
     let image_comp;
     let method: &dyn Compensation = if is_image {

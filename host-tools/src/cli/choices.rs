@@ -44,6 +44,7 @@ choice! {
     }
 }
 
+// Each choice! lists one command-line enum; the macro already holds what they share.
 choice! {
     /// `table --interpolation`.
     InterpArg => crate::station::table::InterpKind {

@@ -3,8 +3,8 @@
 use super::CliError;
 use crate::element::locate::line_of;
 use crate::element::{
-    DriftCurve, DriftRow, ElementError, ElementKind, ElementModel, ElementSpec, drift_curve_of,
-    example_text, parse_spec,
+    DriftCurve, DriftRow, ElementError, ElementKind, ElementSpec, drift_curve, example_text,
+    parse_spec,
 };
 use crate::physics::ModelError;
 use crate::physics::constants::ZERO_C_K;
@@ -147,18 +147,7 @@ pub fn curve_for(
     temps: &[f64],
     celsius: Option<&str>,
 ) -> Result<DriftCurve, CliError> {
-    let spec = &loaded.spec;
-    let err = |e| model_error(loaded, celsius, e);
-    let model = ElementModel::new(spec).map_err(err)?;
-    let common = spec.common();
-    drift_curve_of(
-        &model,
-        spec.kind(),
-        common.temperature.reference_c,
-        common.adc.lsb_v(),
-        temps,
-    )
-    .map_err(err)
+    drift_curve(&loaded.spec, temps).map_err(|e| model_error(loaded, celsius, e))
 }
 
 /// The JSON document of `semidrift element --json`.

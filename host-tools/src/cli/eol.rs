@@ -92,19 +92,7 @@ pub fn run(args: EolArgs, out: &mut dyn Write) -> Result<(), CliError> {
             data.errors.len()
         )));
     }
-    let rows: Vec<&chamber::ChamberRow> = data
-        .rows
-        .iter()
-        .filter(|r| r.serial == part.serial)
-        .collect();
-    if rows.is_empty() {
-        return Err(CliError::at(
-            &args.csv.display().to_string(),
-            1,
-            "serial",
-            format!("no rows for part {}", part.serial),
-        ));
-    }
+    let rows = super::part_rows(&data, &args.csv, &part.serial)?;
     let inputs: Vec<_> = rows
         .iter()
         .map(|r| comp.runtime_input(r.output, r.temp_signal))

@@ -131,6 +131,7 @@ pub fn run(args: FlashArgs, out: &mut dyn Write) -> Result<(), CliError> {
         }
     })?;
     report.overrides = overrides;
+    // JSON or one line, as every command reports (eol.rs, verify.rs); the line differs.
     if args.json {
         out.write_all(&output::to_json_bytes(&report))?;
     } else {

@@ -176,6 +176,25 @@ pub(crate) fn report_rows(data: &crate::station::chamber::ChamberData) {
     }
 }
 
+/// The rows of part `serial` in `data`, read from `csv`; refused (exit 2)
+/// with the file and field when there are none.
+pub(crate) fn part_rows<'a>(
+    data: &'a crate::station::chamber::ChamberData,
+    csv: &std::path::Path,
+    serial: &str,
+) -> Result<Vec<&'a crate::station::chamber::ChamberRow>, CliError> {
+    let rows: Vec<_> = data.rows.iter().filter(|r| r.serial == serial).collect();
+    if rows.is_empty() {
+        return Err(CliError::at(
+            &csv.display().to_string(),
+            1,
+            "serial",
+            format!("no rows for part {serial}"),
+        ));
+    }
+    Ok(rows)
+}
+
 /// clap's usage error as one line: its first paragraph, whitespace collapsed
 /// (the contract asks for one-line errors; the usage text is in `--help`).
 fn one_line(rendered: &str) -> String {

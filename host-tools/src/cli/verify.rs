@@ -19,6 +19,7 @@ pub struct VerifyArgs {
     /// part records that design's content hash.
     #[arg(long)]
     pub design: Option<PathBuf>,
+    // Documented options read alike (part_file.rs, apply.rs); each is its own.
     /// Total budget in ppm of span (default: the scenario's).
     #[arg(long, allow_negative_numbers = true)]
     pub budget: Option<f64>,
@@ -86,6 +87,7 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     if let Some((db, fit_id)) = &mut recording {
         super::record::verification(db, *fit_id, &image, &report)?;
     }
+    // JSON or one line, as every command reports (eol.rs, flash.rs); the line differs.
     if args.json {
         out.write_all(&output::to_json_bytes(&report))?;
     } else {

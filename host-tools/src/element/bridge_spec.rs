@@ -57,6 +57,7 @@ pub struct DieSpec {
     pub material: Material,
     /// In-plane direction of the resistors on the (100) surface: `"110"` or `"100"`.
     pub direction: Direction,
+    // Documented spec fields read alike (hall_spec.rs, scenario.rs); each is its own.
     /// Junction depth (thickness of the diffused layer) in micrometres;
     /// sheet resistance = rho / junction depth.
     pub junction_depth_um: f64,

@@ -225,6 +225,7 @@ mod tests {
         let mut spec = hall_example();
         spec.plate.geometry_factor = 0.7;
         spec.plate.thickness_um = 5.0;
+        // Same plate_state call as the test above, on a plate with another geometry.
         let s = plate_state(
             &spec,
             -1.0,

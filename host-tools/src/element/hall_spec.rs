@@ -35,6 +35,7 @@ pub struct HallSpec {
 pub struct PlateSpec {
     /// Plate material: `si`, `gaas`, `insb`, `inas` (any the full model knows).
     pub material: Material,
+    // Documented spec fields read alike (bridge_spec.rs, scenario.rs); each is its own.
     /// Dopant species of the plate.
     pub dopant: Species,
     /// Dopant density in cm^-3.

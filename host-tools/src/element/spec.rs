@@ -412,6 +412,7 @@ mod tests {
             t.check().map_err(|e| e.field),
             Err("temperature.reference_c".to_string())
         );
+        // Same check as above with another bad field.
         let t = TemperatureSpec {
             min_c: -273.0,
             max_c: 85.0,

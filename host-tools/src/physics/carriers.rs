@@ -582,14 +582,11 @@ fn all_finite(s: &CarrierState) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::physics::check::rel;
     use crate::physics::dopant::Species;
 
     fn sample(m: Material, donors: &[(Species, f64)], acceptors: &[(Species, f64)]) -> Sample {
         Sample::new(m, donors, acceptors)
-    }
-
-    fn rel(a: f64, b: f64) -> f64 {
-        (a - b).abs() / b.abs()
     }
 
     #[test]

@@ -1,9 +1,14 @@
 //! Test helper shared by the physics unit tests.
 
+/// Relative difference `|a - b| / |b|`, the comparison the physics tables use.
+pub(crate) fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
 /// Relative deviation check that names the quantity, got and expected on
 /// failure: `Ok` when `|got - expected| <= tol |expected|`.
 pub(crate) fn check_rel(what: &str, got: f64, expected: f64, tol: f64) -> Result<(), String> {
-    let rel = (got - expected).abs() / expected.abs();
+    let rel = rel(got, expected);
     if rel <= tol {
         Ok(())
     } else {

@@ -315,6 +315,7 @@ pub fn dopant_level(material: Material, species: Species) -> Option<DopantLevel>
         (Material::Ge, Species::P) => mott_scaled(Donor, 0.0120, eps),
         (Material::Ge, Species::As) => mott_scaled(Donor, 0.0127, eps),
         (Material::Ge, Species::Sb) => mott_scaled(Donor, 0.0096, eps),
+        // Table: one ionisation energy per material and species, so the rows share their shape.
         (Material::Ge, Species::B) => mott_scaled(Acceptor, 0.0104, eps),
         (Material::Ge, Species::Al) => mott_scaled(Acceptor, 0.0102, eps),
         (Material::Ge, Species::Ga) => mott_scaled(Acceptor, 0.0108, eps),

@@ -200,6 +200,7 @@ pub fn f_half(eta: f64) -> f64 {
 /// use host_tools::physics::fermi::f_minus_half;
 /// assert!((f_minus_half(-30.0) / (-30.0f64).exp() - 1.0).abs() < 1e-12);
 /// ```
+// Same rational-fit form as f_half above, with its own coefficients.
 pub fn f_minus_half(eta: f64) -> f64 {
     if eta < 2.0 {
         let t = eta.exp();
@@ -272,11 +273,7 @@ pub fn inv_f_half(y: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    /// Relative difference, the comparison every table below uses.
-    fn rel(a: f64, b: f64) -> f64 {
-        (a - b).abs() / b.abs()
-    }
+    use crate::physics::check::rel;
 
     #[test]
     fn rel_helper_can_fail() {

@@ -345,6 +345,7 @@ pub const SIC4H_HOLES: CaugheyThomasParams = CaugheyThomasParams {
 
 /// Caughey-Thomas mobility of one carrier for `n_total_cm3` scattering
 /// centres at `t_k` (Sotoodeh et al. 2000, eq. 1 form).
+// Same opening as masetti_arora above: another published model's formula follows.
 pub fn caughey_thomas(params: &CaugheyThomasParams, n_total_cm3: f64, t_k: f64) -> CarrierMobility {
     let tn = t_k / T_300_K;
     let lattice = params.mu_max_cm2_vs * tn.powf(-params.theta1);

@@ -122,6 +122,7 @@ fn draw<DB: DrawingBackend>(
         GREEN,
         series(|r| 100.0 * (r.resistance_rel - 1.0)),
     )];
+    // Same panel call as the span panel above, with one series.
     panel(
         &panels[2],
         &format!(

@@ -339,6 +339,7 @@ fn arrhenius_panel<DB: DrawingBackend>(
         .configure_mesh()
         .x_desc("1000 / T (1/K)")
         .y_desc(format!("{label} (cm^-3)"))
+        // Same mesh style as the plot above: plotters' builder has no shared style value.
         .x_label_formatter(&tick_label)
         .y_label_formatter(&log_label)
         .label_style((FONT_FAMILY, TICK_PX))
@@ -415,6 +416,7 @@ mod tests {
         let b = model_svg(&sample(), &rows).unwrap();
         assert_eq!(a, b, "same input must give the same SVG");
         assert!(a.starts_with("<svg") && a.trim_end().ends_with("</svg>"));
+        // Same determinism check as in plot/element.rs: each plot module tests its own SVG.
         for text in [
             "freeze-out",
             "extrinsic",

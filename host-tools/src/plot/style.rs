@@ -303,6 +303,7 @@ mod tests {
         assert!(w > 60 && w < 200 && h > 10 && h < 40, "box {w}x{h}");
     }
 
+    // Same test as station/files/output.rs's writer, on the plot's SVG writer.
     #[test]
     fn atomic_write_replaces_the_file() {
         let dir = tempfile::tempdir().unwrap();

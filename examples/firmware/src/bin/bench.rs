@@ -367,6 +367,7 @@ mod fpu {
         f: poly_sample,
         empty: poly_sample_empty,
     };
+    // Table: one timed entry and its empty twin per benchmarked call, so entries share their shape.
     pub const POLY_CHECKED_TEMP_UPDATE: Timed<PolyCheckedBench, f32, Status> = Timed {
         f: poly_checked_temp_update,
         empty: poly_checked_temp_update_empty,

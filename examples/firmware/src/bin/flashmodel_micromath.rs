@@ -1,6 +1,7 @@
 //! Flash probe of the runtime model with the micromath backend: the `flashref`
 //! program plus the model calls of `semidrift_firmware::probe`, so that
 //! `bench.sh` can report the model's flash with this backend.
+// Same as flashmodel_libm.rs with the other backend: each flash probe is its own binary.
 #![no_std]
 #![no_main]
 

@@ -29,6 +29,7 @@ fn probe(i: &Inputs) -> bool {
     s.is_ok() && r.status.is_ok()
 }
 
+// Same probe as the FPU one above, on the Q image.
 #[cfg(not(fpu))]
 fn probe(i: &Inputs) -> bool {
     black_box(i.first);

@@ -8,6 +8,7 @@
 //!
 //! On the Cortex-M4F both paths run; on the Cortex-M0 (no FPU) only the
 //! integer fixed-point path does.
+// Same preamble as bench.rs: each binary is its own crate root.
 #![no_std]
 #![no_main]
 

@@ -152,6 +152,7 @@ pub fn compare_qualified(
         skipped: 0,
         coefficients: 0,
         polynomial_coefficients: 0,
+        // Same empty-result fields as `compare` above, for the qualified comparison.
         qualified: Worst::default(),
         polynomial: Worst::default(),
         by_temperature: Vec::new(),

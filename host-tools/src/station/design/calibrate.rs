@@ -103,16 +103,8 @@ pub fn calibrate_on_design(
     let points: Vec<FitPoint> = rows
         .iter()
         .map(|r| {
-            let t_est = model.temperature(r.temp_signal);
-            FitPoint {
-                chamber_c: r.chamber_c,
-                stimulus: r.stimulus,
-                output: r.output,
-                temp_signal: r.temp_signal,
-                t_est_c: t_est,
-                thermometer_residual_k: t_est - r.chamber_c,
-                residual_ppm: -reading_error_ppm(&model, fs, r.output, r.temp_signal, r.stimulus),
-            }
+            let residual_ppm = -reading_error_ppm(&model, fs, r.output, r.temp_signal, r.stimulus);
+            FitPoint::of(r, model.temperature(r.temp_signal), residual_ppm)
         })
         .collect();
     part.thermometer_rms_k = rms(&mut points.iter().map(|p| p.thermometer_residual_k));

@@ -177,7 +177,7 @@ impl DesignFile {
         };
         let d: DesignFile = serde_json::from_str(text).map_err(|e| {
             let message = e.to_string();
-            let field = message.split('`').nth(1).unwrap_or("-").to_string();
+            let field = crate::station::limits::json_error_field(&message);
             DesignFileError::Field {
                 file: file.into(),
                 line: e.line(),

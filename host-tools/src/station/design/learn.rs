@@ -171,6 +171,7 @@ pub struct Movement {
 pub struct Learned {
     /// The design's curves.
     pub core: DesignCore,
+    // Plain documented structs read alike (design/file.rs, tables/remainder.rs, fitting/curves.rs).
     /// Model error of the production plan.
     pub plan_error: PlanError,
     /// Movement from the physics per family.
@@ -251,6 +252,7 @@ fn choose_lambda(
     best.1
 }
 
+// Same parameters as `ridge` above, which it calls once per left-out temperature.
 /// Sum of squared leave-one-temperature-out errors of one part's ridge fit.
 fn part_loo_sse(
     basis: &BasisSpec,

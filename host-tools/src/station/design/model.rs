@@ -224,6 +224,7 @@ fn fit_family(
     (values, condition)
 }
 
+// Same parameters as fit_rows below, to which this public entry forwards.
 /// Fits one part's rows on the design; `modes` overrides each family's
 /// mode count (the cross-validation tries several).
 pub fn fit_part_with(
@@ -316,6 +317,7 @@ pub fn fit_rows(
         .iter()
         .map(|s| thermometer_reading(core, curves, &provisional, s.signal))
         .collect();
+    // Same steps-to-points closure as in learn.rs's cross-validation, on the provisional fit.
     let pts = |g: &dyn Fn(&Step) -> Option<f64>| -> Vec<(f64, f64)> {
         steps
             .iter()

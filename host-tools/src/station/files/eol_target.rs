@@ -25,6 +25,7 @@ pub const VERSION_WORD: u32 = 1;
 pub const RUN_TIMEOUT: Duration = Duration::from_secs(20);
 
 // Word indices (see the firmware's `eol_mailbox.rs`).
+// Constant lists look alike (e.g. physics/mobility.rs): these are mailbox words.
 const MAGIC: u32 = 0;
 const VERSION: u32 = 1;
 const ROW_CAPACITY: u32 = 2;

@@ -141,6 +141,7 @@ impl OutputProblem<'_> {
     }
 }
 
+// Same FitProblem plumbing as ThermoProblem above; the residuals differ.
 impl FitProblem for OutputProblem<'_> {
     fn param_names(&self) -> &[&'static str] {
         &self.names
@@ -297,6 +298,7 @@ fn fit_output(
     (result, params)
 }
 
+// Fit helpers end and begin alike (as in design/model.rs); the fits differ.
 /// Leave-one-temperature-out cross-validation of a part's calibration (module
 /// docs) with the part's full thermometer `th`: one [`HoldOut`] per distinct
 /// chamber temperature, ascending; empty below 3 temperatures.
@@ -422,15 +424,8 @@ pub fn calibrate_part(
         .iter()
         .map(|r| {
             let t_est = thermo_model.temperature(r.temp_signal);
-            FitPoint {
-                chamber_c: r.chamber_c,
-                stimulus: r.stimulus,
-                output: r.output,
-                temp_signal: r.temp_signal,
-                t_est_c: t_est,
-                thermometer_residual_k: t_est - r.chamber_c,
-                residual_ppm: (r.output - model.output(t_est, r.stimulus)) / span * 1e6,
-            }
+            let residual_ppm = (r.output - model.output(t_est, r.stimulus)) / span * 1e6;
+            FitPoint::of(r, t_est, residual_ppm)
         })
         .collect();
 

@@ -35,6 +35,22 @@ pub struct FitPoint {
     pub residual_ppm: f64,
 }
 
+impl FitPoint {
+    /// The point of chamber row `r` where the thermometer reads `t_est_c`
+    /// and the output fit leaves `residual_ppm`.
+    pub fn of(r: &crate::station::chamber::ChamberRow, t_est_c: f64, residual_ppm: f64) -> Self {
+        FitPoint {
+            chamber_c: r.chamber_c,
+            stimulus: r.stimulus,
+            output: r.output,
+            temp_signal: r.temp_signal,
+            t_est_c,
+            thermometer_residual_k: t_est_c - r.chamber_c,
+            residual_ppm,
+        }
+    }
+}
+
 /// One leave-one-temperature-out refit, judged at the temperature left out
 /// (see [`crate::station::calibrate::cross_validate`]).
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -108,6 +124,7 @@ pub struct PartFile {
     pub thermometer_max_k: f64,
     /// Temperature-signal noise referred to temperature at T_ref, K (one sigma).
     pub signal_noise_k: f64,
+    // Documented fields read alike (design/model.rs, fitting/curves.rs); each is its own.
     /// Output residual rms, ppm of span.
     pub fit_rms_ppm: f64,
     /// Largest output residual, ppm of span.
@@ -213,10 +230,10 @@ impl PartFile {
 
     /// Parses a part file's text; `file` names it in messages.
     pub fn parse(file: &str, text: &str) -> Result<PartFile, PartFileError> {
+        // Same serde error-to-field mapping as design/file.rs; each file type has its own error.
         let part: PartFile = serde_json::from_str(text).map_err(|e| {
             let message = e.to_string();
-            // serde_json names missing/unknown fields in backticks.
-            let field = message.split('`').nth(1).unwrap_or("-").to_string();
+            let field = crate::station::limits::json_error_field(&message);
             PartFileError::Parse {
                 file: file.to_string(),
                 line: e.line(),
@@ -224,6 +241,12 @@ impl PartFile {
                 message,
             }
         })?;
+        // The first line that names `key`, for messages (1 when none does).
+        let line_of = |key: &str| {
+            text.lines()
+                .position(|l| l.contains(&format!("\"{key}\"")))
+                .map_or(1, |k| k + 1)
+        };
         let families_ok = part.design.as_ref().is_none_or(|d| {
             d.core.families.len() == 4
                 && d.fit.len() == 4
@@ -238,10 +261,7 @@ impl PartFile {
                 })
         });
         if part.params.is_none() && part.design.is_none() || !families_ok {
-            let line = text
-                .lines()
-                .position(|l| l.contains("\"design\""))
-                .map_or(1, |k| k + 1);
+            let line = line_of("design");
             return Err(PartFileError::Parse {
                 file: file.to_string(),
                 line,
@@ -255,10 +275,7 @@ impl PartFile {
             });
         }
         if part.format != PART_FORMAT {
-            let line = text
-                .lines()
-                .position(|l| l.contains("\"format\""))
-                .map_or(1, |k| k + 1);
+            let line = line_of("format");
             return Err(PartFileError::Parse {
                 file: file.to_string(),
                 line,

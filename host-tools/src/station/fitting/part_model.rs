@@ -297,6 +297,7 @@ impl PartFile {
     }
 }
 
+// Test curves built as in design/basis.rs, plus a cross term in ln_rho.
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -98,6 +98,7 @@ impl ChamberData {
     }
 }
 
+// Same capped read as PartFile::read; the two formats differ after it.
 /// Reads a chamber CSV from a file.
 pub fn read_file(path: &Path) -> Result<ChamberData, ChamberError> {
     let name = path.display().to_string();

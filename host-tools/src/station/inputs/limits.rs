@@ -156,9 +156,24 @@ pub fn read_text_capped(path: &Path, cap: u64, what: &str) -> Result<String, Str
     })
 }
 
+/// The field a serde_json error message names (serde_json quotes missing
+/// and unknown fields in backticks), or `-` when it names none.
+pub fn json_error_field(message: &str) -> String {
+    message.split('`').nth(1).unwrap_or("-").to_string()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn json_error_field_is_the_backticked_name() {
+        assert_eq!(
+            json_error_field("missing field `serial` at line 3 column 1"),
+            "serial"
+        );
+        assert_eq!(json_error_field("expected value at line 1 column 1"), "-");
+    }
 
     #[test]
     fn serials_that_could_be_paths_are_refused() {

@@ -358,6 +358,7 @@ impl Scenario {
                 thickness_rel: 0.03,
                 geometry_rel: 0.01,
                 package_span_per_k: 2e-5,
+                // Same fields as the scenario above, with this element's own spread values.
                 package_offset_per_k: 2e-6,
                 smooth_rel: 2e-5,
                 chamber_k: 0.03,

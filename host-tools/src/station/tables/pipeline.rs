@@ -143,6 +143,7 @@ pub fn check_image_for_part(view: &TableView<'_>, part: &PartFile) -> Result<(),
             ),
         );
     }
+    // Same mismatch report as the unit check above, for the full scale.
     let fs = part.scenario.stimulus_fs;
     let want_fs = (fs.1 - fs.0) as f32;
     if view.full_scale() != want_fs {
