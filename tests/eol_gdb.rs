@@ -32,12 +32,7 @@ fn lot() -> &'static Path {
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path();
         let ok = |args: &[&str]| {
-            let o = run(p, args);
-            assert!(
-                o.status.success(),
-                "{args:?}: {}",
-                String::from_utf8_lossy(&o.stderr)
-            );
+            common::ok_in(p, args);
         };
         common::calibrated_lot(p, "2");
         ok(&[

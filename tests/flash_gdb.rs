@@ -18,7 +18,7 @@ use std::process::Output;
 use std::sync::OnceLock;
 use target::{BOARDS, free_port, qemu};
 
-// Same opening as eol_gdb.rs: each file keeps its own lot on common::calibrated_lot.
+// Same opening as eol_gdb.rs: each file keeps its own lot (other images) on common::calibrated_lot.
 /// A folder with a scenario, part files and the images of two parts.
 fn lot() -> &'static Path {
     static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();
@@ -26,12 +26,7 @@ fn lot() -> &'static Path {
         let dir = tempfile::tempdir().unwrap();
         let p = dir.path();
         let ok = |args: &[&str]| {
-            let o = run(p, args);
-            assert!(
-                o.status.success(),
-                "{args:?}: {}",
-                String::from_utf8_lossy(&o.stderr)
-            );
+            common::ok_in(p, args);
         };
         common::calibrated_lot(p, "2");
         for s in ["WELL-0001", "WELL-0002"] {

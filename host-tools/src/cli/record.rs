@@ -6,8 +6,8 @@
 use super::CliError;
 use super::lot::{db_error, open_db};
 use crate::station::pipeline::VerifyReport;
+use crate::stationdb::Db;
 use crate::stationdb::record::{self, EolCheck};
-use crate::stationdb::{Db, DbError};
 use std::path::Path;
 
 /// The fit a part file was recorded as: (fit id, lot id). Exit 2 when the
@@ -39,17 +39,9 @@ fn in_tx<T>(
     f: impl FnOnce(&rusqlite::Transaction<'_>, Option<&str>) -> rusqlite::Result<T>,
 ) -> Result<T, CliError> {
     let now = db.fixed_time.clone();
-    let path = db.path.clone();
-    let wrap = |e| {
-        db_error(DbError::Sqlite {
-            path: path.clone(),
-            source: e,
-        })
-    };
-    let tx = db
-        .conn
-        .transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)
-        .map_err(wrap)?;
+    let sqlite = db.wrapper();
+    let wrap = |e| db_error(sqlite(e));
+    let tx = db.immediate().map_err(db_error)?;
     let v = f(&tx, now.as_deref()).map_err(wrap)?;
     tx.commit().map_err(wrap)?;
     Ok(v)

@@ -276,15 +276,8 @@ pub fn release(db: &mut Db, lot: &str, serial: Option<&str>) -> Result<ReleaseOu
         return Err(db.refuse(format!("lot '{lot}' has no part '{s}'")));
     }
     let now = db.fixed_time.clone();
-    let path = db.path.clone();
-    let wrap = |e| DbError::Sqlite {
-        path: path.clone(),
-        source: e,
-    };
-    let tx = db
-        .conn
-        .transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)
-        .map_err(wrap)?;
+    let wrap = &db.wrapper();
+    let tx = db.immediate()?;
     let mut out = ReleaseOutcome::default();
     for p in parts
         .iter()

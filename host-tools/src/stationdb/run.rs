@@ -17,7 +17,6 @@ use crate::station::part_file::PartFile;
 use crate::station::pipeline::{self, DENSE_STIMULI, DENSE_TEMPS, VerifyReport};
 use crate::station::scenario::Scenario;
 use rayon::prelude::*;
-use rusqlite::TransactionBehavior;
 use std::collections::{BTreeMap, BTreeSet};
 
 /// A chamber CSV as the run records it.
@@ -244,15 +243,8 @@ pub struct LotIds {
 pub fn record_part(db: &mut Db, ids: LotIds, r: &PartResult) -> Result<bool, DbError> {
     let now = db.fixed_time.clone();
     let now = now.as_deref();
-    let path = db.path.clone();
-    let wrap = |e| DbError::Sqlite {
-        path: path.clone(),
-        source: e,
-    };
-    let tx = db
-        .conn
-        .transaction_with_behavior(TransactionBehavior::Immediate)
-        .map_err(wrap)?;
+    let wrap = &db.wrapper();
+    let tx = db.immediate()?;
     let exists: i64 = tx
         .query_row(
             "SELECT count(*) FROM fits WHERE lot_id = ? AND serial = ?",
@@ -287,18 +279,12 @@ pub fn begin_lot(db: &mut Db, input: &LotRunInput<'_>) -> Result<LotIds, DbError
     let now = db.fixed_time.clone();
     let now = now.as_deref();
     let path = db.path.clone();
-    let wrap = |e| DbError::Sqlite {
-        path: path.clone(),
-        source: e,
-    };
+    let wrap = &db.wrapper();
     let refuse = |m: String| DbError::Refused {
         path: path.clone(),
         message: m,
     };
-    let tx = db
-        .conn
-        .transaction_with_behavior(TransactionBehavior::Immediate)
-        .map_err(wrap)?;
+    let tx = db.immediate()?;
     let cal_hash = record::sha256_hex(input.calibration.bytes);
     let check_hash = input.check.map(|c| record::sha256_hex(c.bytes));
     let lot = record::find_lot(&tx, input.lot).map_err(wrap)?;

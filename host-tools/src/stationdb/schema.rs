@@ -208,6 +208,25 @@ impl Db {
         }
     }
 
+    /// [`Db::err`] as a closure that owns the file's name, for use while a
+    /// transaction borrows the connection.
+    pub fn wrapper(&self) -> impl Fn(rusqlite::Error) -> DbError + use<> {
+        let path = self.path.clone();
+        move |source| DbError::Sqlite {
+            path: path.clone(),
+            source,
+        }
+    }
+
+    /// An immediate write transaction: a second writer waits on the busy
+    /// timeout instead of failing at its first write.
+    pub fn immediate(&mut self) -> Result<rusqlite::Transaction<'_>, DbError> {
+        let wrap = self.wrapper();
+        self.conn
+            .transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)
+            .map_err(wrap)
+    }
+
     /// A refusal naming the file.
     pub fn refuse(&self, message: impl Into<String>) -> DbError {
         DbError::Refused {
@@ -298,14 +317,8 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
 /// immediate transaction (a second process waits, then finds them done).
 fn migrate(db: &mut Db) -> Result<(), DbError> {
     let path = db.path.clone();
-    let wrap = |e| DbError::Sqlite {
-        path: path.clone(),
-        source: e,
-    };
-    let tx = db
-        .conn
-        .transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)
-        .map_err(wrap)?;
+    let wrap = &db.wrapper();
+    let tx = db.immediate()?;
     let version: i64 = tx
         .query_row("PRAGMA user_version", [], |r| r.get(0))
         .map_err(wrap)?;
