@@ -25,8 +25,8 @@ use super::super::curves::ShapeCurves;
 use super::super::scenario::Scenario;
 use super::basis::{BasisSpec, Family, MAX_BASIS, dot};
 use super::model::{
-    ALL_MODES, DesignCore, DesignPartModel, FamilyCurves, FamilyFit, MAX_MODES, PartFit, fit_rows,
-    fit_thermometer, thermometer_reading,
+    ALL_MODES, DesignCore, DesignPartModel, FamilyCurves, FamilyFit, MAX_MODES, PartFit,
+    fit_part_with, fit_thermometer, thermometer_reading,
 };
 use super::reduce::{ReadFrame, SAME_STEP_K, Step, reduce, reduce_read};
 use nalgebra::{DMatrix, DVector};
@@ -706,7 +706,7 @@ impl Lot<'_> {
             .map(|(p, core)| {
                 let prod: Vec<&ChamberRow> =
                     p.rows.iter().copied().filter(|r| self.in_plan(r)).collect();
-                let Ok(fit) = fit_rows(core, self.curves, &prod, modes) else {
+                let Ok(fit) = fit_part_with(core, self.curves, &prod, modes) else {
                     return (Vec::new(), f64::INFINITY, None);
                 };
                 let model = DesignPartModel::new(core, self.curves, &fit.families);

@@ -224,18 +224,6 @@ fn fit_family(
     (values, condition)
 }
 
-// Same parameters as fit_rows below, to which this public entry forwards.
-/// Fits one part's rows on the design; `modes` overrides each family's
-/// mode count (the cross-validation tries several).
-pub fn fit_part_with(
-    core: &DesignCore,
-    curves: &ShapeCurves,
-    rows: &[&ChamberRow],
-    modes: [usize; 4],
-) -> Result<PartFit, DesignFitError> {
-    fit_rows(core, curves, rows, modes)
-}
-
 /// Fits one part's rows with the design's own mode counts.
 pub fn fit_part(
     core: &DesignCore,
@@ -273,10 +261,12 @@ fn base_slopes(core: &DesignCore, curves: &ShapeCurves, therm: &[f64], t_c: f64)
     ]
 }
 
-/// [`fit_part_with`]: the thermometer from the steps' mid-scale signals,
-/// then the output curves from steps reduced in the read-temperature frame
-/// of that thermometer (see [`super::reduce`]).
-pub fn fit_rows(
+/// Fits one part's rows on the design; `modes` overrides each family's
+/// mode count (the cross-validation tries several). The thermometer comes
+/// from the steps' mid-scale signals, then the output curves from steps
+/// reduced in the read-temperature frame of that thermometer (see
+/// [`super::reduce`]).
+pub fn fit_part_with(
     core: &DesignCore,
     curves: &ShapeCurves,
     rows: &[&ChamberRow],
