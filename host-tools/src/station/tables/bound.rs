@@ -356,6 +356,164 @@ pub(super) mod tests {
             .collect()
     }
 
+    /// A frame over the first well-logger part, for the helpers that read
+    /// only its range, units and curves.
+    fn with_frame(f: impl FnOnce(&TableFrame<'_>)) {
+        let part = parts(&Scenario::well_logger(), 1, 1).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let model = PartModel {
+            curves: &curves,
+            params: part.params.unwrap(),
+        };
+        f(&TableFrame::new(&part, model).unwrap());
+    }
+
+    #[test]
+    fn worst_in_takes_the_touched_intervals_clamped_to_the_table() {
+        // Interval bounds of a 5-node table; node coordinates pick them by
+        // their floor: 0.5 lies in interval 0, 1.2 in 1, 2.9 in 2.
+        let e = [1.0, 5.0, 2.0, 7.0];
+        assert_eq!(worst_in(&e, 0.5, 0.5), 1.0);
+        assert_eq!(worst_in(&e, 0.5, 1.2), 5.0);
+        assert_eq!(worst_in(&e, 1.5, 2.9), 5.0);
+        assert_eq!(worst_in(&e, 2.0, 2.0), 2.0);
+        assert_eq!(worst_in(&e, 2.5, 3.5), 7.0);
+        // Outside the table: the end intervals.
+        assert_eq!(worst_in(&e, -3.0, -1.0), 1.0);
+        assert_eq!(worst_in(&e, 10.0, 12.0), 7.0);
+        assert_eq!(worst_in(&e, -1.0, 12.0), 7.0);
+        // A window given high end first reads the low end's interval.
+        assert_eq!(worst_in(&e, 2.5, 0.5), 2.0);
+    }
+
+    #[test]
+    fn column_of_a_parabola_by_hand() {
+        // y = t^2 read over x = 2 t (t = x / 2), nodes x = 0, 2, ..., 8, so
+        // node temperatures 0..4 and dy/dx = t exactly (central quotients
+        // of a quadratic are exact; 1e-9 allows their rounding). Cells:
+        // max(2000, 8 * 5) = 2000 over 4 K, dt = 2e-3 K; each carries
+        // |d(dy/dx)| = dt. d4(t) = t is charged to every interval a cell
+        // touches, so interval k gets the mid-point of the cell that ends
+        // on its upper node (k + 1 - dt / 2) or of the one that straddles
+        // it (k + 1 + dt / 2), whichever the rounding of the cell ends
+        // gives; the last interval gets 4 - dt / 2.
+        let col = column(
+            &Param {
+                x: &|t| 2.0 * t,
+                y: &|t| t * t,
+                t_of_x: &|x| 0.5 * x,
+                d4: &|t| t,
+            },
+            0.0,
+            2.0,
+            5,
+        );
+        assert_eq!((col.x0, col.h), (0.0, 2.0));
+        assert_eq!(col.values, [0.0, 1.0, 4.0, 9.0, 16.0]);
+        for (k, s) in col.slopes.iter().enumerate() {
+            assert!((s - k as f64).abs() < 1e-9, "slope {k}: {s}");
+        }
+        assert_eq!(col.curvature.len(), 2000);
+        let dt = 4.0 / 2000.0;
+        for (j, &(a, b, v)) in col.curvature.iter().enumerate() {
+            let x_end = 2.0 * dt * (j + 1) as f64;
+            assert!((b - x_end).abs() < 1e-9 && (a - (x_end - 2.0 * dt)).abs() < 1e-9);
+            assert!((v - dt).abs() < 1e-9, "cell {j}: {v}");
+        }
+        assert_eq!(col.m4.len(), 4);
+        for (k, m) in col.m4.iter().enumerate() {
+            let want = (k + 1) as f64;
+            assert!(
+                (m - want).abs() <= 0.5 * dt + 1e-9,
+                "m4[{k}] = {m}, want {want} +/- dt/2"
+            );
+        }
+    }
+
+    #[test]
+    fn column_over_a_falling_argument() {
+        // x = -t (a signal that falls with temperature), nodes x = -4..0:
+        // node temperatures 4, 3, 2, 1, 0 and dy/dx = -3 t^2 for y = t^3
+        // (1e-5: the central quotient's truncation e^2 = 1e-6 times the
+        // third derivative 6). The cells still cover 0..4 K; d4 = 1.
+        let col = column(
+            &Param {
+                x: &|t| -t,
+                y: &|t| t * t * t,
+                t_of_x: &|x| -x,
+                d4: &|_| 1.0,
+            },
+            -4.0,
+            1.0,
+            5,
+        );
+        assert_eq!(col.values, [64.0, 27.0, 8.0, 1.0, 0.0]);
+        for (s, t) in col.slopes.iter().zip([4.0, 3.0, 2.0, 1.0, 0.0]) {
+            assert!((s + 3.0 * t * t).abs() < 1e-5, "slope at {t} K: {s}");
+        }
+        let (first, last) = (col.curvature[0], col.curvature[1999]);
+        assert!(first.0.abs() < 1e-12 && (first.1 + 2e-3).abs() < 1e-12);
+        assert!((last.1 + 4.0).abs() < 1e-9);
+        // Total variation of dy/dx over 0..4 K: 3 * 16 = 48 (1e-6: a sum of
+        // 2000 rounded terms).
+        let total: f64 = col.curvature.iter().map(|c| c.2).sum();
+        assert!((total - 48.0).abs() < 1e-6, "{total}");
+        assert_eq!(col.m4, [1.0; 4]);
+    }
+
+    #[test]
+    fn max_over_range_samples_both_ends_evenly() {
+        with_frame(|frame| {
+            let (lo, hi) = (frame.t_lo_c, frame.t_hi_c);
+            let seen = std::cell::RefCell::new(Vec::new());
+            let top = max_over_range(frame, 4, |t| {
+                seen.borrow_mut().push(t);
+                // Peaks at the middle one of five samples, negative far
+                // from it: the fold must start at 0 and keep the peak.
+                1.0 - (t - 0.5 * (lo + hi)).powi(2)
+            });
+            let seen = seen.into_inner();
+            assert_eq!(seen.len(), 5);
+            for (k, t) in seen.iter().enumerate() {
+                let want = lo + (hi - lo) * k as f64 / 4.0;
+                assert!((t - want).abs() < 1e-9, "sample {k}: {t}, want {want}");
+            }
+            assert!((top - 1.0).abs() < 1e-9, "{top}");
+            // All negative: the maximum is the fold's start, 0.
+            assert_eq!(max_over_range(frame, 4, |_| -1.0), 0.0);
+        });
+    }
+
+    #[test]
+    fn input_rounding_is_half_a_signal_code() {
+        with_frame(|frame| {
+            assert_eq!(input_rounding_ohm(frame), 0.0);
+            let codes = frame.with_signal_unit(SignalUnit::AdcCode);
+            assert!(codes.signal_lsb > 0.0 && codes.signal_lsb != 2.0);
+            assert_eq!(input_rounding_ohm(&codes), 0.5 * codes.signal_lsb);
+        });
+    }
+
+    #[test]
+    fn drift_slope_is_the_worse_full_scale_end() {
+        // Independent quotient over +/-0.5 K (the helper uses +/-0.01 K):
+        // the stimulus read at a fixed output is smooth in T, so the two
+        // agree to the wider step's truncation, (0.5 K)^2 / 6 of the third
+        // derivative: below 1e-3 relative on these curves.
+        with_frame(|frame| {
+            for t in [frame.t_lo_c, 25.0, frame.t_hi_c] {
+                let by_end = |s: f64| {
+                    let y = frame.output(t, s);
+                    (frame.stimulus(y, t + 0.5) - frame.stimulus(y, t - 0.5)).abs()
+                };
+                let want = by_end(frame.fs_lo).max(by_end(frame.fs_hi));
+                let got = drift_slope(frame, t);
+                assert!(want > 0.0);
+                assert!((got - want).abs() <= 1e-3 * want, "{t} C: {got} vs {want}");
+            }
+        });
+    }
+
     /// Largest ratio of the bound to the dense maximum where the offset and
     /// gain columns dominate: the cubic's one-sided end slopes carry weight
     /// 1/4 in the bound against the 4/27 they reach (1.69x), the offset, gain
