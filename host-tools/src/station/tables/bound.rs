@@ -197,18 +197,33 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
         n_sig,
     );
     let e_therm = therm.interval_bounds(plan.interpolation);
-    let e_t_max = e_therm.iter().fold(0.0, |x: f64, &y| x.max(y));
-    let rounding_ohm = input_rounding_ohm(frame);
-    let worst = max_over_range(frame, MIN_CELLS.max(4 * n_t), |t| {
-        // The columns are read at the thermometer's output, within e_t_max
-        // of t: the worse interval if that straddles a node.
-        let (lo, hi) = ((t - e_t_max - t0) / h_t, (t + e_t_max - t0) / h_t);
-        let columns = channels.reading_error(frame, t, lo, hi);
-        let s = (m.signal(t) - s0) / h_s;
-        let e_t = worst_in(&e_therm, s, s) + rounding_ohm / m.signal_slope(t).abs();
-        columns + e_t * drift_slope(frame, t)
+    let axes = [t0, h_t, s0, h_s];
+    let worst = max_over_range(frame, range_samples(n_t), |t| {
+        temperature_axis_error(frame, &channels, &e_therm, axes, t)
     });
     SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+}
+
+/// First-order reading error at `t_c` (stimulus units) of a plan over
+/// temperature with node axes `[t0, h_t, s0, h_s]`: the columns are read at
+/// the thermometer's output, within the thermometer's largest bound of
+/// `t_c` (the worse interval if that straddles a node), and the
+/// thermometer's own error at `t_c` (its interval's bound plus the input
+/// rounding) moves the reading along the drift slope.
+fn temperature_axis_error(
+    frame: &TableFrame<'_>,
+    channels: &ChannelBounds,
+    e_therm: &[f64],
+    [t0, h_t, s0, h_s]: [f64; 4],
+    t_c: f64,
+) -> f64 {
+    let m = frame.model;
+    let e_t_max = e_therm.iter().fold(0.0, |x: f64, &y| x.max(y));
+    let (lo, hi) = ((t_c - e_t_max - t0) / h_t, (t_c + e_t_max - t0) / h_t);
+    let columns = channels.reading_error(frame, t_c, lo, hi);
+    let s = (m.signal(t_c) - s0) / h_s;
+    let e_t = worst_in(e_therm, s, s) + input_rounding_ohm(frame) / m.signal_slope(t_c).abs();
+    columns + e_t * drift_slope(frame, t_c)
 }
 
 /// Where fourth differences on the curves' own knot spacing are taken for
@@ -217,6 +232,12 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
 fn difference_centre(curves: &ShapeCurves, t_c: f64) -> f64 {
     let step = curves.step_k;
     t_c.clamp(curves.t0_c + 2.0 * step, curves.t_max_c() - 2.0 * step)
+}
+
+/// Temperatures the bound is maximised over for a table of `nodes` along
+/// its look-up axis: at least [`MIN_CELLS`], and 4 per node past that.
+fn range_samples(nodes: usize) -> usize {
+    MIN_CELLS.max(4 * nodes)
 }
 
 /// Largest `f(t)` over `samples + 1` evenly spaced temperatures of the
@@ -255,15 +276,30 @@ fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
         h_s,
         n,
     );
-    let rounding_ohm = input_rounding_ohm(frame);
-    let worst = max_over_range(frame, MIN_CELLS.max(4 * n), |t| {
-        let s = m.signal(t);
-        let (lo, hi) = ((s - rounding_ohm - s0) / h_s, (s + rounding_ohm - s0) / h_s);
-        let columns = channels.reading_error(frame, t, lo, hi);
-        let e_t = rounding_ohm / m.signal_slope(t).abs();
-        columns + e_t * drift_slope(frame, t)
+    let worst = max_over_range(frame, range_samples(n), |t| {
+        signal_axis_error(frame, &channels, s0, h_s, t)
     });
     SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+}
+
+/// First-order reading error at `t_c` (stimulus units) of a plan over the
+/// signal axis with signal nodes `s0 + k h_s`: the columns are read within
+/// the input rounding of the signal, and the rounding moves the reading
+/// along the drift slope as the temperature error it amounts to.
+fn signal_axis_error(
+    frame: &TableFrame<'_>,
+    channels: &ChannelBounds,
+    s0: f64,
+    h_s: f64,
+    t_c: f64,
+) -> f64 {
+    let m = frame.model;
+    let rounding_ohm = input_rounding_ohm(frame);
+    let s = m.signal(t_c);
+    let (lo, hi) = ((s - rounding_ohm - s0) / h_s, (s + rounding_ohm - s0) / h_s);
+    let columns = channels.reading_error(frame, t_c, lo, hi);
+    let e_t = rounding_ohm / m.signal_slope(t_c).abs();
+    columns + e_t * drift_slope(frame, t_c)
 }
 
 /// Reading error per kelvin of temperature error at a fixed raw output at
@@ -530,6 +566,114 @@ pub(super) mod tests {
         });
     }
 
+    /// Interval bounds that differ from each neighbour in both directions,
+    /// so that reading a wrong interval, or one of two, changes the sum.
+    const ZIGZAG: [f64; 12] = [
+        5.0, 1.0, 7.0, 2.0, 9.0, 3.0, 8.0, 4.0, 6.0, 10.0, 11.0, 12.0,
+    ];
+
+    fn relative_eq(got: f64, want: f64) -> bool {
+        // The same arithmetic in another order: rounding only.
+        (got - want).abs() <= 1e-12 * want.abs()
+    }
+
+    #[test]
+    fn temperature_axis_error_reads_the_right_intervals() {
+        // Axes set by hand: temperature nodes every 10 K from the range's
+        // start, signal nodes splitting the signal's range in ten.
+        with_frame(|frame| {
+            let m = frame.model;
+            let t0 = frame.t_lo_c;
+            let s0 = m.signal(t0);
+            let h_s = (m.signal(frame.t_hi_c) - s0) / 10.0;
+            let axes = [t0, 10.0, s0, h_s];
+            let zeros = vec![0.0; 12];
+            let off_only = ChannelBounds {
+                off: ZIGZAG.to_vec(),
+                gain: zeros.clone(),
+            };
+            let g = |t: f64| frame.gain_per_code(t).abs();
+            // A point look-up (no thermometer error): 2.5 node steps in,
+            // interval 2.
+            let t = t0 + 25.0;
+            let got = temperature_axis_error(frame, &off_only, &zeros, axes, t);
+            assert!(relative_eq(got, 7.0 * g(t)), "{got}");
+            // Thermometer bound 0.2 K everywhere: the columns' window is
+            // t +/- 0.2 K, straddling node 3 (intervals 2 and 3: 7 > 2) and
+            // node 4 (intervals 3 and 4: 2 < 9); the thermometer's error
+            // moves the reading by 0.2 K of drift.
+            let therm = vec![0.2; 10];
+            for (t, worse) in [(t0 + 29.9, 7.0), (t0 + 39.9, 9.0)] {
+                let got = temperature_axis_error(frame, &off_only, &therm, axes, t);
+                let want = worse * g(t) + 0.2 * drift_slope(frame, t);
+                assert!(relative_eq(got, want), "{t} C: {got} vs {want}");
+            }
+            // The gain column, by its lever (the farther raw end).
+            let gain_only = ChannelBounds {
+                off: zeros.clone(),
+                gain: ZIGZAG.to_vec(),
+            };
+            let t = t0 + 45.0;
+            let limits = frame.raw_limits();
+            let o = frame.offset_codes(t);
+            let lever = (f64::from(limits.raw_lo) - o)
+                .abs()
+                .max((f64::from(limits.raw_hi) - o).abs());
+            let got = temperature_axis_error(frame, &gain_only, &zeros, axes, t);
+            assert!(relative_eq(got, 9.0 * lever), "{got}");
+            // The thermometer's own interval, found by the signal, and in
+            // ADC codes half a code of input on top.
+            let none = ChannelBounds {
+                off: zeros.clone(),
+                gain: zeros.clone(),
+            };
+            let therm: Vec<f64> = ZIGZAG[..10].iter().map(|v| 0.01 * v).collect();
+            let codes = frame.with_signal_unit(SignalUnit::AdcCode);
+            for t in [t0 + 3.0, t0 + 52.0, frame.t_hi_c - 4.0] {
+                let i = ((m.signal(t) - s0) / h_s).floor() as usize;
+                let got = temperature_axis_error(frame, &none, &therm, axes, t);
+                let want = therm[i] * drift_slope(frame, t);
+                assert!(relative_eq(got, want), "{t} C: {got} vs {want}");
+                let rounding_k = 0.5 * codes.signal_lsb / m.signal_slope(t).abs();
+                let got = temperature_axis_error(&codes, &none, &therm, axes, t);
+                let want = (therm[i] + rounding_k) * drift_slope(frame, t);
+                assert!(relative_eq(got, want), "{t} C, codes: {got} vs {want}");
+            }
+        });
+    }
+
+    #[test]
+    fn signal_axis_error_reads_within_the_input_rounding() {
+        with_frame(|frame| {
+            let m = frame.model;
+            let g = |t: f64| frame.gain_per_code(t).abs();
+            let off_only = ChannelBounds {
+                off: ZIGZAG.to_vec(),
+                gain: vec![0.0; 12],
+            };
+            let t = 30.0;
+            let s = m.signal(t);
+            let h_s = (m.signal(frame.t_hi_c) - m.signal(frame.t_lo_c)) / 10.0;
+            // Signal in ohm: a point look-up, no temperature error; nodes
+            // set so that the signal lies 2.5 steps in (interval 2).
+            let got = signal_axis_error(frame, &off_only, s - 2.5 * h_s, h_s, t);
+            assert!(relative_eq(got, 7.0 * g(t)), "{got}");
+            // In ADC codes the window is half a code each side: nodes set
+            // a quarter code below the signal straddle node 3 (7 > 2) or
+            // node 4 (2 < 9); the half code is also a temperature error.
+            let codes = frame.with_signal_unit(SignalUnit::AdcCode);
+            let r = 0.5 * codes.signal_lsb;
+            assert!(r < 0.1 * h_s.abs());
+            let rounding = r / m.signal_slope(t).abs() * drift_slope(frame, t);
+            for (node, worse) in [(3.0, 7.0), (4.0, 9.0)] {
+                let s0 = s - 0.5 * r - node * h_s;
+                let got = signal_axis_error(&codes, &off_only, s0, h_s, t);
+                let want = worse * g(t) + rounding;
+                assert!(relative_eq(got, want), "node {node}: {got} vs {want}");
+            }
+        });
+    }
+
     #[test]
     fn fourth_differences_stay_on_the_curves_grid() {
         // The five-point stencil at the clamped centre reads t +/- 2 steps:
@@ -562,6 +706,15 @@ pub(super) mod tests {
                 assert_eq!(c, t);
             }
         }
+    }
+
+    #[test]
+    fn range_samples_grow_past_500_nodes() {
+        // 2000 up to 500 nodes, 4 per node after.
+        assert_eq!(range_samples(2), 2000);
+        assert_eq!(range_samples(500), 2000);
+        assert_eq!(range_samples(501), 2004);
+        assert_eq!(range_samples(1000), 4000);
     }
 
     #[test]
