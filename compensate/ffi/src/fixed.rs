@@ -71,7 +71,13 @@ pub unsafe extern "C" fn sd_q_init(
 pub unsafe extern "C" fn sd_q_update_temperature(state: *mut SdQState, signal_q: i32) -> SdResult {
     // SAFETY: the caller's contract above.
     match unsafe { slot_mut::<_, FixedCompensator<'static>>(state, Key::Q) } {
-        Ok(c) => SdResult::from(c.update_temperature(signal_q).bits()),
+        Ok(c) => {
+            if c.update_temperature_short(signal_q) {
+                0
+            } else {
+                update_general(c, signal_q)
+            }
+        }
         Err(e) => e.status(),
     }
 }
@@ -96,12 +102,30 @@ pub unsafe extern "C" fn sd_q_compensate(state: *const SdQState, raw: i32) -> Sd
     selftest_panic(raw);
     // SAFETY: the caller's contract above.
     match unsafe { slot::<_, FixedCompensator<'static>>(state, Key::Q) } {
-        Ok(c) => {
-            let r = c.compensate_sample(raw);
-            sample(r.value.cast_unsigned(), SdResult::from(r.status.bits()))
-        }
+        Ok(c) => match c.compensate_sample_short(raw) {
+            Some(r) => sample(r.value.cast_unsigned(), SdResult::from(r.status.bits())),
+            None => sample_general(c, raw),
+        },
         Err(e) => e.sample(),
     }
+}
+
+/// An update off the short path (outside the plausible range or the
+/// table, NaN, an image the short path does not serve), out of line so
+/// that the entry point reaches it by a tail call and its short path needs
+/// no stack frame.
+#[inline(never)]
+fn update_general(c: &mut FixedCompensator<'static>, signal_q: i32) -> SdResult {
+    SdResult::from(c.update_general(signal_q).bits())
+}
+
+/// A sample off the short path, out of line and reached by a tail call
+/// (in the integer sample this measured fewer instructions on the short
+/// path than a call in place, see `sd_f32_compensate`).
+#[inline(never)]
+fn sample_general(c: &FixedCompensator<'static>, raw: i32) -> SdSampleQ {
+    let r = c.compensate_general(raw);
+    sample(r.value.cast_unsigned(), SdResult::from(r.status.bits()))
 }
 
 /// A reachable panic, so that the no-panic link can be shown to fail.

@@ -71,7 +71,13 @@ pub unsafe extern "C" fn sd_f32_update_temperature(
     // Same shape as sd_q_* in fixed.rs: the C header has one entry point per format.
     // SAFETY: the caller's contract above.
     match unsafe { slot_mut::<_, Compensator<'static>>(state, Key::F32) } {
-        Ok(c) => SdResult::from(c.update_temperature(signal).bits()),
+        Ok(c) => {
+            if c.update_temperature_short(signal) {
+                0
+            } else {
+                update_general(c, signal)
+            }
+        }
         Err(e) => e.status(),
     }
 }
@@ -94,12 +100,26 @@ pub unsafe extern "C" fn sd_f32_update_temperature(
 pub unsafe extern "C" fn sd_f32_compensate(state: *const SdF32State, raw: f32) -> SdSampleF32 {
     // SAFETY: the caller's contract above.
     match unsafe { slot::<_, Compensator<'static>>(state, Key::F32) } {
-        Ok(c) => {
-            let r = c.compensate_sample(raw);
-            sample(r.value.to_bits(), SdResult::from(r.status.bits()))
-        }
+        Ok(c) => match c.compensate_sample_short(raw) {
+            Some(r) => sample(r.value.to_bits(), SdResult::from(r.status.bits())),
+            None => {
+                // A call, not a tail call: only this path needs a stack
+                // frame, so the short path goes without one.
+                let r = c.compensate_general(raw);
+                sample(r.value.to_bits(), SdResult::from(r.status.bits()))
+            }
+        },
         Err(e) => e.sample(),
     }
+}
+
+/// An update off the short path (outside the plausible range or the
+/// table, NaN, an image the short path does not serve), out of line so
+/// that the entry point reaches it by a tail call and its short path needs
+/// no stack frame.
+#[inline(never)]
+fn update_general(c: &mut Compensator<'static>, signal: f32) -> SdResult {
+    SdResult::from(c.update_general(signal).bits())
 }
 
 /// Temperature of the cached coefficients in degrees Celsius (through the

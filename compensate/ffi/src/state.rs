@@ -140,8 +140,27 @@ pub(crate) struct BadState(usize);
 impl BadState {
     /// Its status code.
     #[inline(always)]
+    ///
+    /// Where loads may be unaligned (ARMv7-M, hosts) computed in place, in
+    /// one block that both failed checks branch to; on ARMv6-M a call of
+    /// the out-of-line [`state_error`]. Each choice measured the fewer
+    /// instructions on its target's update path (docs/performance.md).
     pub(crate) fn status(self) -> SdStatus {
-        state_error(self.0)
+        #[cfg(aligned_loads_only)]
+        {
+            state_error(self.0)
+        }
+        #[cfg(not(aligned_loads_only))]
+        {
+            let addr = self.0;
+            if addr == 0 {
+                SD_ERR_NULL_POINTER
+            } else if addr & (SD_STATE_ALIGN - 1) != 0 {
+                SD_ERR_MISALIGNED_STATE
+            } else {
+                SD_ERR_NOT_INITIALISED
+            }
+        }
     }
 
     /// The sample word of a call refused with it: value 0 and its status
@@ -155,6 +174,18 @@ impl BadState {
     }
 }
 
+/// `x`, through an empty assembly block, so that the optimiser cannot
+/// replace it by what it knows about it (zero-cost: no instruction).
+#[inline(always)]
+fn opaque(mut x: usize) -> usize {
+    // SAFETY: the assembly is empty: it reads and writes no memory and
+    // returns the register unchanged.
+    unsafe {
+        core::arch::asm!("/* {0} */", inout(reg) x, options(pure, nomem, nostack, preserves_flags));
+    }
+    x
+}
+
 /// The compensator in a state block filled by the init of format `key`:
 /// the per-call checks (NULL, then the key, see [`Slot`]).
 ///
@@ -166,7 +197,10 @@ impl BadState {
 unsafe fn find<S, C>(state: *const S, key: Key) -> Result<*mut Slot<C>, BadState> {
     let addr = state.addr();
     if addr == 0 || (CHECK_ALIGN_FIRST && addr << (usize::BITS - 2) != 0) {
-        return Err(BadState(addr));
+        // The address as the optimiser cannot see it (not the constant 0),
+        // so that this failure and the key's below share one error block,
+        // near enough for a `CBZ` (ARMv7-M).
+        return Err(BadState(opaque(addr)));
     }
     let slot = state.cast::<Slot<C>>().cast_mut();
     let word = key_word(slot, key);
@@ -235,7 +269,7 @@ pub(crate) unsafe fn slot_mut<'s, S, C>(state: *mut S, key: Key) -> Result<&'s m
     // SAFETY: the caller's contract.
     let slot = unsafe { find::<S, C>(state, key)? };
     // SAFETY: as in `slot`; exclusive by the caller's contract.
-    Ok(unsafe { &mut *comp_of(slot) })
+    Ok(unsafe { &mut *core::ptr::addr_of_mut!((*slot).comp) })
 }
 
 /// The image bytes `image[0..len]` after the null and range checks.
