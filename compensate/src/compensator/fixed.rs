@@ -496,7 +496,7 @@ impl<'a> FixedCompensator<'a> {
     /// general update must run ([`Self::update_temperature`] runs it).
     /// For a caller that keeps its general path out of line, as the C API
     /// does, so that its short path needs no stack frame.
-    #[inline]
+    #[inline(always)]
     pub fn update_temperature_short(&mut self, signal_q: i32) -> bool {
         let s = &self.short;
         // False whenever the short update does not apply.

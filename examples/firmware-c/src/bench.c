@@ -111,7 +111,7 @@ typedef sd_result (*q_update_fn)(sd_q_state *, int32_t);
 typedef sd_sample_q (*q_sample_fn)(const sd_q_state *, int32_t);
 
 /* The empty functions return what the Rust benchmark's return: no flags,
-   and (samples) the input as the value. */
+   and (the integer sample) the input as the value. */
 __attribute__((noinline)) static sd_result q_update_empty(sd_q_state *s, int32_t v)
 {
     (void)s, (void)v;
