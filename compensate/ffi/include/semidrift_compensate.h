@@ -2,8 +2,9 @@
  * C API of the semidrift `compensate` runtime: temperature-drift compensation
  * of sensor readings from a table image, in caller-owned memory, without
  * allocation. Link the static library libcompensate_ffi.a built for the
- * target (docs/c-api.md). Every function returns an sd_status: SD_OK (0) or
- * a negative SD_ERR_* code. Every reading carries SD_FLAG_* bits: where a
+ * target (docs/c-api.md). Every function returns an sd_status, SD_OK (0)
+ * or a negative SD_ERR_* code, or (updates and samples, in registers) an
+ * sd_result: SD_FLAG_* bits (0 or more) or the same negative codes. Where a
  * reading protects people or property, act on every flag.
  */
 
@@ -100,10 +101,11 @@
 #define SD_FLAG_NO_TEMPERATURE (1 << 6)
 
 /**
- * Return code of every entry point: `SD_OK` (0) on success, a negative
- * `SD_ERR_*` code otherwise. On an error nothing is written through the
- * output pointers, except that a failed `sd_*_init` marks the state block
- * as not initialised.
+ * Return code of the entry points: `SD_OK` (0) on success, a negative
+ * `SD_ERR_*` code otherwise (updates and samples return the same codes
+ * in an `sd_result`). On an error nothing is written through the output
+ * pointers, except that a failed `sd_*_init` marks the state block as not
+ * initialised.
  */
 typedef int32_t sd_status;
 
@@ -118,7 +120,7 @@ typedef struct SD_ALIGNED(8) sd_q_state {
 } sd_q_state;
 
 /**
- * Result of a temperature update, and the upper half of a sample: 0 or
+ * Result of a temperature update, and the lower half of a sample: 0 or
  * more is the call's `SD_FLAG_*` bits (success), a negative value is an
  * `SD_ERR_*` code (`sd_result_status` and `sd_result_flags` split the two).
  */

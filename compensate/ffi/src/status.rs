@@ -3,13 +3,14 @@
 use compensate::{CompensatorError, ImageError};
 use core::ffi::c_char;
 
-/// Return code of every entry point: `SD_OK` (0) on success, a negative
-/// `SD_ERR_*` code otherwise. On an error nothing is written through the
-/// output pointers, except that a failed `sd_*_init` marks the state block
-/// as not initialised.
+/// Return code of the entry points: `SD_OK` (0) on success, a negative
+/// `SD_ERR_*` code otherwise (updates and samples return the same codes
+/// in an `sd_result`). On an error nothing is written through the output
+/// pointers, except that a failed `sd_*_init` marks the state block as not
+/// initialised.
 pub type SdStatus = i32;
 
-/// Result of a temperature update, and the upper half of a sample: 0 or
+/// Result of a temperature update, and the lower half of a sample: 0 or
 /// more is the call's `SD_FLAG_*` bits (success), a negative value is an
 /// `SD_ERR_*` code (`sd_result_status` and `sd_result_flags` split the two).
 pub type SdResult = i32;
