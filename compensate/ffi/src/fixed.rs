@@ -73,7 +73,7 @@ pub unsafe extern "C" fn sd_q_update_temperature(state: *mut SdQState, signal_q:
     match unsafe { slot_mut::<_, FixedCompensator<'static>>(state, Key::Q) } {
         Ok(c) => {
             if c.update_temperature_short(signal_q) {
-                0
+                0 // the short update's status is OK: no flags
             } else {
                 update_general(c, signal_q)
             }

@@ -73,7 +73,7 @@ pub unsafe extern "C" fn sd_f32_update_temperature(
     match unsafe { slot_mut::<_, Compensator<'static>>(state, Key::F32) } {
         Ok(c) => {
             if c.update_temperature_short(signal) {
-                0
+                0 // the short update's status is OK: no flags
             } else {
                 update_general(c, signal)
             }
