@@ -2,8 +2,9 @@
  * C API of the semidrift `compensate` runtime: temperature-drift compensation
  * of sensor readings from a table image, in caller-owned memory, without
  * allocation. Link the static library libcompensate_ffi.a built for the
- * target (docs/c-api.md). Every function returns an sd_status: SD_OK (0) or
- * a negative SD_ERR_* code. Every reading carries SD_FLAG_* bits: where a
+ * target (docs/c-api.md). Every function returns an sd_status, SD_OK (0)
+ * or a negative SD_ERR_* code, or (updates and samples, in registers) an
+ * sd_result: SD_FLAG_* bits (0 or more) or the same negative codes. Where a
  * reading protects people or property, act on every flag.
  */
 
@@ -100,10 +101,11 @@
 #define SD_FLAG_NO_TEMPERATURE (1 << 6)
 
 /**
- * Return code of every entry point: `SD_OK` (0) on success, a negative
- * `SD_ERR_*` code otherwise. On an error nothing is written through the
- * output pointers, except that a failed `sd_*_init` marks the state block
- * as not initialised.
+ * Return code of the entry points: `SD_OK` (0) on success, a negative
+ * `SD_ERR_*` code otherwise (updates and samples return the same codes
+ * in an `sd_result`). On an error nothing is written through the output
+ * pointers, except that a failed `sd_*_init` marks the state block as not
+ * initialised.
  */
 typedef int32_t sd_status;
 
@@ -118,28 +120,28 @@ typedef struct SD_ALIGNED(8) sd_q_state {
 } sd_q_state;
 
 /**
- * One compensated integer sample.
+ * Result of a temperature update, and the lower half of a sample: 0 or
+ * more is the call's `SD_FLAG_*` bits (success), a negative value is an
+ * `SD_ERR_*` code (`sd_result_status` and `sd_result_flags` split the two).
  */
-typedef struct sd_reading_q {
-    /**
-     * Measurand in the image's unit times 2^`frac_output` (see
-     * `sd_image_info`); 0 when the state has no valid table.
-     */
-    int32_t value;
-    /**
-     * `SD_FLAG_*` bits of this sample, including those of the last
-     * temperature update; 0 means within the calibrated domain.
-     */
-    uint8_t flags;
-} sd_reading_q;
+typedef int32_t sd_result;
+
+/**
+ * One compensated integer sample, returned in registers (r0, r1 on
+ * Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
+ * the measurand times 2^`frac_output` as an int32 (`sd_sample_q_value`).
+ * The value is 0 when the result is an error code.
+ */
+typedef uint64_t sd_sample_q;
 
 /**
  * Caller-owned storage of one f32 compensator: declare one (static, or on
  * a stack that outlives its use) and pass its address and `sizeof` to
  * `sd_f32_init`. Its contents are private. Calls before the first
- * successful init are refused by a tag word in the block: keep a block
- * zero-filled until then (static storage is), since leftover stack
- * contents could match the tag by chance.
+ * successful init are refused by a key word in the block (the block's
+ * own address, negated): keep a block zero-filled until then (static
+ * storage is), since leftover stack contents could match it by chance,
+ * and do not move or copy a block after its init (the copy is refused).
  */
 typedef struct SD_ALIGNED(8) sd_f32_state {
     /**
@@ -149,20 +151,13 @@ typedef struct SD_ALIGNED(8) sd_f32_state {
 } sd_f32_state;
 
 /**
- * One compensated f32 sample.
+ * One compensated f32 sample, returned in registers (r0, r1 on
+ * Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
+ * the measurand in the image's unit as an IEEE 754 single
+ * (`sd_sample_f32_value`). The value is 0 when the result is an error
+ * code or the input was NaN.
  */
-typedef struct sd_reading_f32 {
-    /**
-     * Measurand in the image's unit (for example bar); 0 when the input
-     * was NaN or the state has no valid table.
-     */
-    float value;
-    /**
-     * `SD_FLAG_*` bits of this sample, including those of the last
-     * temperature update; 0 means within the calibrated domain.
-     */
-    uint8_t flags;
-} sd_reading_f32;
+typedef uint64_t sd_sample_f32;
 
 /**
  * What a valid table image declares (see the image layout in the
@@ -224,7 +219,7 @@ typedef struct sd_image_info {
      */
     uint8_t frac_signal;
     /**
-     * Fractional bits of the measurand output (`sd_reading_q.value`).
+     * Fractional bits of the measurand output (`sd_sample_q_value`).
      */
     uint8_t frac_output;
     /**
@@ -371,33 +366,34 @@ sd_status sd_q_init(struct sd_q_state *state,
  * `SD_FLAG_SENSOR_FAULT`; outside the table axis it is clamped and flags
  * `SD_FLAG_TEMPERATURE_CLAMPED`.
  *
- * `flags` (may be NULL) receives the update's `SD_FLAG_*` bits.
- * Returns `SD_OK`, `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
- * `SD_ERR_NOT_INITIALISED`.
+ * Returns the update's `SD_FLAG_*` bits (0 or more), or a negative
+ * code: `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+ * `SD_ERR_NOT_INITIALISED` (`sd_result_status` and `sd_result_flags`
+ * split the two).
  *
  * # Safety
- * `state` (if non-null and aligned) must point to an `sd_q_state` used by
- * no one else during the call; `flags` (if non-null) to a writable byte.
+ * `state` (if non-null) must point to an `sd_q_state` used by no one else
+ * during the call.
  */
-sd_status sd_q_update_temperature(struct sd_q_state *state, int32_t signal_q, uint8_t *flags);
+sd_result sd_q_update_temperature(struct sd_q_state *state, int32_t signal_q);
 
 /**
  * Compensates one raw sample (integer ADC code) at the cached
  * temperature.
  *
- * Writes the reading to `out`: the measurand times 2^`frac_output` and
- * its `SD_FLAG_*` bits (rail codes flag `SD_FLAG_SENSOR_FAULT`, codes
- * outside the calibrated range `SD_FLAG_INPUT_OUT_OF_RANGE`, a result
- * beyond int32 `SD_FLAG_SATURATED`).
- * Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `out`),
- * `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+ * Returns the reading in registers (`sd_sample_q`, a 64-bit word): the
+ * measurand times 2^`frac_output` (`sd_sample_q_value`) and an
+ * `sd_result` (`sd_sample_result`): the sample's `SD_FLAG_*` bits (rail
+ * codes flag `SD_FLAG_SENSOR_FAULT`, codes outside the calibrated range
+ * `SD_FLAG_INPUT_OUT_OF_RANGE`, a result beyond int32
+ * `SD_FLAG_SATURATED`), or a negative code: `SD_ERR_NULL_POINTER`,
+ * `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`, with value 0.
  *
  * # Safety
- * `state` (if non-null and aligned) must point to an `sd_q_state` not
- * written during the call; `out` (if non-null) to a writable
- * `sd_reading_q`.
+ * `state` (if non-null) must point to an `sd_q_state` not written during
+ * the call.
  */
-sd_status sd_q_compensate(const struct sd_q_state *state, int32_t raw, struct sd_reading_q *out);
+sd_sample_q sd_q_compensate(const struct sd_q_state *state, int32_t raw);
 
 /**
  * Temperature of the cached coefficients in degrees Celsius times
@@ -452,35 +448,33 @@ sd_status sd_f32_init(struct sd_f32_state *state,
  * `SD_FLAG_TEMPERATURE_CLAMPED`; NaN or infinite keeps the previous
  * coefficients and flags `SD_FLAG_NAN_INPUT` until a valid update.
  *
- * `flags` (may be NULL) receives the update's `SD_FLAG_*` bits.
- * Returns `SD_OK`, `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+ * Returns the update's `SD_FLAG_*` bits (0 or more), or a negative
+ * code: `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
  * `SD_ERR_NOT_INITIALISED`.
  *
  * # Safety
- * `state` (if non-null and aligned) must point to an `sd_f32_state`
- * used by no one else during the call; `flags` (if non-null) to a
- * writable byte.
+ * `state` (if non-null) must point to an `sd_f32_state` used by no one
+ * else during the call.
  */
-sd_status sd_f32_update_temperature(struct sd_f32_state *state, float signal, uint8_t *flags);
+sd_result sd_f32_update_temperature(struct sd_f32_state *state, float signal);
 
 /**
  * Compensates one raw sample (ADC code as a float, on the scale of the
  * image's offset channel) at the cached temperature.
  *
- * Writes the reading to `out`: the measurand in the image's unit and its
- * `SD_FLAG_*` bits (rail codes flag `SD_FLAG_SENSOR_FAULT`, codes outside
- * the calibrated range `SD_FLAG_INPUT_OUT_OF_RANGE`).
- * Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `out`),
- * `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+ * Returns the reading in registers (`sd_sample_f32`, a 64-bit word): the
+ * measurand in the image's unit (`sd_sample_f32_value`) and an
+ * `sd_result` (`sd_sample_result`): the sample's `SD_FLAG_*` bits (rail
+ * codes flag `SD_FLAG_SENSOR_FAULT`, codes outside the calibrated range
+ * `SD_FLAG_INPUT_OUT_OF_RANGE`), or a negative code:
+ * `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+ * `SD_ERR_NOT_INITIALISED`, with value 0.
  *
  * # Safety
- * `state` (if non-null and aligned) must point to an `sd_f32_state` not
- * written during the call; `out` (if non-null) to a writable
- * `sd_reading_f32`.
+ * `state` (if non-null) must point to an `sd_f32_state` not written
+ * during the call.
  */
-sd_status sd_f32_compensate(const struct sd_f32_state *state,
-                            float raw,
-                            struct sd_reading_f32 *out);
+sd_sample_f32 sd_f32_compensate(const struct sd_f32_state *state, float raw);
 
 /**
  * Temperature of the cached coefficients in degrees Celsius (through the
@@ -537,3 +531,42 @@ const char *sd_status_name(sd_status status);
 #endif  // __cplusplus
 
 #endif  /* SEMIDRIFT_COMPENSATE_H */
+
+/* Readers of the results (sd_result, sd_sample_q, sd_sample_f32), which the
+   library returns in registers. */
+#ifndef SEMIDRIFT_COMPENSATE_READERS_H
+#define SEMIDRIFT_COMPENSATE_READERS_H
+
+/** SD_OK when `result` holds flags (0 or more), else its negative SD_ERR_* code. */
+static inline sd_status sd_result_status(sd_result result)
+{
+    return result < 0 ? result : SD_OK;
+}
+
+/** The SD_FLAG_* bits of `result`; SD_FLAG_TABLE_INVALID (not a reading) for an error code. */
+static inline uint8_t sd_result_flags(sd_result result)
+{
+    return result < 0 ? SD_FLAG_TABLE_INVALID : (uint8_t)result;
+}
+
+/** The sd_result of a sample (flags, or an error code). */
+static inline sd_result sd_sample_result(uint64_t sample)
+{
+    return (sd_result)(uint32_t)sample; /* GCC and Clang: modulo 2^32 */
+}
+
+/** The value of an integer sample: the measurand times 2^frac_output (0 on an error). */
+static inline int32_t sd_sample_q_value(sd_sample_q sample)
+{
+    return (int32_t)(uint32_t)(sample >> 32);
+}
+
+/** The value of an f32 sample: the measurand in the image's unit (0 on an error). */
+static inline float sd_sample_f32_value(sd_sample_f32 sample)
+{
+    uint32_t bits = (uint32_t)(sample >> 32);
+    float value;
+    __builtin_memcpy(&value, &bits, sizeof value);
+    return value;
+}
+#endif /* SEMIDRIFT_COMPENSATE_READERS_H */

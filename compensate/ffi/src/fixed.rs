@@ -3,20 +3,10 @@
 
 use compensate::{FixedCompensator, TableView};
 
-use crate::state::{SdQState, TAG_Q, image_bytes, init, slot, slot_mut};
-use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, image_status};
-
-/// One compensated integer sample.
-#[repr(C)]
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub struct SdReadingQ {
-    /// Measurand in the image's unit times 2^`frac_output` (see
-    /// `sd_image_info`); 0 when the state has no valid table.
-    pub value: i32,
-    /// `SD_FLAG_*` bits of this sample, including those of the last
-    /// temperature update; 0 means within the calibrated domain.
-    pub flags: u8,
-}
+use crate::state::{Key, SdQState, image_bytes, init, slot, slot_mut};
+use crate::status::{
+    SD_ERR_NULL_POINTER, SD_OK, SdResult, SdSampleQ, SdStatus, image_status, sample,
+};
 
 /// Checks a Q-format table image and makes an integer compensator from it
 /// in the caller's state block. No f32 check of the image is linked for
@@ -52,7 +42,7 @@ pub unsafe extern "C" fn sd_q_init(
         init(
             state,
             state_bytes,
-            TAG_Q,
+            Key::Q,
             || TableView::parse_q(image_bytes(image, image_len)?).map_err(image_status),
             FixedCompensator::new,
         )
@@ -69,73 +59,73 @@ pub unsafe extern "C" fn sd_q_init(
 /// `SD_FLAG_SENSOR_FAULT`; outside the table axis it is clamped and flags
 /// `SD_FLAG_TEMPERATURE_CLAMPED`.
 ///
-/// `flags` (may be NULL) receives the update's `SD_FLAG_*` bits.
-/// Returns `SD_OK`, `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
-/// `SD_ERR_NOT_INITIALISED`.
+/// Returns the update's `SD_FLAG_*` bits (0 or more), or a negative
+/// code: `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+/// `SD_ERR_NOT_INITIALISED` (`sd_result_status` and `sd_result_flags`
+/// split the two).
 ///
 /// # Safety
-/// `state` (if non-null and aligned) must point to an `sd_q_state` used by
-/// no one else during the call; `flags` (if non-null) to a writable byte.
+/// `state` (if non-null) must point to an `sd_q_state` used by no one else
+/// during the call.
 #[unsafe(no_mangle)]
-pub unsafe extern "C" fn sd_q_update_temperature(
-    state: *mut SdQState,
-    signal_q: i32,
-    flags: *mut u8,
-) -> SdStatus {
+pub unsafe extern "C" fn sd_q_update_temperature(state: *mut SdQState, signal_q: i32) -> SdResult {
     // SAFETY: the caller's contract above.
-    match unsafe { slot_mut::<_, FixedCompensator<'static>>(state, TAG_Q) } {
+    match unsafe { slot_mut::<_, FixedCompensator<'static>>(state, Key::Q) } {
         Ok(c) => {
-            let s = c.update_temperature(signal_q);
-            if !flags.is_null() {
-                // SAFETY: non-null and writable by the caller's contract.
-                unsafe { flags.write(s.bits()) };
+            if c.update_temperature_short(signal_q) {
+                0 // the short update's status is OK: no flags
+            } else {
+                update_general(c, signal_q)
             }
-            SD_OK
         }
-        Err(e) => e,
+        Err(e) => e.status(),
     }
 }
 
 /// Compensates one raw sample (integer ADC code) at the cached
 /// temperature.
 ///
-/// Writes the reading to `out`: the measurand times 2^`frac_output` and
-/// its `SD_FLAG_*` bits (rail codes flag `SD_FLAG_SENSOR_FAULT`, codes
-/// outside the calibrated range `SD_FLAG_INPUT_OUT_OF_RANGE`, a result
-/// beyond int32 `SD_FLAG_SATURATED`).
-/// Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `out`),
-/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+/// Returns the reading in registers (`sd_sample_q`, a 64-bit word): the
+/// measurand times 2^`frac_output` (`sd_sample_q_value`) and an
+/// `sd_result` (`sd_sample_result`): the sample's `SD_FLAG_*` bits (rail
+/// codes flag `SD_FLAG_SENSOR_FAULT`, codes outside the calibrated range
+/// `SD_FLAG_INPUT_OUT_OF_RANGE`, a result beyond int32
+/// `SD_FLAG_SATURATED`), or a negative code: `SD_ERR_NULL_POINTER`,
+/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`, with value 0.
 ///
 /// # Safety
-/// `state` (if non-null and aligned) must point to an `sd_q_state` not
-/// written during the call; `out` (if non-null) to a writable
-/// `sd_reading_q`.
+/// `state` (if non-null) must point to an `sd_q_state` not written during
+/// the call.
 #[unsafe(no_mangle)]
-pub unsafe extern "C" fn sd_q_compensate(
-    state: *const SdQState,
-    raw: i32,
-    out: *mut SdReadingQ,
-) -> SdStatus {
-    if out.is_null() {
-        return SD_ERR_NULL_POINTER;
-    }
+pub unsafe extern "C" fn sd_q_compensate(state: *const SdQState, raw: i32) -> SdSampleQ {
     #[cfg(feature = "nopanic-selftest")]
     selftest_panic(raw);
     // SAFETY: the caller's contract above.
-    match unsafe { slot::<_, FixedCompensator<'static>>(state, TAG_Q) } {
-        Ok(c) => {
-            let r = c.compensate_sample(raw);
-            // SAFETY: non-null and writable by the caller's contract.
-            unsafe {
-                out.write(SdReadingQ {
-                    value: r.value,
-                    flags: r.status.bits(),
-                });
-            }
-            SD_OK
-        }
-        Err(e) => e,
+    match unsafe { slot::<_, FixedCompensator<'static>>(state, Key::Q) } {
+        Ok(c) => match c.compensate_sample_short(raw) {
+            Some(r) => sample(r.value.cast_unsigned(), SdResult::from(r.status.bits())),
+            None => sample_general(c, raw),
+        },
+        Err(e) => e.sample(),
     }
+}
+
+/// An update off the short path (outside the plausible range or the
+/// table, NaN, an image the short path does not serve), out of line so
+/// that the entry point reaches it by a tail call and its short path needs
+/// no stack frame.
+#[inline(never)]
+fn update_general(c: &mut FixedCompensator<'static>, signal_q: i32) -> SdResult {
+    SdResult::from(c.update_general(signal_q).bits())
+}
+
+/// A sample off the short path, out of line and reached by a tail call
+/// (in the integer sample this measured fewer instructions on the short
+/// path than a call in place, see `sd_f32_compensate`).
+#[inline(never)]
+fn sample_general(c: &FixedCompensator<'static>, raw: i32) -> SdSampleQ {
+    let r = c.compensate_general(raw);
+    sample(r.value.cast_unsigned(), SdResult::from(r.status.bits()))
 }
 
 /// A reachable panic, so that the no-panic link can be shown to fail.
@@ -164,12 +154,12 @@ pub unsafe extern "C" fn sd_q_temperature_q(state: *const SdQState, t_q: *mut i3
         return SD_ERR_NULL_POINTER;
     }
     // SAFETY: the caller's contract above.
-    match unsafe { slot::<_, FixedCompensator<'static>>(state, TAG_Q) } {
+    match unsafe { slot::<_, FixedCompensator<'static>>(state, Key::Q) } {
         Ok(c) => {
             // SAFETY: non-null and writable by the caller's contract.
             unsafe { t_q.write(c.temperature_q()) };
             SD_OK
         }
-        Err(e) => e,
+        Err(e) => e.status(),
     }
 }

@@ -2,20 +2,10 @@
 
 use compensate::{Compensator, TableView};
 
-use crate::state::{SdF32State, TAG_F32, image_bytes, init, slot, slot_mut};
-use crate::status::{SD_ERR_NULL_POINTER, SD_OK, SdStatus, image_status};
-
-/// One compensated f32 sample.
-#[repr(C)]
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct SdReadingF32 {
-    /// Measurand in the image's unit (for example bar); 0 when the input
-    /// was NaN or the state has no valid table.
-    pub value: f32,
-    /// `SD_FLAG_*` bits of this sample, including those of the last
-    /// temperature update; 0 means within the calibrated domain.
-    pub flags: u8,
-}
+use crate::state::{Key, SdF32State, image_bytes, init, slot, slot_mut};
+use crate::status::{
+    SD_ERR_NULL_POINTER, SD_OK, SdResult, SdSampleF32, SdStatus, image_status, sample,
+};
 
 /// Checks an f32 table image and makes an f32 compensator from it in the
 /// caller's state block.
@@ -50,7 +40,7 @@ pub unsafe extern "C" fn sd_f32_init(
         init(
             state,
             state_bytes,
-            TAG_F32,
+            Key::F32,
             || TableView::parse(image_bytes(image, image_len)?).map_err(image_status),
             Compensator::new,
         )
@@ -66,72 +56,70 @@ pub unsafe extern "C" fn sd_f32_init(
 /// `SD_FLAG_TEMPERATURE_CLAMPED`; NaN or infinite keeps the previous
 /// coefficients and flags `SD_FLAG_NAN_INPUT` until a valid update.
 ///
-/// `flags` (may be NULL) receives the update's `SD_FLAG_*` bits.
-/// Returns `SD_OK`, `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+/// Returns the update's `SD_FLAG_*` bits (0 or more), or a negative
+/// code: `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
 /// `SD_ERR_NOT_INITIALISED`.
 ///
 /// # Safety
-/// `state` (if non-null and aligned) must point to an `sd_f32_state`
-/// used by no one else during the call; `flags` (if non-null) to a
-/// writable byte.
+/// `state` (if non-null) must point to an `sd_f32_state` used by no one
+/// else during the call.
 #[unsafe(no_mangle)]
 pub unsafe extern "C" fn sd_f32_update_temperature(
     state: *mut SdF32State,
     signal: f32,
-    flags: *mut u8,
-) -> SdStatus {
+) -> SdResult {
     // Same shape as sd_q_* in fixed.rs: the C header has one entry point per format.
     // SAFETY: the caller's contract above.
-    match unsafe { slot_mut::<_, Compensator<'static>>(state, TAG_F32) } {
+    match unsafe { slot_mut::<_, Compensator<'static>>(state, Key::F32) } {
         Ok(c) => {
-            let s = c.update_temperature(signal);
-            if !flags.is_null() {
-                // SAFETY: non-null and writable by the caller's contract.
-                unsafe { flags.write(s.bits()) };
+            if c.update_temperature_short(signal) {
+                0 // the short update's status is OK: no flags
+            } else {
+                update_general(c, signal)
             }
-            SD_OK
         }
-        Err(e) => e,
+        Err(e) => e.status(),
     }
 }
 
 /// Compensates one raw sample (ADC code as a float, on the scale of the
 /// image's offset channel) at the cached temperature.
 ///
-/// Writes the reading to `out`: the measurand in the image's unit and its
-/// `SD_FLAG_*` bits (rail codes flag `SD_FLAG_SENSOR_FAULT`, codes outside
-/// the calibrated range `SD_FLAG_INPUT_OUT_OF_RANGE`).
-/// Returns `SD_OK`, `SD_ERR_NULL_POINTER` (state or `out`),
-/// `SD_ERR_MISALIGNED_STATE` or `SD_ERR_NOT_INITIALISED`.
+/// Returns the reading in registers (`sd_sample_f32`, a 64-bit word): the
+/// measurand in the image's unit (`sd_sample_f32_value`) and an
+/// `sd_result` (`sd_sample_result`): the sample's `SD_FLAG_*` bits (rail
+/// codes flag `SD_FLAG_SENSOR_FAULT`, codes outside the calibrated range
+/// `SD_FLAG_INPUT_OUT_OF_RANGE`), or a negative code:
+/// `SD_ERR_NULL_POINTER`, `SD_ERR_MISALIGNED_STATE` or
+/// `SD_ERR_NOT_INITIALISED`, with value 0.
 ///
 /// # Safety
-/// `state` (if non-null and aligned) must point to an `sd_f32_state` not
-/// written during the call; `out` (if non-null) to a writable
-/// `sd_reading_f32`.
+/// `state` (if non-null) must point to an `sd_f32_state` not written
+/// during the call.
 #[unsafe(no_mangle)]
-pub unsafe extern "C" fn sd_f32_compensate(
-    state: *const SdF32State,
-    raw: f32,
-    out: *mut SdReadingF32,
-) -> SdStatus {
-    if out.is_null() {
-        return SD_ERR_NULL_POINTER;
-    }
+pub unsafe extern "C" fn sd_f32_compensate(state: *const SdF32State, raw: f32) -> SdSampleF32 {
     // SAFETY: the caller's contract above.
-    match unsafe { slot::<_, Compensator<'static>>(state, TAG_F32) } {
-        Ok(c) => {
-            let r = c.compensate_sample(raw);
-            // SAFETY: non-null and writable by the caller's contract.
-            unsafe {
-                out.write(SdReadingF32 {
-                    value: r.value,
-                    flags: r.status.bits(),
-                });
+    match unsafe { slot::<_, Compensator<'static>>(state, Key::F32) } {
+        Ok(c) => match c.compensate_sample_short(raw) {
+            Some(r) => sample(r.value.to_bits(), SdResult::from(r.status.bits())),
+            None => {
+                // A call, not a tail call: only this path needs a stack
+                // frame, so the short path goes without one.
+                let r = c.compensate_general(raw);
+                sample(r.value.to_bits(), SdResult::from(r.status.bits()))
             }
-            SD_OK
-        }
-        Err(e) => e,
+        },
+        Err(e) => e.sample(),
     }
+}
+
+/// An update off the short path (outside the plausible range or the
+/// table, NaN, an image the short path does not serve), out of line so
+/// that the entry point reaches it by a tail call and its short path needs
+/// no stack frame.
+#[inline(never)]
+fn update_general(c: &mut Compensator<'static>, signal: f32) -> SdResult {
+    SdResult::from(c.update_general(signal).bits())
 }
 
 /// Temperature of the cached coefficients in degrees Celsius (through the
@@ -151,12 +139,12 @@ pub unsafe extern "C" fn sd_f32_temperature_c(state: *const SdF32State, t_c: *mu
         return SD_ERR_NULL_POINTER;
     }
     // SAFETY: the caller's contract above.
-    match unsafe { slot::<_, Compensator<'static>>(state, TAG_F32) } {
+    match unsafe { slot::<_, Compensator<'static>>(state, Key::F32) } {
         Ok(c) => {
             // SAFETY: non-null and writable by the caller's contract.
             unsafe { t_c.write(c.temperature_c()) };
             SD_OK
         }
-        Err(e) => e,
+        Err(e) => e.status(),
     }
 }

@@ -39,7 +39,7 @@ pub struct SdImageInfo {
     pub frac_temperature: u8,
     /// Fractional bits of the temperature signal.
     pub frac_signal: u8,
-    /// Fractional bits of the measurand output (`sd_reading_q.value`).
+    /// Fractional bits of the measurand output (`sd_sample_q_value`).
     pub frac_output: u8,
     /// Fractional bits of the offset channel.
     pub frac_offset: u8,

@@ -7,7 +7,7 @@ use compensate::{Compensator, CompensatorError, FixedCompensator, TableView};
 
 use crate::status::{
     SD_ERR_LENGTH_RANGE, SD_ERR_MISALIGNED_STATE, SD_ERR_NOT_INITIALISED, SD_ERR_NULL_POINTER,
-    SD_ERR_STATE_TOO_SMALL, SD_OK, SdStatus, compensator_status,
+    SD_ERR_STATE_TOO_SMALL, SD_OK, SdStatus, compensator_status, sample,
 };
 
 /// Alignment in bytes every state block needs (its address must be a
@@ -33,9 +33,10 @@ pub const SD_Q_STATE_BYTES: usize = 464;
 /// Caller-owned storage of one f32 compensator: declare one (static, or on
 /// a stack that outlives its use) and pass its address and `sizeof` to
 /// `sd_f32_init`. Its contents are private. Calls before the first
-/// successful init are refused by a tag word in the block: keep a block
-/// zero-filled until then (static storage is), since leftover stack
-/// contents could match the tag by chance.
+/// successful init are refused by a key word in the block (the block's
+/// own address, negated): keep a block zero-filled until then (static
+/// storage is), since leftover stack contents could match it by chance,
+/// and do not move or copy a block after its init (the copy is refused).
 #[repr(C, align(8))]
 pub struct SdF32State {
     /// Private to the library.
@@ -49,23 +50,60 @@ pub struct SdQState {
     pub opaque: [u8; SD_Q_STATE_BYTES],
 }
 
-/// What a state block holds: a tag saying which `sd_*_init` filled it,
-/// then the compensator.
+/// What a state block holds: two key words saying which `sd_*_init`
+/// filled it and where, then the compensator.
+///
+/// The key of an initialised block is the two's complement negation of the
+/// block's own address (its low 32 bits), in the word of its number format
+/// (`key_f32` or `key_q`); the other word is 0. A call finds the key by
+/// adding the word to the address it was given and testing for 0 (on
+/// Cortex-M one load, one `CMN` and one branch). A block that was never
+/// initialised (zero-filled), whose last init failed, that was made for the
+/// other format, or that was copied elsewhere after its init, has no key
+/// at the address given; and since init writes a key only into a block
+/// aligned to `SD_STATE_ALIGN`, a found key also proves the alignment.
 #[repr(C)]
 pub(crate) struct Slot<C> {
-    tag: u32,
+    key_f32: u32,
+    key_q: u32,
     comp: C,
 }
 
-/// Tag of a block that holds no compensator (written first by every init,
-/// so that a failed init leaves the block not initialised).
-const TAG_NONE: u32 = 0;
-/// Tag of a block filled by `sd_f32_init`. Tags have the byte pattern
-/// `0xXYXYXYXY`, which ARMv7-M compares with one instruction (a Thumb-2
-/// modified immediate), where another word needs two more to load.
-pub(crate) const TAG_F32: u32 = 0xF3F3_F3F3;
-/// Tag of a block filled by `sd_q_init`.
-pub(crate) const TAG_Q: u32 = 0xA9A9_A9A9;
+/// Which key word of a [`Slot`] an entry point reads.
+#[derive(Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Key {
+    /// `key_f32`: blocks filled by `sd_f32_init`.
+    F32,
+    /// `key_q`: blocks filled by `sd_q_init`.
+    Q,
+}
+
+/// Where the key word of format `key` of the block at `slot` is.
+#[inline(always)]
+fn key_word<C>(slot: *mut Slot<C>, key: Key) -> *mut u32 {
+    let at = match key {
+        Key::F32 => core::mem::offset_of!(Slot<C>, key_f32),
+        Key::Q => core::mem::offset_of!(Slot<C>, key_q),
+    };
+    slot.cast::<u32>().wrapping_byte_add(at)
+}
+
+/// The key word of a block at address `addr`.
+#[inline(always)]
+fn key_of(addr: usize) -> u32 {
+    // The low 32 bits: the whole address on the 32-bit targets, and still
+    // different for any two addresses less than 4 GiB apart on hosts.
+    #[allow(clippy::cast_possible_truncation)]
+    (addr as u32).wrapping_neg()
+}
+
+/// Whether a state pointer must be tested for alignment before its key is
+/// read: on targets without unaligned word loads (ARMv6-M, ARMv8-M
+/// Baseline: `cfg(aligned_loads_only)`, set by `build.rs`).
+/// Elsewhere (ARMv7-M, hosts) the key is read with an unaligned load and a
+/// misaligned pointer cannot find a key (see [`Slot`]), so the key test is
+/// also the alignment test.
+const CHECK_ALIGN_FIRST: bool = cfg!(aligned_loads_only);
 
 // The header's constants hold each compensator on the target being built,
 // and waste no more than the padding to the next alignment step.
@@ -81,58 +119,147 @@ const _: () = {
     assert!(align_of::<SdF32State>() == SD_STATE_ALIGN);
 };
 
-/// Null and alignment checks of a state pointer; the common path is a
-/// shift and a compare with zero, each with a branch to one cold function.
-#[inline(always)]
-fn check_address<S>(state: *const S) -> Result<(), SdStatus> {
-    let addr = state.addr();
-    if addr & (SD_STATE_ALIGN - 1) != 0 || addr == 0 {
-        return Err(address_error(addr));
-    }
-    Ok(())
-}
-
-/// Which of the two address checks failed (off the common path).
+/// What is wrong with a state pointer that failed a check (off the common
+/// path): NULL, misaligned, or an aligned block without the key.
 #[cold]
 #[inline(never)]
-fn address_error(addr: usize) -> SdStatus {
+fn state_error(addr: usize) -> SdStatus {
     if addr == 0 {
         SD_ERR_NULL_POINTER
-    } else {
+    } else if addr & (SD_STATE_ALIGN - 1) != 0 {
         SD_ERR_MISALIGNED_STATE
+    } else {
+        SD_ERR_NOT_INITIALISED
     }
 }
 
-/// The status of a block whose tag is not the expected one (off the
-/// common path).
-#[cold]
-#[inline(never)]
-fn not_initialised() -> SdStatus {
-    SD_ERR_NOT_INITIALISED
+/// A state pointer that failed the per-call checks (its address).
+#[derive(Clone, Copy)]
+pub(crate) struct BadState(usize);
+
+impl BadState {
+    /// Its status code.
+    #[inline(always)]
+    ///
+    /// Where loads may be unaligned (ARMv7-M, hosts) computed in place, in
+    /// one block that both failed checks branch to; on ARMv6-M a call of
+    /// the out-of-line [`state_error`]. Each choice measured the fewer
+    /// instructions on its target's update path (docs/performance.md).
+    pub(crate) fn status(self) -> SdStatus {
+        #[cfg(aligned_loads_only)]
+        {
+            state_error(self.0)
+        }
+        #[cfg(not(aligned_loads_only))]
+        {
+            let addr = self.0;
+            if addr == 0 {
+                SD_ERR_NULL_POINTER
+            } else if addr & (SD_STATE_ALIGN - 1) != 0 {
+                SD_ERR_MISALIGNED_STATE
+            } else {
+                SD_ERR_NOT_INITIALISED
+            }
+        }
+    }
+
+    /// The sample word of a call refused with it: value 0 and its status
+    /// code. Out of line, returning the whole word, so that the entry
+    /// point reaches it by a tail call and its common path stays without
+    /// a stack frame.
+    #[cold]
+    #[inline(never)]
+    pub(crate) fn sample(self) -> u64 {
+        sample(0, state_error(self.0))
+    }
 }
 
-/// The compensator in a state block filled by the init whose tag is `tag`.
+/// `x`, through an empty assembly block, so that the optimiser cannot
+/// replace it by what it knows about it (zero-cost: no instruction).
+#[inline(always)]
+fn opaque(mut x: usize) -> usize {
+    // SAFETY: the assembly is empty: it reads and writes no memory and
+    // returns the register unchanged.
+    unsafe {
+        core::arch::asm!("/* {0} */", inout(reg) x, options(pure, nomem, nostack, preserves_flags));
+    }
+    x
+}
+
+/// The compensator in a state block filled by the init of format `key`:
+/// the per-call checks (NULL, then the key, see [`Slot`]).
 ///
 /// # Safety
-/// A non-null, aligned `state` must point to at least `size_of::<S>()`
-/// readable bytes (the C type's size), not written by anyone else while the
-/// returned reference lives.
+/// A non-null `state` must point to at least `size_of::<S>()` readable
+/// bytes (the C type's size), not written by anyone else while the
+/// returned pointer is used.
 #[inline(always)]
-pub(crate) unsafe fn slot<'s, S, C>(state: *const S, tag: u32) -> Result<&'s C, SdStatus> {
-    check_address(state)?;
-    let slot = state.cast::<Slot<C>>();
-    // SAFETY: `state` is non-null and aligned (checked above) and points
-    // to a block of `size_of::<S>()` bytes (caller's contract), which holds
-    // a `Slot<C>` (asserted at compile time); `tag` is its first word and
-    // any bit pattern is a valid u32.
-    let found = unsafe { core::ptr::addr_of!((*slot).tag).read() };
-    if found != tag {
-        return Err(not_initialised());
+unsafe fn find<S, C>(state: *const S, key: Key) -> Result<*mut Slot<C>, BadState> {
+    let addr = state.addr();
+    if addr == 0 || (CHECK_ALIGN_FIRST && addr << (usize::BITS - 2) != 0) {
+        // The address as the optimiser cannot see it (not the constant 0),
+        // so that this failure and the key's below share one error block,
+        // near enough for a `CBZ` (ARMv7-M).
+        return Err(BadState(opaque(addr)));
     }
-    // SAFETY: only `init` writes `tag`, and only after writing a valid
-    // `C` into the same block; the image the compensator borrows stays
-    // valid by the caller's contract (see the crate docs).
-    Ok(unsafe { &(*slot).comp })
+    let slot = state.cast::<Slot<C>>().cast_mut();
+    let word = key_word(slot, key);
+    // SAFETY: non-null and, by the caller's contract, the first bytes of
+    // a readable block of `size_of::<S>()` bytes, which holds the key words
+    // (compile-time assertion above); read unaligned, since the pointer
+    // may be misaligned here (a word-aligned read where
+    // `CHECK_ALIGN_FIRST` made it aligned); any bit pattern is a valid u32.
+    let found = unsafe {
+        if CHECK_ALIGN_FIRST {
+            word.read()
+        } else {
+            word.read_unaligned()
+        }
+    };
+    if found != key_of(addr) {
+        return Err(BadState(addr));
+    }
+    Ok(slot)
+}
+
+/// Where the compensator of the block at `slot` is, for the samples. On
+/// ARMv6-M it is computed once into a register the optimiser cannot see
+/// through, so that every field is read at its offset in the compensator:
+/// otherwise the optimiser addresses the fields from the block's start, 8
+/// bytes further on, which puts the sample's byte fields beyond the
+/// 31-byte offset of an ARMv6-M `LDRB` (an extra base register, spilled to
+/// the stack). The updates, whose fields all stay within reach, measured
+/// fewer instructions without it.
+///
+/// # Safety
+/// `slot` must point to a `Slot<C>` (its bytes need not be valid).
+#[inline(always)]
+unsafe fn comp_of<C>(slot: *mut Slot<C>) -> *mut C {
+    // SAFETY: a field of the `Slot<C>` the caller's contract gives.
+    #[cfg_attr(not(aligned_loads_only), allow(unused_mut))]
+    let mut comp = unsafe { core::ptr::addr_of_mut!((*slot).comp) };
+    #[cfg(aligned_loads_only)]
+    // SAFETY: the assembly is empty: it reads and writes no memory and
+    // returns the register unchanged.
+    unsafe {
+        core::arch::asm!("/* {0} */", inout(reg) comp, options(pure, nomem, nostack, preserves_flags));
+    }
+    comp
+}
+
+/// The compensator in a state block filled by the init of format `key`.
+///
+/// # Safety
+/// As [`find`].
+#[inline(always)]
+pub(crate) unsafe fn slot<'s, S, C>(state: *const S, key: Key) -> Result<&'s C, BadState> {
+    // SAFETY: the caller's contract.
+    let slot = unsafe { find::<S, C>(state, key)? };
+    // SAFETY: only `init` writes a key, at the block's own (aligned)
+    // address and only after writing a valid `C` into the same block; the
+    // image the compensator borrows stays valid by the caller's contract
+    // (see the crate docs).
+    Ok(unsafe { &*comp_of(slot) })
 }
 
 /// The compensator in a state block, for an update (see [`slot`]).
@@ -140,16 +267,11 @@ pub(crate) unsafe fn slot<'s, S, C>(state: *const S, tag: u32) -> Result<&'s C, 
 /// # Safety
 /// As [`slot`], and no other reference to the block lives meanwhile.
 #[inline(always)]
-pub(crate) unsafe fn slot_mut<'s, S, C>(state: *mut S, tag: u32) -> Result<&'s mut C, SdStatus> {
-    check_address(state)?;
-    let slot = state.cast::<Slot<C>>();
-    // SAFETY: as in `slot`.
-    let found = unsafe { core::ptr::addr_of!((*slot).tag).read() };
-    if found != tag {
-        return Err(not_initialised());
-    }
+pub(crate) unsafe fn slot_mut<'s, S, C>(state: *mut S, key: Key) -> Result<&'s mut C, BadState> {
+    // SAFETY: the caller's contract.
+    let slot = unsafe { find::<S, C>(state, key)? };
     // SAFETY: as in `slot`; exclusive by the caller's contract.
-    Ok(unsafe { &mut (*slot).comp })
+    Ok(unsafe { &mut *core::ptr::addr_of_mut!((*slot).comp) })
 }
 
 /// The image bytes `image[0..len]` after the null and range checks.
@@ -172,21 +294,23 @@ pub(crate) unsafe fn image_bytes<'a>(image: *const u8, len: usize) -> Result<&'a
 }
 
 /// Fills a state block: checks the block, marks it not initialised, gets
-/// the table view from `view`, builds the compensator with `new`, copies
-/// it into the block and writes `tag`.
+/// the table view from `view`, builds the compensator with `new`, copies it
+/// into the block and writes the key of format `key` (see [`Slot`]).
 ///
 /// # Safety
 /// A non-null, aligned `state` must point to `state_bytes` writable bytes
 /// not used by anyone else during the call.
+#[inline(always)]
 pub(crate) unsafe fn init<S, C>(
     state: *mut S,
     state_bytes: usize,
-    tag: u32,
+    key: Key,
     view: impl FnOnce() -> Result<TableView<'static>, SdStatus>,
-    new: fn(&TableView<'static>) -> Result<C, CompensatorError>,
+    new: impl FnOnce(&TableView<'static>) -> Result<C, CompensatorError>,
 ) -> SdStatus {
-    if let Err(e) = check_address(state) {
-        return e;
+    let addr = state.addr();
+    if addr & (SD_STATE_ALIGN - 1) != 0 || addr == 0 {
+        return state_error(addr);
     }
     if state_bytes < size_of::<S>() {
         return SD_ERR_STATE_TOO_SMALL;
@@ -194,19 +318,23 @@ pub(crate) unsafe fn init<S, C>(
     let slot = state.cast::<Slot<C>>();
     // SAFETY: non-null, aligned, and `state_bytes >= size_of::<S>()`
     // writable bytes hold a `Slot<C>` (compile-time assertion above).
-    unsafe { core::ptr::addr_of_mut!((*slot).tag).write(TAG_NONE) };
+    unsafe {
+        core::ptr::addr_of_mut!((*slot).key_f32).write(0);
+        core::ptr::addr_of_mut!((*slot).key_q).write(0);
+    }
     let view = match view() {
         Ok(v) => v,
         Err(e) => return e,
     };
     // Matched by reference, so that the compensator is copied once, from
-    // where `new` built it.
+    // where `new` built it (a copy of the `Result` would call `memcpy`).
     match &new(&view) {
         Ok(comp) => {
-            // SAFETY: as above; the tag is written after the compensator.
+            let word = key_word(slot, key);
+            // SAFETY: as above; the key is written after the compensator.
             unsafe {
                 copy_words(comp, core::ptr::addr_of_mut!((*slot).comp));
-                core::ptr::addr_of_mut!((*slot).tag).write(tag);
+                word.write(key_of(state.addr()));
             }
             SD_OK
         }

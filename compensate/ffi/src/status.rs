@@ -3,11 +3,30 @@
 use compensate::{CompensatorError, ImageError};
 use core::ffi::c_char;
 
-/// Return code of every entry point: `SD_OK` (0) on success, a negative
-/// `SD_ERR_*` code otherwise. On an error nothing is written through the
-/// output pointers, except that a failed `sd_*_init` marks the state block
-/// as not initialised.
+/// Return code of the entry points: `SD_OK` (0) on success, a negative
+/// `SD_ERR_*` code otherwise (updates and samples return the same codes
+/// in an `sd_result`). On an error nothing is written through the output
+/// pointers, except that a failed `sd_*_init` marks the state block as not
+/// initialised.
 pub type SdStatus = i32;
+
+/// Result of a temperature update, and the lower half of a sample: 0 or
+/// more is the call's `SD_FLAG_*` bits (success), a negative value is an
+/// `SD_ERR_*` code (`sd_result_status` and `sd_result_flags` split the two).
+pub type SdResult = i32;
+
+/// One compensated integer sample, returned in registers (r0, r1 on
+/// Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
+/// the measurand times 2^`frac_output` as an int32 (`sd_sample_q_value`).
+/// The value is 0 when the result is an error code.
+pub type SdSampleQ = u64;
+
+/// One compensated f32 sample, returned in registers (r0, r1 on
+/// Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
+/// the measurand in the image's unit as an IEEE 754 single
+/// (`sd_sample_f32_value`). The value is 0 when the result is an error
+/// code or the input was NaN.
+pub type SdSampleF32 = u64;
 
 /// Success.
 pub const SD_OK: SdStatus = 0;
@@ -59,6 +78,12 @@ pub const SD_FLAG_SATURATED: u8 = 1 << 5;
 /// No valid temperature update since the state was initialised: the
 /// coefficients are those of the first temperature node. Not a reading.
 pub const SD_FLAG_NO_TEMPERATURE: u8 = 1 << 6;
+
+/// A sample word: `result` below, `value_bits` above.
+#[inline(always)]
+pub(crate) fn sample(value_bits: u32, result: SdResult) -> u64 {
+    (u64::from(value_bits) << 32) | u64::from(result.cast_unsigned())
+}
 
 /// The status code of an image that failed to parse.
 pub(crate) fn image_status(e: ImageError) -> SdStatus {

@@ -2,6 +2,12 @@
 //! returns its own status code, writes nothing through the output
 //! pointers, and never crashes; and on good arguments the results are
 //! those of the `compensate` crate called directly, bit for bit.
+//!
+//! The per-call entry points return their result in registers: an
+//! `SdResult` (flags, or a negative code) alone or in the low half of a
+//! sample word whose high half is the value; the helpers below read them
+//! as the header's `sd_result_status`, `sd_sample_result` and
+//! `sd_sample_*_value` do.
 
 use compensate::{Compensator, FixedCompensator, TableView};
 use compensate_ffi::*;
@@ -39,6 +45,26 @@ fn stream() -> Vec<(i32, i32)> {
             )
         })
         .collect()
+}
+
+/// The status code of a result (`sd_result_status`).
+fn status(result: SdResult) -> SdStatus {
+    if result < 0 { result } else { SD_OK }
+}
+
+/// The result half of a sample word (`sd_sample_result`).
+fn result_of(sample: u64) -> SdResult {
+    (sample as u32).cast_signed()
+}
+
+/// The value of an integer sample word (`sd_sample_q_value`).
+fn q_value(sample: SdSampleQ) -> i32 {
+    ((sample >> 32) as u32).cast_signed()
+}
+
+/// The value of an f32 sample word (`sd_sample_f32_value`).
+fn f32_value(sample: SdSampleF32) -> f32 {
+    f32::from_bits((sample >> 32) as u32)
 }
 
 fn q_state() -> Box<SdQState> {
@@ -107,15 +133,10 @@ fn status_codes_are_distinct_and_named() {
 fn null_pointers_are_refused() {
     let mut q = q_state();
     let mut f = f32_state();
-    let mut reading = SdReadingQ { value: 7, flags: 7 };
-    let mut reading_f = SdReadingF32 {
-        value: 7.0,
-        flags: 7,
-    };
-    let (mut t_q, mut t_c, mut flags) = (7i32, 7.0f32, 7u8);
+    let (mut t_q, mut t_c) = (7i32, 7.0f32);
     let len = IMAGE_Q.len();
     unsafe {
-        let cases: [(&str, SdStatus); 14] = [
+        let cases: [(&str, SdStatus); 12] = [
             (
                 "q init state",
                 sd_q_init(ptr::null_mut(), SD_Q_STATE_BYTES, IMAGE_Q.as_ptr(), len),
@@ -134,27 +155,19 @@ fn null_pointers_are_refused() {
             ),
             (
                 "q update state",
-                sd_q_update_temperature(ptr::null_mut(), 4_300_000, &mut flags),
+                sd_q_update_temperature(ptr::null_mut(), 4_300_000),
             ),
             (
                 "f32 update state",
-                sd_f32_update_temperature(ptr::null_mut(), 4.3e6, &mut flags),
+                sd_f32_update_temperature(ptr::null_mut(), 4.3e6),
             ),
             (
                 "q sample state",
-                sd_q_compensate(ptr::null(), 1_000_000, &mut reading),
-            ),
-            (
-                "q sample out",
-                sd_q_compensate(&*q, 1_000_000, ptr::null_mut()),
+                result_of(sd_q_compensate(ptr::null(), 1_000_000)),
             ),
             (
                 "f32 sample state",
-                sd_f32_compensate(ptr::null(), 1.0e6, &mut reading_f),
-            ),
-            (
-                "f32 sample out",
-                sd_f32_compensate(&*f, 1.0e6, ptr::null_mut()),
+                result_of(sd_f32_compensate(ptr::null(), 1.0e6)),
             ),
             (
                 "q temperature state",
@@ -185,22 +198,15 @@ fn null_pointers_are_refused() {
             SD_ERR_NULL_POINTER
         );
     }
-    assert_eq!((reading.value, reading.flags), (7, 7), "written on error");
-    assert_eq!(
-        (reading_f.value, reading_f.flags),
-        (7.0, 7),
-        "written on error"
-    );
-    assert_eq!((t_q, t_c, flags), (7, 7.0, 7), "written on error");
+    assert_eq!((t_q, t_c), (7, 7.0), "written on error");
+    // A refused sample has value 0.
+    let refused = unsafe { sd_q_compensate(ptr::null(), 1_000_000) };
+    assert_eq!(q_value(refused), 0);
+    let refused = unsafe { sd_f32_compensate(ptr::null(), 1.0e6) };
+    assert_eq!(f32_value(refused).to_bits(), 0);
     // The earlier failed inits (null image) left the blocks not initialised.
-    let rc = unsafe { sd_q_compensate(&*q, 1_000_000, &mut reading) };
-    assert_eq!(rc, SD_ERR_NOT_INITIALISED);
-    // A NULL flags pointer is allowed on updates (the flags are optional).
-    let mut q = q_state();
-    assert_eq!(
-        unsafe { sd_q_update_temperature(&mut *q, 4_300_000, ptr::null_mut()) },
-        SD_OK
-    );
+    let sample = unsafe { sd_q_compensate(&*q, 1_000_000) };
+    assert_eq!(result_of(sample), SD_ERR_NOT_INITIALISED);
 }
 
 #[test]
@@ -238,19 +244,59 @@ fn misaligned_and_undersized_state_blocks_are_refused() {
     // any read through it.
     let rc = unsafe { sd_q_init(block.at(0), SD_Q_STATE_BYTES, q.as_ptr(), q.len()) };
     assert_eq!(rc, SD_OK);
-    let mut r = SdReadingQ { value: 7, flags: 7 };
-    let mut flags = 7;
-    unsafe {
-        assert_eq!(
-            sd_q_compensate(block.at(4), 1_000_000, &mut r),
-            SD_ERR_MISALIGNED_STATE
-        );
-        assert_eq!(
-            sd_q_update_temperature(block.at(4), 4_300_000, &mut flags),
-            SD_ERR_MISALIGNED_STATE
-        );
+    for offset in 1..SD_STATE_ALIGN {
+        unsafe {
+            let sample = sd_q_compensate(block.at(offset), 1_000_000);
+            assert_eq!(result_of(sample), SD_ERR_MISALIGNED_STATE, "+{offset}");
+            assert_eq!(q_value(sample), 0);
+            assert_eq!(
+                sd_q_update_temperature(block.at(offset), 4_300_000),
+                SD_ERR_MISALIGNED_STATE,
+                "+{offset}"
+            );
+        }
     }
-    assert_eq!((r.value, r.flags, flags), (7, 7, 7), "written on error");
+    // The same for an f32 state.
+    let rc = unsafe { sd_f32_init(block.at(0), SD_F32_STATE_BYTES, f.as_ptr(), f.len()) };
+    assert_eq!(rc, SD_OK);
+    for offset in 1..SD_STATE_ALIGN {
+        unsafe {
+            let sample = sd_f32_compensate(block.at(offset), 1.0e6);
+            assert_eq!(result_of(sample), SD_ERR_MISALIGNED_STATE, "+{offset}");
+            assert_eq!(
+                sd_f32_update_temperature(block.at(offset), 4.3e6),
+                SD_ERR_MISALIGNED_STATE,
+                "+{offset}"
+            );
+        }
+    }
+}
+
+#[test]
+fn a_state_copied_after_init_is_refused() {
+    // The key of a block is its own address: a copy elsewhere is not
+    // initialised (init it again there).
+    let q = q_state();
+    let mut copy = Box::new(SdQState { opaque: q.opaque });
+    let sample = unsafe { sd_q_compensate(&*copy, 1_000_000) };
+    assert_eq!(result_of(sample), SD_ERR_NOT_INITIALISED);
+    assert_eq!(
+        unsafe { sd_q_update_temperature(&mut *copy, 4_300_000) },
+        SD_ERR_NOT_INITIALISED
+    );
+    let rc = unsafe {
+        sd_q_init(
+            &mut *copy,
+            SD_Q_STATE_BYTES,
+            IMAGE_Q.as_ptr(),
+            IMAGE_Q.len(),
+        )
+    };
+    assert_eq!(rc, SD_OK);
+    assert_eq!(
+        status(result_of(unsafe { sd_q_compensate(&*copy, 1_000_000) })),
+        SD_OK
+    );
 }
 
 #[test]
@@ -291,12 +337,6 @@ fn corrupt_and_invalid_images_are_refused() {
 
 #[test]
 fn calls_in_the_wrong_order_are_refused() {
-    let mut r = SdReadingQ { value: 7, flags: 7 };
-    let mut rf = SdReadingF32 {
-        value: 7.0,
-        flags: 7,
-    };
-    let mut flags = 7;
     // Zero-filled (never initialised) blocks.
     let mut q = Box::new(SdQState {
         opaque: [0; SD_Q_STATE_BYTES],
@@ -306,26 +346,22 @@ fn calls_in_the_wrong_order_are_refused() {
     });
     unsafe {
         assert_eq!(
-            sd_q_compensate(&*q, 1_000_000, &mut r),
+            result_of(sd_q_compensate(&*q, 1_000_000)),
             SD_ERR_NOT_INITIALISED
         );
         assert_eq!(
-            sd_q_update_temperature(&mut *q, 4_300_000, &mut flags),
+            sd_q_update_temperature(&mut *q, 4_300_000),
             SD_ERR_NOT_INITIALISED
         );
         assert_eq!(
-            sd_f32_compensate(&*f, 1.0e6, &mut rf),
+            result_of(sd_f32_compensate(&*f, 1.0e6)),
             SD_ERR_NOT_INITIALISED
         );
         assert_eq!(
-            sd_f32_update_temperature(&mut *f, 4.3e6, &mut flags),
+            sd_f32_update_temperature(&mut *f, 4.3e6),
             SD_ERR_NOT_INITIALISED
         );
     }
-    assert_eq!(
-        (r.value, r.flags, rf.value, rf.flags, flags),
-        (7, 7, 7.0, 7, 7)
-    );
     // A block initialised for the other arithmetic is not initialised for
     // this one.
     let q = q_state();
@@ -333,12 +369,12 @@ fn calls_in_the_wrong_order_are_refused() {
     unsafe {
         let q_as_f32 = (&*q as *const SdQState).cast::<SdF32State>();
         assert_eq!(
-            sd_f32_compensate(q_as_f32, 1.0e6, &mut rf),
+            result_of(sd_f32_compensate(q_as_f32, 1.0e6)),
             SD_ERR_NOT_INITIALISED
         );
         let f_as_q = (&*f as *const SdF32State).cast::<SdQState>();
         assert_eq!(
-            sd_q_compensate(f_as_q, 1_000_000, &mut r),
+            result_of(sd_q_compensate(f_as_q, 1_000_000)),
             SD_ERR_NOT_INITIALISED
         );
     }
@@ -354,20 +390,25 @@ fn calls_in_the_wrong_order_are_refused() {
     };
     assert_eq!(rc, SD_ERR_WRONG_FORMAT);
     assert_eq!(
-        unsafe { sd_q_compensate(&*q, 1_000_000, &mut r) },
+        result_of(unsafe { sd_q_compensate(&*q, 1_000_000) }),
         SD_ERR_NOT_INITIALISED
     );
     // A sample before the first temperature update is computed but flagged.
     let q = q_state();
-    assert_eq!(unsafe { sd_q_compensate(&*q, 1_000_000, &mut r) }, SD_OK);
-    assert_ne!(r.flags & SD_FLAG_NO_TEMPERATURE, 0, "flags {:#x}", r.flags);
-    let f = f32_state();
-    assert_eq!(unsafe { sd_f32_compensate(&*f, 1.0e6, &mut rf) }, SD_OK);
+    let flags = result_of(unsafe { sd_q_compensate(&*q, 1_000_000) });
+    assert!(flags >= 0, "result {flags}");
     assert_ne!(
-        rf.flags & SD_FLAG_NO_TEMPERATURE,
+        flags & i32::from(SD_FLAG_NO_TEMPERATURE),
         0,
-        "flags {:#x}",
-        rf.flags
+        "flags {flags:#x}"
+    );
+    let f = f32_state();
+    let flags = result_of(unsafe { sd_f32_compensate(&*f, 1.0e6) });
+    assert!(flags >= 0, "result {flags}");
+    assert_ne!(
+        flags & i32::from(SD_FLAG_NO_TEMPERATURE),
+        0,
+        "flags {flags:#x}"
     );
 }
 
@@ -384,52 +425,46 @@ fn results_equal_the_crate_called_directly() {
     assert_eq!(samples.len(), 120, "demo stream");
     let mut flagged = 0;
     for (i, &(raw, temp)) in samples.iter().enumerate() {
-        let (mut tq_flags, mut tf_flags) = (0xFF, 0xFF);
-        let mut r = SdReadingQ {
-            value: 0,
-            flags: 0xFF,
-        };
-        let mut rf = SdReadingF32 {
-            value: f32::NAN,
-            flags: 0xFF,
-        };
         let (mut t_q, mut t_c) = (0, f32::NAN);
-        unsafe {
-            assert_eq!(sd_q_update_temperature(&mut *q, temp, &mut tq_flags), SD_OK);
-            assert_eq!(sd_q_compensate(&*q, raw, &mut r), SD_OK);
+        let (tq_flags, r, tf_flags, rf) = unsafe {
+            let tq_flags = sd_q_update_temperature(&mut *q, temp);
+            let r = sd_q_compensate(&*q, raw);
             assert_eq!(sd_q_temperature_q(&*q, &mut t_q), SD_OK);
-            assert_eq!(
-                sd_f32_update_temperature(&mut *f, temp as f32, &mut tf_flags),
-                SD_OK
-            );
-            assert_eq!(sd_f32_compensate(&*f, raw as f32, &mut rf), SD_OK);
+            let tf_flags = sd_f32_update_temperature(&mut *f, temp as f32);
+            let rf = sd_f32_compensate(&*f, raw as f32);
             assert_eq!(sd_f32_temperature_c(&*f, &mut t_c), SD_OK);
-        }
+            (tq_flags, r, tf_flags, rf)
+        };
         let tq = direct_q.update_temperature(temp);
         let want_q = direct_q.compensate_sample(raw);
         let tf = direct_f.update_temperature(temp as f32);
         let want_f = direct_f.compensate_sample(raw as f32);
         assert_eq!(
-            (r.value, r.flags, tq_flags, t_q),
+            (q_value(r), result_of(r), tq_flags, t_q),
             (
                 want_q.value,
-                want_q.status.bits(),
-                tq.bits(),
+                i32::from(want_q.status.bits()),
+                i32::from(tq.bits()),
                 direct_q.temperature_q()
             ),
             "Q sample {i}"
         );
         assert_eq!(
-            (rf.value.to_bits(), rf.flags, tf_flags, t_c.to_bits()),
+            (
+                f32_value(rf).to_bits(),
+                result_of(rf),
+                tf_flags,
+                t_c.to_bits()
+            ),
             (
                 want_f.value.to_bits(),
-                want_f.status.bits(),
-                tf.bits(),
+                i32::from(want_f.status.bits()),
+                i32::from(tf.bits()),
                 direct_f.temperature_c().to_bits()
             ),
             "f32 sample {i}"
         );
-        flagged += usize::from(r.flags != 0);
+        flagged += usize::from(result_of(r) != 0);
     }
     // The stream ends with four fault samples, so flags are exercised too.
     assert!(flagged >= 4, "only {flagged} flagged samples");

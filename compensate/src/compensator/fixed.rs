@@ -485,6 +485,19 @@ impl<'a> FixedCompensator<'a> {
     /// [`Status::SENSOR_FAULT`] (and is clamped).
     #[inline]
     pub fn update_temperature(&mut self, signal_q: i32) -> Status {
+        if self.update_temperature_short(signal_q) {
+            return Status::OK;
+        }
+        self.update_general(signal_q)
+    }
+
+    /// The short update of [`Self::update_temperature`] alone: `true` when
+    /// it applied (status OK), `false`, with nothing changed, where the
+    /// general update must run ([`Self::update_temperature`] runs it).
+    /// For a caller that keeps its general path out of line, as the C API
+    /// does, so that its short path needs no stack frame.
+    #[inline(always)]
+    pub fn update_temperature_short(&mut self, signal_q: i32) -> bool {
         let s = &self.short;
         // False whenever the short update does not apply.
         if signal_q >= s.lo && signal_q <= s.hi {
@@ -500,10 +513,10 @@ impl<'a> FixedCompensator<'a> {
                 self.temperature_q = signal_q;
                 self.offset = lerp_q_diff(c.offset0, c.offset_diff, frac_q16);
                 self.gain = lerp_q_diff(c.gain0, c.gain_diff, frac_q16);
-                return Status::OK;
+                return true;
             }
         }
-        self.update_general(signal_q)
+        false
     }
 
     /// Reads the node words of interval `index` into the cell and sets the
@@ -552,7 +565,7 @@ impl<'a> FixedCompensator<'a> {
     // has to fit in 8 KiB (out of line it had 12 bytes to spare).
     #[cfg_attr(narrow_mul, inline)]
     #[cfg_attr(not(narrow_mul), inline(never))]
-    fn update_general(&mut self, signal_q: i32) -> Status {
+    pub fn update_general(&mut self, signal_q: i32) -> Status {
         // Borrowed, not copied: the update reads the tables in place and
         // writes the cache once at the end (fewer registers to spill).
         // Keeps "a filled cell means status OK" (see `CellQ`).
@@ -634,6 +647,17 @@ impl<'a> FixedCompensator<'a> {
     /// results (tested).
     #[inline]
     pub fn compensate_sample(&self, raw: i32) -> ReadingQ {
+        match self.compensate_sample_short(raw) {
+            Some(r) => r,
+            None => self.compensate_general(raw),
+        }
+    }
+
+    /// The short path of [`Self::compensate_sample`] alone: `None` where
+    /// the general path must run ([`Self::compensate_sample`] runs it).
+    /// For a caller that keeps its general path out of line (the C API).
+    #[inline(always)]
+    pub fn compensate_sample_short(&self, raw: i32) -> Option<ReadingQ> {
         // `raw - fast_lo` wraps below `fast_lo` to at least
         // `2^32 - (fast_lo - i32::MIN)`, beyond any span: one compare
         // tests both ends of the calibrated range, or fails always when
@@ -651,16 +675,16 @@ impl<'a> FixedCompensator<'a> {
                 let value = self
                     .short_scale
                     .wide(mul_wide(d, self.gain).wrapping_add(self.out_round));
-                return match value {
+                return Some(match value {
                     Ok(value) => ReadingQ {
                         value,
                         status: self.temp_status,
                     },
                     Err(hi) => self.saturated(hi),
-                };
+                });
             }
         }
-        self.compensate_general(raw)
+        None
     }
 
     /// What [`Self::compensate_general`] gives for a raw code in the short
@@ -716,9 +740,10 @@ impl<'a> FixedCompensator<'a> {
     }
 
     /// Every case of [`Self::compensate_sample`]: statuses, saturation,
-    /// quadratic term, 2-D correction.
+    /// quadratic term, 2-D correction; what a caller of
+    /// [`Self::compensate_sample_short`] runs where that returns `None`.
     #[inline(never)]
-    fn compensate_general(&self, raw: i32) -> ReadingQ {
+    pub fn compensate_general(&self, raw: i32) -> ReadingQ {
         let mut status = if raw >= self.raw_lo && raw <= self.raw_hi {
             self.temp_status
         } else {

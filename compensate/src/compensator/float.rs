@@ -398,6 +398,19 @@ impl<'a> Compensator<'a> {
     /// [`Status::SENSOR_FAULT`] (and is clamped).
     #[inline]
     pub fn update_temperature(&mut self, signal: f32) -> Status {
+        if self.update_temperature_short(signal) {
+            return Status::OK;
+        }
+        self.update_general(signal)
+    }
+
+    /// The short update of [`Self::update_temperature`] alone: `true` when
+    /// it applied (status OK), `false`, with nothing changed, where the
+    /// general update must run ([`Self::update_temperature`] runs it).
+    /// For a caller that keeps its general path out of line, as the C API
+    /// does, so that its short path needs no stack frame.
+    #[inline(always)]
+    pub fn update_temperature_short(&mut self, signal: f32) -> bool {
         let s = &self.short;
         // False for NaN and whenever the short update does not apply.
         if signal >= s.lo && signal < s.hi {
@@ -418,10 +431,10 @@ impl<'a> Compensator<'a> {
                 self.temperature_c = signal;
                 self.offset = i.offset + frac * i.offset_step;
                 self.gain = i.gain + frac * i.gain_step;
-                return Status::OK;
+                return true;
             }
         }
-        self.update_general(signal)
+        false
     }
 
     /// Reads the node words of interval `index` into the cached interval
@@ -453,9 +466,10 @@ impl<'a> Compensator<'a> {
         false
     }
 
-    /// Every case of [`Self::update_temperature`].
+    /// Every case of [`Self::update_temperature`]; what a caller of
+    /// [`Self::update_temperature_short`] runs where that returns `false`.
     #[inline(never)]
-    fn update_general(&mut self, signal: f32) -> Status {
+    pub fn update_general(&mut self, signal: f32) -> Status {
         // Keeps "a filled interval means status OK" (see `Interval`).
         self.interval.index = Interval::EMPTY.index;
         // Borrowed, not copied: the whole update reads the tables in place
@@ -532,23 +546,35 @@ impl<'a> Compensator<'a> {
     /// an out-of-line function.
     #[inline]
     pub fn compensate_sample(&self, raw: f32) -> Reading {
+        match self.compensate_sample_short(raw) {
+            Some(r) => r,
+            None => self.compensate_general(raw),
+        }
+    }
+
+    /// The short path of [`Self::compensate_sample`] alone: `None` where
+    /// the general path must run ([`Self::compensate_sample`] runs it).
+    /// For a caller that keeps its general path out of line (the C API).
+    #[inline(always)]
+    pub fn compensate_sample_short(&self, raw: f32) -> Option<Reading> {
         // False for NaN, so NaN takes the general path.
         // `fast_lo..=fast_hi` is the calibrated range of an image without
         // quadratic channel and 2-D correction, else empty.
         if raw >= self.fast_lo && raw <= self.fast_hi {
             let d = raw - self.offset;
-            return Reading {
+            return Some(Reading {
                 value: d * self.gain,
                 status: self.temp_status,
-            };
+            });
         }
-        self.compensate_general(raw)
+        None
     }
 
     /// Every case of [`Self::compensate_sample`]: statuses, NaN, 2-D
-    /// correction.
+    /// correction; what a caller of [`Self::compensate_sample_short`] runs
+    /// where that returns `None`.
     #[inline(never)]
-    fn compensate_general(&self, raw: f32) -> Reading {
+    pub fn compensate_general(&self, raw: f32) -> Reading {
         let mut status = if raw >= self.raw_lo && raw <= self.raw_hi {
             self.temp_status
         } else {

@@ -103,6 +103,7 @@ impl<'a> TableView<'a> {
     /// One [`ImageError`] variant per kind of defect; never panics. Built
     /// without the `cubic` feature, a cubic image gives
     /// [`ImageError::InterpolationNotCompiled`].
+    #[cfg_attr(feature = "inline-parse", inline(always))]
     pub fn parse(bytes: &'a [u8]) -> Result<Self, ImageError> {
         Self::parse_as::<false>(bytes)
     }
@@ -115,12 +116,14 @@ impl<'a> TableView<'a> {
     /// # Errors
     /// [`ImageError::FormatNotAccepted`] for a valid-so-far f32 image;
     /// otherwise as [`Self::parse`].
+    #[cfg_attr(feature = "inline-parse", inline(always))]
     pub fn parse_q(bytes: &'a [u8]) -> Result<Self, ImageError> {
         Self::parse_as::<true>(bytes)
     }
 
     /// [`Self::parse`] with `Q_ONLY`: the format is a constant after its
     /// check, so the optimiser drops every f32 branch.
+    #[cfg_attr(feature = "inline-parse", inline(always))]
     fn parse_as<const Q_ONLY: bool>(bytes: &'a [u8]) -> Result<Self, ImageError> {
         let total = Self::declared_len(bytes)?;
         let header_len = u16_at(bytes, off::HEADER_LEN);
@@ -504,6 +507,7 @@ impl<'a> TableView<'a> {
 
     /// The tables of an f32 image; `None` for a Q image.
     #[must_use]
+    #[cfg_attr(feature = "inline-parse", inline(always))]
     pub fn tables_f32(&self) -> Option<TablesF32<'a>> {
         if self.format != NumberFormat::F32 {
             return None;
@@ -541,6 +545,7 @@ impl<'a> TableView<'a> {
 
     /// The tables of a Q image; `None` for an f32 image.
     #[must_use]
+    #[cfg_attr(feature = "inline-parse", inline(always))]
     pub fn tables_q(&self) -> Option<TablesQ<'a>> {
         if self.format != NumberFormat::Q {
             return None;

@@ -9,25 +9,22 @@ static int probe(const sd_probe_inputs *in)
 {
 #if defined(__ARM_FP)
     sd_f32_state state; /* on the stack, as the Rust probe's compensator */
-    sd_reading_f32 r;
-    uint8_t flags = 0;
-    if (sd_f32_init(&state, sizeof state, in->image, in->image_len) != SD_OK ||
-        sd_f32_update_temperature(&state, (float)in->signal, &flags) != SD_OK ||
-        sd_f32_compensate(&state, (float)in->raw, &r) != SD_OK) {
+    if (sd_f32_init(&state, sizeof state, in->image, in->image_len) != SD_OK) {
         return 0;
     }
-    volatile float value = r.value;
+    sd_result update = sd_f32_update_temperature(&state, (float)in->signal);
+    sd_sample_f32 r = sd_f32_compensate(&state, (float)in->raw);
+    volatile float value = sd_sample_f32_value(r);
 #else
     sd_q_state state; /* on the stack, as the Rust probe's compensator */
-    sd_reading_q r;
-    uint8_t flags = 0;
-    if (sd_q_init(&state, sizeof state, in->image, in->image_len) != SD_OK ||
-        sd_q_update_temperature(&state, in->signal, &flags) != SD_OK ||
-        sd_q_compensate(&state, in->raw, &r) != SD_OK) {
+    if (sd_q_init(&state, sizeof state, in->image, in->image_len) != SD_OK) {
         return 0;
     }
-    volatile int32_t value = r.value;
+    sd_result update = sd_q_update_temperature(&state, in->signal);
+    sd_sample_q r = sd_q_compensate(&state, in->raw);
+    volatile int32_t value = sd_sample_q_value(r);
 #endif
     (void)value;
-    return flags == 0 && r.flags == 0;
+    /* Flags 0: success and within the calibrated domain. */
+    return update == 0 && sd_sample_result(r) == 0;
 }

@@ -76,8 +76,8 @@ static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
     copy[len / 2] ^= 0x10u;
     static sd_q_state refused;
     sd_status init = sd_q_init(&refused, sizeof refused, copy, len);
-    sd_reading_q r = {.value = 0, .flags = 0};
-    sd_status sample = sd_q_compensate(&refused, 1000000, &r);
+    sd_sample_q r = sd_q_compensate(&refused, 1000000);
+    sd_status sample = sd_result_status(sd_sample_result(r));
     sd_line l;
     l.len = 0;
     sd_line_str(&l, "corrupted init status=");
@@ -91,7 +91,8 @@ static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
     sd_line_str(&l, sd_status_name(sample));
     sd_line_str(&l, ")");
     sd_line_print(&l);
-    return init == SD_ERR_CORRUPT_IMAGE && sample == SD_ERR_NOT_INITIALISED;
+    return init == SD_ERR_CORRUPT_IMAGE && sample == SD_ERR_NOT_INITIALISED &&
+           sd_sample_q_value(r) == 0 && sd_result_flags(sd_sample_result(r)) == SD_FLAG_TABLE_INVALID;
 }
 
 static sd_sample samples[SD_STREAM_SAMPLES];
@@ -127,11 +128,11 @@ void sd_main(void)
     }
     for (int32_t i = 0; i < n; i++) {
         const sd_sample s = samples[i];
-        uint8_t tq = 0;
-        sd_reading_q q = {.value = 0, .flags = 0};
+        sd_result tq = sd_q_update_temperature(&fixed, s.temp_code);
+        sd_sample_q q = sd_q_compensate(&fixed, s.raw_code);
         int32_t t_q = 0;
-        ok &= sd_q_update_temperature(&fixed, s.temp_code, &tq) == SD_OK;
-        ok &= sd_q_compensate(&fixed, s.raw_code, &q) == SD_OK;
+        ok &= sd_result_status(tq) == SD_OK;
+        ok &= sd_result_status(sd_sample_result(q)) == SD_OK;
         ok &= sd_q_temperature_q(&fixed, &t_q) == SD_OK;
 
         sd_line l;
@@ -143,11 +144,11 @@ void sd_main(void)
         sd_line_str(&l, " temp=");
         sd_line_i32(&l, s.temp_code);
 #if defined(__ARM_FP)
-        uint8_t tf = 0;
-        sd_reading_f32 f = {.value = 0.0f, .flags = 0};
+        sd_result tf = sd_f32_update_temperature(&floating, (float)s.temp_code);
+        sd_sample_f32 f = sd_f32_compensate(&floating, (float)s.raw_code);
         float t_c = 0.0f;
-        ok &= sd_f32_update_temperature(&floating, (float)s.temp_code, &tf) == SD_OK;
-        ok &= sd_f32_compensate(&floating, (float)s.raw_code, &f) == SD_OK;
+        ok &= sd_result_status(tf) == SD_OK;
+        ok &= sd_result_status(sd_sample_result(f)) == SD_OK;
         ok &= sd_f32_temperature_c(&floating, &t_c) == SD_OK;
         union {
             float f;
@@ -159,22 +160,22 @@ void sd_main(void)
         sd_line_str(&l, " t_q=");
         sd_line_i32(&l, t_q);
         sd_line_str(&l, " f32=");
-        bits.f = f.value;
+        bits.f = sd_sample_f32_value(f);
         sd_line_hex32(&l, bits.u);
         sd_line_str(&l, " f32_status=");
-        sd_line_u32(&l, f.flags);
+        sd_line_u32(&l, sd_result_flags(sd_sample_result(f)));
         sd_line_str(&l, " f32_temp_status=");
-        sd_line_u32(&l, tf);
+        sd_line_u32(&l, sd_result_flags(tf));
 #else
         sd_line_str(&l, " t_q=");
         sd_line_i32(&l, t_q);
 #endif
         sd_line_str(&l, " q=");
-        sd_line_i32(&l, q.value);
+        sd_line_i32(&l, sd_sample_q_value(q));
         sd_line_str(&l, " q_status=");
-        sd_line_u32(&l, q.flags);
+        sd_line_u32(&l, sd_result_flags(sd_sample_result(q)));
         sd_line_str(&l, " q_temp_status=");
-        sd_line_u32(&l, tq);
+        sd_line_u32(&l, sd_result_flags(tq));
         sd_line_print(&l);
     }
     sd_line l;
