@@ -30,7 +30,7 @@ pub struct LotInfo {
 }
 
 /// Budget terms of a verified image, ppm of span.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Terms {
     /// Interpolation.
     pub interpolation_ppm: f64,
