@@ -200,7 +200,7 @@ fn apply(inputs: Inputs<'_>, json: bool, out: &mut dyn Write) -> Result<(), CliE
         csv,
         mut recording,
     } = inputs;
-    let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
+    let curves = pipeline::part_curves(part).map_err(|e| CliError::Input(e.to_string()))?;
     let data = chamber::read_file(csv).map_err(|e| CliError::Input(e.to_string()))?;
     super::report_rows(&data);
     let rows = super::part_rows(&data, csv, &part.serial)?;

@@ -232,3 +232,18 @@ pub fn eol(db: &mut Db, fit_id: i64, image: &[u8], check: &EolCheck) -> Result<(
     })?;
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::parse_crc;
+
+    #[test]
+    fn crc_reads_as_lot_status_prints_it() {
+        assert_eq!(parse_crc("0badc0de"), Ok(0x0bad_c0de));
+        assert_eq!(parse_crc("0X0BADC0DE"), Ok(0x0bad_c0de));
+        assert_eq!(parse_crc("ff"), Ok(0xff));
+        for bad in ["", "0x", "123456789", "12g4", "-1", "+ff"] {
+            assert!(parse_crc(bad).is_err(), "{bad}");
+        }
+    }
+}
