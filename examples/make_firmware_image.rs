@@ -416,10 +416,9 @@ pub fn build() -> FirmwareData {
         stimuli: scenario.stimuli.clone(),
     };
     let parts = draw_parts(&scenario, 1, SEED);
-    let data = ChamberData {
-        rows: measure(&scenario, &parts, &plan, SEED).unwrap_or_else(|e| panic!("simulate: {e}")),
-        ..ChamberData::default()
-    };
+    let data = ChamberData::from(
+        measure(&scenario, &parts, &plan, SEED).unwrap_or_else(|e| panic!("simulate: {e}")),
+    );
     let curves = part_shapes(&scenario);
     let mut fitted = calibrate_lot(&scenario, &curves, &data, &Silent);
     let part = fitted.remove(0);

@@ -77,10 +77,7 @@ fn base() -> &'static (Scenario, Vec<ChamberRow>, Vec<Vec<u8>>) {
             let parts = simulate::draw_parts(&scenario, 3, 5);
             let rows = simulate::measure(&scenario, &parts, &plan, 5).unwrap();
             let curves = model_shapes::shapes_for(&scenario).unwrap();
-            let data = ChamberData {
-                rows: rows.clone(),
-                ..ChamberData::default()
-            };
+            let data = ChamberData::from(rows.clone());
             let fitted =
                 lot::calibrate_lot(&scenario, &curves, &data, &host_tools::station::lot::Silent);
             let part = fitted.iter().find(|p| p.is_ok()).expect("a part fits");
@@ -421,10 +418,7 @@ fn degenerate_lot(rows: &[ChamberRow], rng: &mut ChaCha8Rng) -> ChamberData {
             }
         }
     }
-    ChamberData {
-        rows: out,
-        ..ChamberData::default()
-    }
+    ChamberData::from(out)
 }
 
 /// A design learned from an 8-part qualification lot of the base scenario.
@@ -434,10 +428,7 @@ fn design(scenario: &Scenario, curves: &host_tools::station::curves::ShapeCurves
         stimuli: scenario.qualification_stimuli(),
     };
     let parts = simulate::draw_parts(scenario, 8, 11);
-    let data = ChamberData {
-        rows: simulate::measure(scenario, &parts, &plan, 11).unwrap(),
-        ..ChamberData::default()
-    };
+    let data = ChamberData::from(simulate::measure(scenario, &parts, &plan, 11).unwrap());
     let production = ProductionPlan {
         temps_c: scenario.cal_temps_c.clone(),
         stimuli: scenario.stimuli.clone(),

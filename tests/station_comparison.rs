@@ -32,14 +32,8 @@ fn run(scenario: &Scenario, n: usize, seed: u64) -> Comparison {
         ],
         stimuli: scenario.stimuli.clone(),
     };
-    let cal_rows = ChamberData {
-        rows: measure(scenario, &parts, &cal, seed).unwrap(),
-        ..ChamberData::default()
-    };
-    let check_rows = ChamberData {
-        rows: measure(scenario, &parts, &check, seed).unwrap(),
-        ..ChamberData::default()
-    };
+    let cal_rows = ChamberData::from(measure(scenario, &parts, &cal, seed).unwrap());
+    let check_rows = ChamberData::from(measure(scenario, &parts, &check, seed).unwrap());
     let fitted = calibrate_lot(
         scenario,
         &curves,
@@ -94,10 +88,7 @@ fn comparison_skips_parts_that_did_not_calibrate() {
         temps_c: vec![-20.0, 85.0],
         stimuli: scenario.stimuli.clone(),
     };
-    let rows = ChamberData {
-        rows: measure(&scenario, &parts, &cal, 5).unwrap(),
-        ..ChamberData::default()
-    };
+    let rows = ChamberData::from(measure(&scenario, &parts, &cal, 5).unwrap());
     let fitted = calibrate_lot(&scenario, &curves, &rows, &host_tools::station::lot::Silent);
     let c = compare(&fitted, &curves, &rows);
     assert_eq!((c.parts, c.skipped), (0, 2), "{c:?}");

@@ -23,10 +23,7 @@ use rayon::prelude::*;
 
 fn lot_rows(sc: &Scenario, n: usize, seed: u64, plan: &Plan) -> ChamberData {
     let parts = draw_parts(sc, n, seed);
-    ChamberData {
-        rows: measure(sc, &parts, plan, seed).unwrap(),
-        ..ChamberData::default()
-    }
+    ChamberData::from(measure(sc, &parts, plan, seed).unwrap())
 }
 
 #[test]

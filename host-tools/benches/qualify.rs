@@ -23,10 +23,7 @@ fn qualify(c: &mut Criterion) {
         stimuli: sc.qualification_stimuli(),
     };
     let parts = draw_parts(&sc, 20, 7);
-    let qual_data = ChamberData {
-        rows: measure(&sc, &parts, &qual, 7).unwrap(),
-        ..ChamberData::default()
-    };
+    let qual_data = ChamberData::from(measure(&sc, &parts, &qual, 7).unwrap());
     let plan = ProductionPlan {
         temps_c: sc.cal_temps_c.clone(),
         stimuli: sc.stimuli.clone(),
@@ -44,10 +41,7 @@ fn qualify(c: &mut Criterion) {
         stimuli: sc.stimuli.clone(),
     };
     let lot = draw_parts(&sc, 1000, 1);
-    let data = ChamberData {
-        rows: measure(&sc, &lot, &prod, 1).unwrap(),
-        ..ChamberData::default()
-    };
+    let data = ChamberData::from(measure(&sc, &lot, &prod, 1).unwrap());
     group.bench_function("calibrate_1000_parts_on_design", |b| {
         b.iter(|| {
             calibrate_lot_with(

@@ -23,10 +23,7 @@ fn station(c: &mut Criterion) {
         stimuli: sc.stimuli.clone(),
     };
     let parts = draw_parts(&sc, 1000, 1);
-    let data = ChamberData {
-        rows: measure(&sc, &parts, &plan, 1).unwrap(),
-        ..ChamberData::default()
-    };
+    let data = ChamberData::from(measure(&sc, &parts, &plan, 1).unwrap());
     let mut group = c.benchmark_group("station");
     group
         .sample_size(10)
@@ -37,10 +34,7 @@ fn station(c: &mut Criterion) {
     let fitted = calibrate_lot(
         &sc,
         &curves,
-        &ChamberData {
-            rows: data.rows[..9].to_vec(),
-            ..ChamberData::default()
-        },
+        &ChamberData::from(data.rows[..9].to_vec()),
         &host_tools::station::lot::Silent,
     );
     let part = &fitted[0];

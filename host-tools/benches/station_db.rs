@@ -36,14 +36,8 @@ fn record_lot(c: &mut Criterion) {
     let check_rows = measure(&sc, &lot, &check_plan, 1).unwrap();
     let cal_bytes = chamber::to_csv_bytes(&cal_rows);
     let check_bytes = chamber::to_csv_bytes(&check_rows);
-    let cal = ChamberData {
-        rows: cal_rows,
-        ..ChamberData::default()
-    };
-    let check = ChamberData {
-        rows: check_rows,
-        ..ChamberData::default()
-    };
+    let cal = ChamberData::from(cal_rows);
+    let check = ChamberData::from(check_rows);
     let parts = calibrate_lot(&sc, &curves, &cal, &Silent);
     let groups = check.by_serial();
     let samples: Vec<(

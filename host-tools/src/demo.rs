@@ -139,10 +139,7 @@ pub fn qualify_lot(
     )?;
     let name = "qualification.csv";
     write_atomic(&dir.join(name), &chamber::to_csv_bytes(&rows))?;
-    let data = ChamberData {
-        rows,
-        ..ChamberData::default()
-    };
+    let data = ChamberData::from(rows);
     let production = ProductionPlan {
         temps_c: scenario.cal_temps_c.clone(),
         stimuli: scenario.stimuli.clone(),
@@ -178,14 +175,8 @@ pub fn run_scenario(
         &dir.join("chamber-check.csv"),
         &chamber::to_csv_bytes(&check_rows),
     )?;
-    let cal = ChamberData {
-        rows: cal_rows,
-        ..ChamberData::default()
-    };
-    let check = ChamberData {
-        rows: check_rows,
-        ..ChamberData::default()
-    };
+    let cal = ChamberData::from(cal_rows);
+    let check = ChamberData::from(check_rows);
 
     // Physics-only fits (for the comparison) and fits on the design (the
     // parts that get tables).

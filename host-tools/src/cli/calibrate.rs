@@ -50,15 +50,12 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     })?;
     let curves = model_shapes::shapes_for(&scenario)
         .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
-    let design = match &args.design {
-        Some(path) => {
-            let d = DesignFile::read(path).map_err(|e| CliError::Input(e.to_string()))?;
-            d.check_scenario(&path.display().to_string(), &scenario)
-                .map_err(|e| CliError::Input(e.to_string()))?;
-            Some(d)
-        }
-        None => None,
-    };
+    let design = args
+        .design
+        .as_deref()
+        .map(|path| DesignFile::read_for(path, &scenario))
+        .transpose()
+        .map_err(|e| CliError::Input(e.to_string()))?;
     if data.rows.is_empty() {
         return Err(CliError::CheckFailed(format!(
             "{}: no readable rows ({} rejected): no part to calibrate",

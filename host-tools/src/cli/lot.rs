@@ -222,15 +222,12 @@ fn run_lot(args: RunArgs, out: &mut dyn Write) -> Result<(), CliError> {
         Some(p) => Some(read_csv(p)?),
         None => None,
     };
-    let design = match &args.design {
-        Some(path) => {
-            let d = DesignFile::read(path).map_err(|e| CliError::Input(e.to_string()))?;
-            d.check_scenario(&path.display().to_string(), &scenario)
-                .map_err(|e| CliError::Input(e.to_string()))?;
-            Some(d)
-        }
-        None => None,
-    };
+    let design = args
+        .design
+        .as_deref()
+        .map(|path| DesignFile::read_for(path, &scenario))
+        .transpose()
+        .map_err(|e| CliError::Input(e.to_string()))?;
     let budget = args.budget.unwrap_or(scenario.budget_ppm);
     crate::station::limits::check_budget_ppm(budget)
         .map_err(|m| CliError::option("--budget", &budget.to_string(), m))?;

@@ -68,6 +68,7 @@ pub enum Command {
     #[command(after_help = CAUTIONS)]
     #[command(subcommand)]
     Plot(plot::PlotCommand),
+    // Subcommands read alike: each has its own help line, arguments and the cautions.
     /// Fit an activation energy to conductivity or resistance versus temperature.
     #[command(after_help = CAUTIONS)]
     Arrhenius(arrhenius::ArrheniusArgs),

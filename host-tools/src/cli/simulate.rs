@@ -109,6 +109,7 @@ pub fn run(args: SimulateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         output::write_atomic(path, spec::to_toml(&scenario).as_bytes())
             .map_err(|e| CliError::Input(e.to_string()))?;
     }
+    // One summary line, as every station command ends with: each names its own counts.
     writeln!(
         out,
         "simulated {} parts x {} temperatures x {} stimuli = {} rows -> {}",

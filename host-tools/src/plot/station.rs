@@ -81,6 +81,7 @@ impl Figure for ErrorFigure<'_> {
             .y_label_area_size(70)
             .build_cartesian_2d(t0..t1, (lo..hi).log_scale())
             .map_err(PlotError::draw)?;
+        // Same mesh style as plot/report.rs: plotters' builder has no shared style value.
         chart
             .configure_mesh()
             .x_desc("temperature (C)")

@@ -407,7 +407,7 @@ mod tests {
             let (dl, gl) = (i32::from(d as i16), i32::from(g as i16));
             let (dh, gh) = (d.wrapping_sub(dl) >> 16, g.wrapping_sub(gl) >> 16);
             let (ll, hh) = (dl.wrapping_mul(gl), dh.wrapping_mul(gh));
-            // The kernel's split product, high halves wrong on purpose.
+            // Same split product as the kernel above: a wrong copy on purpose (high halves only).
             let km = dl.wrapping_sub(dh).wrapping_mul(gh.wrapping_sub(gl));
             let low = ll.wrapping_add(c.round_lo);
             let m = km

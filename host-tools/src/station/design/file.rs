@@ -17,6 +17,7 @@ pub const DESIGN_FORMAT: &str = "semidrift-design/1";
 /// Where the qualification data came from.
 #[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct QualificationSummary {
+    // Plain documented structs read alike (stationdb/figures.rs, remainder.rs); each is its own.
     /// The qualification CSV as given.
     pub file: String,
     /// Parts learned from.
@@ -220,6 +221,14 @@ impl DesignFile {
                 message: "curve weights do not match the basis".into(),
             });
         }
+        Ok(d)
+    }
+
+    /// Reads a design file and checks that it was learned for `scenario`'s
+    /// element ([`DesignFile::read`], then [`DesignFile::check_scenario`]).
+    pub fn read_for(path: &Path, scenario: &Scenario) -> Result<DesignFile, DesignFileError> {
+        let d = DesignFile::read(path)?;
+        d.check_scenario(&path.display().to_string(), scenario)?;
         Ok(d)
     }
 

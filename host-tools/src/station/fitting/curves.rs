@@ -35,6 +35,7 @@ pub enum OffsetShape {
 /// The tabulated shapes, all relative to the reference temperature.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ShapeCurves {
+    // Documented fields read alike (stationdb/query.rs, stationdb/figures.rs); each is its own.
     /// First grid temperature in degrees Celsius.
     pub t0_c: f64,
     /// Grid step in kelvin.

@@ -87,6 +87,16 @@ pub struct ChamberData {
     pub repeats: Vec<RowError>,
 }
 
+impl From<Vec<ChamberRow>> for ChamberData {
+    /// Rows measured or simulated here: none failed to parse, none repeats.
+    fn from(rows: Vec<ChamberRow>) -> Self {
+        ChamberData {
+            rows,
+            ..ChamberData::default()
+        }
+    }
+}
+
 impl ChamberData {
     /// Groups the rows by serial number (serials in sorted order, rows in file order).
     pub fn by_serial(&self) -> BTreeMap<&str, Vec<&ChamberRow>> {

@@ -528,6 +528,7 @@ impl Scenario {
             }
         }
         let sp = &self.spread;
+        // Named values in a list, as plot/report.rs lists its yield bars: each list is its own.
         for (key, x) in [
             ("doping_rel", sp.doping_rel),
             ("arm_doping_rel", sp.arm_doping_rel),

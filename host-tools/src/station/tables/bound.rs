@@ -23,6 +23,7 @@
 //! signal(T)'s by series reversion, so no root finding enters a difference
 //! quotient.
 
+use crate::station::curves::ShapeCurves;
 use crate::station::remainder::{Column, central_differences, inverse_derivatives};
 use crate::station::table::{AxisKind, SignalUnit, TableFrame, TablePlan};
 
@@ -167,11 +168,7 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     // smooth curve where it is smooth and blow up across the full model's
     // slope kinks, where the kernel bound takes over (see remainder.rs).
     let step = m.curves().step_k;
-    let (grid_lo, grid_hi) = (
-        m.curves().t0_c + 2.0 * step,
-        m.curves().t_max_c() - 2.0 * step,
-    );
-    let centre = |t: f64| t.clamp(grid_lo, grid_hi);
+    let centre = |t: f64| difference_centre(m.curves(), t);
     let [t0, h_t, s0, h_s] = frame.node_axes(plan);
     let (n_t, n_sig) = (plan.n_t.max(2), plan.n_sig.max(2));
     let id = |t: f64| t;
@@ -212,6 +209,14 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
         columns + e_t * drift_slope(frame, t)
     });
     SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+}
+
+/// Where fourth differences on the curves' own knot spacing are taken for
+/// temperature `t_c`: clamped two steps inside the grid, so that the
+/// five-point stencil reads only tabulated values.
+fn difference_centre(curves: &ShapeCurves, t_c: f64) -> f64 {
+    let step = curves.step_k;
+    t_c.clamp(curves.t0_c + 2.0 * step, curves.t_max_c() - 2.0 * step)
 }
 
 /// Largest `f(t)` over `samples + 1` evenly spaced temperatures of the
@@ -354,6 +359,262 @@ pub(super) mod tests {
                 calibrate_part(scenario, &curves, &t.serial, &refs)
             })
             .collect()
+    }
+
+    /// A frame over the first well-logger part, for the helpers that read
+    /// only its range, units and curves.
+    fn with_frame(f: impl FnOnce(&TableFrame<'_>)) {
+        let part = parts(&Scenario::well_logger(), 1, 1).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let model = PartModel {
+            curves: &curves,
+            params: part.params.unwrap(),
+        };
+        f(&TableFrame::new(&part, model).unwrap());
+    }
+
+    #[test]
+    fn worst_in_takes_the_touched_intervals_clamped_to_the_table() {
+        // Interval bounds of a 5-node table; node coordinates pick them by
+        // their floor: 0.5 lies in interval 0, 1.2 in 1, 2.9 in 2.
+        let e = [1.0, 5.0, 2.0, 7.0];
+        assert_eq!(worst_in(&e, 0.5, 0.5), 1.0);
+        assert_eq!(worst_in(&e, 0.5, 1.2), 5.0);
+        assert_eq!(worst_in(&e, 1.5, 2.9), 5.0);
+        assert_eq!(worst_in(&e, 2.0, 2.0), 2.0);
+        assert_eq!(worst_in(&e, 2.5, 3.5), 7.0);
+        // Outside the table: the end intervals.
+        assert_eq!(worst_in(&e, -3.0, -1.0), 1.0);
+        assert_eq!(worst_in(&e, 10.0, 12.0), 7.0);
+        assert_eq!(worst_in(&e, -1.0, 12.0), 7.0);
+        // A window given high end first reads the low end's interval.
+        assert_eq!(worst_in(&e, 2.5, 0.5), 2.0);
+    }
+
+    #[test]
+    fn column_of_a_parabola_by_hand() {
+        // y = t^2 read over x = 2 t (t = x / 2). Node temperatures are
+        // k u, u = 0.9765625 K (= 1000 / 1024), so every cell end below is a
+        // binary fraction and exact: cells max(2000, 8 * 5) = 2000 over
+        // 4 u, dt = 2^-9 K, and the last cell ends exactly on the last
+        // node. dy/dx = t (central quotients of a quadratic are exact; 1e-9
+        // allows their rounding); each cell carries |d(dy/dx)| = dt. d4(t)
+        // = t is charged to every interval a cell touches: interval k's
+        // largest is the mid-point of the cell that ends on its upper node,
+        // (k + 1) u - dt / 2 (that cell touches interval k + 1 too; the
+        // next starts on the node and touches only k + 1).
+        let u = 0.9765625;
+        let dt = 4.0 * u / 2000.0;
+        assert_eq!(dt, 2f64.powi(-9));
+        let col = column(
+            &Param {
+                x: &|t| 2.0 * t,
+                y: &|t| t * t,
+                t_of_x: &|x| 0.5 * x,
+                d4: &|t| t,
+            },
+            0.0,
+            2.0 * u,
+            5,
+        );
+        assert_eq!((col.x0, col.h), (0.0, 2.0 * u));
+        let node = |k: usize| k as f64 * u;
+        let want: Vec<f64> = (0..5).map(|k| node(k) * node(k)).collect();
+        assert_eq!(col.values, want);
+        for (k, s) in col.slopes.iter().enumerate() {
+            assert!((s - node(k)).abs() < 1e-9, "slope {k}: {s}");
+        }
+        assert_eq!(col.curvature.len(), 2000);
+        for (j, &(a, b, v)) in col.curvature.iter().enumerate() {
+            let x_end = 2.0 * dt * (j + 1) as f64;
+            assert_eq!((a, b), (x_end - 2.0 * dt, x_end), "cell {j}");
+            assert!((v - dt).abs() < 1e-9, "cell {j}: {v}");
+        }
+        assert_eq!(col.m4.len(), 4);
+        for (k, m) in col.m4.iter().enumerate() {
+            let want = node(k + 1) - 0.5 * dt;
+            assert!((m - want).abs() < 1e-12, "m4[{k}] = {m}, want {want}");
+        }
+    }
+
+    #[test]
+    fn column_over_a_falling_argument() {
+        // x = -2 t (a signal that falls with temperature), nodes x = -10,
+        // -8, ..., -2: node temperatures 5, 4, 3, 2, 1, and dy/dx = -1.5 t^2
+        // for y = t^3 (1e-5: the central quotient's truncation, 1e-6 K^2
+        // times the third derivative 6, over dx/dt = -2). The cells cover
+        // 1..5 K, dt = 2e-3 K. Node coordinate (x + 10) / 2 = 5 - t, so
+        // interval k spans 4 - k..5 - k K and d4(t) = t peaks at its upper
+        // end: 5 - k, +/- dt / 2 for the cell straddling that node (the
+        // cell ends are rounded here; 1e-9 more).
+        let col = column(
+            &Param {
+                x: &|t| -2.0 * t,
+                y: &|t| t * t * t,
+                t_of_x: &|x| -0.5 * x,
+                d4: &|t| t,
+            },
+            -10.0,
+            2.0,
+            5,
+        );
+        assert_eq!(col.values, [125.0, 64.0, 27.0, 8.0, 1.0]);
+        for (s, t) in col.slopes.iter().zip([5.0, 4.0, 3.0, 2.0, 1.0]) {
+            assert!((s + 1.5 * t * t).abs() < 1e-5, "slope at {t} K: {s}");
+        }
+        let dt = 4.0 / 2000.0;
+        let (first, last) = (col.curvature[0], col.curvature[1999]);
+        assert!((first.0 + 2.0).abs() < 1e-12 && (first.1 + 2.0 + 2.0 * dt).abs() < 1e-12);
+        assert!((last.1 + 10.0).abs() < 1e-9);
+        // Total variation of dy/dx over 1..5 K: 1.5 * (25 - 1) = 36 (1e-6:
+        // a sum of 2000 rounded terms).
+        let total: f64 = col.curvature.iter().map(|c| c.2).sum();
+        assert!((total - 36.0).abs() < 1e-6, "{total}");
+        for (k, m) in col.m4.iter().enumerate() {
+            let want = 5.0 - k as f64;
+            assert!(
+                (m - want).abs() <= 0.5 * dt + 1e-9,
+                "m4[{k}] = {m}, want {want}"
+            );
+        }
+        // Past 250 nodes the fine cells grow with the table: 8 per node.
+        let many = column(
+            &Param {
+                x: &|t| t,
+                y: &|t| t,
+                t_of_x: &|x| x,
+                d4: &|_| 0.0,
+            },
+            0.0,
+            0.1,
+            301,
+        );
+        assert_eq!(many.curvature.len(), 8 * 301);
+        assert_eq!(many.m4.len(), 300);
+    }
+
+    #[test]
+    fn reading_error_weights_each_column_by_its_lever() {
+        // Offset error in codes moves the reading by |gain| per code; gain
+        // error (stimulus per code) by the raw code's distance from the
+        // offset, the farther calibrated end. Interval bounds set by hand,
+        // one column at a time, read in interval 1 (node coordinates
+        // 1.2..1.7) where they are 3 and 5; the other intervals hold 100
+        // so that a wrong window shows.
+        with_frame(|frame| {
+            let t = 40.0;
+            let limits = frame.raw_limits();
+            let o = frame.offset_codes(t);
+            let lever = [limits.raw_lo, limits.raw_hi]
+                .map(|r| (f64::from(r) - o).abs())
+                .into_iter()
+                .fold(0.0, f64::max);
+            assert!(lever > 0.0 && o.abs() > 1.0, "lever {lever}, offset {o}");
+            let only_off = ChannelBounds {
+                off: vec![100.0, 3.0, 100.0],
+                gain: vec![0.0; 3],
+            };
+            let got = only_off.reading_error(frame, t, 1.2, 1.7);
+            let want = 3.0 * frame.gain_per_code(t).abs();
+            assert!((got - want).abs() <= 1e-12 * want, "{got} vs {want}");
+            let only_gain = ChannelBounds {
+                off: vec![0.0; 3],
+                gain: vec![100.0, 5.0, 100.0],
+            };
+            let got = only_gain.reading_error(frame, t, 1.2, 1.7);
+            assert!(
+                (got - 5.0 * lever).abs() <= 1e-12 * lever,
+                "{got} vs {}",
+                5.0 * lever
+            );
+        });
+    }
+
+    #[test]
+    fn fourth_differences_stay_on_the_curves_grid() {
+        // The five-point stencil at the clamped centre reads t +/- 2 steps:
+        // all of it on the grid, the ends reached exactly at the clamps,
+        // and an inner temperature left where it is.
+        let part = parts(&Scenario::well_logger(), 1, 1).remove(0);
+        let curves = shapes_for(&part.scenario).unwrap();
+        let (lo, hi, step) = (curves.t0_c, curves.t_max_c(), curves.step_k);
+        assert!(step > 0.0 && hi - lo > 8.0 * step);
+        for t in [
+            lo - 50.0,
+            lo,
+            lo + step,
+            0.5 * (lo + hi),
+            hi - step,
+            hi,
+            hi + 50.0,
+        ] {
+            let c = difference_centre(&curves, t);
+            let stencil = [c - 2.0 * step, c + 2.0 * step];
+            assert!(
+                stencil[0] >= lo - 1e-9 && stencil[1] <= hi + 1e-9,
+                "{t} C -> {c}"
+            );
+            if t <= lo + 2.0 * step {
+                assert!((stencil[0] - lo).abs() < 1e-9, "{t} C -> {c}");
+            } else if t >= hi - 2.0 * step {
+                assert!((stencil[1] - hi).abs() < 1e-9, "{t} C -> {c}");
+            } else {
+                assert_eq!(c, t);
+            }
+        }
+    }
+
+    #[test]
+    fn max_over_range_samples_both_ends_evenly() {
+        with_frame(|frame| {
+            let (lo, hi) = (frame.t_lo_c, frame.t_hi_c);
+            let seen = std::cell::RefCell::new(Vec::new());
+            let top = max_over_range(frame, 4, |t| {
+                seen.borrow_mut().push(t);
+                // Peaks at the middle one of five samples, negative far
+                // from it: the fold must start at 0 and keep the peak.
+                1.0 - (t - 0.5 * (lo + hi)).powi(2)
+            });
+            let seen = seen.into_inner();
+            assert_eq!(seen.len(), 5);
+            for (k, t) in seen.iter().enumerate() {
+                let want = lo + (hi - lo) * k as f64 / 4.0;
+                assert!((t - want).abs() < 1e-9, "sample {k}: {t}, want {want}");
+            }
+            assert!((top - 1.0).abs() < 1e-9, "{top}");
+            // All negative: the maximum is the fold's start, 0.
+            assert_eq!(max_over_range(frame, 4, |_| -1.0), 0.0);
+        });
+    }
+
+    #[test]
+    fn input_rounding_is_half_a_signal_code() {
+        with_frame(|frame| {
+            assert_eq!(input_rounding_ohm(frame), 0.0);
+            let codes = frame.with_signal_unit(SignalUnit::AdcCode);
+            assert!(codes.signal_lsb > 0.0 && codes.signal_lsb != 2.0);
+            assert_eq!(input_rounding_ohm(&codes), 0.5 * codes.signal_lsb);
+        });
+    }
+
+    #[test]
+    fn drift_slope_is_the_worse_full_scale_end() {
+        // Independent quotient over +/-0.5 K (the helper uses +/-0.01 K):
+        // the stimulus read at a fixed output is smooth in T, so the two
+        // agree to the wider step's truncation, (0.5 K)^2 / 6 of the third
+        // derivative: below 1e-3 relative on these curves.
+        with_frame(|frame| {
+            for t in [frame.t_lo_c, 25.0, frame.t_hi_c] {
+                let by_end = |s: f64| {
+                    let y = frame.output(t, s);
+                    (frame.stimulus(y, t + 0.5) - frame.stimulus(y, t - 0.5)).abs()
+                };
+                let want = by_end(frame.fs_lo).max(by_end(frame.fs_hi));
+                let got = drift_slope(frame, t);
+                assert!(want > 0.0);
+                assert!((got - want).abs() <= 1e-3 * want, "{t} C: {got} vs {want}");
+            }
+        });
     }
 
     /// Largest ratio of the bound to the dense maximum where the offset and

@@ -42,6 +42,7 @@ use crate::station::table::InterpKind;
 /// What the bound needs of one tabulated function on a uniform node axis.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Column {
+    // Plain documented structs read alike (stationdb/run.rs, design/file.rs); each is its own.
     /// First node.
     pub x0: f64,
     /// Node spacing (function argument units).
