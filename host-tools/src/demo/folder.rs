@@ -28,6 +28,7 @@ use crate::station::limits::{
 };
 use crate::station::model_shapes::shapes_for;
 use crate::station::part_file::PartFile;
+use crate::station::scenario::Scenario;
 use crate::stationdb::figures::{DesignFigures, LotFigures, PartFigures, cautions};
 use crate::stationdb::record::{image_crc, sha256_hex};
 use crate::stationdb::run::eol_check;
@@ -46,6 +47,10 @@ pub enum FolderError {
         /// What went wrong.
         message: String,
     },
+    /// A file the station's own readers refused (their message names the
+    /// file, line and field).
+    #[error("{0}")]
+    Refused(String),
     /// A value in a file is wrong.
     #[error("{file}:{line}: field '{field}': {message}")]
     Field {
@@ -65,6 +70,11 @@ fn file_error(path: &Path, message: impl Into<String>) -> FolderError {
         file: path.display().to_string(),
         message: message.into(),
     }
+}
+
+/// An error of a reader whose message names the file already.
+fn refused(e: impl std::fmt::Display) -> FolderError {
+    FolderError::Refused(e.to_string())
 }
 
 /// The 1-based line of the first line of `text` containing `"key"`, 1 if none.
@@ -160,15 +170,16 @@ fn read_verify(path: &Path, part: &PartFile, image: &[u8]) -> Result<VerifyFacts
     })
 }
 
-/// The design of the folder's parts (`design.json`), checked against every
-/// part that records one.
+/// The design of the folder's parts (`design.json`), checked against the
+/// scenario and every part that records one.
 fn read_design(
     dir: &Path,
+    scenario: &Scenario,
     parts: &[(PathBuf, PartFile)],
 ) -> Result<Option<DesignFile>, FolderError> {
     let path = dir.join("design.json");
     let design = if path.exists() {
-        Some(DesignFile::read(&path).map_err(|e| file_error(&path, e.to_string()))?)
+        Some(DesignFile::read_for(&path, scenario).map_err(refused)?)
     } else {
         None
     };
@@ -209,7 +220,7 @@ fn read_check(dir: &Path) -> Result<Option<ChamberData>, FolderError> {
     if !path.exists() {
         return Ok(None);
     }
-    let data = chamber::read_file(&path).map_err(|e| file_error(&path, e.to_string()))?;
+    let data = chamber::read_file(&path).map_err(refused)?;
     if let Some(e) = data.errors.first() {
         return Err(file_error(
             &path,
@@ -229,14 +240,14 @@ pub fn lot_figures(dir: &Path, lot: Option<&str>) -> Result<LotFigures, FolderEr
             "missing: a demo folder has its scenario in scenario.toml",
         ));
     }
-    let scenario = crate::station::spec::load(&scenario_path.display().to_string())
-        .map_err(|e| file_error(&scenario_path, e.to_string()))?;
+    let scenario =
+        crate::station::spec::load(&scenario_path.display().to_string()).map_err(refused)?;
     let mut parts = Vec::new();
     for path in part_paths(dir)? {
-        let part = PartFile::read(&path).map_err(|e| file_error(&path, e.to_string()))?;
+        let part = PartFile::read(&path).map_err(refused)?;
         parts.push((path, part));
     }
-    let design = read_design(dir, &parts)?;
+    let design = read_design(dir, &scenario, &parts)?;
     let check = read_check(dir)?;
     let groups = check
         .as_ref()
