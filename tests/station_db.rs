@@ -438,3 +438,226 @@ fn queries_release_only_verified_and_checked_images() {
         assert!(h.contains(what), "history lacks {what}: {h}");
     }
 }
+
+/// A column of the row of `sql` (one row expected).
+fn one<T: rusqlite::types::FromSql>(db: &Path, sql: &str, p: &[&dyn rusqlite::ToSql]) -> T {
+    let c = Connection::open(db).unwrap();
+    c.query_row(sql, p, |r| r.get(0)).unwrap()
+}
+
+#[test]
+fn file_commands_take_their_inputs_from_the_database() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let db = d.join("s.sqlite");
+    lot_csvs(d, 3, 11, "r");
+    ok_in(d, &lot_run_args("r.csv", "r-check.csv", "s.sqlite"));
+    let serial = "WELL-0002";
+    let image_sql =
+        "SELECT i.bytes FROM images i JOIN fits f ON f.id = i.fit_id WHERE f.serial = ?";
+    let recorded_image: Vec<u8> = one(&db, image_sql, &[&serial]);
+    let crc = format!(
+        "{:08x}",
+        one::<i64>(
+            &db,
+            "SELECT i.crc32 FROM images i JOIN fits f ON f.id = i.fit_id WHERE f.serial = ?",
+            &[&serial]
+        )
+    );
+    // The recorded part, written out as a file for the file forms.
+    let part_json: Vec<u8> = one(
+        &db,
+        "SELECT part_json FROM fits WHERE serial = ?",
+        &[&serial],
+    );
+    std::fs::write(d.join("p.part.json"), &part_json).unwrap();
+    let counts = || {
+        let c = Connection::open(&db).unwrap();
+        (
+            count(&c, "SELECT count(*) FROM images"),
+            count(&c, "SELECT count(*) FROM verifications"),
+            count(&c, "SELECT count(*) FROM eol_checks"),
+        )
+    };
+    let (images, verifications, checks) = counts();
+
+    // table on the recorded part: the same image as the lot run's (same
+    // part, same options), written as SERIAL.bin and recorded once.
+    let t = ok_in(d, &["table", "--db", "s.sqlite", "--serial", serial]);
+    assert!(t.contains(&format!("-> {serial}.bin")), "{t}");
+    assert!(std::fs::read(d.join(format!("{serial}.bin"))).unwrap() == recorded_image);
+    assert_eq!(counts(), (images, verifications, checks));
+
+    // verify by serial (its latest image) and by CRC report exactly what the
+    // file form reports on the same image and part, and record each.
+    let by_file = ok_in(
+        d,
+        &[
+            "verify",
+            &format!("{serial}.bin"),
+            "--against",
+            "p.part.json",
+            "--json",
+        ],
+    );
+    let by_serial = ok_in(
+        d,
+        &["verify", "--db", "s.sqlite", "--serial", serial, "--json"],
+    );
+    let by_crc = ok_in(d, &["verify", "--db", "s.sqlite", "--crc", &crc, "--json"]);
+    let image_and_serial = ok_in(
+        d,
+        &[
+            "verify",
+            &format!("{serial}.bin"),
+            "--db",
+            "s.sqlite",
+            "--serial",
+            serial,
+            "--json",
+        ],
+    );
+    assert_eq!(by_serial, by_file);
+    assert_eq!(by_crc, by_file);
+    assert_eq!(image_and_serial, by_file);
+    assert_eq!(counts(), (images, verifications + 3, checks));
+
+    // apply: the recorded image on the check rows, as the file form does;
+    // recorded as an end-of-line check.
+    let apply_file = ok_in(
+        d,
+        &[
+            "apply",
+            &format!("{serial}.bin"),
+            "r-check.csv",
+            "--against",
+            "p.part.json",
+            "--json",
+        ],
+    );
+    let apply_serial = ok_in(
+        d,
+        &[
+            "apply",
+            "r-check.csv",
+            "--db",
+            "s.sqlite",
+            "--serial",
+            serial,
+            "--json",
+        ],
+    );
+    let apply_crc = ok_in(
+        d,
+        &[
+            "apply",
+            "r-check.csv",
+            "--db",
+            "s.sqlite",
+            "--crc",
+            &crc,
+            "--json",
+        ],
+    );
+    assert_eq!(apply_serial, apply_file);
+    assert_eq!(apply_crc, apply_file);
+    assert_eq!(counts(), (images, verifications + 3, checks + 2));
+
+    // What is not there: exit 2, one line naming it, the file unchanged.
+    refused(
+        d,
+        &["table", "--db", "s.sqlite", "--serial", "NOPE-1"],
+        "s.sqlite",
+        "no part 'NOPE-1' is recorded",
+    );
+    refused(
+        d,
+        &["verify", "--db", "s.sqlite", "--crc", "0badc0de"],
+        "s.sqlite",
+        "no table image with crc32 0badc0de",
+    );
+    refused(
+        d,
+        &[
+            "apply",
+            "r-check.csv",
+            "--db",
+            "s.sqlite",
+            "--serial",
+            serial,
+            "--lot",
+            "nosuch",
+        ],
+        "s.sqlite",
+        &format!("no part '{serial}' is recorded in lot 'nosuch'"),
+    );
+    // The same serial in a second lot: named by --lot, refused without.
+    lot_csvs(d, 3, 12, "r2");
+    ok_in(d, &lot_run_args("r2.csv", "r2-check.csv", "s.sqlite"));
+    refused(
+        d,
+        &["verify", "--db", "s.sqlite", "--serial", serial],
+        "s.sqlite",
+        "is recorded in 2 lots ('r', 'r2')",
+    );
+    let r2 = ok_in(
+        d,
+        &[
+            "verify", "--db", "s.sqlite", "--serial", serial, "--lot", "r2", "--json",
+        ],
+    );
+    assert_ne!(r2, by_file, "lot r2's part is another part");
+    // A fit without an image (calibrate --db records fits only).
+    ok_in(
+        d,
+        &[
+            "calibrate",
+            "well-logger",
+            "r.csv",
+            "--db",
+            "f.sqlite",
+            "-q",
+        ],
+    );
+    refused(
+        d,
+        &["verify", "--db", "f.sqlite", "--serial", serial],
+        "f.sqlite",
+        &format!("part '{serial}' of lot 'r' has no recorded table image"),
+    );
+    // Options that need the database, or each other, are usage errors.
+    for (args, says) in [
+        (&["verify", "--serial", serial][..], "--db"),
+        (
+            &[
+                "table",
+                "--db",
+                "s.sqlite",
+                "--serial",
+                serial,
+                "p.part.json",
+            ][..],
+            "cannot be used",
+        ),
+        (
+            &["verify", "x.bin", "--db", "s.sqlite", "--crc", &crc][..],
+            "cannot be used",
+        ),
+        (
+            &["verify", "--db", "s.sqlite", "--crc", "xyz"][..],
+            "not a CRC-32",
+        ),
+        (
+            &["apply", "--db", "s.sqlite", "--serial", serial][..],
+            "chamber CSV",
+        ),
+    ] {
+        let o = run_in(d, args);
+        let err = stderr(&o);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+        assert!(
+            err.lines().count() == 1 && err.contains(says),
+            "{args:?}: {err}"
+        );
+    }
+}

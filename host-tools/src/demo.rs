@@ -24,6 +24,8 @@ use crate::stationdb::run::eol_check;
 use rayon::prelude::*;
 use std::path::Path;
 
+pub mod folder;
+
 /// Seed of the demo lots.
 pub const DEMO_SEED: u64 = 2026;
 /// Flash address of the exported Intel HEX example.
@@ -306,11 +308,16 @@ pub fn run_scenario(
         if let Some(e) = &eol {
             image_check_max = image_check_max.max(e.max_error_ppm);
         }
-        report_parts.push(part_figures(part, image, report, eol.as_ref()));
+        report_parts.push(part_figures(
+            part,
+            image,
+            &VerifyFacts::of(report),
+            eol.as_ref(),
+        ));
     }
     report_parts.sort_by(|a, b| a.serial.cmp(&b.serial));
     let figures = LotFigures {
-        lot: format!("{} demo lot", scenario.name),
+        lot: lot_name(scenario),
         scenario: scenario.name.clone(),
         simulated: scenario.simulated,
         cautions: cautions(scenario.simulated),
@@ -348,6 +355,45 @@ pub fn run_scenario(
     Ok(summary)
 }
 
+/// The name the demo gives a scenario's lot in its report.
+pub fn lot_name(scenario: &Scenario) -> String {
+    format!("{} demo lot", scenario.name)
+}
+
+/// What the lot report shows of a verification: from the report in memory
+/// (the demo) or from its JSON (a demo folder's `verify/SERIAL.json`).
+#[derive(Debug, Clone, PartialEq, serde::Deserialize)]
+pub struct VerifyFacts {
+    /// Largest dense-grid table error, ppm of span.
+    pub max_error_ppm: f64,
+    /// What the budget leaves for the table, ppm of span.
+    pub table_allowance_ppm: f64,
+    /// Within the allowance.
+    pub pass: bool,
+    /// Budget terms.
+    pub terms: Terms,
+}
+
+impl VerifyFacts {
+    /// The facts of a verification report.
+    pub fn of(v: &pipeline::VerifyReport) -> VerifyFacts {
+        let t = &v.terms;
+        VerifyFacts {
+            max_error_ppm: v.max_error_ppm,
+            table_allowance_ppm: v.table_allowance_ppm,
+            pass: v.pass,
+            terms: Terms {
+                interpolation_ppm: t.interpolation_ppm,
+                quantization_ppm: t.quantization_ppm,
+                runtime_model_ppm: t.runtime_model_ppm,
+                fit_residual_ppm: t.fit_residual_ppm,
+                temperature_ppm: t.temperature_ppm,
+                total_ppm: t.total_ppm,
+            },
+        }
+    }
+}
+
 /// A part the demo rejected, as the lot report shows it.
 fn rejected_figures(part: &PartFile, stage: &str, reason: &str) -> PartFigures {
     PartFigures {
@@ -371,7 +417,7 @@ fn rejected_figures(part: &PartFile, stage: &str, reason: &str) -> PartFigures {
 fn part_figures(
     part: &PartFile,
     image: &[u8],
-    v: &pipeline::VerifyReport,
+    v: &VerifyFacts,
     eol: Option<&EolCheck>,
 ) -> PartFigures {
     let reject = if !v.pass {
@@ -395,7 +441,6 @@ fn part_figures(
             None => Some(("end-of-line".to_string(), "no check rows".to_string())),
         }
     };
-    let t = &v.terms;
     PartFigures {
         serial: part.serial.clone(),
         state: if reject.is_some() {
@@ -410,14 +455,7 @@ fn part_figures(
         verify_max_ppm: Some(v.max_error_ppm),
         allowance_ppm: Some(v.table_allowance_ppm),
         eol_max_ppm: eol.map(|e| e.max_error_ppm),
-        terms: Some(Terms {
-            interpolation_ppm: t.interpolation_ppm,
-            quantization_ppm: t.quantization_ppm,
-            runtime_model_ppm: t.runtime_model_ppm,
-            fit_residual_ppm: t.fit_residual_ppm,
-            temperature_ppm: t.temperature_ppm,
-            total_ppm: t.total_ppm,
-        }),
+        terms: Some(v.terms),
         envelope: eol.map(|e| e.envelope.clone()).unwrap_or_default(),
         reject,
     }

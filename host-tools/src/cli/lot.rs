@@ -143,13 +143,20 @@ pub struct ExportArgs {
 /// Arguments of `semidrift lot report`.
 #[derive(Debug, clap::Args)]
 pub struct ReportArgs {
-    /// Lot name.
-    pub lot: String,
+    /// Lot name (with --folder: the name the report shows [default: the
+    /// demo's, '<scenario> demo lot']).
+    #[arg(required_unless_present = "folder")]
+    pub lot: Option<String>,
     /// Output HTML file.
     #[arg(long, short)]
     pub out: PathBuf,
     #[command(flatten)]
     pub db: DbArg,
+    /// Make the report from a demo folder (one scenario's folder as
+    /// `semidrift demo` writes it: scenario.toml, parts/, tables/, verify/,
+    /// chamber-check.csv, ...) instead of the database.
+    #[arg(long, value_name = "DIR", conflicts_with = "db")]
+    pub folder: Option<PathBuf>,
 }
 
 /// Arguments of `semidrift lot check`.
@@ -419,16 +426,44 @@ fn export(args: ExportArgs, out: &mut dyn Write) -> Result<(), CliError> {
 }
 
 fn report(args: ReportArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let db = open_db(&args.db.db)?;
-    let f = figures::lot_figures(&db, &args.lot).map_err(db_error)?;
+    let (f, inputs) = match (&args.folder, &args.lot) {
+        (Some(dir), lot) => {
+            let f = crate::demo::folder::lot_figures(dir, lot.as_deref())
+                .map_err(|e| CliError::Input(e.to_string()))?;
+            let inputs: Vec<PathBuf> = [
+                "scenario.toml",
+                "design.json",
+                "chamber-check.csv",
+                "chamber-calibration.csv",
+            ]
+            .iter()
+            .map(|n| dir.join(n))
+            .collect();
+            (f, inputs)
+        }
+        (None, Some(lot)) => {
+            let db = open_db(&args.db.db)?;
+            let f = figures::lot_figures(&db, lot).map_err(db_error)?;
+            (f, vec![args.db.db.clone()])
+        }
+        // clap requires LOT unless --folder is given.
+        (None, None) => {
+            return Err(CliError::option(
+                "--folder",
+                "",
+                "give a LOT or --folder DIR",
+            ));
+        }
+    };
     let html = crate::plot::report::lot_report_html(&f)
         .map_err(|e| CliError::Input(format!("{}: {e}", args.out.display())))?;
-    output::check_not_input(&args.out, &[args.db.db.as_path()])?;
+    let inputs: Vec<&Path> = inputs.iter().map(PathBuf::as_path).collect();
+    output::check_not_input(&args.out, &inputs)?;
     output::write_atomic(&args.out, html.as_bytes())?;
     writeln!(
         out,
         "lot report of '{}' ({} parts) -> {}",
-        args.lot,
+        f.lot,
         f.parts.len(),
         args.out.display()
     )?;

@@ -9,13 +9,14 @@ use crate::station::part_file::PartFile;
 use crate::station::table::AxisKind;
 use crate::station::{output, pipeline};
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 /// Arguments of `semidrift table`.
 #[derive(Debug, clap::Args)]
 pub struct TableArgs {
-    /// Part file written by `calibrate`.
-    pub part: PathBuf,
+    /// Part file written by `calibrate` (or `--serial` with `--db`).
+    #[arg(required_unless_present = "serial", conflicts_with = "serial")]
+    pub part: Option<PathBuf>,
     /// Design file the part was fitted on: refused (exit 2) unless the
     /// part records that design's content hash.
     #[arg(long)]
@@ -32,7 +33,8 @@ pub struct TableArgs {
     /// Symbol name in Rust/C exports.
     #[arg(long, default_value = "drift_table")]
     pub name: String,
-    /// Output file (default: the part file's name with the format's extension).
+    /// Output file (default: the part file's name with the format's
+    /// extension; with --serial: SERIAL with it, in the current folder).
     #[arg(long, short)]
     pub out: Option<PathBuf>,
     /// Print the outcome as JSON instead of text.
@@ -61,6 +63,8 @@ pub struct TableArgs {
     /// part's recorded fit (the part file must be recorded there).
     #[arg(long)]
     pub db: Option<PathBuf>,
+    #[command(flatten)]
+    pub from_db: super::record::FromDbArgs,
 }
 
 /// Parses a decimal or 0x-prefixed hexadecimal address.
@@ -89,6 +93,42 @@ fn line_in(path: &std::path::Path, key: &str) -> usize {
     .map_or(1, |k| k + 1)
 }
 
+/// Where a command's part came from, for the messages that name it.
+#[derive(Debug, Clone, Copy)]
+pub enum PartOrigin<'a> {
+    /// A part file.
+    File(&'a std::path::Path),
+    /// A part recorded in the station database, named by this label
+    /// (`DB: lot 'L', part S`).
+    Recorded(&'a str),
+}
+
+impl PartOrigin<'_> {
+    /// An error at the field `field` (found in a part file on the first
+    /// line with the JSON key `key`, else on line 1).
+    fn at(&self, key: Option<&str>, field: &str, message: impl std::fmt::Display) -> CliError {
+        match self {
+            PartOrigin::File(path) => CliError::at(
+                &path.display().to_string(),
+                key.map_or(1, |k| line_in(path, &format!("\"{k}\""))),
+                field,
+                message,
+            ),
+            PartOrigin::Recorded(label) => {
+                CliError::Input(format!("{label}: field '{field}': {message}"))
+            }
+        }
+    }
+
+    /// How messages name the part's source.
+    pub fn label(&self) -> String {
+        match self {
+            PartOrigin::File(path) => path.display().to_string(),
+            PartOrigin::Recorded(label) => label.to_string(),
+        }
+    }
+}
+
 /// Reads a part file and, when `design` is given, checks that the part was
 /// fitted on that design file (content hash); exit 2 otherwise.
 pub fn read_part_for(
@@ -96,11 +136,21 @@ pub fn read_part_for(
     design: Option<&std::path::Path>,
 ) -> Result<PartFile, CliError> {
     let part = read_part(path)?;
+    check_part_for(&part, PartOrigin::File(path), design)?;
+    Ok(part)
+}
+
+/// Checks that a part was calibrated and, when `design` is given, that it
+/// was fitted on that design file (content hash); exit 2 otherwise.
+pub fn check_part_for(
+    part: &PartFile,
+    origin: PartOrigin<'_>,
+    design: Option<&std::path::Path>,
+) -> Result<(), CliError> {
     if !part.is_ok() {
         // A part whose fit failed has no model to tabulate, verify or apply.
-        return Err(CliError::at(
-            &path.display().to_string(),
-            line_in(path, "\"status\""),
+        return Err(origin.at(
+            Some("status"),
             "status",
             format!(
                 "part {} was not calibrated ({}); recalibrate it",
@@ -109,16 +159,14 @@ pub fn read_part_for(
         ));
     }
     let Some(dpath) = design else {
-        return Ok(part);
+        return Ok(());
     };
     let d = crate::station::design::DesignFile::read(dpath)
         .map_err(|e| CliError::Input(e.to_string()))?;
-    let line = |key: &str| line_in(path, key);
     match &part.design {
-        Some(pd) if pd.design_hash == d.hash => Ok(part),
-        Some(pd) => Err(CliError::at(
-            &path.display().to_string(),
-            line("\"design_hash\""),
+        Some(pd) if pd.design_hash == d.hash => Ok(()),
+        Some(pd) => Err(origin.at(
+            Some("design_hash"),
             "design_hash",
             format!(
                 "part fitted on design {}, not on {} ({})",
@@ -127,9 +175,8 @@ pub fn read_part_for(
                 &d.hash[..16]
             ),
         )),
-        None => Err(CliError::at(
-            &path.display().to_string(),
-            1,
+        None => Err(origin.at(
+            None,
             "design",
             format!(
                 "part was fitted without a design; {} does not apply to it",
@@ -146,13 +193,21 @@ pub fn budget_ppm(
     part: &PartFile,
     part_path: &std::path::Path,
 ) -> Result<f64, CliError> {
+    budget_ppm_of(arg, part, PartOrigin::File(part_path))
+}
+
+/// [`budget_ppm`] of a part from any origin.
+pub fn budget_ppm_of(
+    arg: Option<f64>,
+    part: &PartFile,
+    origin: PartOrigin<'_>,
+) -> Result<f64, CliError> {
     let budget = arg.unwrap_or(part.scenario.budget_ppm);
     if let Err(m) = crate::station::limits::check_budget_ppm(budget) {
         return Err(match arg {
             Some(_) => CliError::option("--budget", &budget.to_string(), m),
-            None => CliError::at(
-                &part_path.display().to_string(),
-                line_in(part_path, "\"budget_ppm\""),
+            None => origin.at(
+                Some("budget_ppm"),
                 "scenario.budget_ppm",
                 format!("{budget}: {m}"),
             ),
@@ -163,12 +218,41 @@ pub fn budget_ppm(
 
 /// Runs `semidrift table`.
 pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let part = read_part_for(&args.part, args.design.as_deref())?;
-    let budget = budget_ppm(args.budget, &part, &args.part)?;
-    let mut recording = match &args.db {
-        Some(db) => Some(super::record::prepare(db, &args.part)?),
-        None => None,
+    super::record::check_lot_narrows(&args.from_db, None)?;
+    let (part, mut recording, label) = match (&args.part, &args.from_db.serial) {
+        (Some(path), _) => {
+            let part = read_part_for(path, args.design.as_deref())?;
+            let recording = match &args.db {
+                Some(db) => Some(super::record::prepare(db, path)?),
+                None => None,
+            };
+            (part, recording, None)
+        }
+        (None, Some(serial)) => {
+            let r = super::record::recorded_part(
+                super::record::db_path(&args.db, "--serial")?,
+                serial,
+                args.from_db.lot.as_deref(),
+            )?;
+            check_part_for(
+                &r.part,
+                PartOrigin::Recorded(&r.label),
+                args.design.as_deref(),
+            )?;
+            (r.part, Some((r.db, r.fit_id)), Some(r.label))
+        }
+        // clap requires PART unless --serial is given.
+        (None, None) => {
+            return Err(CliError::Input(
+                "table: give a part file, or --serial with --db".to_string(),
+            ));
+        }
     };
+    let origin = match (&args.part, &label) {
+        (Some(path), _) => PartOrigin::File(path),
+        (None, l) => PartOrigin::Recorded(l.as_deref().unwrap_or("")),
+    };
+    let budget = budget_ppm_of(args.budget, &part, origin)?;
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let restrict = Restrict {
         interpolation: args.interpolation.map(Into::into),
@@ -179,9 +263,9 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
         pipeline::build_table_with(&part, &curves, budget, restrict, args.signal_unit.into())
             .map_err(|e| match e {
                 pipeline::StepError::BudgetExhausted { .. } | pipeline::StepError::Choose(_) => {
-                    CliError::CheckFailed(format!("{}: {e}", args.part.display()))
+                    CliError::CheckFailed(format!("{}: {e}", origin.label()))
                 }
-                other => CliError::Input(format!("{}: {other}", args.part.display())),
+                other => CliError::Input(format!("{}: {other}", origin.label())),
             })?;
     let format: ExportFormat = args.format.into();
     let bytes = export_with(
@@ -197,13 +281,19 @@ pub fn run(args: TableArgs, out: &mut dyn Write) -> Result<(), CliError> {
         }
         _ => CliError::option("--name", &args.name, e),
     })?;
-    let path = args.out.clone().unwrap_or_else(|| {
-        args.part
+    let path = match (&args.out, &args.part) {
+        (Some(p), _) => p.clone(),
+        (None, Some(part_path)) => part_path
             .with_extension("")
-            .with_extension(format.extension())
-    });
-    let mut inputs = vec![args.part.as_path()];
+            .with_extension(format.extension()),
+        (None, None) => output::path_in(
+            Path::new(""),
+            &format!("{}.{}", part.serial, format.extension()),
+        )?,
+    };
+    let mut inputs: Vec<&Path> = args.part.iter().map(PathBuf::as_path).collect();
     inputs.extend(args.design.as_deref());
+    inputs.extend(args.db.as_deref());
     output::check_not_input(&path, &inputs)?;
     output::write_atomic(&path, &bytes).map_err(|e| CliError::Input(e.to_string()))?;
     if let Some((db, fit_id)) = &mut recording {

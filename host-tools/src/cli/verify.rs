@@ -2,7 +2,7 @@
 //! crate's own code on a dense grid against the fitted part's full model.
 
 use super::CliError;
-use super::table::read_part_for;
+use super::table::{PartOrigin, budget_ppm_of, check_part_for, read_part_for};
 use crate::station::{output, pipeline};
 use std::io::Write;
 use std::path::PathBuf;
@@ -10,11 +10,14 @@ use std::path::PathBuf;
 /// Arguments of `semidrift verify`.
 #[derive(Debug, clap::Args)]
 pub struct VerifyArgs {
-    /// Table image (`.bin`).
-    pub image: PathBuf,
-    /// Part file the image was built from.
-    #[arg(long)]
-    pub against: PathBuf,
+    /// Table image (`.bin`) [with --db: or --crc, or --serial alone for
+    /// the part's latest recorded image].
+    #[arg(required_unless_present_any = ["serial", "crc"], conflicts_with = "crc")]
+    pub image: Option<PathBuf>,
+    /// Part file the image was built from [with --db: or --serial, or
+    /// --crc for the image's own part].
+    #[arg(long, required_unless_present_any = ["serial", "crc"], conflicts_with_all = ["serial", "crc"])]
+    pub against: Option<PathBuf>,
     /// Design file the part was fitted on: refused (exit 2) unless the
     /// part records that design's content hash.
     #[arg(long)]
@@ -38,17 +41,61 @@ pub struct VerifyArgs {
     /// new) under the part's recorded fit.
     #[arg(long)]
     pub db: Option<PathBuf>,
+    #[command(flatten)]
+    pub from_db: super::record::FromDbArgs,
+    /// With --db: the table image recorded with this CRC-32 (as `lot
+    /// status` prints it), against its own part, instead of files.
+    #[arg(long, requires = "db", value_name = "CRC32", value_parser = super::record::parse_crc)]
+    pub crc: Option<u32>,
 }
 
 /// Runs `semidrift verify`; exit 1 when over budget.
 pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
-    let part = read_part_for(&args.against, args.design.as_deref())?;
-    let image = read_image(&args.image)?;
-    let mut recording = match &args.db {
-        Some(db) => Some(super::record::prepare(db, &args.against)?),
-        None => None,
+    super::record::check_lot_narrows(&args.from_db, args.crc)?;
+    let (part, image, image_label, part_label, mut recording) = match (&args.image, &args.against) {
+        (Some(image_path), Some(against)) => {
+            let part = read_part_for(against, args.design.as_deref())?;
+            let image = read_image(image_path)?;
+            let recording = match &args.db {
+                Some(db) => Some(super::record::prepare(db, against)?),
+                None => None,
+            };
+            let label = format!("part file {}", against.display());
+            (
+                part,
+                image,
+                image_path.display().to_string(),
+                label,
+                recording,
+            )
+        }
+        (image_path, _) => {
+            let r = super::record::recorded_inputs(
+                super::record::db_path(&args.db, "--serial/--crc")?,
+                &args.from_db,
+                args.crc,
+                image_path.as_deref(),
+            )?;
+            let p = r.part;
+            check_part_for(
+                &p.part,
+                PartOrigin::Recorded(&p.label),
+                args.design.as_deref(),
+            )?;
+            (
+                p.part,
+                r.image,
+                r.image_label,
+                p.label,
+                Some((p.db, p.fit_id)),
+            )
+        }
     };
-    let budget = super::table::budget_ppm(args.budget, &part, &args.against)?;
+    let origin = match &args.against {
+        Some(path) => PartOrigin::File(path),
+        None => PartOrigin::Recorded(&part_label),
+    };
+    let budget = budget_ppm_of(args.budget, &part, origin)?;
     let (temps_default, stimuli_default) = compensate::TableView::parse(&image)
         .map(|v| pipeline::dense_counts(&pipeline::plan_of(&v)))
         .unwrap_or((pipeline::DENSE_TEMPS, pipeline::DENSE_STIMULI));
@@ -77,12 +124,10 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
     let curves = pipeline::part_curves(&part).map_err(|e| CliError::Input(e.to_string()))?;
     let report =
         pipeline::verify(&image, &part, &curves, budget, temps, stimuli).map_err(|e| match e {
-            pipeline::StepError::NotThisPart { .. } => CliError::Input(format!(
-                "{}: {e} (part file {})",
-                args.image.display(),
-                args.against.display()
-            )),
-            e => CliError::Input(format!("{}: {e}", args.image.display())),
+            pipeline::StepError::NotThisPart { .. } => {
+                CliError::Input(format!("{image_label}: {e} ({part_label})"))
+            }
+            e => CliError::Input(format!("{image_label}: {e}")),
         })?;
     if let Some((db, fit_id)) = &mut recording {
         super::record::verification(db, *fit_id, &image, &report)?;
@@ -122,10 +167,8 @@ pub fn run(args: VerifyArgs, out: &mut dyn Write) -> Result<(), CliError> {
         Ok(())
     } else {
         Err(CliError::CheckFailed(format!(
-            "{}: table error {:.3} ppm exceeds the allowance {:.3} ppm",
-            args.image.display(),
-            report.max_error_ppm,
-            report.table_allowance_ppm
+            "{image_label}: table error {:.3} ppm exceeds the allowance {:.3} ppm",
+            report.max_error_ppm, report.table_allowance_ppm
         )))
     }
 }

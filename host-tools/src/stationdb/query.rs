@@ -30,7 +30,7 @@ pub struct LotInfo {
 }
 
 /// Budget terms of a verified image, ppm of span.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Terms {
     /// Interpolation.
     pub interpolation_ppm: f64,
@@ -412,6 +412,157 @@ pub fn stored_images(db: &Db, lot: &str) -> Result<(f64, Vec<StoredImage>), DbEr
         .and_then(|rows| rows.collect::<Result<Vec<_>, _>>())
         .map_err(|e| db.err(e))?;
     Ok((info.budget_ppm, images))
+}
+
+/// A part as recorded: its fit and the part file's bytes.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RecordedPart {
+    /// Fit row id.
+    pub fit_id: i64,
+    /// Lot name.
+    pub lot: String,
+    /// Serial.
+    pub serial: String,
+    /// The part file's bytes.
+    pub part_json: Vec<u8>,
+}
+
+/// A recorded table image.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RecordedImage {
+    /// Image row id.
+    pub id: i64,
+    /// CRC-32 its trailer carries.
+    pub crc32: u32,
+    /// The image's bytes.
+    pub bytes: Vec<u8>,
+}
+
+/// "in lot 'L'" or nothing.
+fn in_lot(lot: Option<&str>) -> String {
+    lot.map_or(String::new(), |l| format!(" in lot '{l}'"))
+}
+
+/// The names of the lots of `rows`, comma-separated.
+fn lot_names<T>(rows: &[(RecordedPart, T)]) -> String {
+    rows.iter()
+        .map(|(p, _)| format!("'{}'", p.lot))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// The part recorded for `serial` (in `lot`, or in the one lot that has
+/// it). Refused when none is, or when several lots have it and no lot is
+/// named.
+pub fn recorded_part(db: &Db, serial: &str, lot: Option<&str>) -> Result<RecordedPart, DbError> {
+    let mut st = db
+        .conn
+        .prepare(
+            "SELECT f.id, l.name, f.serial, f.part_json FROM fits f JOIN lots l ON l.id = f.lot_id
+             WHERE f.serial = ?1 AND (?2 IS NULL OR l.name = ?2) ORDER BY l.name",
+        )
+        .map_err(|e| db.err(e))?;
+    let mut rows: Vec<(RecordedPart, ())> = st
+        .query_map(params![serial, lot], |r| {
+            Ok((
+                RecordedPart {
+                    fit_id: r.get(0)?,
+                    lot: r.get(1)?,
+                    serial: r.get(2)?,
+                    part_json: r.get(3)?,
+                },
+                (),
+            ))
+        })
+        .and_then(|rows| rows.collect::<Result<Vec<_>, _>>())
+        .map_err(|e| db.err(e))?;
+    match rows.len() {
+        0 => Err(db.refuse(format!("no part '{serial}' is recorded{}", in_lot(lot)))),
+        1 => Ok(rows.remove(0).0),
+        n => Err(db.refuse(format!(
+            "part '{serial}' is recorded in {n} lots ({}): name the lot (--lot)",
+            lot_names(&rows)
+        ))),
+    }
+}
+
+/// The latest image recorded for a part's fit (the one `lot status`
+/// shows); refused when it has none.
+pub fn latest_image(db: &Db, part: &RecordedPart) -> Result<RecordedImage, DbError> {
+    db.conn
+        .query_row(
+            "SELECT id, crc32, bytes FROM images WHERE fit_id = ? ORDER BY id DESC LIMIT 1",
+            [part.fit_id],
+            |r| {
+                Ok(RecordedImage {
+                    id: r.get(0)?,
+                    crc32: r.get::<_, i64>(1)? as u32,
+                    bytes: r.get(2)?,
+                })
+            },
+        )
+        .optional()
+        .map_err(|e| db.err(e))?
+        .ok_or_else(|| {
+            db.refuse(format!(
+                "part '{}' of lot '{}' has no recorded table image",
+                part.serial, part.lot
+            ))
+        })
+}
+
+/// The image recorded with CRC-32 `crc` (of `serial` and in `lot` when
+/// given) and its part. Refused when none is, or when several are and the
+/// serial or lot named do not single one out.
+pub fn image_by_crc(
+    db: &Db,
+    crc: u32,
+    serial: Option<&str>,
+    lot: Option<&str>,
+) -> Result<(RecordedPart, RecordedImage), DbError> {
+    let mut st = db
+        .conn
+        .prepare(
+            "SELECT f.id, l.name, f.serial, f.part_json, i.id, i.crc32, i.bytes
+             FROM images i JOIN fits f ON f.id = i.fit_id JOIN lots l ON l.id = f.lot_id
+             WHERE i.crc32 = ?1 AND (?2 IS NULL OR f.serial = ?2) AND (?3 IS NULL OR l.name = ?3)
+             ORDER BY l.name, f.serial",
+        )
+        .map_err(|e| db.err(e))?;
+    let mut rows: Vec<(RecordedPart, RecordedImage)> = st
+        .query_map(params![i64::from(crc), serial, lot], |r| {
+            Ok((
+                RecordedPart {
+                    fit_id: r.get(0)?,
+                    lot: r.get(1)?,
+                    serial: r.get(2)?,
+                    part_json: r.get(3)?,
+                },
+                RecordedImage {
+                    id: r.get(4)?,
+                    crc32: r.get::<_, i64>(5)? as u32,
+                    bytes: r.get(6)?,
+                },
+            ))
+        })
+        .and_then(|rows| rows.collect::<Result<Vec<_>, _>>())
+        .map_err(|e| db.err(e))?;
+    let of = serial.map_or(String::new(), |s| format!(" of part '{s}'"));
+    match rows.len() {
+        0 => Err(db.refuse(format!(
+            "no table image with crc32 {crc:08x} is recorded{of}{}",
+            in_lot(lot)
+        ))),
+        1 => Ok(rows.remove(0)),
+        n => Err(db.refuse(format!(
+            "{n} recorded table images have crc32 {crc:08x} (parts {} in lots {}): name the part (--serial) or the lot (--lot)",
+            rows.iter()
+                .map(|(p, _)| format!("'{}'", p.serial))
+                .collect::<Vec<_>>()
+                .join(", "),
+            lot_names(&rows)
+        ))),
+    }
 }
 
 /// The lot's traceability records as CSV (one row per part, the columns of
