@@ -162,7 +162,6 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     if plan.axis == AxisKind::Signal {
         return signal_axis_bound_ppm(frame, plan);
     }
-    let fs = frame.fs_hi - frame.fs_lo;
     let m = frame.model;
     // Fourth differences on the shapes' own knot spacing: they see the
     // smooth curve where it is smooth and blow up across the full model's
@@ -201,7 +200,7 @@ pub fn interpolation_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 
     let worst = max_over_range(frame, range_samples(n_t), |t| {
         temperature_axis_error(frame, &channels, &e_therm, axes, t)
     });
-    SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+    bound_ppm(frame, worst + correction_bound(frame, plan))
 }
 
 /// First-order reading error at `t_c` (stimulus units) of a plan over
@@ -224,6 +223,12 @@ fn temperature_axis_error(
     let s = (m.signal(t_c) - s0) / h_s;
     let e_t = worst_in(e_therm, s, s) + input_rounding_ohm(frame) / m.signal_slope(t_c).abs();
     columns + e_t * drift_slope(frame, t_c)
+}
+
+/// A reading error in stimulus units as the bound: times [`SAFETY_FACTOR`],
+/// in ppm of the frame's full scale.
+fn bound_ppm(frame: &TableFrame<'_>, error: f64) -> f64 {
+    SAFETY_FACTOR * error / (frame.fs_hi - frame.fs_lo) * 1e6
 }
 
 /// Where fourth differences on the curves' own knot spacing are taken for
@@ -261,7 +266,6 @@ fn max_over_range(frame: &TableFrame<'_>, samples: usize, f: impl Fn(f64) -> f64
 /// give; it is left infinite, so the kernel bound (valid without it)
 /// decides for cubic plans too.
 fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
-    let fs = frame.fs_hi - frame.fs_lo;
     let m = frame.model;
     let [_, _, s0, h_s] = frame.node_axes(plan);
     let n = plan.nodes_sig();
@@ -279,7 +283,7 @@ fn signal_axis_bound_ppm(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
     let worst = max_over_range(frame, range_samples(n), |t| {
         signal_axis_error(frame, &channels, s0, h_s, t)
     });
-    SAFETY_FACTOR * (worst + correction_bound(frame, plan)) / fs * 1e6
+    bound_ppm(frame, worst + correction_bound(frame, plan))
 }
 
 /// First-order reading error at `t_c` (stimulus units) of a plan over the
@@ -706,6 +710,18 @@ pub(super) mod tests {
                 assert_eq!(c, t);
             }
         }
+    }
+
+    #[test]
+    fn bound_is_the_error_times_the_safety_factor_in_ppm_of_span() {
+        // 1.5e-3 of the span is 1 500 ppm; times 1.1: 1 650 ppm (1e-9:
+        // rounding of the scale).
+        with_frame(|frame| {
+            let span = frame.fs_hi - frame.fs_lo;
+            assert!(span > 0.0 && span != 1.0);
+            let got = bound_ppm(frame, 1.5e-3 * span);
+            assert!((got - 1650.0).abs() < 1e-9, "{got}");
+        });
     }
 
     #[test]
