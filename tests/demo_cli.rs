@@ -157,6 +157,7 @@ fn report_from_folder(d: &Path) {
             "WELL-0002",
         ],
     );
+    // Refusals read alike: each breaks the folder its own way and names its own reason.
     // Parts fitted on a design the folder does not hold.
     let no_design = copy("no-design");
     std::fs::remove_file(no_design.join("design.json")).unwrap();

@@ -211,6 +211,7 @@ fn recorded_lot_report_shows_the_databases_figures() {
 
     let c = Connection::open(d.join("s.sqlite")).unwrap();
     let q = |sql: &str| -> i64 { c.query_row(sql, [], |r| r.get(0)).unwrap() };
+    // Figure checks read alike: each compares one id on the page with its own query.
     assert_eq!(
         figure(&r.dom, "parts"),
         q("SELECT count(*) FROM fits").to_string()

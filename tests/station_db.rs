@@ -40,6 +40,7 @@ fn lot_csvs(dir: &Path, parts: usize, seed: u64, name: &str) {
             &format!("{name}.csv"),
         ],
     );
+    // Same simulate call as above, here for the check rows.
     ok_in(
         dir,
         &[

@@ -440,6 +440,8 @@ sd_status sd_f32_init(struct sd_f32_state *state,
 
 /**
  * Takes a new temperature signal and caches the coefficients at it.
+ * The f32 twin of `sd_q_update_temperature` (the C API has one entry
+ * point per number format), with the signal as a float.
  *
  * `signal` is in the image's temperature-signal unit: degrees Celsius,
  * ohm, or ADC code (the demo images: the bridge's resistance as a 24-bit

@@ -48,6 +48,8 @@ pub unsafe extern "C" fn sd_f32_init(
 }
 
 /// Takes a new temperature signal and caches the coefficients at it.
+/// The f32 twin of `sd_q_update_temperature` (the C API has one entry
+/// point per number format), with the signal as a float.
 ///
 /// `signal` is in the image's temperature-signal unit: degrees Celsius,
 /// ohm, or ADC code (the demo images: the bridge's resistance as a 24-bit

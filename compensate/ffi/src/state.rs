@@ -124,6 +124,13 @@ const _: () = {
 #[cold]
 #[inline(never)]
 fn state_error(addr: usize) -> SdStatus {
+    classify(addr)
+}
+
+/// The status code of a state address that failed a check: NULL,
+/// misaligned, or an aligned block without the key.
+#[inline(always)]
+fn classify(addr: usize) -> SdStatus {
     if addr == 0 {
         SD_ERR_NULL_POINTER
     } else if addr & (SD_STATE_ALIGN - 1) != 0 {
@@ -139,12 +146,12 @@ pub(crate) struct BadState(usize);
 
 impl BadState {
     /// Its status code.
-    #[inline(always)]
     ///
     /// Where loads may be unaligned (ARMv7-M, hosts) computed in place, in
     /// one block that both failed checks branch to; on ARMv6-M a call of
     /// the out-of-line [`state_error`]. Each choice measured the fewer
     /// instructions on its target's update path (docs/performance.md).
+    #[inline(always)]
     pub(crate) fn status(self) -> SdStatus {
         #[cfg(aligned_loads_only)]
         {
@@ -152,14 +159,7 @@ impl BadState {
         }
         #[cfg(not(aligned_loads_only))]
         {
-            let addr = self.0;
-            if addr == 0 {
-                SD_ERR_NULL_POINTER
-            } else if addr & (SD_STATE_ALIGN - 1) != 0 {
-                SD_ERR_MISALIGNED_STATE
-            } else {
-                SD_ERR_NOT_INITIALISED
-            }
+            classify(self.0)
         }
     }
 

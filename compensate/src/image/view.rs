@@ -543,6 +543,7 @@ impl<'a> TableView<'a> {
         })
     }
 
+    // Same shape as tables_f32 above: the Q tables carry other axis and value types.
     /// The tables of a Q image; `None` for an f32 image.
     #[must_use]
     #[cfg_attr(feature = "inline-parse", inline(always))]

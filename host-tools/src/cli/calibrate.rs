@@ -50,12 +50,7 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
     })?;
     let curves = model_shapes::shapes_for(&scenario)
         .map_err(|e| CliError::Input(format!("{}: full model: {e}", args.spec)))?;
-    let design = args
-        .design
-        .as_deref()
-        .map(|path| DesignFile::read_for(path, &scenario))
-        .transpose()
-        .map_err(|e| CliError::Input(e.to_string()))?;
+    let design = design_for(args.design.as_deref(), &scenario)?;
     if data.rows.is_empty() {
         return Err(CliError::CheckFailed(format!(
             "{}: no readable rows ({} rejected): no part to calibrate",
@@ -204,4 +199,14 @@ pub fn run(args: CalibrateArgs, out: &mut dyn Write) -> Result<(), CliError> {
         )));
     }
     Ok(())
+}
+
+/// The design file `path` names, checked against `scenario` (none without a path).
+pub(super) fn design_for(
+    path: Option<&std::path::Path>,
+    scenario: &crate::station::scenario::Scenario,
+) -> Result<Option<DesignFile>, CliError> {
+    path.map(|p| DesignFile::read_for(p, scenario))
+        .transpose()
+        .map_err(|e| CliError::Input(e.to_string()))
 }

@@ -4,7 +4,6 @@
 //! stored image).
 
 use super::CliError;
-use crate::station::design::DesignFile;
 use crate::station::{chamber, model_shapes, output, pipeline, spec};
 use crate::stationdb::{self, DEFAULT_DB, DbError, figures, query, run};
 use clap::Subcommand;
@@ -222,12 +221,7 @@ fn run_lot(args: RunArgs, out: &mut dyn Write) -> Result<(), CliError> {
         Some(p) => Some(read_csv(p)?),
         None => None,
     };
-    let design = args
-        .design
-        .as_deref()
-        .map(|path| DesignFile::read_for(path, &scenario))
-        .transpose()
-        .map_err(|e| CliError::Input(e.to_string()))?;
+    let design = super::calibrate::design_for(args.design.as_deref(), &scenario)?;
     let budget = args.budget.unwrap_or(scenario.budget_ppm);
     crate::station::limits::check_budget_ppm(budget)
         .map_err(|m| CliError::option("--budget", &budget.to_string(), m))?;

@@ -51,6 +51,7 @@ pub enum FolderError {
     /// file, line and field).
     #[error("{0}")]
     Refused(String),
+    // Same Field variant as design/file.rs's error: each file kind has its own error type.
     /// A value in a file is wrong.
     #[error("{file}:{line}: field '{field}': {message}")]
     Field {

@@ -211,11 +211,12 @@ fn opt(x: Option<f64>) -> String {
 /// An inline plot, or a note saying why there is none.
 fn plot_or_note(svg: Result<String, PlotError>) -> String {
     match svg {
-        // The XML declaration is not allowed inside HTML.
+        // The XML declaration is not allowed inside HTML. One line per
+        // plot: the markup between elements carries no text.
         Ok(s) => s
             .trim_start_matches(|c| c != '<')
             .trim_start_matches("<?xml version=\"1.0\" encoding=\"UTF-8\"?>")
-            .to_string(),
+            .replace('\n', ""),
         Err(e) => format!("<p class=\"note\">{}</p>", esc(&e.to_string())),
     }
 }
@@ -248,9 +249,11 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
         w,
         "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\
 <meta name=\"viewport\" content=\"width=device-width,initial-scale=1\">\
-<title>Lot report {lot}</title><style>{STYLE}</style></head><body>\n\
+<title>Lot report {lot}</title><style>{style}</style></head><body>\n\
 <h1>Lot report: <span id=\"lot\">{lot}</span></h1>\n\
 <p>Scenario <b>{sc}</b>, budget <span id=\"budget-ppm\">{b}</span> ppm of span, operating range {r0} to {r1} C{sim}.</p>\n",
+        // The style sheet on one line, as the plots.
+        style = STYLE.lines().collect::<String>(),
         lot = esc(&f.lot),
         sc = esc(&f.scenario),
         b = f.budget_ppm,

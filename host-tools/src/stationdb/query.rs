@@ -19,6 +19,7 @@ pub struct LotInfo {
     pub simulated: bool,
     /// Budget, ppm of span.
     pub budget_ppm: f64,
+    // Documented record fields read alike (PartRecord below); each struct is its own query row.
     /// Design content hash.
     pub design_hash: Option<String>,
     /// Calibration CSV content hash.

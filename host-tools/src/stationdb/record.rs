@@ -76,6 +76,7 @@ pub struct LotRow {
     pub design_id: Option<i64>,
 }
 
+// Lookups read alike (one query_row each): each maps its own columns.
 /// The lot named `name`, if recorded.
 pub fn find_lot(c: &Connection, name: &str) -> rusqlite::Result<Option<LotRow>> {
     c.query_row(

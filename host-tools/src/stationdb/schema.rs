@@ -101,6 +101,7 @@ CREATE TABLE verifications (
     tool_version TEXT NOT NULL
 );
 CREATE INDEX verifications_by_image ON verifications(image_id);
+-- Record tables read alike: each holds its own rows with time and tool version.
 CREATE TABLE eol_checks (
     id INTEGER PRIMARY KEY,
     image_id INTEGER NOT NULL REFERENCES images(id),

@@ -329,32 +329,65 @@ fn correction_bound(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
     if !frame.has_bow() {
         return 0.0;
     }
+    let g = grid_extent(frame);
+    if plan.n_raw == 0 {
+        return g.g_max;
+    }
+    let (_, step_codes) = frame.raw_axis(plan.n_raw);
+    bilinear_remainder(
+        row_gap_k(frame, plan),
+        g.g_tt,
+        f64::from(step_codes),
+        g.g_rr,
+    )
+}
+
+/// Largest |g|, |d2g/dt2| and |d2g/draw2| of the 2-D correction g(t, raw)
+/// (stimulus units, per K^2 and per code^2).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct GridExtent {
+    g_max: f64,
+    g_tt: f64,
+    g_rr: f64,
+}
+
+/// [`GridExtent`] over the frame's temperature range and calibrated raw
+/// codes, on [`GRID_SAMPLES`] steps per axis: central second differences,
+/// one step in from the edges.
+fn grid_extent(frame: &TableFrame<'_>) -> GridExtent {
     let limits = frame.raw_limits();
     let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
     let (t_lo, t_hi) = (frame.t_lo_c, frame.t_hi_c);
     let g = |t: f64, r: f64| frame.grid_correction(t, r);
     let n = GRID_SAMPLES;
     let (dt, dr) = ((t_hi - t_lo) / n as f64, (r_hi - r_lo) / n as f64);
-    let (mut g_max, mut g_tt, mut g_rr): (f64, f64, f64) = (0.0, 0.0, 0.0);
+    let mut e = GridExtent {
+        g_max: 0.0,
+        g_tt: 0.0,
+        g_rr: 0.0,
+    };
     for i in 0..=n {
         let t = t_lo + dt * i as f64;
         for j in 0..=n {
             let r = r_lo + dr * j as f64;
-            g_max = g_max.max(g(t, r).abs());
-            // Central second differences inside, one step in from the edges.
+            e.g_max = e.g_max.max(g(t, r).abs());
             let tc = t.clamp(t_lo + dt, t_hi - dt);
             let rc = r.clamp(r_lo + dr, r_hi - dr);
-            g_tt = g_tt.max(((g(tc + dt, r) - 2.0 * g(tc, r) + g(tc - dt, r)) / (dt * dt)).abs());
-            g_rr = g_rr.max(((g(t, rc + dr) - 2.0 * g(t, rc) + g(t, rc - dr)) / (dr * dr)).abs());
+            let tt = (g(tc + dt, r) - 2.0 * g(tc, r) + g(tc - dt, r)) / (dt * dt);
+            let rr = (g(t, rc + dr) - 2.0 * g(t, rc) + g(t, rc - dr)) / (dr * dr);
+            e.g_tt = e.g_tt.max(tt.abs());
+            e.g_rr = e.g_rr.max(rr.abs());
         }
     }
-    if plan.n_raw == 0 {
-        return g_max;
-    }
-    let h_t = match plan.axis {
-        AxisKind::Temperature => (t_hi - t_lo) / (plan.n_t.max(2) - 1) as f64,
-        // Rows at the signal nodes: uneven in temperature, so the widest
-        // gap between neighbouring rows.
+    e
+}
+
+/// Widest temperature gap (K) between neighbouring rows of a plan's 2-D
+/// correction: even over temperature; over the signal axis the rows sit at
+/// the signal nodes, uneven in temperature.
+fn row_gap_k(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
+    match plan.axis {
+        AxisKind::Temperature => (frame.t_hi_c - frame.t_lo_c) / (plan.n_t.max(2) - 1) as f64,
         AxisKind::Signal => {
             let [_, _, s0, h_s] = frame.node_axes(plan);
             let t_at = |k: usize| frame.model.temperature(s0 + h_s * k as f64);
@@ -362,9 +395,12 @@ fn correction_bound(frame: &TableFrame<'_>, plan: &TablePlan) -> f64 {
                 .map(|k| (t_at(k) - t_at(k - 1)).abs())
                 .fold(0.0, f64::max)
         }
-    };
-    let (_, step_codes) = frame.raw_axis(plan.n_raw);
-    let h_r = f64::from(step_codes);
+    }
+}
+
+/// Tensor-product linear remainder: linear interpolation along each axis in
+/// turn, h^2 max|f''| / 8 per axis (common practice).
+fn bilinear_remainder(h_t: f64, g_tt: f64, h_r: f64, g_rr: f64) -> f64 {
     h_t * h_t * g_tt / 8.0 + h_r * h_r * g_rr / 8.0
 }
 
@@ -404,13 +440,17 @@ pub(super) mod tests {
     /// A frame over the first well-logger part, for the helpers that read
     /// only its range, units and curves.
     fn with_frame(f: impl FnOnce(&TableFrame<'_>)) {
-        let part = parts(&Scenario::well_logger(), 1, 1).remove(0);
+        with_part_frame(&parts(&Scenario::well_logger(), 1, 1).remove(0), f);
+    }
+
+    /// The same over `part`.
+    fn with_part_frame(part: &PartFile, f: impl FnOnce(&TableFrame<'_>)) {
         let curves = shapes_for(&part.scenario).unwrap();
         let model = PartModel {
             curves: &curves,
             params: part.params.unwrap(),
         };
-        f(&TableFrame::new(&part, model).unwrap());
+        f(&TableFrame::new(part, model).unwrap());
     }
 
     #[test]
@@ -675,6 +715,166 @@ pub(super) mod tests {
                 let want = worse * g(t) + rounding;
                 assert!(relative_eq(got, want), "node {node}: {got} vs {want}");
             }
+        });
+    }
+
+    /// The first well-logger part of seed 7 with a bow across full scale
+    /// that drifts with temperature: what a 2-D correction is for.
+    fn bowed_part() -> PartFile {
+        let mut part = parts(&Scenario::well_logger(), 1, 7).remove(0);
+        part.scenario.bow = Some(Bow {
+            mid_rel: 8e-4,
+            mid_rel_per_k: -4e-6,
+        });
+        part
+    }
+
+    fn grid_plan(axis: AxisKind, n_t: usize, n_raw: usize) -> TablePlan {
+        TablePlan {
+            axis,
+            interpolation: InterpKind::Bilinear2d,
+            format: NumFormat::F32,
+            n_t,
+            n_sig: n_t,
+            n_raw,
+        }
+    }
+
+    #[test]
+    fn bilinear_remainder_by_hand() {
+        // 2^2 * 3 / 8 + 4^2 * 5 / 8 = 1.5 + 10 = 11.5; each axis alone.
+        assert_eq!(bilinear_remainder(2.0, 3.0, 4.0, 5.0), 11.5);
+        assert_eq!(bilinear_remainder(2.0, 3.0, 0.0, 5.0), 1.5);
+        assert_eq!(bilinear_remainder(0.0, 3.0, 4.0, 5.0), 10.0);
+    }
+
+    #[test]
+    fn row_gap_is_the_widest_between_neighbouring_rows() {
+        with_frame(|frame| {
+            let span = frame.t_hi_c - frame.t_lo_c;
+            // Even rows over temperature: 5 rows, 4 gaps; one row counts as two.
+            let even = row_gap_k(frame, &grid_plan(AxisKind::Temperature, 5, 5));
+            assert!((even - span / 4.0).abs() < 1e-12, "{even}");
+            let one = row_gap_k(frame, &grid_plan(AxisKind::Temperature, 1, 5));
+            assert!((one - span).abs() < 1e-12, "{one}");
+            // Over the signal: the rows' temperatures at the signal nodes,
+            // sorted, and their widest neighbour gap (1e-9 K: the same
+            // thermometer inversions, subtracted in another order).
+            let plan = grid_plan(AxisKind::Signal, 12, 5);
+            let [_, _, s0, h_s] = frame.node_axes(&plan);
+            let mut temps: Vec<f64> = (0..12)
+                .map(|k| frame.model.temperature(s0 + h_s * k as f64))
+                .collect();
+            temps.sort_by(f64::total_cmp);
+            let gaps: Vec<f64> = temps.windows(2).map(|w| w[1] - w[0]).collect();
+            let widest = gaps.iter().fold(0.0, |a: f64, &b| a.max(b));
+            let narrowest = gaps.iter().fold(f64::INFINITY, |a: f64, &b| a.min(b));
+            let got = row_gap_k(frame, &plan);
+            assert!((got - widest).abs() < 1e-9, "{got} vs {widest}");
+            // The rows are uneven (the thermometer bends), so the widest
+            // gap is not any gap.
+            assert!(widest - narrowest > 1e-6, "{widest} vs {narrowest}");
+        });
+    }
+
+    #[test]
+    fn grid_extent_agrees_with_a_grid_twice_as_fine() {
+        // The bow is a parabola across the raw codes, so its second
+        // differences do not depend on the step: 1e-3 relative for g_rr
+        // (the model's own bend adds a little). g_max on the finer grid can
+        // only be larger, and the coarse grid hits the bow's crest within
+        // half a step: 1e-3 relative. Over temperature g bends only through
+        // the model's drift: the second differences on two steps agree to
+        // 10 %.
+        let part = bowed_part();
+        with_part_frame(&part, |frame| {
+            assert!(frame.has_bow());
+            let e = grid_extent(frame);
+            let limits = frame.raw_limits();
+            let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
+            let (t_lo, t_hi) = (frame.t_lo_c, frame.t_hi_c);
+            let g = |t: f64, r: f64| frame.grid_correction(t, r);
+            let n = 2 * GRID_SAMPLES;
+            let (dt, dr) = ((t_hi - t_lo) / n as f64, (r_hi - r_lo) / n as f64);
+            let (mut g_max, mut g_tt, mut g_rr) = (0.0f64, 0.0f64, 0.0f64);
+            for i in 0..=n {
+                let t = t_lo + dt * i as f64;
+                for j in 0..=n {
+                    let r = r_lo + dr * j as f64;
+                    g_max = g_max.max(g(t, r).abs());
+                    if i == 0 || j == 0 || i == n || j == n {
+                        // Second differences inside only.
+                        continue;
+                    }
+                    g_tt =
+                        g_tt.max(((g(t + dt, r) - 2.0 * g(t, r) + g(t - dt, r)) / (dt * dt)).abs());
+                    g_rr =
+                        g_rr.max(((g(t, r + dr) - 2.0 * g(t, r) + g(t, r - dr)) / (dr * dr)).abs());
+                }
+            }
+            println!("coarse {e:?}, fine {g_max} {g_tt} {g_rr}");
+            assert!(
+                e.g_max > 0.0
+                    && e.g_max <= g_max * (1.0 + 1e-12)
+                    && e.g_max >= g_max * (1.0 - 1e-3)
+            );
+            assert!((e.g_rr - g_rr).abs() <= 1e-3 * g_rr, "{} vs {g_rr}", e.g_rr);
+            assert!((e.g_tt - g_tt).abs() <= 0.1 * g_tt, "{} vs {g_tt}", e.g_tt);
+        });
+    }
+
+    #[test]
+    fn correction_bound_covers_the_bilinear_error_it_stands_for() {
+        let part = bowed_part();
+        with_part_frame(&part, |frame| {
+            let e = grid_extent(frame);
+            // A 1-D table leaves the whole bow.
+            let flat = grid_plan(AxisKind::Temperature, 6, 0);
+            assert_eq!(correction_bound(frame, &flat), e.g_max);
+            // A 6 x 5 grid: the remainder of its row gap and raw step.
+            let plan = grid_plan(AxisKind::Temperature, 6, 5);
+            let (raw0, step) = frame.raw_axis(5);
+            let h_t = row_gap_k(frame, &plan);
+            let bound = correction_bound(frame, &plan);
+            let want = bilinear_remainder(h_t, e.g_tt, f64::from(step), e.g_rr);
+            assert_eq!(bound, want);
+            // Independently: bilinear interpolation of g between the grid's
+            // nodes, worst at the cells' centres and edge mid-points, stays
+            // within the bound, and the bound is not loose by more than
+            // the t-term and the sampling allow (2x).
+            let g = |t: f64, r: f64| frame.grid_correction(t, r);
+            let mut worst = 0.0f64;
+            for i in 0..5 {
+                let (ta, tb) = (
+                    frame.t_lo_c + h_t * i as f64,
+                    frame.t_lo_c + h_t * (i + 1) as f64,
+                );
+                for j in 0..4 {
+                    let ra = f64::from(raw0) + f64::from(step) * j as f64;
+                    let rb = ra + f64::from(step);
+                    for (u, v) in [(0.5, 0.5), (0.0, 0.5), (0.5, 0.0)] {
+                        let (t, r) = (ta + u * (tb - ta), ra + v * (rb - ra));
+                        let lin = (1.0 - u) * (1.0 - v) * g(ta, ra)
+                            + u * (1.0 - v) * g(tb, ra)
+                            + (1.0 - u) * v * g(ta, rb)
+                            + u * v * g(tb, rb);
+                        worst = worst.max((g(t, r) - lin).abs());
+                    }
+                }
+            }
+            println!("bilinear error {worst}, bound {bound}");
+            assert!(
+                worst > 0.0 && bound >= worst && bound <= 2.0 * worst,
+                "{worst} vs {bound}"
+            );
+        });
+        // No bow: nothing for a 2-D correction to add.
+        with_frame(|frame| {
+            assert!(!frame.has_bow());
+            assert_eq!(
+                correction_bound(frame, &grid_plan(AxisKind::Temperature, 6, 5)),
+                0.0
+            );
         });
     }
 
