@@ -140,6 +140,7 @@ fn q_short_then_general_equals_the_full_call() {
         };
         assert_eq!(got_t, want_t, "input {i}: update status");
         assert_eq!(split, full, "input {i}: state");
+        // Same short-then-general sample step as the f32 test above, in Q.
         let want = full.compensate_sample(raw);
         let got = match split.compensate_sample_short(raw) {
             Some(r) => {

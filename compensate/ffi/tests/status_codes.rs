@@ -34,6 +34,7 @@ impl Block {
 
 /// (raw, temp) codes of the demo stream.
 fn stream() -> Vec<(i32, i32)> {
+    // Same stream parsing as compensate/tests/short_paths.rs: each test crate reads it itself.
     STREAM
         .lines()
         .filter(|l| !l.starts_with('#') && !l.starts_with("raw_code") && !l.trim().is_empty())

@@ -56,6 +56,7 @@ pub struct RunArgs {
     pub spec: String,
     /// Chamber CSV at the calibration temperatures.
     pub csv: PathBuf,
+    // Documented options read alike across commands (calibrate.rs, part_file.rs); each is its own.
     /// Chamber CSV at held-out temperatures: each part's image is checked
     /// on its rows (the end-of-line check) before it may be released.
     #[arg(long)]

@@ -247,7 +247,7 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
     // Writing to a String cannot fail.
     let _ = write!(
         w,
-        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\
+        "<!DOCTYPE html>\n<!-- A semidrift lot report: every lot's report has these sections and markup. -->\n<html lang=\"en\"><head><meta charset=\"utf-8\">\
 <meta name=\"viewport\" content=\"width=device-width,initial-scale=1\">\
 <title>Lot report {lot}</title><style>{style}</style></head><body>\n\
 <h1>Lot report: <span id=\"lot\">{lot}</span></h1>\n\
@@ -462,7 +462,7 @@ pub fn lot_report_html(f: &LotFigures) -> Result<String, PlotError> {
 
     let _ = writeln!(
         w,
-        "<h2>Parts</h2>\n<table id=\"parts-table\"><tr><th class=\"l\">serial</th><th class=\"l\">state</th><th>fit rms ppm</th><th>image bytes</th><th class=\"l\">image crc32</th><th>verify max ppm</th><th>allowance ppm</th><th>end-of-line worst ppm</th></tr>"
+        "<h2>Parts</h2>\n<table id=\"parts-table\"><tr><th class=\"l\">serial</th><th class=\"l\">state</th><th>fit rms ppm</th><th>image bytes</th><th class=\"l\">image crc32</th><th>verify max ppm</th><th>allowance ppm</th><th>end-of-line worst ppm</th></tr>\n<!-- One row per part: the rows share their markup. -->"
     );
     for p in &f.parts {
         let _ = writeln!(

@@ -69,6 +69,7 @@ CREATE TABLE fits (
 );
 CREATE INDEX fits_by_serial ON fits(serial);
 CREATE INDEX fits_by_part ON fits(part_sha256);
+-- Record tables read alike: each holds its own rows with time and tool version.
 CREATE TABLE images (
     id INTEGER PRIMARY KEY,
     fit_id INTEGER NOT NULL REFERENCES fits(id),
