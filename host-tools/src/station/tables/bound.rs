@@ -133,8 +133,14 @@ impl ChannelBounds {
         let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
         let o = frame.offset_codes(t_c);
         worst_in(&self.off, lo, hi) * frame.gain_per_code(t_c).abs()
-            + worst_in(&self.gain, lo, hi) * (r_lo - o).abs().max((r_hi - o).abs())
+            + worst_in(&self.gain, lo, hi) * lever_codes(r_lo, r_hi, o)
     }
+}
+
+/// How far a raw code in `r_lo..=r_hi` can lie from the offset `o` (codes):
+/// a gain error moves the reading in proportion to it.
+fn lever_codes(r_lo: f64, r_hi: f64, o: f64) -> f64 {
+    (r_lo - o).abs().max((r_hi - o).abs())
 }
 
 /// Largest of the interval bounds `e` over the intervals that node
@@ -356,9 +362,19 @@ struct GridExtent {
 /// one step in from the edges.
 fn grid_extent(frame: &TableFrame<'_>) -> GridExtent {
     let limits = frame.raw_limits();
-    let (r_lo, r_hi) = (f64::from(limits.raw_lo), f64::from(limits.raw_hi));
-    let (t_lo, t_hi) = (frame.t_lo_c, frame.t_hi_c);
-    let g = |t: f64, r: f64| frame.grid_correction(t, r);
+    extent_of(
+        &|t, r| frame.grid_correction(t, r),
+        (frame.t_lo_c, frame.t_hi_c),
+        (f64::from(limits.raw_lo), f64::from(limits.raw_hi)),
+    )
+}
+
+/// [`GridExtent`] of any `g(t, r)` over `t_lo..=t_hi` x `r_lo..=r_hi`.
+fn extent_of(
+    g: &dyn Fn(f64, f64) -> f64,
+    (t_lo, t_hi): (f64, f64),
+    (r_lo, r_hi): (f64, f64),
+) -> GridExtent {
     let n = GRID_SAMPLES;
     let (dt, dr) = ((t_hi - t_lo) / n as f64, (r_hi - r_lo) / n as f64);
     let mut e = GridExtent {
@@ -612,8 +628,10 @@ pub(super) mod tests {
 
     /// Interval bounds that differ from each neighbour in both directions,
     /// so that reading a wrong interval, or one of two, changes the sum.
+    /// The first is the largest, so that a window reaching down to the
+    /// table's start shows too.
     const ZIGZAG: [f64; 12] = [
-        5.0, 1.0, 7.0, 2.0, 9.0, 3.0, 8.0, 4.0, 6.0, 10.0, 11.0, 12.0,
+        50.0, 1.0, 7.0, 2.0, 9.0, 3.0, 8.0, 4.0, 6.0, 10.0, 11.0, 12.0,
     ];
 
     fn relative_eq(got: f64, want: f64) -> bool {
@@ -738,6 +756,34 @@ pub(super) mod tests {
             n_sig: n_t,
             n_raw,
         }
+    }
+
+    #[test]
+    fn lever_is_the_farther_calibrated_end_from_the_offset() {
+        // Raw range -100..500 codes: offset 50 -> 450 to the top end;
+        // offset 450 -> 550 to the bottom end; offset -150, below the
+        // range -> 650 to the top end.
+        assert_eq!(lever_codes(-100.0, 500.0, 50.0), 450.0);
+        assert_eq!(lever_codes(-100.0, 500.0, 450.0), 550.0);
+        assert_eq!(lever_codes(-100.0, 500.0, -150.0), 650.0);
+    }
+
+    #[test]
+    fn extent_of_a_cubic_by_hand() {
+        // g = (t - 2)^3 + (r - 10)^3 over t in 1..3, r in 0..20: 80 steps,
+        // dt = 0.025, dr = 0.25. |g| peaks at the corners (1 + 1000);
+        // second differences of a cubic are exact: g_tt = 6 (t - 2),
+        // largest one step in from either edge, 6 x 0.975 = 5.85; g_rr =
+        // 6 (r - 10), 6 x 9.75 = 58.5 (1e-6: rounding of values near 1e3
+        // over dt^2 = 6.25e-4).
+        let e = extent_of(
+            &|t, r| (t - 2.0).powi(3) + (r - 10.0).powi(3),
+            (1.0, 3.0),
+            (0.0, 20.0),
+        );
+        assert!((e.g_max - 1001.0).abs() < 1e-9, "{e:?}");
+        assert!((e.g_tt - 5.85).abs() < 1e-6, "{e:?}");
+        assert!((e.g_rr - 58.5).abs() < 1e-6, "{e:?}");
     }
 
     #[test]
