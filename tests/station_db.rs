@@ -577,6 +577,7 @@ fn file_commands_take_their_inputs_from_the_database() {
         "s.sqlite",
         "no table image with crc32 0badc0de",
     );
+    // Same apply call as above, with a lot that does not hold the serial.
     refused(
         d,
         &[

@@ -257,6 +257,7 @@ fn misaligned_and_undersized_state_blocks_are_refused() {
             );
         }
     }
+    // Same misaligned-pointer loop as the Q state above: the C API has one set of calls per format.
     // The same for an f32 state.
     let rc = unsafe { sd_f32_init(block.at(0), SD_F32_STATE_BYTES, f.as_ptr(), f.len()) };
     assert_eq!(rc, SD_OK);

@@ -153,6 +153,7 @@ fn run_recorded(args: ApplyArgs, out: &mut dyn Write) -> Result<(), CliError> {
             r.image_label
         )));
     }
+    // Same recorded-part check as verify.rs: each command resolves its own inputs.
     let p = r.part;
     check_part_for(
         &p.part,

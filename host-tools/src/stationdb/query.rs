@@ -463,6 +463,7 @@ pub fn recorded_part(db: &Db, serial: &str, lot: Option<&str>) -> Result<Recorde
              WHERE f.serial = ?1 AND (?2 IS NULL OR l.name = ?2) ORDER BY l.name",
         )
         .map_err(|e| db.err(e))?;
+    // Row mappings read alike (StoredImage above): each maps its own columns.
     let mut rows: Vec<(RecordedPart, ())> = st
         .query_map(params![serial, lot], |r| {
             Ok((
