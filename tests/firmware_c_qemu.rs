@@ -3,8 +3,9 @@
 //! (QEMU `mps2-an386`) and the Cortex-M0 (QEMU `microbit`) and prints
 //! the Rust firmware's sample lines; this test runs both firmware and
 //! requires every compensated value, temperature and status to be the
-//! same bit for bit. It also shows that the no-panic link of the C
-//! firmware can fail.
+//! same bit for bit, and requires the C firmware's on-target checks of
+//! bad state pointers to pass. It also shows that the no-panic link of
+//! the C firmware can fail.
 //!
 //! Missing QEMU, the cross compiler or Rust targets make the test fail
 //! with a message saying how to install them (scripts/install-prereqs.sh).
@@ -133,6 +134,13 @@ fn c_firmware_matches_rust_firmware(target: &str) {
         got.len(),
         want.len(),
         "{target}: C firmware printed\n{out_c}"
+    );
+    // NULL, misaligned (1 to 7 bytes either side of a block), zero-filled
+    // and copied state blocks through every entry point, on the target
+    // (a fault would end the run before this line).
+    assert!(
+        out_c.lines().any(|l| l == "state checks wrong=0"),
+        "{target}: the state-pointer checks failed or did not run:\n{out_c}"
     );
     assert!(
         out_c.lines().any(|l| l

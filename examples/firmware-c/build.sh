@@ -19,14 +19,21 @@ root=$(cd "$here/../.." && pwd)
 
 target=${1:?usage: build.sh TARGET [--nopanic-selftest]}
 selftest=${2:-}
+# llvm_args: code-generation options of the library for the target.
+# ARMv7-M: `-arm-restrict-it` keeps IT blocks to one 16-bit instruction,
+# so that if-conversion does not turn a rare branch to an error or general
+# path into an `IT` plus a predicated 32-bit tail call on the common path
+# (one instruction per call on the f32 sample; docs/performance.md).
 case "$target" in
 thumbv7em-none-eabihf)
     cpu=(-mcpu=cortex-m4 -mthumb -mfloat-abi=hard -mfpu=fpv4-sp-d16)
     memory=memory-mps2-an386.x
+    llvm_args=(-arm-restrict-it)
     ;;
 thumbv6m-none-eabi)
     cpu=(-mcpu=cortex-m0 -mthumb -mfloat-abi=soft)
     memory=memory-microbit.x
+    llvm_args=()
     ;;
 *)
     echo "build.sh: unknown target $target (thumbv7em-none-eabihf or thumbv6m-none-eabi)" >&2
@@ -39,6 +46,11 @@ command -v arm-none-eabi-gcc >/dev/null 2>&1 || {
 }
 
 cargo_args=(build --quiet --locked -p compensate-ffi --profile firmware-c --target "$target")
+if [ ${#llvm_args[@]} -gt 0 ]; then
+    flags=""
+    for a in "${llvm_args[@]}"; do flags+="\"-C\", \"llvm-args=$a\", "; done
+    cargo_args+=(--config "target.$target.rustflags = [${flags%, }]")
+fi
 out=$root/target/firmware-c/$target
 programs=(main bench flashuse flashref)
 target_dir=$root/target

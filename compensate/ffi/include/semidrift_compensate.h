@@ -128,8 +128,8 @@ typedef int32_t sd_result;
 
 /**
  * One compensated integer sample, returned in registers (r0, r1 on
- * Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
- * the measurand times 2^`frac_output` as an int32 (`sd_sample_q_value`).
+ * Cortex-M): bits 0-31 the measurand times 2^`frac_output` as an int32
+ * (`sd_sample_q_value`), bits 32-63 an `sd_result` (`sd_sample_result`).
  * The value is 0 when the result is an error code.
  */
 typedef uint64_t sd_sample_q;
@@ -152,9 +152,9 @@ typedef struct SD_ALIGNED(8) sd_f32_state {
 
 /**
  * One compensated f32 sample, returned in registers (r0, r1 on
- * Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
- * the measurand in the image's unit as an IEEE 754 single
- * (`sd_sample_f32_value`). The value is 0 when the result is an error
+ * Cortex-M): bits 0-31 the measurand in the image's unit as an IEEE 754
+ * single (`sd_sample_f32_value`), bits 32-63 an `sd_result`
+ * (`sd_sample_result`). The value is 0 when the result is an error
  * code or the input was NaN.
  */
 typedef uint64_t sd_sample_f32;
@@ -554,19 +554,19 @@ static inline uint8_t sd_result_flags(sd_result result)
 /** The sd_result of a sample (flags, or an error code). */
 static inline sd_result sd_sample_result(uint64_t sample)
 {
-    return (sd_result)(uint32_t)sample; /* GCC and Clang: modulo 2^32 */
+    return (sd_result)(uint32_t)(sample >> 32); /* GCC and Clang: modulo 2^32 */
 }
 
 /** The value of an integer sample: the measurand times 2^frac_output (0 on an error). */
 static inline int32_t sd_sample_q_value(sd_sample_q sample)
 {
-    return (int32_t)(uint32_t)(sample >> 32);
+    return (int32_t)(uint32_t)sample;
 }
 
 /** The value of an f32 sample: the measurand in the image's unit (0 on an error). */
 static inline float sd_sample_f32_value(sd_sample_f32 sample)
 {
-    uint32_t bits = (uint32_t)(sample >> 32);
+    uint32_t bits = (uint32_t)sample;
     float value;
     __builtin_memcpy(&value, &bits, sizeof value);
     return value;

@@ -81,11 +81,16 @@ pub(crate) enum Key {
 /// Where the key word of format `key` of the block at `slot` is.
 #[inline(always)]
 fn key_word<C>(slot: *mut Slot<C>, key: Key) -> *mut u32 {
-    let at = match key {
+    slot.cast::<u32>().wrapping_byte_add(key_offset::<C>(key))
+}
+
+/// Offset of the key word of format `key` in a [`Slot`].
+#[inline(always)]
+const fn key_offset<C>(key: Key) -> usize {
+    match key {
         Key::F32 => core::mem::offset_of!(Slot<C>, key_f32),
         Key::Q => core::mem::offset_of!(Slot<C>, key_q),
-    };
-    slot.cast::<u32>().wrapping_byte_add(at)
+    }
 }
 
 /// The key word of a block at address `addr`.
@@ -196,19 +201,37 @@ fn opaque(mut x: usize) -> usize {
 #[inline(always)]
 unsafe fn find<S, C>(state: *const S, key: Key) -> Result<*mut Slot<C>, BadState> {
     let addr = state.addr();
-    if addr == 0 || (CHECK_ALIGN_FIRST && addr << (usize::BITS - 2) != 0) {
+    if addr == 0 {
         // The address as the optimiser cannot see it (not the constant 0),
         // so that this failure and the key's below share one error block,
         // near enough for a `CBZ` (ARMv7-M).
         return Err(BadState(opaque(addr)));
     }
-    let slot = state.cast::<Slot<C>>().cast_mut();
+    let at = key_offset::<C>(key);
+    // Where loads must be aligned, the key is read from a word-aligned
+    // address that a valid pointer keeps: the pointer rounded down to a
+    // word when the key is not the block's first word, else rounded up,
+    // so that the word read stays inside the caller's block either way. A
+    // misaligned pointer cannot find a key there (see [`Slot`]), so no
+    // separate alignment test is needed.
+    let slot = if CHECK_ALIGN_FIRST {
+        let down = if at >= 4 { 0 } else { 3 };
+        state
+            // Two shifts (an opaque value between them, so that they are
+            // not folded into a mask, which ARMv6-M builds in three).
+            .map_addr(|a| opaque((a + down) >> 2) << 2)
+            .cast::<Slot<C>>()
+            .cast_mut()
+    } else {
+        state.cast::<Slot<C>>().cast_mut()
+    };
     let word = key_word(slot, key);
-    // SAFETY: non-null and, by the caller's contract, the first bytes of
-    // a readable block of `size_of::<S>()` bytes, which holds the key words
-    // (compile-time assertion above); read unaligned, since the pointer
-    // may be misaligned here (a word-aligned read where
-    // `CHECK_ALIGN_FIRST` made it aligned); any bit pattern is a valid u32.
+    // SAFETY: non-null and, by the caller's contract, inside a readable
+    // block of `size_of::<S>()` bytes, which holds the key words
+    // (compile-time assertion above): at most 3 bytes past `state` plus
+    // the key's offset. Read unaligned where loads may be (ARMv7-M,
+    // hosts), where the pointer may be misaligned; elsewhere word-aligned
+    // by the rounding above. Any bit pattern is a valid u32.
     let found = unsafe {
         if CHECK_ALIGN_FIRST {
             word.read()
@@ -219,32 +242,8 @@ unsafe fn find<S, C>(state: *const S, key: Key) -> Result<*mut Slot<C>, BadState
     if found != key_of(addr) {
         return Err(BadState(addr));
     }
+    // The key proved `slot == state` (see [`Slot`]).
     Ok(slot)
-}
-
-/// Where the compensator of the block at `slot` is, for the samples. On
-/// ARMv6-M it is computed once into a register the optimiser cannot see
-/// through, so that every field is read at its offset in the compensator:
-/// otherwise the optimiser addresses the fields from the block's start, 8
-/// bytes further on, which puts the sample's byte fields beyond the
-/// 31-byte offset of an ARMv6-M `LDRB` (an extra base register, spilled to
-/// the stack). The updates, whose fields all stay within reach, measured
-/// fewer instructions without it.
-///
-/// # Safety
-/// `slot` must point to a `Slot<C>` (its bytes need not be valid).
-#[inline(always)]
-unsafe fn comp_of<C>(slot: *mut Slot<C>) -> *mut C {
-    // SAFETY: a field of the `Slot<C>` the caller's contract gives.
-    #[cfg_attr(not(aligned_loads_only), allow(unused_mut))]
-    let mut comp = unsafe { core::ptr::addr_of_mut!((*slot).comp) };
-    #[cfg(aligned_loads_only)]
-    // SAFETY: the assembly is empty: it reads and writes no memory and
-    // returns the register unchanged.
-    unsafe {
-        core::arch::asm!("/* {0} */", inout(reg) comp, options(pure, nomem, nostack, preserves_flags));
-    }
-    comp
 }
 
 /// The compensator in a state block filled by the init of format `key`.
@@ -259,7 +258,20 @@ pub(crate) unsafe fn slot<'s, S, C>(state: *const S, key: Key) -> Result<&'s C, 
     // address and only after writing a valid `C` into the same block; the
     // image the compensator borrows stays valid by the caller's contract
     // (see the crate docs).
-    Ok(unsafe { &*comp_of(slot) })
+    Ok(unsafe { &*core::ptr::addr_of!((*slot).comp) })
+}
+
+/// The compensator in a state block that has passed the per-call checks
+/// of [`slot`] in the same call (for the out-of-line general paths).
+///
+/// # Safety
+/// `state` passed [`slot`]'s checks with the key of `C`'s format, and the
+/// block is not written while the reference lives.
+#[inline(always)]
+pub(crate) unsafe fn checked_slot<'s, S, C>(state: *const S) -> &'s C {
+    let slot = state.cast::<Slot<C>>();
+    // SAFETY: as in `slot`, whose checks the caller's contract says passed.
+    unsafe { &*core::ptr::addr_of!((*slot).comp) }
 }
 
 /// The compensator in a state block, for an update (see [`slot`]).

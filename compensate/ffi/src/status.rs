@@ -16,15 +16,15 @@ pub type SdStatus = i32;
 pub type SdResult = i32;
 
 /// One compensated integer sample, returned in registers (r0, r1 on
-/// Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
-/// the measurand times 2^`frac_output` as an int32 (`sd_sample_q_value`).
+/// Cortex-M): bits 0-31 the measurand times 2^`frac_output` as an int32
+/// (`sd_sample_q_value`), bits 32-63 an `sd_result` (`sd_sample_result`).
 /// The value is 0 when the result is an error code.
 pub type SdSampleQ = u64;
 
 /// One compensated f32 sample, returned in registers (r0, r1 on
-/// Cortex-M): bits 0-31 an `sd_result` (`sd_sample_result`), bits 32-63
-/// the measurand in the image's unit as an IEEE 754 single
-/// (`sd_sample_f32_value`). The value is 0 when the result is an error
+/// Cortex-M): bits 0-31 the measurand in the image's unit as an IEEE 754
+/// single (`sd_sample_f32_value`), bits 32-63 an `sd_result`
+/// (`sd_sample_result`). The value is 0 when the result is an error
 /// code or the input was NaN.
 pub type SdSampleF32 = u64;
 
@@ -79,10 +79,10 @@ pub const SD_FLAG_SATURATED: u8 = 1 << 5;
 /// coefficients are those of the first temperature node. Not a reading.
 pub const SD_FLAG_NO_TEMPERATURE: u8 = 1 << 6;
 
-/// A sample word: `result` below, `value_bits` above.
+/// A sample word: `value_bits` below, `result` above.
 #[inline(always)]
 pub(crate) fn sample(value_bits: u32, result: SdResult) -> u64 {
-    (u64::from(value_bits) << 32) | u64::from(result.cast_unsigned())
+    (u64::from(result.cast_unsigned()) << 32) | u64::from(value_bits)
 }
 
 /// The status code of an image that failed to parse.

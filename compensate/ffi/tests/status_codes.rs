@@ -55,17 +55,17 @@ fn status(result: SdResult) -> SdStatus {
 
 /// The result half of a sample word (`sd_sample_result`).
 fn result_of(sample: u64) -> SdResult {
-    (sample as u32).cast_signed()
+    ((sample >> 32) as u32).cast_signed()
 }
 
 /// The value of an integer sample word (`sd_sample_q_value`).
 fn q_value(sample: SdSampleQ) -> i32 {
-    ((sample >> 32) as u32).cast_signed()
+    (sample as u32).cast_signed()
 }
 
 /// The value of an f32 sample word (`sd_sample_f32_value`).
 fn f32_value(sample: SdSampleF32) -> f32 {
-    f32::from_bits((sample >> 32) as u32)
+    f32::from_bits(sample as u32)
 }
 
 fn q_state() -> Box<SdQState> {

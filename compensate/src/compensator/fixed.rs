@@ -37,12 +37,15 @@ pub struct ReadingQ {
 // compile time where the layout is the firmware's (32-bit targets; the
 // cross builds of the test command compile them): byte loads reach offsets
 // 0..=31, halfword loads 0..=62, word loads 0..=124 from the base register.
+// The sample's byte fields end within 24 bytes, so that they stay within a
+// byte load's reach from a base 8 bytes before the compensator (the C
+// API's state block, `compensate-ffi`, puts two key words first).
 #[cfg(target_pointer_width = "32")]
 const _: () = {
     use core::mem::{offset_of, size_of};
     type C = FixedCompensator<'static>;
-    assert!(offset_of!(C, temp_status) + size_of::<Status>() <= 32);
-    assert!(offset_of!(C, short_scale) + short_scale::SHORT_SCALE_BYTES_END <= 32);
+    assert!(offset_of!(C, temp_status) + size_of::<Status>() <= 24);
+    assert!(offset_of!(C, short_scale) + short_scale::SHORT_SCALE_BYTES_END <= 24);
     assert!(offset_of!(C, short) + offset_of!(ShortUpdateQ<'static>, nodes) <= 62);
     assert!(offset_of!(C, short) + size_of::<ShortUpdateQ<'static>>() <= 128);
     assert!(offset_of!(C, cell) + size_of::<CellQ>() <= 128);
@@ -66,16 +69,15 @@ pub struct FixedCompensator<'a> {
     fast_span: u32,
     offset: i32,
     gain: i32,
+    /// Within the first 24 bytes (see the layout assertions).
+    temp_status: Status,
+    /// The short path's output shift and rounding (its shift bytes also
+    /// within the first 24 bytes); meaningful only when `out_shift` is in
+    /// 1..=31, the only shifts the short path runs.
+    short_scale: ShortScale,
     /// `2^offset_bits`: raw codes times this are in the offset's Q format
     /// (a multiply needs no shift-amount mask on ARMv6-M).
     offset_scale: i32,
-    /// Within the first 32 bytes, where ARMv6-M's byte load reaches
-    /// without a separate offset register.
-    temp_status: Status,
-    /// The short path's output shift and rounding (its shift byte also
-    /// within the first 32 bytes); meaningful only when `out_shift` is in
-    /// 1..=31, the only shifts the short path runs.
-    short_scale: ShortScale,
     /// Q(`temperature`) degrees Celsius; on an image over the signal axis,
     /// the signal itself (see [`FixedCompensator::temperature_q`]).
     temperature_q: i32,
@@ -658,6 +660,21 @@ impl<'a> FixedCompensator<'a> {
     /// For a caller that keeps its general path out of line (the C API).
     #[inline(always)]
     pub fn compensate_sample_short(&self, raw: i32) -> Option<ReadingQ> {
+        self.compensate_sample_short_map(raw, |r| r)
+    }
+
+    /// [`Self::compensate_sample_short`] with the reading passed through
+    /// `f` where it is made: `f` runs in each of the short path's two
+    /// endings (in range, saturated) rather than once after they merge.
+    /// For a caller that packs the reading into a wider word (the C API):
+    /// each ending then widens the status byte it has just loaded, which
+    /// costs no instruction, where a widening after the merge costs one.
+    #[inline(always)]
+    pub fn compensate_sample_short_map<R>(
+        &self,
+        raw: i32,
+        f: impl FnOnce(ReadingQ) -> R,
+    ) -> Option<R> {
         // `raw - fast_lo` wraps below `fast_lo` to at least
         // `2^32 - (fast_lo - i32::MIN)`, beyond any span: one compare
         // tests both ends of the calibrated range, or fails always when
@@ -676,11 +693,11 @@ impl<'a> FixedCompensator<'a> {
                     .short_scale
                     .wide(mul_wide(d, self.gain).wrapping_add(self.out_round));
                 return Some(match value {
-                    Ok(value) => ReadingQ {
+                    Ok(value) => f(ReadingQ {
                         value,
                         status: self.temp_status,
-                    },
-                    Err(hi) => self.saturated(hi),
+                    }),
+                    Err(hi) => f(self.saturated(hi)),
                 });
             }
         }

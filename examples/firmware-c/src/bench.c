@@ -121,7 +121,7 @@ __attribute__((noinline)) static sd_result q_update_empty(sd_q_state *s, int32_t
 __attribute__((noinline)) static sd_sample_q q_sample_empty(const sd_q_state *s, int32_t v)
 {
     (void)s;
-    return (uint64_t)(uint32_t)v << 32;
+    return (uint32_t)v;
 }
 
 /* Ticks of CALLS calls of f over the inputs, cycling; the function comes

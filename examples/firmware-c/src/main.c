@@ -1,6 +1,7 @@
 /* Demo firmware in C: checks the embedded table images through the C API
    of the compensate crate, shows that a copy with one flipped bit is
-   refused, replays the recorded stream through the compensators and
+   refused, checks that bad state pointers are refused with their own
+   status codes, replays the recorded stream through the compensators and
    prints one line per sample in the Rust firmware's format (f32 results as
    bit patterns, integer results as raw int32), so that
    tests/firmware_c_qemu.rs can require the two to agree bit for bit.
@@ -95,6 +96,110 @@ static int corrupt_copy_is_refused(const uint8_t *image, size_t len)
            sd_sample_q_value(r) == 0 && sd_result_flags(sd_sample_result(r)) == SD_FLAG_TABLE_INVALID;
 }
 
+/* ---- the per-call checks of a state pointer, on the target itself ------
+   NULL; every misaligned address up to 7 bytes either side of an
+   initialised block (a Cortex-M0 faults on a misaligned word load, so the
+   checks must refuse these without one); an aligned zero-filled block; a
+   copy of an initialised block. Every entry point must return the case's
+   own status code (and value 0 for a sample), a refused init must write
+   nothing, and the initialised block must still work afterwards. */
+
+/* Inputs inside the demo image's ranges (any would do: they are refused). */
+#define CHECK_RAW 1000000
+#define CHECK_SIGNAL 1000000
+
+/* Entry points of the integer API that do not return `want` for `s`. */
+static int q_wrong(sd_q_state *s, sd_status want)
+{
+    int32_t t_q = 0;
+    sd_sample_q r = sd_q_compensate(s, CHECK_RAW);
+    int wrong = sd_result_status(sd_sample_result(r)) != want || sd_sample_q_value(r) != 0;
+    wrong += sd_result_status(sd_q_update_temperature(s, CHECK_SIGNAL)) != want;
+    wrong += sd_q_temperature_q(s, &t_q) != want;
+    return wrong;
+}
+
+#if defined(__ARM_FP)
+/* The same for the f32 API. */
+static int f32_wrong(sd_f32_state *s, sd_status want)
+{
+    float t_c = 0.0f;
+    sd_sample_f32 r = sd_f32_compensate(s, (float)CHECK_RAW);
+    int wrong = sd_result_status(sd_sample_result(r)) != want || sd_sample_f32_value(r) != 0.0f;
+    wrong += sd_result_status(sd_f32_update_temperature(s, (float)CHECK_SIGNAL)) != want;
+    wrong += sd_f32_temperature_c(s, &t_c) != want;
+    return wrong;
+}
+#endif
+
+/* Whether all `n` bytes at `p` are zero. */
+static int all_zero(const void *p, size_t n)
+{
+    const uint8_t *b = p;
+    for (size_t i = 0; i < n; i++) {
+        if (b[i] != 0) {
+            return 0;
+        }
+    }
+    return 1;
+}
+
+/* Three blocks in a row: the middle one is initialised, the others stay
+   zero-filled until the copy. */
+static sd_q_state q_area[3];
+#if defined(__ARM_FP)
+static sd_f32_state f32_area[3];
+#endif
+
+/* The pointer `k` bytes from `base` (misaligned for k = 1..7): an address
+   the C API must refuse, made as a caller's cast would make it. */
+#define AT_OFFSET(type, base, k) ((type *)(uintptr_t)((uintptr_t)(base) + (uintptr_t)(k)))
+
+static int states_are_checked(void)
+{
+    size_t q_len = (size_t)(sd_image_q_end - sd_image_q);
+    int wrong = q_wrong(NULL, SD_ERR_NULL_POINTER);
+    wrong += sd_q_init(&q_area[1], sizeof q_area[1], sd_image_q, q_len) != SD_OK;
+#if defined(__ARM_FP)
+    size_t f_len = (size_t)(sd_image_f32_end - sd_image_f32);
+    wrong += f32_wrong(NULL, SD_ERR_NULL_POINTER);
+    wrong += sd_f32_init(&f32_area[1], sizeof f32_area[1], sd_image_f32, f_len) != SD_OK;
+#endif
+    for (int k = 1; k < 8; k++) {
+        for (int side = -1; side <= 1; side += 2) {
+            sd_q_state *q = AT_OFFSET(sd_q_state, &q_area[1], side * k);
+            wrong += q_wrong(q, SD_ERR_MISALIGNED_STATE);
+            wrong += sd_q_init(q, sizeof *q, sd_image_q, q_len) != SD_ERR_MISALIGNED_STATE;
+#if defined(__ARM_FP)
+            sd_f32_state *f = AT_OFFSET(sd_f32_state, &f32_area[1], side * k);
+            wrong += f32_wrong(f, SD_ERR_MISALIGNED_STATE);
+            wrong += sd_f32_init(f, sizeof *f, sd_image_f32, f_len) != SD_ERR_MISALIGNED_STATE;
+#endif
+        }
+    }
+    wrong += !all_zero(&q_area[0], sizeof q_area[0]) + !all_zero(&q_area[2], sizeof q_area[2]);
+    wrong += q_wrong(&q_area[0], SD_ERR_NOT_INITIALISED);
+    sd_sample_q r = sd_q_compensate(&q_area[1], CHECK_RAW);
+    wrong += sd_result_status(sd_sample_result(r)) != SD_OK;
+    /* A copy elsewhere holds no key for its own address. */
+    q_area[2] = q_area[1];
+    wrong += q_wrong(&q_area[2], SD_ERR_NOT_INITIALISED);
+#if defined(__ARM_FP)
+    wrong += !all_zero(&f32_area[0], sizeof f32_area[0]) + !all_zero(&f32_area[2], sizeof f32_area[2]);
+    wrong += f32_wrong(&f32_area[0], SD_ERR_NOT_INITIALISED);
+    sd_sample_f32 f = sd_f32_compensate(&f32_area[1], (float)CHECK_RAW);
+    wrong += sd_result_status(sd_sample_result(f)) != SD_OK;
+    f32_area[2] = f32_area[1];
+    wrong += f32_wrong(&f32_area[2], SD_ERR_NOT_INITIALISED);
+#endif
+    sd_line l;
+    l.len = 0;
+    sd_line_str(&l, "state checks wrong=");
+    sd_line_i32(&l, wrong);
+    sd_line_print(&l);
+    return wrong == 0;
+}
+
 static sd_sample samples[SD_STREAM_SAMPLES];
 
 void sd_main(void)
@@ -108,6 +213,7 @@ void sd_main(void)
     ok &= validate("f32", sd_image_f32, f_len, 0);
     ok &= sd_f32_init(&floating, sizeof floating, sd_image_f32, f_len) == SD_OK;
 #endif
+    ok &= states_are_checked();
     if (!corrupt_copy_is_refused(sd_image_q, q_len)) {
         sd_line l;
         l.len = 0;
