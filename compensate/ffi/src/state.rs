@@ -102,13 +102,13 @@ fn key_of(addr: usize) -> u32 {
     (addr as u32).wrapping_neg()
 }
 
-/// Whether a state pointer must be tested for alignment before its key is
+/// Whether a state pointer must be rounded to a word before its key is
 /// read: on targets without unaligned word loads (ARMv6-M, ARMv8-M
-/// Baseline: `cfg(aligned_loads_only)`, set by `build.rs`).
-/// Elsewhere (ARMv7-M, hosts) the key is read with an unaligned load and a
-/// misaligned pointer cannot find a key (see [`Slot`]), so the key test is
-/// also the alignment test.
-const CHECK_ALIGN_FIRST: bool = cfg!(aligned_loads_only);
+/// Baseline: `cfg(aligned_loads_only)`, set by `build.rs`). Elsewhere
+/// (ARMv7-M, hosts) the key is read with an unaligned load. Either way a
+/// misaligned pointer cannot find a key (see [`Slot`]), so the key test
+/// is also the alignment test.
+const ROUND_TO_WORD: bool = cfg!(aligned_loads_only);
 
 // The header's constants hold each compensator on the target being built,
 // and waste no more than the padding to the next alignment step.
@@ -214,12 +214,14 @@ unsafe fn find<S, C>(state: *const S, key: Key) -> Result<*mut Slot<C>, BadState
     // so that the word read stays inside the caller's block either way. A
     // misaligned pointer cannot find a key there (see [`Slot`]), so no
     // separate alignment test is needed.
-    let slot = if CHECK_ALIGN_FIRST {
-        let down = if at >= 4 { 0 } else { 3 };
+    let slot = if ROUND_TO_WORD {
+        let up = if at >= 4 { 0 } else { 3 };
         state
             // Two shifts (an opaque value between them, so that they are
             // not folded into a mask, which ARMv6-M builds in three).
-            .map_addr(|a| opaque((a + down) >> 2) << 2)
+            // Wrapping: no block the caller's contract allows ends within
+            // 3 bytes of the address space's end.
+            .map_addr(|a| opaque(a.wrapping_add(up) >> 2) << 2)
             .cast::<Slot<C>>()
             .cast_mut()
     } else {
@@ -233,7 +235,7 @@ unsafe fn find<S, C>(state: *const S, key: Key) -> Result<*mut Slot<C>, BadState
     // hosts), where the pointer may be misaligned; elsewhere word-aligned
     // by the rounding above. Any bit pattern is a valid u32.
     let found = unsafe {
-        if CHECK_ALIGN_FIRST {
+        if ROUND_TO_WORD {
             word.read()
         } else {
             word.read_unaligned()

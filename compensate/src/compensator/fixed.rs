@@ -41,6 +41,9 @@ pub struct ReadingQ {
 // byte load's reach from a base 8 bytes before the compensator (the C
 // API's state block, `compensate-ffi`, puts two key words first).
 #[cfg(target_pointer_width = "32")]
+// Sums of a few small offsets, evaluated at compile time (an overflow
+// there is a compile error, not a runtime effect).
+#[allow(clippy::arithmetic_side_effects)]
 const _: () = {
     use core::mem::{offset_of, size_of};
     type C = FixedCompensator<'static>;
