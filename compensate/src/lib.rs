@@ -9,7 +9,7 @@
 //! | the same on a part without FPU (Q images only, no f32 checks linked) | [`TableView::parse_q`] |
 //! | compensate with an FPU (f32 image) | [`Compensator::new`], [`Compensator::update_temperature`], [`Compensator::compensate_sample`] |
 //! | compensate without an FPU (Q image, bit-exact on host) | [`FixedCompensator`] (same three calls, i32 in and out) |
-//! | keep the rare cases of those calls out of line in your own wrapper (as the C API does) | `update_temperature_short` / `compensate_sample_short` of either compensator, then `update_general` / `compensate_general` where they decline |
+//! | keep the rare cases of those calls out of line in your own wrapper (as the C API does) | `update_temperature_short` / `compensate_sample_short` of either compensator (integer: `compensate_sample_short_map` packs the reading where it is made), then `update_general` / `compensate_general` where they decline |
 //! | know whether a sample is trustworthy | [`Status`] beside every value |
 //! | write an image (host, tests) | [`ImageBuilder::encode`] into a `&mut [u8]` |
 //! | interpolate your own const tables | [`table`] (`Table1d`, `Table1dQ`, `Table2d`), [`interp`] kernels |

@@ -976,7 +976,8 @@ mod tests {
     }
 
     /// The short path answers saturated outputs itself (`saturated`) with
-    /// what the general path gives; both kinds of sample occur.
+    /// what the general path gives, mapped or not; both kinds of sample
+    /// occur.
     #[test]
     fn short_path_saturation_matches_general() -> Result<(), &'static str> {
         let offset = [100 << 8, -50 << 8];
@@ -999,6 +1000,14 @@ mod tests {
                 let raw = (x as i32) >> (9 + x % 8);
                 let fast = c.compensate_sample(raw);
                 assert_eq!(fast, c.compensate_general(raw), "t {t} C, raw {raw}");
+                // The mapped short path hands each ending's reading to the
+                // map unchanged (the C API packs it there).
+                let pack = |r: ReadingQ| (i64::from(r.value) << 8) | i64::from(r.status.bits());
+                assert_eq!(
+                    c.compensate_sample_short_map(raw, pack),
+                    c.compensate_sample_short(raw).map(pack),
+                    "t {t} C, raw {raw}: mapped short path"
+                );
                 if fast.status.contains(Status::SATURATED) {
                     saturated += 1;
                 } else {
