@@ -444,12 +444,22 @@ fn in_lot(lot: Option<&str>) -> String {
     lot.map_or(String::new(), |l| format!(" in lot '{l}'"))
 }
 
-/// The names of the lots of `rows`, comma-separated.
-fn lot_names<T>(rows: &[(RecordedPart, T)]) -> String {
-    rows.iter()
-        .map(|(p, _)| format!("'{}'", p.lot))
-        .collect::<Vec<_>>()
-        .join(", ")
+/// `names` quoted and comma-separated.
+fn quoted<'a>(names: impl Iterator<Item = &'a str>) -> String {
+    names.map(|n| format!("'{n}'")).collect::<Vec<_>>().join(", ")
+}
+
+impl RecordedPart {
+    /// The part in the four columns from `first` on of a row selecting
+    /// `f.id, l.name, f.serial, f.part_json`.
+    fn from_row(r: &rusqlite::Row<'_>, first: usize) -> rusqlite::Result<Self> {
+        Ok(Self {
+            fit_id: r.get(first)?,
+            lot: r.get(first + 1)?,
+            serial: r.get(first + 2)?,
+            part_json: r.get(first + 3)?,
+        })
+    }
 }
 
 /// The part recorded for `serial` (in `lot`, or in the one lot that has
@@ -463,27 +473,16 @@ pub fn recorded_part(db: &Db, serial: &str, lot: Option<&str>) -> Result<Recorde
              WHERE f.serial = ?1 AND (?2 IS NULL OR l.name = ?2) ORDER BY l.name",
         )
         .map_err(|e| db.err(e))?;
-    // Row mappings read alike (StoredImage above): each maps its own columns.
-    let mut rows: Vec<(RecordedPart, ())> = st
-        .query_map(params![serial, lot], |r| {
-            Ok((
-                RecordedPart {
-                    fit_id: r.get(0)?,
-                    lot: r.get(1)?,
-                    serial: r.get(2)?,
-                    part_json: r.get(3)?,
-                },
-                (),
-            ))
-        })
+    let mut rows: Vec<RecordedPart> = st
+        .query_map(params![serial, lot], |r| RecordedPart::from_row(r, 0))
         .and_then(|rows| rows.collect::<Result<Vec<_>, _>>())
         .map_err(|e| db.err(e))?;
     match rows.len() {
         0 => Err(db.refuse(format!("no part '{serial}' is recorded{}", in_lot(lot)))),
-        1 => Ok(rows.remove(0).0),
+        1 => Ok(rows.remove(0)),
         n => Err(db.refuse(format!(
             "part '{serial}' is recorded in {n} lots ({}): name the lot (--lot)",
-            lot_names(&rows)
+            quoted(rows.iter().map(|p| p.lot.as_str()))
         ))),
     }
 }
@@ -534,12 +533,7 @@ pub fn image_by_crc(
     let mut rows: Vec<(RecordedPart, RecordedImage)> = st
         .query_map(params![i64::from(crc), serial, lot], |r| {
             Ok((
-                RecordedPart {
-                    fit_id: r.get(0)?,
-                    lot: r.get(1)?,
-                    serial: r.get(2)?,
-                    part_json: r.get(3)?,
-                },
+                RecordedPart::from_row(r, 0)?,
                 RecordedImage {
                     id: r.get(4)?,
                     crc32: r.get::<_, i64>(5)? as u32,
@@ -558,11 +552,8 @@ pub fn image_by_crc(
         1 => Ok(rows.remove(0)),
         n => Err(db.refuse(format!(
             "{n} recorded table images have crc32 {crc:08x} (parts {} in lots {}): name the part (--serial) or the lot (--lot)",
-            rows.iter()
-                .map(|(p, _)| format!("'{}'", p.serial))
-                .collect::<Vec<_>>()
-                .join(", "),
-            lot_names(&rows)
+            quoted(rows.iter().map(|(p, _)| p.serial.as_str())),
+            quoted(rows.iter().map(|(p, _)| p.lot.as_str()))
         ))),
     }
 }
