@@ -1,8 +1,8 @@
 #!/usr/bin/env bash
 # Regenerates the 50-part demo's lot reports kept in the docs: the reports
 # and summaries in docs/lot-report/ (opened in Chromium by
-# tests/lot_report_browser.rs; SEMIDRIFT_SLOW=1 fails when they are not the
-# current demo's) and their screenshots in docs/img/. Run it after a change
+# tests/lot_report_browser.rs, which fails when they are not the current
+# demo's) and their screenshots in docs/img/. Run it after a change
 # that changes the demo's output. Needs chromium (scripts/install-prereqs.sh).
 set -euo pipefail
 cd "$(dirname "$0")/.."

@@ -5,11 +5,10 @@
 //! with rusqlite (not through host-tools' queries), or the demo's summary;
 //! a screenshot is not blank.
 //!
-//! The 50-part demo takes minutes on the debug build (figure in
-//! docs/station-db.md), so its two reports and summaries are kept in
-//! `docs/lot-report/` and opened from there; `SEMIDRIFT_SLOW=1` runs the
-//! 50-part demo and fails unless those files are byte for byte its output
-//! (and the report made from its folder with `lot report --folder` too).
+//! The 50-part demo's two reports and summaries are kept in
+//! `docs/lot-report/` and opened from there; a test runs the 50-part demo
+//! and fails unless those files are byte for byte its output (and the
+//! report made from its folder with `lot report --folder` too).
 
 mod common;
 
@@ -17,10 +16,6 @@ use common::{ok_in, run_in, stderr};
 use rusqlite::Connection;
 use std::path::{Path, PathBuf};
 use std::process::Command;
-
-fn slow() -> bool {
-    std::env::var("SEMIDRIFT_SLOW").is_ok_and(|v| v == "1")
-}
 
 /// What the browser gave: the DOM after load, its console lines, and the
 /// screenshot's PNG bytes.
@@ -339,10 +334,6 @@ fn fifty_part_demo_reports_show_their_figures_in_the_browser() {
 
 #[test]
 fn docs_reports_are_the_current_fifty_part_demos() {
-    if !slow() {
-        eprintln!("the 50-part demo runs with SEMIDRIFT_SLOW=1");
-        return;
-    }
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
     ok_in(d, &["demo", "--parts", "50", "--out-dir", "demo", "-q"]);

@@ -446,7 +446,10 @@ fn in_lot(lot: Option<&str>) -> String {
 
 /// `names` quoted and comma-separated.
 fn quoted<'a>(names: impl Iterator<Item = &'a str>) -> String {
-    names.map(|n| format!("'{n}'")).collect::<Vec<_>>().join(", ")
+    names
+        .map(|n| format!("'{n}'"))
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 impl RecordedPart {

@@ -64,14 +64,15 @@ pub fn grid_points(frame: &TableFrame<'_>, n_temps: usize, n_stimuli: usize) -> 
         .par_iter()
         .flat_map_iter(|&t_c| {
             let code = frame.image_signal(t_c) as i32;
+            let at = frame.at(t_c);
             stimuli.iter().map(move |&stimulus| {
-                let raw = (frame.output(t_c, stimulus) / frame.lsb).round();
+                let raw = (at.output(stimulus) / frame.lsb).round();
                 Point {
                     t_c,
                     stimulus,
                     code,
                     raw: raw as i32,
-                    reference: frame.stimulus(raw * frame.lsb, t_c),
+                    reference: at.stimulus(raw * frame.lsb),
                 }
             })
         })

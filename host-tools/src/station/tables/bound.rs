@@ -317,11 +317,12 @@ fn signal_axis_error(
 /// quotient as the budget's drift slope.
 fn drift_slope(frame: &TableFrame<'_>, t_c: f64) -> f64 {
     let h = 0.01;
+    let (at, up, down) = (frame.at(t_c), frame.at(t_c + h), frame.at(t_c - h));
     [frame.fs_lo, frame.fs_hi]
         .iter()
         .map(|&s| {
-            let y = frame.output(t_c, s);
-            ((frame.stimulus(y, t_c + h) - frame.stimulus(y, t_c - h)) / (2.0 * h)).abs()
+            let y = at.output(s);
+            ((up.stimulus(y) - down.stimulus(y)) / (2.0 * h)).abs()
         })
         .fold(0.0, f64::max)
 }
@@ -467,6 +468,50 @@ pub(super) mod tests {
             params: part.params.unwrap(),
         };
         f(&TableFrame::new(part, model).unwrap());
+    }
+
+    #[test]
+    fn frame_at_one_temperature_is_the_model_there() {
+        let plain = parts(&Scenario::well_logger(), 1, 1).remove(0);
+        let mut bowed = plain.clone();
+        bowed.scenario.bow = Some(Bow {
+            mid_rel: 2e-3,
+            mid_rel_per_k: 1e-5,
+        });
+        for part in [plain, bowed] {
+            with_part_frame(&part, |frame| {
+                let m = frame.model;
+                for t in [frame.t_lo_c, 25.0, frame.t_hi_c] {
+                    let at = frame.at(t);
+                    let bow = frame.bow.map(|b| Bow::constant(b.mid_at(t, frame.t_ref_c)));
+                    for s in [frame.fs_lo, 0.3 * frame.fs_hi, frame.fs_hi] {
+                        // The model's terminal line at the bowed (apparent)
+                        // stimulus, composed here from its parts: the same
+                        // operations, so bit for bit.
+                        let apparent =
+                            bow.map_or(s, |b| b.apparent(s, t, t, (frame.fs_lo, frame.fs_hi)));
+                        let y = at.output(s);
+                        assert_eq!(y.to_bits(), m.output(t, apparent).to_bits(), "t {t}, s {s}");
+                        // The exact inverse, to rounding (1e-9 of full
+                        // scale: a few hundred ulps of a difference of
+                        // outputs).
+                        assert!(
+                            (at.stimulus(y) - s).abs() <= 1e-9 * frame.fs_hi,
+                            "t {t}, s {s}"
+                        );
+                        // The 2-D correction is what the bow adds to the
+                        // terminal line's stimulus: 0 without one, and
+                        // with one inside the span (a terminal-based bow
+                        // is 0 at its ends).
+                        let line = m.stimulus(y, t);
+                        let correction = at.grid_correction(y);
+                        assert_eq!(correction.to_bits(), (at.stimulus(y) - line).to_bits());
+                        let inside = s > frame.fs_lo && s < frame.fs_hi;
+                        assert_eq!(correction != 0.0, bow.is_some() && inside, "t {t}, s {s}");
+                    }
+                }
+            });
+        }
     }
 
     #[test]

@@ -90,11 +90,12 @@ impl PartTerms {
         for k in 0..=n {
             let t = frame.t_lo_c + (frame.t_hi_c - frame.t_lo_c) * k as f64 / n as f64;
             let h = 0.01;
+            let (at, at_up, at_down) = (frame.at(t), frame.at(t + h), frame.at(t - h));
             for s in [frame.fs_lo, frame.fs_hi] {
                 // Reading error per kelvin of temperature error at a fixed raw output.
-                let y = frame.output(t, s);
-                let up = frame.stimulus(y, t + h);
-                let down = frame.stimulus(y, t - h);
+                let y = at.output(s);
+                let up = at_up.stimulus(y);
+                let down = at_down.stimulus(y);
                 slope = slope.max(((up - down) / (2.0 * h) / fs * 1e6).abs());
             }
         }

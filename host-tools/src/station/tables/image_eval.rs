@@ -112,9 +112,10 @@ pub fn evaluate(
                     let mut c = base;
                     let mut acc = Acc::EMPTY;
                     c.update_temperature((frame.image_signal(t) * sq).round() as i32);
+                    let at = frame.at(t);
                     for &s in stimuli {
-                        let raw = (frame.output(t, s) / lsb).round();
-                        let reference = frame.stimulus(raw * lsb, t);
+                        let raw = (at.output(s) / lsb).round();
+                        let reference = at.stimulus(raw * lsb);
                         let got = f64::from(c.compensate_sample(raw as i32).value) * oq;
                         acc.add((got - reference) * to_ppm, t, s);
                     }
@@ -132,9 +133,10 @@ pub fn evaluate(
                     let mut c = base;
                     let mut acc = Acc::EMPTY;
                     c.update_temperature(frame.image_signal(t) as f32);
+                    let at = frame.at(t);
                     for &s in stimuli {
-                        let raw = (frame.output(t, s) / lsb).round();
-                        let reference = frame.stimulus(raw * lsb, t);
+                        let raw = (at.output(s) / lsb).round();
+                        let reference = at.stimulus(raw * lsb);
                         let got = f64::from(c.compensate_sample(raw as f32).value);
                         acc.add((got - reference) * to_ppm, t, s);
                     }

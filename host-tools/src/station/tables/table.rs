@@ -298,9 +298,9 @@ impl<'a> TableFrame<'a> {
         let half = 1i64 << (self.bits - 1);
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
         for k in 0..=200 {
-            let t = self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 200.0;
+            let at = self.at(self.t_lo_c + (self.t_hi_c - self.t_lo_c) * k as f64 / 200.0);
             for s in [self.fs_lo, self.fs_hi] {
-                let c = self.output(t, s) / self.lsb;
+                let c = at.output(s) / self.lsb;
                 lo = lo.min(c);
                 hi = hi.max(c);
             }

@@ -32,27 +32,30 @@ impl TableFrame<'_> {
 
     /// Raw output at `t_c` and `stimulus`, the element's bow included.
     pub fn output(&self, t_c: f64, stimulus: f64) -> f64 {
-        let apparent = match self.bow_mid(t_c) {
-            Some(m) => Bow::constant(m).apparent(stimulus, t_c, t_c, (self.fs_lo, self.fs_hi)),
-            None => stimulus,
-        };
-        self.model.output(t_c, apparent)
+        self.at(t_c).output(stimulus)
     }
 
     /// The stimulus that gives `output` at `t_c` (the exact compensation).
     pub fn stimulus(&self, output: f64, t_c: f64) -> f64 {
-        let apparent = self.model.stimulus(output, t_c);
-        match self.bow_mid(t_c) {
-            Some(m) => Bow::constant(m).true_stimulus(apparent, t_c, t_c, (self.fs_lo, self.fs_hi)),
-            None => apparent,
-        }
+        self.at(t_c).stimulus(output)
     }
 
     /// What the 2-D correction adds at `t_c` and raw code `raw` (stimulus
     /// units): the exact stimulus minus the terminal line's.
     pub fn grid_correction(&self, t_c: f64, raw: f64) -> f64 {
-        let y = raw * self.lsb;
-        self.stimulus(y, t_c) - self.model.stimulus(y, t_c)
+        self.at(t_c).grid_correction(raw * self.lsb)
+    }
+
+    /// The frame at one temperature: the model's terms there, evaluated
+    /// once for any number of stimuli or outputs.
+    pub fn at(&self, t_c: f64) -> FrameAt {
+        FrameAt {
+            t_c,
+            offset: self.model.offset(t_c),
+            sensitivity: self.model.sensitivity(t_c),
+            bow: self.bow_mid(t_c).map(Bow::constant),
+            fs: (self.fs_lo, self.fs_hi),
+        }
     }
 
     /// Raw axis of a 2-D correction with `n_raw` nodes over the calibrated
@@ -80,12 +83,56 @@ impl TableFrame<'_> {
         }
         let mut v = Vec::with_capacity(plan.n_t.max(2) * plan.n_raw);
         for i in 0..plan.n_t.max(2) {
-            let t = t_node(i);
+            let at = self.at(t_node(i));
             for j in 0..plan.n_raw {
                 let raw = f64::from(raw_start) + f64::from(raw_step) * j as f64;
-                v.push(self.grid_correction(t, raw));
+                v.push(at.grid_correction(raw * self.lsb));
             }
         }
         v
+    }
+}
+
+/// A [`TableFrame`] at one temperature ([`TableFrame::at`]): the terminal
+/// line's offset and sensitivity and the element's bow there, so that a
+/// row of stimuli costs no model evaluation each. Its results are those of
+/// [`TableFrame::output`] and [`TableFrame::stimulus`] (which use it).
+#[derive(Debug, Clone, Copy)]
+pub struct FrameAt {
+    t_c: f64,
+    offset: f64,
+    sensitivity: f64,
+    bow: Option<Bow>,
+    fs: (f64, f64),
+}
+
+impl FrameAt {
+    /// Raw output at `stimulus`, the element's bow included.
+    pub fn output(&self, stimulus: f64) -> f64 {
+        let apparent = match self.bow {
+            Some(b) => b.apparent(stimulus, self.t_c, self.t_c, self.fs),
+            None => stimulus,
+        };
+        self.offset + self.sensitivity * apparent
+    }
+
+    /// The stimulus that gives `output` (the exact compensation).
+    pub fn stimulus(&self, output: f64) -> f64 {
+        let apparent = self.line_stimulus(output);
+        match self.bow {
+            Some(b) => b.true_stimulus(apparent, self.t_c, self.t_c, self.fs),
+            None => apparent,
+        }
+    }
+
+    /// What the 2-D correction adds at `output`: the exact stimulus minus
+    /// the terminal line's.
+    pub fn grid_correction(&self, output: f64) -> f64 {
+        self.stimulus(output) - self.line_stimulus(output)
+    }
+
+    /// The terminal line's stimulus at `output` (the model's, bow left out).
+    fn line_stimulus(&self, output: f64) -> f64 {
+        (output - self.offset) / self.sensitivity
     }
 }
