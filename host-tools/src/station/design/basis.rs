@@ -175,24 +175,11 @@ pub fn dot(weights: &[f64], basis: &[f64; MAX_BASIS]) -> f64 {
 
 #[cfg(test)]
 mod tests {
-    use super::super::super::curves::{OffsetShape, ShapePoint};
+    use super::super::super::curves::analytic_curves;
     use super::*;
 
     fn curves() -> ShapeCurves {
-        ShapeCurves::build(
-            -60.0,
-            160.0,
-            0.5,
-            25.0,
-            OffsetShape::DopingSensitivity,
-            |t_k, s: f64| {
-                Ok::<_, ()>(ShapePoint {
-                    ln_rho: -0.9 * s.ln() + 1.2 * (t_k / 300.0).ln(),
-                    ln_gain: -0.2 * s.ln() - 1.1 * (t_k / 300.0).ln(),
-                })
-            },
-        )
-        .unwrap()
+        analytic_curves(0.0)
     }
 
     #[test]

@@ -157,6 +157,30 @@ fn hermite(y: &[f64], x: f64) -> f64 {
         + (t3 - t2) * m1
 }
 
+/// Shapes of an analytic stand-in for the full model, for tests (shapes
+/// like p-Si, not physics under test), tabulated over -60..160 C every
+/// 0.5 K, reference 25 C: ln rho = -0.9 ln s + 1.2 ln(T/300) +
+/// `cross` ln s ln(T/300), ln gain = -0.2 ln s - 1.1 ln(T/300).
+#[cfg(test)]
+pub(crate) fn analytic_curves(cross: f64) -> ShapeCurves {
+    ShapeCurves::build(
+        -60.0,
+        160.0,
+        0.5,
+        25.0,
+        OffsetShape::DopingSensitivity,
+        |t_k, s: f64| {
+            Ok::<_, ()>(ShapePoint {
+                ln_rho: -0.9 * s.ln()
+                    + 1.2 * (t_k / 300.0).ln()
+                    + cross * s.ln() * (t_k / 300.0).ln(),
+                ln_gain: -0.2 * s.ln() - 1.1 * (t_k / 300.0).ln(),
+            })
+        },
+    )
+    .unwrap()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -297,29 +297,14 @@ impl PartFile {
     }
 }
 
-// Test curves built as in design/basis.rs, plus a cross term in ln_rho.
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::station::curves::ShapePoint;
+    use crate::station::curves::analytic_curves;
 
+    /// With a cross term in ln rho, so that the offset shape is not flat.
     fn curves() -> ShapeCurves {
-        ShapeCurves::build(
-            -60.0,
-            160.0,
-            0.5,
-            25.0,
-            OffsetShape::DopingSensitivity,
-            |t_k, s: f64| {
-                Ok::<_, ()>(ShapePoint {
-                    ln_rho: -0.9 * s.ln()
-                        + 1.2 * (t_k / 300.0).ln()
-                        + 0.05 * s.ln() * (t_k / 300.0).ln(),
-                    ln_gain: -0.2 * s.ln() - 1.1 * (t_k / 300.0).ln(),
-                })
-            },
-        )
-        .unwrap()
+        analytic_curves(0.05)
     }
 
     #[test]
