@@ -15,7 +15,7 @@ mod common;
 #[path = "common/target.rs"]
 mod target;
 
-use common::run_in as run;
+use common::{expect_exit, run_in as run};
 use host_tools::gdb_remote::Remote;
 use serde_json::Value;
 use std::path::Path;
@@ -29,52 +29,40 @@ use target::{BOARDS, eol_firmware, free_port, qemu};
 fn lot() -> &'static Path {
     static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();
     DIR.get_or_init(|| {
-        let dir = tempfile::tempdir().unwrap();
-        let p = dir.path();
-        let ok = |args: &[&str]| {
-            common::ok_in(p, args);
-        };
-        common::calibrated_lot(p, "2");
-        ok(&[
-            "simulate",
-            "spec.toml",
-            "--parts",
-            "2",
-            "--check",
-            "--out",
-            "check.csv",
-        ]);
-        for (serial, format, out) in [
-            ("WELL-0001", "q", "q.bin"),
-            ("WELL-0001", "f32", "f32.bin"),
-            ("WELL-0002", "q", "other.bin"),
-        ] {
-            let part = format!("parts/{serial}.part.json");
-            ok(&["table", &part, "--number-format", format, "--out", out]);
-        }
-        // WELL-0001's check rows three times over: more rows than the
-        // mailbox holds, so they go in several requests.
-        let text = std::fs::read_to_string(p.join("check.csv")).unwrap();
-        let mut lines = text.lines();
-        let mut thrice = format!("{}\n", lines.next().unwrap());
-        let own: Vec<&str> = lines.filter(|l| l.starts_with("WELL-0001,")).collect();
-        for _ in 0..3 {
-            for l in &own {
-                thrice.push_str(l);
-                thrice.push('\n');
+        common::lot_folder("2", |p, ok| {
+            ok(&[
+                "simulate",
+                "spec.toml",
+                "--parts",
+                "2",
+                "--check",
+                "--out",
+                "check.csv",
+            ]);
+            for (serial, format, out) in [
+                ("WELL-0001", "q", "q.bin"),
+                ("WELL-0001", "f32", "f32.bin"),
+                ("WELL-0002", "q", "other.bin"),
+            ] {
+                let part = format!("parts/{serial}.part.json");
+                ok(&["table", &part, "--number-format", format, "--out", out]);
             }
-        }
-        std::fs::write(p.join("check3.csv"), thrice).unwrap();
-        dir
+            // WELL-0001's check rows three times over: more rows than the
+            // mailbox holds, so they go in several requests.
+            let text = std::fs::read_to_string(p.join("check.csv")).unwrap();
+            let mut lines = text.lines();
+            let mut thrice = format!("{}\n", lines.next().unwrap());
+            let own: Vec<&str> = lines.filter(|l| l.starts_with("WELL-0001,")).collect();
+            for _ in 0..3 {
+                for l in &own {
+                    thrice.push_str(l);
+                    thrice.push('\n');
+                }
+            }
+            std::fs::write(p.join("check3.csv"), thrice).unwrap();
+        })
     })
     .path()
-}
-
-#[track_caller]
-fn expect(o: &Output, code: i32, fragment: &str) {
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(code), "stderr: {err}");
-    assert!(err.contains(fragment), "stderr lacks {fragment:?}: {err}");
 }
 
 #[track_caller]
@@ -283,28 +271,28 @@ fn flash_and_end_of_line_check_on_both_boards() {
         success(&flash(p, &server, address, "q.bin"), "flash");
         corrupt(&server, addr, &q_image, q_image.len() / 2, false);
         let o = eol(p, &server, address, "q.bin", &elf, false);
-        expect(
+        expect_exit(
             &o,
             1,
             &format!("the device refused the image at {addr:#010x}"),
         );
-        expect(&o, 1, "CRC");
+        expect_exit(&o, 1, "CRC");
         // A table byte changed with a matching CRC: the image parses, and
         // the device's results differ from apply's.
         corrupt(&server, addr, &q_image, q_image.len() - 8, true);
         let o = eol(p, &server, address, "q.bin", &elf, false);
-        expect(&o, 1, "the device disagrees with apply on");
+        expect_exit(&o, 1, "the device disagrees with apply on");
         assert!(String::from_utf8_lossy(&o.stdout).contains("MISMATCH"));
         // The same for an f32 image: outside the f32 tolerance.
         let f32_image = std::fs::read(p.join("f32.bin")).unwrap();
         success(&flash(p, &server, address, "f32.bin"), "flash");
         corrupt(&server, addr, &f32_image, f32_image.len() - 7, true);
         let o = eol(p, &server, address, "f32.bin", &elf, false);
-        expect(&o, 1, "the device disagrees with apply on");
+        expect_exit(&o, 1, "the device disagrees with apply on");
         // Another part's image in the part.
         success(&flash(p, &server, address, "other.bin"), "flash other");
         let o = eol(p, &server, address, "q.bin", &elf, false);
-        expect(&o, 1, "the device disagrees with apply on");
+        expect_exit(&o, 1, "the device disagrees with apply on");
 
         // A target whose mailbox does not identify the EOL firmware.
         let mut r = Remote::connect(&server).unwrap();
@@ -319,7 +307,7 @@ fn flash_and_end_of_line_check_on_both_boards() {
         drop(r);
         success(&flash(p, &server, address, "q.bin"), "flash");
         let o = eol(p, &server, address, "q.bin", &elf, false);
-        expect(&o, 3, "no end-of-line firmware answers");
+        expect_exit(&o, 3, "no end-of-line firmware answers");
         let mut r = Remote::connect(&server).unwrap();
         r.halt().unwrap();
         r.write_memory(mailbox, b"SDEL").unwrap();
@@ -329,9 +317,9 @@ fn flash_and_end_of_line_check_on_both_boards() {
         // microbit reads zeros (the device refuses the image, exit 1).
         let o = eol(p, &server, "0xf0000000", "q.bin", &elf, false);
         if machine == "mps2-an386" {
-            expect(&o, 3, "the target's program ended");
+            expect_exit(&o, 3, "the target's program ended");
         } else {
-            expect(&o, 1, "the device refused the image at 0xf0000000");
+            expect_exit(&o, 1, "the device refused the image at 0xf0000000");
         }
     }
 }
@@ -343,7 +331,7 @@ fn eol_refusals_before_and_at_the_connection() {
     let elf = eol_firmware(BOARDS[0].2);
     // No server: exit 3, the step named.
     let o = eol(p, &server, "0x00100000", "q.bin", &elf, false);
-    expect(&o, 3, "cannot connect");
+    expect_exit(&o, 3, "cannot connect");
     // Not the EOL firmware: exit 2 before connecting.
     let o = eol(
         p,
@@ -353,8 +341,8 @@ fn eol_refusals_before_and_at_the_connection() {
         Path::new("spec.toml"),
         false,
     );
-    expect(&o, 2, "not an ELF file");
+    expect_exit(&o, 2, "not an ELF file");
     // Another part's image against this part's rows: exit 2.
     let o = eol(p, &server, "0x00100000", "other.bin", &elf, false);
-    expect(&o, 2, "field 'serial'");
+    expect_exit(&o, 2, "field 'serial'");
 }

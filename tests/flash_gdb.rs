@@ -9,44 +9,30 @@ mod common;
 #[path = "common/target.rs"]
 mod target;
 
-use common::run_in as run;
+use common::{expect_exit, run_in as run};
 use host_tools::gdb_remote::Remote;
 use std::io::{Read, Write};
 use std::net::TcpListener;
 use std::path::Path;
-use std::process::Output;
 use std::sync::OnceLock;
 use target::{BOARDS, free_port, qemu};
 
-// Same opening as eol_gdb.rs: each file keeps its own lot (other images) on common::calibrated_lot.
 /// A folder with a scenario, part files and the images of two parts.
 fn lot() -> &'static Path {
     static DIR: OnceLock<tempfile::TempDir> = OnceLock::new();
     DIR.get_or_init(|| {
-        let dir = tempfile::tempdir().unwrap();
-        let p = dir.path();
-        let ok = |args: &[&str]| {
-            common::ok_in(p, args);
-        };
-        common::calibrated_lot(p, "2");
-        for s in ["WELL-0001", "WELL-0002"] {
-            ok(&[
-                "table",
-                &format!("parts/{s}.part.json"),
-                "--out",
-                &format!("{s}.bin"),
-            ]);
-        }
-        dir
+        common::lot_folder("2", |_, ok| {
+            for s in ["WELL-0001", "WELL-0002"] {
+                ok(&[
+                    "table",
+                    &format!("parts/{s}.part.json"),
+                    "--out",
+                    &format!("{s}.bin"),
+                ]);
+            }
+        })
     })
     .path()
-}
-
-#[track_caller]
-fn expect(o: &Output, code: i32, fragment: &str) {
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert_eq!(o.status.code(), Some(code), "stderr: {err}");
-    assert!(err.contains(fragment), "stderr lacks {fragment:?}: {err}");
 }
 
 #[test]
@@ -98,7 +84,7 @@ fn flash_read_back_and_faults_on_both_boards() {
         r.write_memory(addr + 100, &[image[100] ^ 0x5a]).unwrap();
         drop(r);
         let o = flash(&["--skip-verify", "--check-only"]);
-        expect(&o, 1, &format!("first at {:#010x}", addr + 100));
+        expect_exit(&o, 1, &format!("first at {:#010x}", addr + 100));
         // A serial record naming another part: refused before writing.
         let serial_at = addr - 0x1000;
         let mut r = Remote::connect(&server).unwrap();
@@ -109,7 +95,7 @@ fn flash_read_back_and_faults_on_both_boards() {
         drop(r);
         let at = format!("{serial_at:#x}");
         let o = flash(&["--skip-verify", "--serial-address", &at]);
-        expect(&o, 1, "serial check");
+        expect_exit(&o, 1, "serial check");
         // The corrupted byte is still there: nothing was written.
         let mut r = Remote::connect(&server).unwrap();
         r.halt().unwrap();
@@ -143,7 +129,7 @@ fn refusals_before_any_connection() {
     };
     // Made from simulated data, without the override.
     let o = with(&["WELL-0001.bin", "--against", "parts/WELL-0001.part.json"]);
-    expect(&o, 2, "field 'flags'");
+    expect_exit(&o, 2, "field 'flags'");
     // Another part's image.
     let o = with(&[
         "WELL-0002.bin",
@@ -151,13 +137,13 @@ fn refusals_before_any_connection() {
         "parts/WELL-0001.part.json",
         "--allow-simulated",
     ]);
-    expect(&o, 2, "field 'serial'");
+    expect_exit(&o, 2, "field 'serial'");
     // Neither verified nor explicitly unverified.
     let o = with(&["WELL-0001.bin", "--allow-simulated"]);
-    expect(&o, 2, "--against");
+    expect_exit(&o, 2, "--against");
     // The server is not there: exit 3, the step named.
     let o = with(&["WELL-0001.bin", "--allow-simulated", "--skip-verify"]);
-    expect(&o, 3, "cannot connect");
+    expect_exit(&o, 3, "cannot connect");
 }
 
 #[test]
@@ -211,7 +197,7 @@ fn a_server_that_drops_the_connection_mid_write_is_a_clean_error() {
             "--skip-verify",
         ],
     );
-    expect(&o, 3, "write 0x");
-    expect(&o, 3, "connection lost");
+    expect_exit(&o, 3, "write 0x");
+    expect_exit(&o, 3, "connection lost");
     server.join().unwrap();
 }

@@ -104,6 +104,29 @@ pub fn calibrated_lot(dir: &Path, parts: &str) {
     );
 }
 
+/// A temporary folder with a calibrated lot of `parts` parts
+/// ([`calibrated_lot`]), to which `more` adds what a test needs: it gets
+/// the folder and a runner of `semidrift` commands there (each must
+/// succeed).
+pub fn lot_folder(parts: &str, more: impl FnOnce(&Path, &dyn Fn(&[&str]))) -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path();
+    calibrated_lot(p, parts);
+    more(p, &|args| {
+        ok_in(p, args);
+    });
+    dir
+}
+
+/// Asserts that a run exited with `code` and that its stderr contains
+/// `fragment`.
+#[track_caller]
+pub fn expect_exit(o: &Output, code: i32, fragment: &str) {
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(code), "stderr: {err}");
+    assert!(err.contains(fragment), "stderr lacks {fragment:?}: {err}");
+}
+
 /// Asserts exit code 2, empty stdout and a single-line error on stderr that
 /// contains every fragment; returns that line.
 pub fn bad_input(args: &[&str], fragments: &[&str]) -> String {
