@@ -6,7 +6,8 @@
 //! lot are refused with exit 2 and change nothing; the queries.
 //!
 //! The kill test runs a 40-part lot; `SEMIDRIFT_SLOW=1` runs the full
-//! 1 000-part lot of the acceptance (several minutes on 2 cores).
+//! 1 000-part lot of the acceptance (about 2 1/2 minutes on 2 cores, debug
+//! build).
 //! The database is read here with rusqlite directly, not through
 //! host-tools' own queries.
 
