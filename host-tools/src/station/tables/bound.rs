@@ -515,6 +515,55 @@ pub(super) mod tests {
     }
 
     #[test]
+    fn nonlinearity_is_the_largest_bow_over_the_range() {
+        // A bow linear in temperature is largest in magnitude at an end of
+        // the range, and both ends are sampled: the figure is that end's
+        // |mid-scale deviation| in ppm, to rounding (1e-9 relative).
+        let mut part = parts(&Scenario::well_logger(), 1, 1).remove(0);
+        part.scenario.bow = Some(Bow {
+            mid_rel: 1e-3,
+            mid_rel_per_k: 2e-5,
+        });
+        with_part_frame(&part, |frame| {
+            let b = frame.bow.unwrap();
+            let want = [frame.t_lo_c, frame.t_hi_c]
+                .map(|t| b.mid_at(t, frame.t_ref_c).abs())
+                .into_iter()
+                .fold(0.0, f64::max)
+                * 1e6;
+            let got = frame.nonlinearity_ppm();
+            assert!((got - want).abs() <= 1e-9 * want, "{got} ppm, want {want}");
+            // And a frame without a bow has none.
+            assert_eq!(
+                {
+                    let mut plain = frame.clone();
+                    plain.bow = None;
+                    plain.nonlinearity_ppm()
+                },
+                0.0
+            );
+        });
+    }
+
+    #[test]
+    fn raw_axis_takes_the_smallest_step_that_reaches_the_range_end() {
+        with_frame(|frame| {
+            let l = frame.raw_limits();
+            let (lo, hi) = (i64::from(l.raw_lo), i64::from(l.raw_hi));
+            for n in [2usize, 3, 7, 40] {
+                let (start, step) = frame.raw_axis(n);
+                let (start, step) = (i64::from(start), i64::from(step));
+                let gaps = n as i64 - 1;
+                assert_eq!(start, lo, "{n} nodes");
+                // The last node at or beyond the calibrated end, and one
+                // code less per step would fall short of it.
+                assert!(start + step * gaps >= hi, "{n} nodes: step {step}");
+                assert!(start + (step - 1) * gaps < hi, "{n} nodes: step {step}");
+            }
+        });
+    }
+
+    #[test]
     fn worst_in_takes_the_touched_intervals_clamped_to_the_table() {
         // Interval bounds of a 5-node table; node coordinates pick them by
         // their floor: 0.5 lies in interval 0, 1.2 in 1, 2.9 in 2.
