@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Mutation testing of the code that decides whether a table is trusted:
 # image validation, CRC and axes in the runtime crate; the error budget,
-# the interpolation bound and the table choice in the station. cargo-mutants
+# the interpolation bound, the table choice and the frame at one
+# temperature (table_grid.rs) in the station. cargo-mutants
 # makes one small change at a time (an operator swapped, a function body
 # replaced by a constant) and runs the tests; a test must fail for each.
 # A missed mutant either gets a test or, when it changes no behaviour, a
@@ -34,7 +35,7 @@ fi
 # that no test anywhere could catch it.
 COMPENSATE_FILES=(compensate/src/image/validate.rs compensate/src/crc.rs compensate/src/interp/axis.rs)
 COMPENSATE_TESTS=(--lib --test image_rejects --test image_props --test interp_props)
-STATION_FILES=(host-tools/src/station/tables/budget.rs host-tools/src/station/tables/bound.rs host-tools/src/station/tables/choose.rs)
+STATION_FILES=(host-tools/src/station/tables/budget.rs host-tools/src/station/tables/bound.rs host-tools/src/station/tables/choose.rs host-tools/src/station/tables/table_grid.rs)
 STATION_TESTS=(--lib)
 
 wanted() {
