@@ -534,14 +534,9 @@ pub(super) mod tests {
             let got = frame.nonlinearity_ppm();
             assert!((got - want).abs() <= 1e-9 * want, "{got} ppm, want {want}");
             // And a frame without a bow has none.
-            assert_eq!(
-                {
-                    let mut plain = frame.clone();
-                    plain.bow = None;
-                    plain.nonlinearity_ppm()
-                },
-                0.0
-            );
+            let mut plain = *frame;
+            plain.bow = None;
+            assert_eq!(plain.nonlinearity_ppm(), 0.0);
         });
     }
 
