@@ -259,14 +259,17 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
     conn.busy_timeout(BUSY_TIMEOUT)
         .map_err(|e| corrupt(path, e))?;
     // Read-only questions first: nothing is written to a file we refuse.
-    let app_id: i32 = conn
-        .query_row("PRAGMA application_id", [], |r| r.get(0))
-        .map_err(|e| corrupt(path, e))?;
-    let version: i64 = conn
-        .query_row("PRAGMA user_version", [], |r| r.get(0))
-        .map_err(|e| corrupt(path, e))?;
-    let objects: i64 = conn
-        .query_row("SELECT count(*) FROM sqlite_master", [], |r| r.get(0))
+    // One statement, so one snapshot: another process creating the same
+    // file commits its schema and application id together, and separate
+    // reads could see the id before the commit and the tables after it.
+    let (app_id, version, objects): (i32, i64, i64) = conn
+        .query_row(
+            "SELECT (SELECT application_id FROM pragma_application_id()),
+                    (SELECT user_version FROM pragma_user_version()),
+                    (SELECT count(*) FROM sqlite_master)",
+            [],
+            |r| Ok((r.get(0)?, r.get(1)?, r.get(2)?)),
+        )
         .map_err(|e| corrupt(path, e))?;
     if app_id != APPLICATION_ID && (app_id != 0 || objects > 0 || version != 0) {
         return Err(DbError::Foreign {
@@ -297,13 +300,7 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
     // file consistent (its unfinished transaction is rolled back on the
     // next open). synchronous=NORMAL: a power cut may lose the last parts
     // committed (the next run redoes them), never corrupts or duplicates.
-    let mode: String = db
-        .conn
-        .query_row("PRAGMA journal_mode=WAL", [], |r| r.get(0))
-        .map_err(|e| db.err(e))?;
-    if !mode.eq_ignore_ascii_case("wal") {
-        return Err(db.refuse(format!("journal mode {mode}, WAL could not be set")));
-    }
+    set_wal(&db)?;
     db.conn
         .execute_batch("PRAGMA foreign_keys=ON; PRAGMA synchronous=NORMAL;")
         .map_err(|e| db.err(e))?;
@@ -313,6 +310,34 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
         migrate(&mut db)?;
     }
     Ok(db)
+}
+
+/// Puts the database in WAL mode. Switching a file into WAL takes an
+/// exclusive lock that SQLite does not wait for (no busy handler), so two
+/// processes opening a new file at once can find it locked, or the mode
+/// not yet changed: both are retried here for as long as a writer waits
+/// ([`BUSY_TIMEOUT`]).
+fn set_wal(db: &Db) -> Result<(), DbError> {
+    let start = std::time::Instant::now();
+    loop {
+        let waited_enough = start.elapsed() >= BUSY_TIMEOUT;
+        match db
+            .conn
+            .query_row("PRAGMA journal_mode=WAL", [], |r| r.get::<_, String>(0))
+        {
+            Ok(mode) if mode.eq_ignore_ascii_case("wal") => return Ok(()),
+            Ok(mode) if waited_enough => {
+                return Err(db.refuse(format!("journal mode {mode}, WAL could not be set")));
+            }
+            Err(e)
+                if waited_enough
+                    || e.sqlite_error_code() != Some(rusqlite::ErrorCode::DatabaseBusy) =>
+            {
+                return Err(db.err(e));
+            }
+            _ => std::thread::sleep(Duration::from_millis(10)),
+        }
+    }
 }
 
 /// Applies the migrations the file lacks, each with its version, in one
