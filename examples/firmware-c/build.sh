@@ -19,7 +19,8 @@ root=$(cd "$here/../.." && pwd)
 
 target=${1:?usage: build.sh TARGET [--nopanic-selftest]}
 selftest=${2:-}
-# llvm_args: code-generation options of the library for the target.
+# rustflags: code-generation options of the library for the target (a TOML
+# array for cargo's `target.<triple>.rustflags`, empty for none).
 # ARMv7-M: `-arm-restrict-it` keeps IT blocks to one 16-bit instruction,
 # so that if-conversion does not turn a rare branch to an error or general
 # path into an `IT` plus a predicated 32-bit tail call on the common path
@@ -28,12 +29,12 @@ case "$target" in
 thumbv7em-none-eabihf)
     cpu=(-mcpu=cortex-m4 -mthumb -mfloat-abi=hard -mfpu=fpv4-sp-d16)
     memory=memory-mps2-an386.x
-    llvm_args=(-arm-restrict-it)
+    rustflags='["-C", "llvm-args=-arm-restrict-it"]'
     ;;
 thumbv6m-none-eabi)
     cpu=(-mcpu=cortex-m0 -mthumb -mfloat-abi=soft)
     memory=memory-microbit.x
-    llvm_args=()
+    rustflags=
     ;;
 *)
     echo "build.sh: unknown target $target (thumbv7em-none-eabihf or thumbv6m-none-eabi)" >&2
@@ -46,10 +47,8 @@ command -v arm-none-eabi-gcc >/dev/null 2>&1 || {
 }
 
 cargo_args=(build --quiet --locked -p compensate-ffi --profile firmware-c --target "$target")
-if [ ${#llvm_args[@]} -gt 0 ]; then
-    flags=""
-    for a in "${llvm_args[@]}"; do flags+="\"-C\", \"llvm-args=$a\", "; done
-    cargo_args+=(--config "target.$target.rustflags = [${flags%, }]")
+if [ -n "$rustflags" ]; then
+    cargo_args+=(--config "target.$target.rustflags = $rustflags")
 fi
 out=$root/target/firmware-c/$target
 programs=(main bench flashuse flashref)

@@ -314,9 +314,10 @@ pub fn open(path: &Path) -> Result<Db, DbError> {
 
 /// Puts the database in WAL mode. Switching a file into WAL takes an
 /// exclusive lock that SQLite does not wait for (no busy handler), so two
-/// processes opening a new file at once can find it locked, or the mode
-/// not yet changed: both are retried here for as long as a writer waits
-/// ([`BUSY_TIMEOUT`]).
+/// processes opening a new file at once can find it locked: that is
+/// retried here for as long as a writer waits ([`BUSY_TIMEOUT`]). A file
+/// that stays in another mode (a file system without WAL) is refused at
+/// once.
 fn set_wal(db: &Db) -> Result<(), DbError> {
     let start = std::time::Instant::now();
     loop {
@@ -326,7 +327,7 @@ fn set_wal(db: &Db) -> Result<(), DbError> {
             .query_row("PRAGMA journal_mode=WAL", [], |r| r.get::<_, String>(0))
         {
             Ok(mode) if mode.eq_ignore_ascii_case("wal") => return Ok(()),
-            Ok(mode) if waited_enough => {
+            Ok(mode) => {
                 return Err(db.refuse(format!("journal mode {mode}, WAL could not be set")));
             }
             Err(e)
